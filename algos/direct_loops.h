@@ -1,0 +1,51 @@
+/* The seven nested loops of a direct convolution, as a template.
+ *
+ * Included by direct.c (and, later, by a traced build for the cache study) with:
+ *   CPA_DIRECT_FN    name of the function to define
+ *   CPA_DIRECT_FLIP  0: read w[k,c,r,s]; 1: read w[k,c,R-1-r,S-1-s] (true
+ *                    convolution by flipped indexing inside the loops)
+ *   CPA_LD(ptr)      how a float is loaded   (default *(ptr))
+ *   CPA_ST(ptr, v)   how a float is stored   (default *(ptr) = (v))
+ * Loop order, outermost first: batch n, output channel k, output row p, output
+ * column q, input channel c, kernel row r, kernel column s.  The function
+ * computes output planes [kb, ke) of the flattened (n, k) range. */
+#ifndef CPA_LD
+#define CPA_LD(ptr) (*(ptr))
+#endif
+#ifndef CPA_ST
+#define CPA_ST(ptr, v) (*(ptr) = (v))
+#endif
+
+static void CPA_DIRECT_FN(const cp_shape *sh, const float *x, const float *w, const float *bias,
+                          float *y, int64_t nk_begin, int64_t nk_end) {
+    const int64_t C = sh->c, H = sh->h, W = sh->w, K = sh->k, R = sh->r, S = sh->s;
+    const int64_t P = cp_shape_out_h(sh), Q = cp_shape_out_w(sh);
+    const int64_t cg = C / sh->groups, kg = K / sh->groups;
+    for (int64_t nk = nk_begin; nk < nk_end; nk++) {
+        const int64_t n = nk / K, k = nk % K, g = k / kg;
+        const float *xg = x + (n * C + g * cg) * H * W;
+        const float *wk = w + k * cg * R * S;
+        float *yk = y + nk * P * Q;
+        const float b = bias ? CPA_LD(&bias[k]) : 0.0f;
+        for (int64_t p = 0; p < P; p++)
+            for (int64_t q = 0; q < Q; q++) {
+                float acc = b;
+                for (int64_t c = 0; c < cg; c++)
+                    for (int64_t r = 0; r < R; r++) {
+                        const int64_t ih = p * sh->stride_h - sh->pad_top + r * sh->dil_h;
+                        if (ih < 0 || ih >= H) continue;
+                        for (int64_t s = 0; s < S; s++) {
+                            const int64_t iw = q * sh->stride_w - sh->pad_left + s * sh->dil_w;
+                            if (iw < 0 || iw >= W) continue;
+#if CPA_DIRECT_FLIP
+                            const float *wp = &wk[(c * R + (R - 1 - r)) * S + (S - 1 - s)];
+#else
+                            const float *wp = &wk[(c * R + r) * S + s];
+#endif
+                            acc += CPA_LD(&xg[(c * H + ih) * W + iw]) * CPA_LD(wp);
+                        }
+                    }
+                CPA_ST(&yk[p * Q + q], acc);
+            }
+    }
+}

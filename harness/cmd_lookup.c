@@ -1,0 +1,7 @@
+/* PLACEHOLDER: replaced by the real subcommand before landing. */
+#include "cli.h"
+int cph_cmd_lookup(int argc, char **argv) {
+    (void)argc; (void)argv;
+    cph_err("lookup: not built yet");
+    return CPH_EXIT_USAGE;
+}
