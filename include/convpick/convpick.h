@@ -6,7 +6,8 @@
  *   convpick/shape.h   layer shapes, output size, FLOPs, validation, padding modes
  *   convpick/exec.h    how algorithms run in parallel without owning threads
  *   convpick/algo.h    the algorithm interface, the registry, plans
- *   convpick/oracle.h  the fp64 reference and the error measure */
+ *   convpick/oracle.h  the fp64 reference and the error measure
+ *   convpick/table.h   tuning tables: load, look up, dispatch */
 #ifndef CONVPICK_H
 #define CONVPICK_H
 
@@ -15,6 +16,7 @@
 #include "convpick/exec.h"
 #include "convpick/algo.h"
 #include "convpick/oracle.h"
+#include "convpick/table.h"
 
 #define CONVPICK_VERSION_MAJOR 0
 #define CONVPICK_VERSION_MINOR 1

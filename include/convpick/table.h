@@ -1,0 +1,121 @@
+/* Tuning tables: what `convpick tune` measured and chose, loaded by a
+ * deploying program to dispatch each layer to its chosen algorithm.
+ *
+ * A table is a JSON file of format "convpick-tuning-table", version 1
+ * (docs/table-format.md, docs/table.schema.json).  It records the device
+ * (description and fingerprint), the measurement settings, and one entry per
+ * layer shape x mode x thread count with the chosen algorithm, its parameters
+ * and statistics, the runner-up and the margin, and every candidate tried.
+ *
+ * Only the loader and lookup are here: writing tables is the harness's job. */
+#ifndef CONVPICK_TABLE_H
+#define CONVPICK_TABLE_H
+
+#include <stddef.h>
+#include <stdint.h>
+
+#include "convpick/algo.h"
+#include "convpick/shape.h"
+#include "convpick/status.h"
+
+#define CP_TABLE_FORMAT "convpick-tuning-table"
+#define CP_TABLE_VERSION 1
+
+/* Timing statistics as recorded (seconds). */
+typedef struct cp_timing {
+    double median, ci_lo, ci_hi;
+    uint32_t samples;
+    int noisy;
+} cp_timing;
+
+/* One candidate that tune measured for an entry. */
+typedef struct cp_candidate {
+    char algo[32];
+    cp_params params;
+    cp_timing timing;
+    double rel_err;     /* against the fp64 oracle */
+    int disqualified;   /* rel_err above the run's max_rel_err */
+} cp_candidate;
+
+typedef struct cp_table_entry {
+    char name[64];          /* layer name as given to tune */
+    cp_shape shape;
+    cp_mode mode;
+    int threads;
+    const cp_algo *algo;    /* the chosen algorithm (resolved against the registry) */
+    cp_params params;
+    cp_timing timing;
+    const cp_algo *runner_up; /* NULL when only one candidate qualified */
+    double margin;          /* runner-up median / chosen median - 1 */
+    int margin_in_noise;    /* the two confidence intervals overlap */
+    size_t ncandidates;
+    cp_candidate *candidates;
+} cp_table_entry;
+
+typedef struct cp_table cp_table;
+
+/* Loader flags. */
+enum {
+    CP_TABLE_STRICT_DEVICE = 1 /* refuse (CP_EDEVICE) a table whose fingerprint is not this machine's */
+};
+
+/* Loads a table.  Errors: CP_EIO (cannot read), CP_EFORMAT with
+ * "file:line:column: ..." for malformed JSON or "file: entries[3].shape.k: ..."
+ * for a missing or mistyped field, CP_EVERSION for another format version,
+ * CP_EDEVICE (with CP_TABLE_STRICT_DEVICE) for another device.  Without the
+ * flag a device mismatch loads and is reported by cp_table_device_matches(). */
+cp_status cp_table_load(const char *path, unsigned flags, cp_table **out, char *msg, size_t cap);
+void cp_table_free(cp_table *t);
+
+size_t cp_table_count(const cp_table *t);
+const cp_table_entry *cp_table_entry_at(const cp_table *t, size_t i);
+/* The fingerprint recorded in the table, and whether it is this machine's. */
+const char *cp_table_fingerprint(const cp_table *t);
+int cp_table_device_matches(const cp_table *t);
+/* Cache sizes recorded for the device (for default parameters on lookup). */
+cp_cache_sizes cp_table_caches(const cp_table *t);
+
+/* This machine's fingerprint (16 hex digits + NUL): a hash of the cpuid
+ * vendor, family, model, stepping, brand, ISA features, cache geometry and the
+ * number of logical CPUs.  Measured figures never enter it. */
+void cp_device_fingerprint(char out[17]);
+
+/* How a lookup was answered. */
+typedef enum cp_match {
+    CP_MATCH_EXACT = 0,   /* an entry of exactly this shape, mode and thread count */
+    CP_MATCH_NEAREST,     /* a compatible entry (rules below), reported as approximate */
+    CP_MATCH_DEFAULT      /* no compatible entry: the documented default choice */
+} cp_match;
+
+typedef struct cp_choice {
+    cp_match match;
+    const cp_algo *algo;
+    cp_params params;
+    const cp_table_entry *entry; /* the entry used, NULL for CP_MATCH_DEFAULT */
+    char why[256];               /* one line: how the answer was found */
+} cp_choice;
+
+/* Lookup rules.
+ *  1. Exact: same shape (every field), mode and threads.  threads <= 0 means
+ *     "any": the entry with the most threads <= the machine's is not guessed;
+ *     the smallest thread count recorded is used.
+ *  2. Nearest: entries with the same mode, kernel size r x s, stride,
+ *     dilation and groups class (1, depthwise = groups == c, or other), whose
+ *     chosen algorithm supports the asked shape; the one nearest in
+ *     |log(FLOPs)| wins (then the nearer thread count, then the earlier entry).
+ *     Its algorithm is used; its parameters are used when they pass
+ *     cp_params_check, else the algorithm's defaults for the asked shape.
+ *  3. Default: im2col_gemm with defaults from the table's cache sizes (it
+ *     supports every shape).
+ * Fails only for an invalid shape. */
+cp_status cp_table_lookup(const cp_table *t, const cp_shape *s, cp_mode mode, int threads,
+                          cp_choice *out, char *msg, size_t cap);
+
+/* Dispatch in one call: looks the shape up and creates a plan with the chosen
+ * algorithm and parameters, preparing the weights once.  Run it as often as
+ * needed with cp_plan_run(); free it with cp_plan_destroy().  choice may be
+ * NULL. */
+cp_status cp_table_plan(const cp_table *t, const cp_shape *s, cp_mode mode, int threads,
+                        const float *w, cp_plan **out, cp_choice *choice, char *msg, size_t cap);
+
+#endif
