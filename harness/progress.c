@@ -1,4 +1,5 @@
 /* Progress reporting (progress.h). */
+#define _POSIX_C_SOURCE 200809L
 #include "progress.h"
 
 #include <stdarg.h>
