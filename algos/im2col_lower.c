@@ -35,9 +35,10 @@ void cpa_im2col_lower_rows(const cp_shape *s, const float *xg, int64_t p0, int64
         int64_t plo, phi, qlo, qhi;
         valid_range(P, sh, ih0, H, &plo, &phi);
         valid_range(Q, sw, iw0, W, &qlo, &qhi);
-        if (plo < p0) plo = p0;
-        if (phi > p1) phi = p1;
-        if (phi < plo) phi = plo;
+        /* Intersect with the block; an empty intersection may lie on either
+         * side of it, so clamp both ends into [p0, p1]. */
+        plo = plo < p0 ? p0 : (plo > p1 ? p1 : plo);
+        phi = phi > p1 ? p1 : (phi < plo ? plo : phi);
         /* Output rows whose input row is padding: all zero. */
         zero(dst, (plo - p0) * Q);
         zero(dst + (phi - p0) * Q, (p1 - phi) * Q);

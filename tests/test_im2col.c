@@ -15,6 +15,16 @@
 #include "convpick/oracle.h"
 #include "cpa.h"
 #include "data.h"
+#include "im2col_lower.h"
+
+/* An input for shape s, filled from a fixed seed (kept until exit). */
+static const float *state_input(const cp_shape *s) {
+    static float buf[4096];
+    const size_t n = cp_shape_input_elems(s);
+    assert_true(n <= sizeof buf / sizeof buf[0]);
+    cph_fill_uniform(buf, n, 66);
+    return buf;
+}
 
 static const cp_algo *algo(void) {
     const cp_algo *a = cp_algo_find("im2col_gemm");
@@ -225,6 +235,91 @@ static void test_split_lowering(void **state) {
     check(&s, CP_CONV, 0, &p, &ex);
 }
 
+/* run() called directly with a workspace full of NaN: every column element
+ * the GEMM reads must have been written (contents are undefined on entry).
+ * Top padding 2 with one output row per block puts a row's first valid output
+ * row beyond the block; reverse-order split ranges would expose a write past
+ * a row's block into the next row's (already lowered) data. */
+static void test_dirty_workspace(void **state) {
+    (void)state;
+    const cp_algo *a = algo();
+    cp_exec ex = {split_parts, split_reverse, &split_parts};
+    const cp_shape shapes[] = {
+        pad(mk(1, 48, 64, 64, 2, 5, 5), 2, 2, 2, 2), /* 1200 x 64 per block: split */
+        strd(dil(pad(mk(2, 30, 41, 37, 4, 3, 3), 4, 1, 3, 2), 2, 1), 1, 2),
+        pad(mk(1, 3, 9, 9, 4, 3, 3), 2, 0, 0, 2),
+    };
+    const int64_t blocks[] = {1, 2, 1000};
+    for (size_t i = 0; i < sizeof shapes / sizeof shapes[0]; i++)
+        for (size_t bi = 0; bi < sizeof blocks / sizeof blocks[0]; bi++)
+            for (int mode = 0; mode < 2; mode++) {
+                const cp_shape *s = &shapes[i];
+                assert_int_equal(cp_shape_validate(s, NULL, 0), CP_SHAPE_OK);
+                cp_params p = {{blocks[bi]}};
+                const size_t nx = cp_shape_input_elems(s), nw = cp_shape_weight_elems(s);
+                const size_t ny = cp_shape_output_elems(s);
+                const size_t ws = a->workspace_size(s, (cp_mode)mode, &p, split_parts);
+                const size_t ps = a->prepared_size(s, (cp_mode)mode, &p);
+                float *x = malloc(nx * sizeof *x), *w = malloc(nw * sizeof *w);
+                float *y = malloc(ny * sizeof *y), *work = aligned_alloc(64, cpa_align64(ws));
+                void *prep = ps ? aligned_alloc(64, cpa_align64(ps)) : NULL;
+                double *ref = malloc(ny * sizeof *ref), *mag = malloc(ny * sizeof *mag);
+                assert_true(x && w && y && work && ref && mag && (prep || !ps));
+                cph_fill_uniform(x, nx, 44);
+                cph_fill_uniform(w, nw, 55);
+                for (size_t j = 0; j < ws / sizeof(float); j++) work[j] = NAN;
+                for (size_t j = 0; j < ny; j++) y[j] = NAN;
+                if (ps) assert_int_equal(a->prepare(s, (cp_mode)mode, &p, w, prep), CP_OK);
+                cp_run_args ra = {s, (cp_mode)mode, &p, x, ps ? prep : (const void *)w, NULL,
+                                  y, work, &ex};
+                assert_int_equal(a->run(&ra), CP_OK);
+                cp_oracle_run(s, (cp_mode)mode, x, w, NULL, ref, mag);
+                const cp_error e = cp_error_measure(y, ref, mag, ny);
+                assert_int_equal(e.nonfinite, 0);
+                assert_true(e.rel_err <= a->tolerance);
+                free(x), free(w), free(y), free(work), free(prep), free(ref), free(mag);
+            }
+}
+
+/* The lowering of one column-matrix row writes exactly that row's columns of
+ * the block, nothing before or after (workers lower neighbouring rows at the
+ * same time).  Large top padding with one-row blocks puts a row's first valid
+ * output row beyond the block. */
+static void test_lower_writes_own_row(void **state) {
+    (void)state;
+    const cp_shape shapes[] = {
+        dil(pad(mk(1, 2, 12, 16, 1, 3, 1), 4, 0, 4, 0), 2, 1),
+        strd(pad(mk(1, 2, 11, 9, 1, 5, 5), 4, 3, 2, 1), 2, 3),
+        pad(mk(1, 1, 3, 3, 1, 3, 3), 2, 2, 2, 2),
+    };
+    for (size_t i = 0; i < sizeof shapes / sizeof shapes[0]; i++) {
+        const cp_shape *s = &shapes[i];
+        assert_int_equal(cp_shape_validate(s, NULL, 0), CP_SHAPE_OK);
+        const int64_t P = cp_shape_out_h(s), Q = cp_shape_out_w(s), rows = s->c * s->r * s->s;
+        for (int64_t rb = 1; rb <= P; rb++)
+            for (int64_t p0 = 0; p0 < P; p0 += rb) {
+                const int64_t p1 = p0 + rb < P ? p0 + rb : P, cols = (p1 - p0) * Q;
+                const int64_t ld = cols + 3;
+                const size_t total = (size_t)(rows * ld + 16);
+                float *col = malloc(total * sizeof *col);
+                assert_non_null(col);
+                for (int64_t row = 0; row < rows; row++) {
+                    for (size_t j = 0; j < total; j++) col[j] = -7.0f; /* not in [-1, 1) */
+                    cpa_im2col_lower_rows(s, (const float *)state_input(s), p0, p1, col, ld,
+                                          row, row + 1);
+                    for (int64_t j = 0; j < (int64_t)total; j++) {
+                        const int mine = j >= row * ld && j < row * ld + cols;
+                        if (mine)
+                            assert_true(col[j] >= -1.0f && col[j] < 1.0f);
+                        else
+                            assert_true(col[j] == -7.0f);
+                    }
+                }
+                free(col);
+            }
+    }
+}
+
 /* Defaults and every candidate pass the range check, the default comes first,
  * and a workspace from the defaults fits in half the L3 given. */
 static void test_params(void **state) {
@@ -262,7 +357,8 @@ int main(void) {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_scipy_full),   cmocka_unit_test(test_grid),
         cmocka_unit_test(test_pointwise_path), cmocka_unit_test(test_row_blocks),
-        cmocka_unit_test(test_split_lowering), cmocka_unit_test(test_params),
+        cmocka_unit_test(test_split_lowering), cmocka_unit_test(test_dirty_workspace),
+        cmocka_unit_test(test_lower_writes_own_row), cmocka_unit_test(test_params),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
