@@ -212,11 +212,18 @@ static cp_status im2col_run(const cp_run_args *a) {
     return CP_OK;
 }
 
-/* Tolerance: TOLERANCE_NOTE */
+/* Tolerance: float sums of C/g*R*S products in OpenBLAS's blocked order.
+ * Measured against cp_oracle_run + cp_error_measure (uniform [-1, 1) data,
+ * bias on, both modes, OpenBLAS 0.3.21 with 1 and with 2 threads, same
+ * results) on ResNet-50-like layers: c=512,k=512 3x3 7x7: 3.3e-8;
+ * c=64,k=64 3x3 56x56: 1.4e-7; 1x1 c=1024,k=256 14x14: 7.6e-8; 7x7/2 stem
+ * c=3,k=64 224x224: 2.7e-7; 1x1 c=256,k=64 56x56 batch 2: 3.3e-7 (the
+ * maximum seen); depthwise 3x3 c=64 56x56: 1.9e-7; 3x3/2 groups 32 c=512
+ * 14x14: 2.7e-7.  5e-6 is 15 times the largest measured error. */
 const cp_algo cpa_im2col_gemm = {
     .name = "im2col_gemm",
     .summary = "im2col lowering + OpenBLAS sgemm per image and group; 1x1 GEMM on the input",
-    .tolerance = 1e-5,
+    .tolerance = 5e-6,
     .nparams = 1,
     .params = im2col_params,
     .supports = im2col_supports,

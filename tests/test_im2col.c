@@ -2,6 +2,7 @@
  * the fp64 oracle; plus the 1x1 fast path, row blocking, split lowering and
  * the parameter metadata. */
 #include <math.h>
+#include <pthread.h>
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>
@@ -235,6 +236,66 @@ static void test_split_lowering(void **state) {
     check(&s, CP_CONV, 0, &p, &ex);
 }
 
+/* A real threaded executor: threads started per call, worker 0 is the
+ * calling thread, contiguous ranges as a pool would hand out. */
+enum { THREADS = 3 };
+typedef struct {
+    cp_task_fn fn;
+    void *arg;
+    int64_t b, e;
+    int worker;
+} thread_range;
+
+static void *thread_main(void *p) {
+    const thread_range *t = p;
+    t->fn(t->arg, t->b, t->e, t->worker);
+    return NULL;
+}
+
+static void threads_for(void *pool, int64_t count, cp_task_fn fn, void *arg) {
+    (void)pool;
+    thread_range tr[THREADS];
+    pthread_t th[THREADS];
+    for (int i = 0; i < THREADS; i++) {
+        tr[i] = (thread_range){fn, arg, count * i / THREADS, count * (i + 1) / THREADS, i};
+        if (i > 0) assert_int_equal(pthread_create(&th[i], NULL, thread_main, &tr[i]), 0);
+    }
+    thread_main(&tr[0]);
+    for (int i = 1; i < THREADS; i++) assert_int_equal(pthread_join(th[i], NULL), 0);
+}
+
+/* Lowering on three threads gives bit-for-bit the serial result: the rows
+ * are independent and the GEMM is the same call. */
+static void test_threaded_lowering(void **state) {
+    (void)state;
+    const cp_algo *a = algo();
+    cp_exec ex = {THREADS, threads_for, NULL}, serial = cp_exec_serial();
+    const cp_shape s = strd(pad(mk(2, 24, 45, 43, 6, 3, 5), 1, 2, 1, 2), 1, 1);
+    const size_t nx = cp_shape_input_elems(&s), nw = cp_shape_weight_elems(&s);
+    const size_t ny = cp_shape_output_elems(&s);
+    float *x = malloc(nx * sizeof *x), *w = malloc(nw * sizeof *w), *b = malloc(6 * sizeof *b);
+    float *y1 = malloc(ny * sizeof *y1), *y3 = malloc(ny * sizeof *y3);
+    assert_true(x && w && b && y1 && y3);
+    cph_fill_uniform(x, nx, 77);
+    cph_fill_uniform(w, nw, 88);
+    cph_fill_uniform(b, 6, 99);
+    const int64_t blocks[] = {1, 7, 45};
+    for (size_t bi = 0; bi < sizeof blocks / sizeof blocks[0]; bi++)
+        for (int mode = 0; mode < 2; mode++) {
+            cp_params p = {{blocks[bi]}};
+            cp_plan *plan = NULL;
+            char msg[256];
+            assert_int_equal(cp_plan_create(a, &s, (cp_mode)mode, &p, NULL, THREADS, w, &plan,
+                                            msg, sizeof msg),
+                             CP_OK);
+            assert_int_equal(cp_plan_run(plan, x, b, y1, &serial), CP_OK);
+            assert_int_equal(cp_plan_run(plan, x, b, y3, &ex), CP_OK);
+            assert_memory_equal(y1, y3, ny * sizeof *y1);
+            cp_plan_destroy(plan);
+        }
+    free(x), free(w), free(b), free(y1), free(y3);
+}
+
 /* run() called directly with a workspace full of NaN: every column element
  * the GEMM reads must have been written (contents are undefined on entry).
  * Top padding 2 with one output row per block puts a row's first valid output
@@ -358,7 +419,8 @@ int main(void) {
         cmocka_unit_test(test_scipy_full),   cmocka_unit_test(test_grid),
         cmocka_unit_test(test_pointwise_path), cmocka_unit_test(test_row_blocks),
         cmocka_unit_test(test_split_lowering), cmocka_unit_test(test_dirty_workspace),
-        cmocka_unit_test(test_lower_writes_own_row), cmocka_unit_test(test_params),
+        cmocka_unit_test(test_lower_writes_own_row), cmocka_unit_test(test_threaded_lowering),
+        cmocka_unit_test(test_params),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
