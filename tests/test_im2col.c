@@ -19,7 +19,7 @@
 #include "im2col_lower.h"
 
 /* An input for shape s, filled from a fixed seed (kept until exit). */
-static const float *state_input(const cp_shape *s) {
+static const float *fixed_input(const cp_shape *s) {
     static float buf[4096];
     const size_t n = cp_shape_input_elems(s);
     assert_true(n <= sizeof buf / sizeof buf[0]);
@@ -115,7 +115,7 @@ static void check_all_modes(const cp_shape *s) {
         for (int bias = 0; bias < 2; bias++) check(s, (cp_mode)mode, bias, NULL, NULL);
 }
 
-/* Worked example from SciPy 1.x (run with /usr/bin/python3):
+/* Worked example from SciPy 1.10.1 (Debian python3-scipy, run with /usr/bin/python3):
  *   x = np.arange(1, 21).reshape(4, 5); w = [[1,0,-1],[2,1,0],[0,-2,3]]
  *   scipy.signal.correlate2d(x, w, mode='full')  and  convolve2d(x, w, mode='full')
  * 'full' is padding 2 on every side.  Integer data: the results are exact. */
@@ -366,7 +366,7 @@ static void test_lower_writes_own_row(void **state) {
                 assert_non_null(col);
                 for (int64_t row = 0; row < rows; row++) {
                     for (size_t j = 0; j < total; j++) col[j] = -7.0f; /* not in [-1, 1) */
-                    cpa_im2col_lower_rows(s, (const float *)state_input(s), p0, p1, col, ld,
+                    cpa_im2col_lower_rows(s, (const float *)fixed_input(s), p0, p1, col, ld,
                                           row, row + 1);
                     for (int64_t j = 0; j < (int64_t)total; j++) {
                         const int mine = j >= row * ld && j < row * ld + cols;
