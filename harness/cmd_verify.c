@@ -177,7 +177,7 @@ int cph_cmd_verify(int argc, char **argv) {
            (unsigned long long)sel.seed);
     for (size_t i = 0; i < sel.layers.n; i++) {
         char spec[320];
-        cp_shape_format(&sel.layers.v[i].shape, spec, sizeof spec);
+        cph_shape_format_short(&sel.layers.v[i].shape, spec, sizeof spec);
         printf("  %-*s  x%-3d %s\n", t.name_w, sel.layers.v[i].name, sel.layers.v[i].count, spec);
     }
     printf("\n%-*s  %-5s  %-*s  %-10s %-10s %-9s %s\n", t.name_w, "layer", "mode", t.algo_w,

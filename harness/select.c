@@ -202,6 +202,36 @@ cp_status cph_parse_shape(const char *spec, const char *ctx, cp_shape *out, char
     return st;
 }
 
+int cph_shape_format_short(const cp_shape *s, char *buf, size_t cap) {
+    char t[320];
+    int n = snprintf(t, sizeof t, "n=%lld,c=%lld,h=%lld,w=%lld,k=%lld,r=%lld", (long long)s->n,
+                     (long long)s->c, (long long)s->h, (long long)s->w, (long long)s->k,
+                     (long long)s->r);
+#define ADD(...)                                                                   \
+    do {                                                                           \
+        if (n >= 0 && (size_t)n < sizeof t) n += snprintf(t + n, sizeof t - (size_t)n, __VA_ARGS__); \
+    } while (0)
+    if (s->s != s->r) ADD(",s=%lld", (long long)s->s);
+    if (s->stride_h == s->stride_w) {
+        if (s->stride_h != 1) ADD(",stride=%lld", (long long)s->stride_h);
+    } else
+        ADD(",stride_h=%lld,stride_w=%lld", (long long)s->stride_h, (long long)s->stride_w);
+    if (s->pad_top == s->pad_bottom && s->pad_left == s->pad_right && s->pad_top == s->pad_left) {
+        if (s->pad_top) ADD(",pad=%lld", (long long)s->pad_top);
+    } else if (s->pad_top == s->pad_bottom && s->pad_left == s->pad_right)
+        ADD(",pad_h=%lld,pad_w=%lld", (long long)s->pad_top, (long long)s->pad_left);
+    else
+        ADD(",pad_top=%lld,pad_left=%lld,pad_bottom=%lld,pad_right=%lld", (long long)s->pad_top,
+            (long long)s->pad_left, (long long)s->pad_bottom, (long long)s->pad_right);
+    if (s->dil_h == s->dil_w) {
+        if (s->dil_h != 1) ADD(",dilation=%lld", (long long)s->dil_h);
+    } else
+        ADD(",dilation_h=%lld,dilation_w=%lld", (long long)s->dil_h, (long long)s->dil_w);
+    if (s->groups != 1) ADD(",groups=%lld", (long long)s->groups);
+#undef ADD
+    return snprintf(buf, cap, "%s", t);
+}
+
 /* --- Layer lists ---------------------------------------------------------- */
 
 cp_status cph_layers_add(cph_layer_list *l, const char *name, const cp_shape *s, int count) {

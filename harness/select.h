@@ -35,6 +35,11 @@ typedef struct cph_layer_list {
  * (and, when ctx is not NULL, prefixed by ctx such as "file.txt:12"). */
 cp_status cph_parse_shape(const char *spec, const char *ctx, cp_shape *out, char *msg, size_t cap);
 
+/* A short spec that cph_parse_shape reads back to an equal shape: keys at
+ * their defaults are left out and equal pairs merged ("stride=2,pad=3").
+ * Returns the length the full text needs (like snprintf). */
+int cph_shape_format_short(const cp_shape *s, char *buf, size_t cap);
+
 /* Appends a layer; a shape already in the list only increments its count. */
 cp_status cph_layers_add(cph_layer_list *l, const char *name, const cp_shape *s, int count);
 void cph_layers_free(cph_layer_list *l);
