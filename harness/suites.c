@@ -40,10 +40,11 @@ static void conv(builder *b, const char *name, int64_t c, int64_t hw, int64_t k,
  * Image Recognition", CVPR 2016, Table 1 (50-layer column), 224x224 input.
  * conv1 is 7x7/64 stride 2 (pad 3: 112x112 out); after the 3x3 stride-2 max
  * pool, four stages of bottleneck blocks [1x1, 3x3, 1x1] with 3, 4, 6, 3
- * blocks.  Stride placement: the paper's ("downsampling is performed by
- * conv3_1, conv4_1 and conv5_1 with a stride of 2", on the first layer of the
- * block), i.e. stride 2 on the first 1x1 of each downsampling block, not the
- * common later variant that moves it to the 3x3.  The first block of every
+ * blocks.  Stride placement: the paper's.  Table 1 says downsampling is done
+ * by conv3_1, conv4_1 and conv5_1 with a stride of 2; the authors' original
+ * models put that stride on the first layer of the block (from memory), so
+ * here stride 2 sits on the first 1x1 of each downsampling block, not on the
+ * 3x3 as in the common later variant.  The first block of every
  * stage has a 1x1 projection shortcut (option B of section 3.3) with the
  * block's stride.  49 + 4 projections = 53 conv layers.  The projection of
  * conv2_1 has the same shape as the blocks' last 1x1 (64->256 at 56x56) and is
@@ -82,8 +83,8 @@ static void build_resnet50(builder *b) {
 
 /* VGG-16: K. Simonyan, A. Zisserman, "Very Deep Convolutional Networks for
  * Large-Scale Image Recognition", ICLR 2015, Table 1 configuration D: 13 conv
- * layers, all 3x3 stride 1 pad 1 ("the padding is 1 pixel for 3x3 conv
- * layers", section 2.1), 224x224 input, a 2x2 stride-2 max pool after each of
+ * layers, all 3x3 stride 1 with 1 pixel of padding so that the resolution is
+ * preserved (section 2.1), 224x224 input, a 2x2 stride-2 max pool after each of
  * the five blocks (so blocks run at 224, 112, 56, 28, 14). */
 static void build_vgg16(builder *b) {
     static const struct { int blk, convs; int64_t width, hw; } st[] = {
