@@ -113,6 +113,7 @@ int cph_cmd_probe(int argc, char **argv) {
     double seconds = 2.0;
     const char *synthetic = NULL;
     int c;
+    opterr = 0; /* one line of our own instead of getopt's */
     while ((c = getopt_long(argc, argv, "", opts, NULL)) != -1) {
         switch (c) {
         case 'j': json = 1; break;
