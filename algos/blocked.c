@@ -24,8 +24,10 @@
  * The weights of one tile for cb channels are sized to stay in L1 while the
  * pixels of the row block stream past; the input rows of a block stay in L2
  * while the kb channel tiles reuse them.  Tasks write disjoint (channel tile,
- * row block) regions of y, so workers never share an output cache line except
- * at region borders of other planes, which each worker writes once. */
+ * row block) regions of y: two workers can meet on an output cache line only
+ * where two row blocks of one plane touch, written once by each.  No
+ * per-worker scratch is needed (the tile lives in registers), so the
+ * workspace is the tap table and one padded image, shared by all workers. */
 #include <string.h>
 
 #include "blocked_ukr.h"
