@@ -81,12 +81,26 @@ static blk_geom geom(const cp_shape *s) {
     return g;
 }
 
-/* Number of 8-pixel segments of output rows [p0, p1): each row split into
- * ceil(Q/8), or, for a flat layer, the rows taken as one run of pixels (so
- * that Q = 14 or 7 still fills whole vectors). */
-static int64_t segment_count(const blk_geom *g, int64_t p0, int64_t p1) {
-    if (g->flat) return ((p1 - p0) * g->Q + NV - 1) / NV;
-    return (p1 - p0) * ((g->Q + NV - 1) / NV);
+/* Segments of 8 output pixels in a block of pb rows: each row split into
+ * ceil(Q/8); for a flat layer the plane is one run of P*Q pixels cut into
+ * blocks of pb*Q pixels' worth of segments, rounded up to an even count, so
+ * that Q = 14 or 7 still fills whole tiles. */
+static int64_t block_segments(const blk_geom *g, int64_t pb) {
+    if (g->flat) {
+        const int64_t n = (pb * g->Q + NV - 1) / NV;
+        return n + (n & 1);
+    }
+    return pb * ((g->Q + NV - 1) / NV);
+}
+
+/* Number of pixel blocks of a plane. */
+static int64_t pixel_blocks(const blk_geom *g, int64_t pb) {
+    if (g->flat) {
+        const int64_t total = (g->P * g->Q + NV - 1) / NV;
+        const int64_t per = block_segments(g, pb);
+        return (total + per - 1) / per;
+    }
+    return (g->P + pb - 1) / pb;
 }
 
 static int64_t clamp64(int64_t v, int64_t lo, int64_t hi) { return v < lo ? lo : v > hi ? hi : v; }
@@ -115,7 +129,7 @@ static void blocked_defaults(const cp_shape *s, const cp_cache_sizes *caches, cp
         pb++;
     }
     /* An odd number of segments per block leaves half a tile empty. */
-    if (segment_count(&g, 0, pb) % 2 == 1 && pb < g.P) pb++;
+    if (!g.flat && block_segments(&g, pb) % 2 == 1 && pb < g.P) pb++;
     int64_t kb = clamp64((l2 / 4) / (cb * tile_w_per_c), 1, g.ntk);
     const int64_t ytile = MR * pb * g.Q * (int64_t)sizeof(float);
     kb = clamp64(kb, 1, clamp64((l2 / 4) / ytile, 1, g.ntk));
@@ -263,23 +277,28 @@ static void pad_task(void *arg, int64_t b, int64_t e, int worker) {
     }
 }
 
-/* Segment i of rows [p0, p1): its output row p, column q0 and length (a flat
- * segment may run on into the next rows, with p*Q + q0 its first pixel). */
-static void segment(const blk_geom *g, int64_t p0, int64_t p1, int64_t i, int64_t *p,
-                    int64_t *q0, int *nv) {
+/* Segment i of pixel block pbi (blocks of pb rows): its output row p, column
+ * q0 and length nv (a flat segment may run on into the next rows; p*Q + q0
+ * is its first pixel).  Returns the block's number of segments when i < 0. */
+static int64_t segment(const blk_geom *g, int64_t pb, int64_t pbi, int64_t i, int64_t *p,
+                       int64_t *q0, int *nv) {
     int64_t left;
     if (g->flat) {
-        const int64_t f0 = p0 * g->Q + i * NV;
+        const int64_t per = block_segments(g, pb), total = (g->P * g->Q + NV - 1) / NV;
+        if (i < 0) return clamp64(total - pbi * per, 0, per);
+        const int64_t f0 = (pbi * per + i) * NV;
         *p = f0 / g->Q;
         *q0 = f0 % g->Q;
-        left = p1 * g->Q - f0;
+        left = g->P * g->Q - f0;
     } else {
-        const int64_t nseg = (g->Q + NV - 1) / NV;
+        const int64_t p0 = pbi * pb, nseg = (g->Q + NV - 1) / NV;
+        if (i < 0) return (clamp64(p0 + pb, 0, g->P) - p0) * nseg;
         *p = p0 + i / nseg;
         *q0 = (i % nseg) * NV;
         left = g->Q - *q0;
     }
     *nv = (int)(left < NV ? left : NV);
+    return 0;
 }
 
 static void compute_task(void *arg, int64_t b, int64_t e, int worker) {
@@ -293,8 +312,9 @@ static void compute_task(void *arg, int64_t b, int64_t e, int worker) {
         const int64_t gr = task / (j->nkb * j->npb);
         const int64_t kbi = (task / j->npb) % j->nkb, pbi = task % j->npb;
         const int64_t kt0 = kbi * j->kb, kt1 = clamp64(kt0 + j->kb, 0, g->ntk);
-        const int64_t p0 = pbi * j->pb, p1 = clamp64(p0 + j->pb, 0, g->P);
-        const int64_t nsegs = segment_count(g, p0, p1);
+        int64_t p, q0;
+        int nv;
+        const int64_t nsegs = segment(g, j->pb, pbi, -1, &p, &q0, &nv);
         for (int64_t c0 = 0; c0 < g->cg; c0 += j->cb) {
             const int64_t nc = clamp64(g->cg - c0, 1, j->cb);
             const int64_t xc0 = gr * g->cg + c0; /* first input channel of the block */
@@ -320,9 +340,7 @@ static void compute_task(void *arg, int64_t b, int64_t e, int worker) {
                             t.n[1] = 0;
                             continue;
                         }
-                        int64_t p, q0;
-                        int nv;
-                        segment(g, p0, p1, i + v, &p, &q0, &nv);
+                        segment(g, j->pb, pbi, i + v, &p, &q0, &nv);
                         const int64_t xo = xc0 * g->cs + p * s->stride_h * g->wrow + q0;
                         t.x[v] = j->xb + xo;
                         t.y[v] = yk + p * g->Q + q0;
@@ -350,7 +368,7 @@ static cp_status run_common(const cp_run_args *a, int flipidx) {
     j.cb = clamp64(a->params->v[P_CB], 1, g->cg);
     j.pb = clamp64(a->params->v[P_PB], 1, g->P);
     j.nkb = (g->ntk + j.kb - 1) / j.kb;
-    j.npb = (g->P + j.pb - 1) / j.pb;
+    j.npb = pixel_blocks(g, j.pb);
     j.ukr = cpa_blocked_ukr_select(a->params->v[P_UKERNEL], &j.full_reads);
 
     int64_t *taps = a->workspace;

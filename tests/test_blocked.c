@@ -54,6 +54,7 @@ static const geo grid[] = {
     {1, 4, 19, 19, 7, 5, 5, 2, 2, 2, 2, 2, 2, 1, 1, 1},    /* 5x5 stride 2 */
     {1, 3, 23, 23, 8, 7, 7, 2, 2, 3, 3, 3, 3, 1, 1, 1},    /* 7x7 stride 2 */
     {2, 9, 7, 13, 14, 1, 1, 1, 1, 0, 0, 0, 0, 1, 1, 1},    /* x read in place, tail reads */
+    {1, 12, 14, 14, 10, 1, 1, 1, 1, 0, 0, 0, 0, 1, 1, 1},  /* 1x1 flat runs across rows */
     {1, 3, 8, 9, 5, 3, 2, 1, 1, 0, 0, 0, 0, 1, 2, 1},      /* R != S, no pad, dilation w */
     {1, 160, 9, 9, 20, 3, 3, 1, 1, 1, 1, 1, 1, 1, 1, 1},   /* several input-channel blocks */
 };
@@ -162,7 +163,7 @@ static void test_grid_vs_oracle(void **state) {
 static void test_candidates_all_correct(void **state) {
     (void)state;
     const cp_algo *blk = cp_algo_find("blocked");
-    const size_t picks[] = {NGRID - 1, 15, 12, 9};
+    const size_t picks[] = {NGRID - 1, 15, 12, 9, 20, 21};
     for (size_t pi = 0; pi < sizeof picks / sizeof picks[0]; pi++) {
         const cp_shape s = mk(grid[picks[pi]]);
         cp_cache_sizes cs = cp_cache_sizes_fallback();
@@ -284,7 +285,7 @@ static void test_threads_equal_serial(void **state) {
     static int nthreads = 3;
     const cp_exec ex = {nthreads, pthread_for, &nthreads};
     const cp_algo *blk = cp_algo_find("blocked");
-    const size_t picks[] = {15, 9, 20, NGRID - 1};
+    const size_t picks[] = {15, 9, 20, 21, NGRID - 1};
     for (size_t pi = 0; pi < sizeof picks / sizeof picks[0]; pi++) {
         const cp_shape s = mk(grid[picks[pi]]);
         layer L;
