@@ -1,7 +1,7 @@
 /* blocked: cache- and register-blocked direct convolution.
- * blocked_flipidx: the same loops computing true convolution by pairing
- * packed tap (r, s) with input tap (R-1-r, S-1-s), weights packed unflipped
- * (for the cache study).
+ * blocked_flipidx: the same loops computing true convolution on weights
+ * packed unflipped, reading kernel tap (R-1-r, S-1-s) for input tap (r, s):
+ * the tile kernel walks each channel's taps backwards (for the cache study).
  *
  * The loops here are portable C and never name a processor; the register
  * tile (6 output channels x 16 output pixels, blocked_ukr.h) is called
@@ -247,6 +247,7 @@ typedef struct {
     int64_t xb_len;       /* floats readable from xb */
     const int64_t *tap_off;
     int64_t max_off;
+    int flipidx;
     cpa_blocked_ukr_fn ukr;
     int full_reads;
 } blk_job;
@@ -326,6 +327,11 @@ static void compute_task(void *arg, int64_t b, int64_t e, int worker) {
                 t.x_cs = g->cs;
                 t.tap_off = j->tap_off;
                 t.w = wpk + ((gr * g->ntk + kt) * g->cg + c0) * g->ntap * MR;
+                t.w_step = MR;
+                if (j->flipidx) { /* kernel tap (R-1-r, S-1-s) = index ntap-1-t */
+                    t.w += (g->ntap - 1) * MR;
+                    t.w_step = -MR;
+                }
                 t.y_ks = g->P * g->Q;
                 t.bias = a->bias ? a->bias + k0 : NULL;
                 t.nk = (int)clamp64(g->kg - kt * MR, 1, MR);
@@ -372,12 +378,11 @@ static cp_status run_common(const cp_run_args *a, int flipidx) {
     j.ukr = cpa_blocked_ukr_select(a->params->v[P_UKERNEL], &j.full_reads);
 
     int64_t *taps = a->workspace;
+    j.flipidx = flipidx;
     for (int64_t r = 0; r < s->r; r++)
         for (int64_t q = 0; q < s->s; q++) {
-            /* flipidx pairs packed tap (r, q) with input tap (R-1-r, S-1-q). */
-            const int64_t rr = flipidx ? s->r - 1 - r : r, qq = flipidx ? s->s - 1 - q : q;
-            const int64_t col = qq * s->dil_w;
-            const int64_t off = rr * s->dil_h * g->wrow + (col % s->stride_w) * g->wph +
+            const int64_t col = q * s->dil_w;
+            const int64_t off = r * s->dil_h * g->wrow + (col % s->stride_w) * g->wph +
                                 col / s->stride_w;
             taps[r * s->s + q] = off;
             if (off > j.max_off) j.max_off = off;

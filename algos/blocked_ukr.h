@@ -11,10 +11,13 @@
  * For segment v in {0, 1}, pixel j < n[v] and channel kk < nk the kernel sets
  *   acc = (first ? (bias ? bias[kk] : 0) : y[v][kk*y_ks + j])
  *         + sum over c < nc, t < ntap of
- *             x[v][c*x_cs + tap_off[t] + j] * w[(c*ntap + t)*MR + kk]
+ *             x[v][c*x_cs + tap_off[t] + j] * w[c*ntap*MR + t*w_step + kk]
  *   y[v][kk*y_ks + j] = acc
  * and writes nothing else.  w holds MR channels interleaved (channels >= nk
- * are zero padding), which is the order the packing in blocked.c produces.
+ * are zero padding), which is the order the packing in blocked.c produces;
+ * w_step = MR walks a channel's taps forward, w_step = -MR (with w at the
+ * last tap of channel 0) walks them in reverse: true convolution by flipped
+ * indexing on unflipped weights.
  *
  * Reads: the portable kernel reads x only for j < n[v]; ISA kernels read all
  * NV floats x[v][c*x_cs + tap_off[t] + 0..NV-1] for every segment (n[v] == 0
@@ -35,7 +38,8 @@ typedef struct cpa_blocked_tile {
     int64_t x_cs;           /* floats between consecutive input channels */
     const int64_t *tap_off; /* ntap offsets (floats) of each tap from a pixel's base */
     const float *x[2];      /* base of pixel 0 of each segment, channel 0 */
-    const float *w;         /* packed weights, nc*ntap*MR floats */
+    const float *w;         /* packed weights of channel 0, tap 0 (see w_step) */
+    int64_t w_step;         /* floats between the weights of taps t and t+1: MR or -MR */
     float *y[2];            /* output of pixel 0 of each segment, channel 0 */
     int64_t y_ks;           /* floats between consecutive output channels */
     const float *bias;      /* nk values or NULL; read only when first */

@@ -36,12 +36,12 @@ void cpa_blocked_ukr_avx2_6x16(const cpa_blocked_tile *t) {
     __m256 a03 = load_start(t, 0, 3, m0), a13 = load_start(t, 1, 3, m1);
     __m256 a04 = load_start(t, 0, 4, m0), a14 = load_start(t, 1, 4, m1);
     __m256 a05 = load_start(t, 0, 5, m0), a15 = load_start(t, 1, 5, m1);
-    const float *w = t->w;
     const float *x0 = t->x[0], *x1 = t->x[1];
-    const int64_t ntap = t->ntap, cs = t->x_cs;
+    const int64_t ntap = t->ntap, cs = t->x_cs, step = t->w_step;
     const int64_t *off = t->tap_off;
     for (int64_t c = 0; c < t->nc; c++, x0 += cs, x1 += cs) {
-        for (int64_t i = 0; i < ntap; i++, w += CPA_BLOCKED_MR) {
+        const float *w = t->w + c * ntap * CPA_BLOCKED_MR;
+        for (int64_t i = 0; i < ntap; i++, w += step) {
             const __m256 v0 = _mm256_loadu_ps(x0 + off[i]);
             const __m256 v1 = _mm256_loadu_ps(x1 + off[i]);
             __m256 b;

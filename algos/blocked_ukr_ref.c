@@ -16,10 +16,10 @@ void cpa_blocked_ukr_ref_6x16(const cpa_blocked_tile *t) {
                     a = t->first ? (t->bias ? t->bias[kk] : 0.0f) : t->y[v][kk * t->y_ks + j];
                 acc[kk][j] = a;
             }
-        const float *w = t->w;
         for (int64_t c = 0; c < t->nc; c++) {
             const float *xc = t->x[v] + c * t->x_cs;
-            for (int64_t i = 0; i < t->ntap; i++, w += MR) {
+            const float *w = t->w + c * t->ntap * MR;
+            for (int64_t i = 0; i < t->ntap; i++, w += t->w_step) {
                 const float *xp = xc + t->tap_off[i];
                 for (int j = 0; j < nv; j++) {
                     const float xv = xp[j];
