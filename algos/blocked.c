@@ -43,8 +43,7 @@ static const cp_param_desc blocked_params[NPARAMS] = {
            "its input vectors in the other half, split into equal blocks", 1,
      (int64_t)1 << 30},
     {"pb", "output rows per cache block; default: the block's input rows in half of L2, "
-           "at most ceil(P/8) rows so that there are tasks to share, one more when that "
-           "leaves an odd number of 8-pixel segments", 1, (int64_t)1 << 30},
+           "halved until there are 8 tasks, one more if the 8-pixel segments are odd", 1, (int64_t)1 << 30},
     {"ukernel", "tile kernel: 0 = best the CPU supports, 1 = portable C", 0, 1},
 };
 
@@ -120,19 +119,25 @@ static void blocked_defaults(const cp_shape *s, const cp_cache_sizes *caches, cp
     /* Equal blocks (512 channels, at most 72: 8 x 64, not 7 x 72 + 8). */
     const int64_t ncb = (g.cg + cbmax - 1) / cbmax;
     const int64_t cb = (g.cg + ncb - 1) / ncb;
-    /* Input rows one block of pb output rows reads, for cb channels. */
+    /* As many output rows as keep the block's input rows (cb channels) in half
+     * of L2: every weight tile is then used on many pixels. */
     int64_t pb = 1;
-    const int64_t pmax = (g.P + 7) / 8;
-    while (pb < pmax) {
-        const int64_t rows = pb * s->stride_h + (s->r - 1) * s->dil_h + 1;
+    while (pb < g.P) {
+        const int64_t rows = pb * s->stride_h + (s->r - 1) * s->dil_h + 1; /* for pb+1 */
         if (cb * rows * g.wrow * (int64_t)sizeof(float) > l2 / 2) break;
         pb++;
     }
+    /* kb channel tiles: their weights in a quarter of L2, their outputs of a
+     * row block in another quarter. */
+    int64_t kb = clamp64((l2 / 4) / (cb * tile_w_per_c), 1, g.ntk);
+    int64_t ytile = MR * pb * g.Q * (int64_t)sizeof(float);
+    kb = clamp64(kb, 1, clamp64((l2 / 4) / ytile, 1, g.ntk));
+    /* At least 8 tasks (group x channel block x row block) for the workers
+     * to share, by halving the row blocks. */
+    while (pb > 1 && s->groups * ((g.ntk + kb - 1) / kb) * pixel_blocks(&g, pb) < 8)
+        pb = (pb + 1) / 2;
     /* An odd number of segments per block leaves half a tile empty. */
     if (!g.flat && block_segments(&g, pb) % 2 == 1 && pb < g.P) pb++;
-    int64_t kb = clamp64((l2 / 4) / (cb * tile_w_per_c), 1, g.ntk);
-    const int64_t ytile = MR * pb * g.Q * (int64_t)sizeof(float);
-    kb = clamp64(kb, 1, clamp64((l2 / 4) / ytile, 1, g.ntk));
     out->v[P_KB] = kb;
     out->v[P_CB] = cb;
     out->v[P_PB] = pb;
