@@ -327,11 +327,29 @@ static cp_status wino_run(const cp_run_args *a) {
     return CP_OK;
 }
 
-/* Tolerance: see the measurement below the table. */
+/* Tolerance.  Measured against the fp64 oracle (cp_oracle_run +
+ * cp_error_measure, error relative to sum|x||w| + |b|), default tile_block,
+ * OpenBLAS on one core, weights and bias uniform in [-1, 1), both modes, on the
+ * ResNet-50 3x3 stride-1 shapes (n=1, pad 1):
+ *   c=k=64  h=w=56:  max rel_err 1.03e-7 (inputs in [-1,1)), 8.8e-8 (inputs in [0,1))
+ *   c=k=512 h=w=7:   max rel_err 5.7e-8,                     7.1e-8
+ *   c=k=256 h=w=14:  max rel_err 9.5e-8,                     1.31e-7
+ * so the measured maximum is 1.31e-7 (direct, summing sequentially, measured
+ * up to 3.0e-7 on the same shapes).  The tolerance is nevertheless set 5x
+ * looser than direct's 1e-5: Winograd adds rounding in the input, filter and
+ * output transforms and multiplies the summed errors by the transforms'
+ * coefficients, so its error bound is larger than direct's and grows with the
+ * tile size and with the size of the matrices' entries (Barabasz, Anderson,
+ * Soodhalter & Gregg, "Error Analysis and Improving the Accuracy of Winograd
+ * Convolution for Deep Neural Networks", ACM TOMS 2020).  F(2x2,3x3) has the
+ * smallest tiles and entries in {0, +-1/2, +-1}, so the extra factor is small
+ * here; 5e-5 keeps direct's room for deep reductions with a margin for that
+ * factor, and is still tight enough to catch a wrong transform: scaling one
+ * row of G by 1.0001 gave rel_err 1.04e-4 on the test grid. */
 const cp_algo cpa_winograd_2x2_3x3 = {
     .name = "winograd_2x2_3x3",
     .summary = "Winograd F(2x2,3x3), element-wise stage as 16 GEMMs (3x3, stride 1)",
-    .tolerance = 1e-4,
+    .tolerance = 5e-5,
     .nparams = 1,
     .params = wino_params,
     .supports = wino_supports,
