@@ -4,8 +4,9 @@
  *   B^T = [1 0 -1 0; 0 1 1 0; 0 -1 1 0; 0 1 0 -1]
  *   G   = [1 0 0; 1/2 1/2 1/2; 1/2 -1/2 1/2; 0 0 1]
  *   A^T = [1 1 1 0; 0 1 -1 -1]
- * Below they appear unrolled as additions; algos/winograd_tile.c keeps them as
- * matrices for the tests.
+ * G appears unrolled in prepare below, B^T and A^T in the transform loops of
+ * winograd_kernels_body.h (built portable and AVX2, chosen at run time);
+ * algos/winograd_tile.c keeps all three as matrices for the tests.
  *
  * Data flow for one block of `tile_block` 2x2 output tiles (4x4 input tiles
  * overlapping by 2):
@@ -19,12 +20,15 @@
 #include <string.h>
 
 #include "cpa.h"
+#include "winograd_kernels.h"
 
-enum { WINO_TILE_BLOCK = 0 };
+enum { WINO_TILE_BLOCK = 0, WINO_KERNELS = 1 };
 
 static const cp_param_desc wino_params[] = {
     {"tile_block", "2x2 output tiles per block; default: the block's 16 V and 16 M "
                    "matrices fill L2, at least 64 tiles", 1, 65536},
+    {"kernels", "transform loops: 0 = AVX2 build when the CPU has AVX2+FMA, else portable; "
+                "1 = portable; default 0", 0, 1},
 };
 
 /* Row stride of the V and M matrices: a multiple of 16 floats (64 bytes), so
@@ -52,6 +56,9 @@ static int wino_supports(const cp_shape *s, cp_mode mode, char *why, size_t cap)
     if (s->dil_h != 1 || s->dil_w != 1)
         return cpa_refuse(why, cap, "F(2x2,3x3) needs dilation 1 (got %lldx%lld)",
                           (long long)s->dil_h, (long long)s->dil_w);
+    if (s->c > INT32_MAX || s->k > INT32_MAX)
+        return cpa_refuse(why, cap, "c=%lld or k=%lld exceeds the BLAS integer range",
+                          (long long)s->c, (long long)s->k);
     if (s->groups != 1)
         return cpa_refuse(why, cap, "grouped convolution (groups=%lld) is not implemented; "
                                     "only groups=1", (long long)s->groups);
@@ -151,9 +158,11 @@ typedef struct {
     int64_t t0, nt, ld;
     float *v, *m, *rows;
     size_t rows_per_worker;
+    const cpa_wino_kernels *kern;
 } wino_block;
 
-/* Calls fn for each run of tiles of the block that lie in one tile row. */
+/* Runs body for each segment of the block: a run of tiles [tx0, tx1) of tile
+ * row ty of image n, whose first tile is column `col` of the block. */
 #define WINO_FOR_SEGMENTS(blk, body)                                                    \
     do {                                                                                \
         const int64_t tw_ = wino_tiles_w((blk)->a->shape);                              \
@@ -191,31 +200,16 @@ static void wino_load_row(const cp_shape *s, const float *xc, int64_t ih, int64_
 
 /* V = B^T d B for the tiles of one segment of channel c: first B^T on four
  * whole rows (contiguous), then B on each tile's four columns (stride 2). */
-static void wino_input_segment(const cp_shape *s, const float *xc, int64_t ty, int64_t tx0,
-                               int64_t tx1, float *rows, float *vc, int64_t vstride) {
+static void wino_input_segment(const cp_shape *s, const cpa_wino_kernels *kern,
+                               const float *xc, int64_t ty, int64_t tx0, int64_t tx1,
+                               float *rows, float *vc, int64_t vstride) {
     const int64_t len = 2 * (tx1 - tx0) + 2, nt = tx1 - tx0;
-    float *r0 = rows, *r1 = rows + len, *r2 = rows + 2 * len, *r3 = rows + 3 * len;
     for (int i = 0; i < 4; i++)
         wino_load_row(s, xc, 2 * ty - s->pad_top + i, tx0, tx1, rows + i * len);
-    for (int64_t u = 0; u < len; u++) {
-        const float d0 = r0[u], d1 = r1[u], d2 = r2[u], d3 = r3[u];
-        r0[u] = d0 - d2;
-        r1[u] = d1 + d2;
-        r2[u] = d2 - d1;
-        r3[u] = d1 - d3;
-    }
-    for (int i = 0; i < 4; i++) {
-        const float *r = rows + i * len;
-        float *v0 = vc + (4 * i + 0) * vstride, *v1 = vc + (4 * i + 1) * vstride;
-        float *v2 = vc + (4 * i + 2) * vstride, *v3 = vc + (4 * i + 3) * vstride;
-        for (int64_t t = 0; t < nt; t++) {
-            const float e0 = r[2 * t], e1 = r[2 * t + 1], e2 = r[2 * t + 2], e3 = r[2 * t + 3];
-            v0[t] = e0 - e2;
-            v1[t] = e1 + e2;
-            v2[t] = e2 - e1;
-            v3[t] = e1 - e3;
-        }
-    }
+    kern->in_rows(rows, rows + len, rows + 2 * len, rows + 3 * len, len);
+    for (int i = 0; i < 4; i++)
+        kern->in_cols(rows + i * len, vc + (4 * i + 0) * vstride, vc + (4 * i + 1) * vstride,
+                      vc + (4 * i + 2) * vstride, vc + (4 * i + 3) * vstride, nt);
 }
 
 static void wino_input_task(void *arg, int64_t begin, int64_t end, int worker) {
@@ -226,61 +220,34 @@ static void wino_input_task(void *arg, int64_t begin, int64_t end, int worker) {
     for (int64_t c = begin; c < end; c++) {
         WINO_FOR_SEGMENTS(blk, {
             const float *xc = blk->a->x + (n * s->c + c) * s->h * s->w;
-            wino_input_segment(s, xc, ty, tx0, tx1, rows, blk->v + c * blk->ld + col, vstride);
+            wino_input_segment(s, blk->kern, xc, ty, tx0, tx1, rows, blk->v + c * blk->ld + col,
+                               vstride);
         });
     }
 }
 
 /* y = A^T M A + bias for the tiles of one segment of output channel k.
- * Full tiles first (no branch inside the loop), then the odd last column. */
-static void wino_output_segment(const cp_shape *s, const float *mk, int64_t mstride,
-                                float bias, float *yk, int64_t ty, int64_t tx0, int64_t tx1) {
+ * Full tiles through the kernel loops, then the last tile column alone when Q
+ * is odd (one output column) -- branches per segment, never per element. */
+static void wino_output_segment(const cp_shape *s, const cpa_wino_kernels *kern,
+                                const float *mk, int64_t mstride, float bias, float *yk,
+                                int64_t ty, int64_t tx0, int64_t tx1) {
     const int64_t P = cp_shape_out_h(s), Q = cp_shape_out_w(s);
     const int64_t full_end = tx1 < Q / 2 ? tx1 : Q / 2;
-    const int two_rows = 2 * ty + 1 < P;
-    float *y0 = yk + 2 * ty * Q, *y1 = y0 + Q;
-#define WINO_M(xi) (mk + (xi) * mstride)
-    const float *m0 = WINO_M(0), *m1 = WINO_M(1), *m2 = WINO_M(2), *m3 = WINO_M(3);
-    const float *m4 = WINO_M(4), *m5 = WINO_M(5), *m6 = WINO_M(6), *m7 = WINO_M(7);
-    const float *m8 = WINO_M(8), *m9 = WINO_M(9), *m10 = WINO_M(10), *m11 = WINO_M(11);
-    const float *m12 = WINO_M(12), *m13 = WINO_M(13), *m14 = WINO_M(14), *m15 = WINO_M(15);
-#undef WINO_M
-    /* A^T on the rows: s0 = row0 + row1 + row2, s1 = row1 - row2 - row3; then
-     * A on the columns of each. */
-#define WINO_OUT(t, Y00, Y01, Y10, Y11)                                         \
-    const float s00 = m0[t] + m4[t] + m8[t], s01 = m1[t] + m5[t] + m9[t];      \
-    const float s02 = m2[t] + m6[t] + m10[t], s03 = m3[t] + m7[t] + m11[t];    \
-    const float s10 = m4[t] - m8[t] - m12[t], s11 = m5[t] - m9[t] - m13[t];    \
-    const float s12 = m6[t] - m10[t] - m14[t], s13 = m7[t] - m11[t] - m15[t];  \
-    const float Y00 = s00 + s01 + s02 + bias, Y01 = s01 - s02 - s03 + bias;    \
-    const float Y10 = s10 + s11 + s12 + bias, Y11 = s11 - s12 - s13 + bias
-    int64_t t = 0;
     const int64_t nfull = full_end > tx0 ? full_end - tx0 : 0;
-    float *o0 = y0 + 2 * tx0, *o1 = y1 + 2 * tx0;
-    if (two_rows) {
-        for (t = 0; t < nfull; t++) {
-            WINO_OUT(t, a00, a01, a10, a11);
-            o0[2 * t] = a00;
-            o0[2 * t + 1] = a01;
-            o1[2 * t] = a10;
-            o1[2 * t + 1] = a11;
-        }
-    } else {
-        for (t = 0; t < nfull; t++) {
-            WINO_OUT(t, a00, a01, a10, a11);
-            (void)a10; (void)a11;
-            o0[2 * t] = a00;
-            o0[2 * t + 1] = a01;
-        }
+    const int two_rows = 2 * ty + 1 < P;
+    float *o0 = yk + 2 * ty * Q + 2 * tx0;
+    if (two_rows)
+        kern->out_2rows(mk, mstride, bias, o0, o0 + Q, nfull);
+    else
+        kern->out_1row(mk, mstride, bias, o0, nfull);
+    if (tx0 + nfull < tx1) {
+        float m[16], y[4];
+        for (int xi = 0; xi < 16; xi++) m[xi] = mk[xi * mstride + nfull];
+        kern->out_2rows(m, 1, bias, y, y + 2, 1);
+        o0[2 * nfull] = y[0];
+        if (two_rows) o0[Q + 2 * nfull] = y[2];
     }
-    if (tx0 + nfull < tx1) { /* the last tile column when Q is odd: one output column */
-        t = nfull;
-        WINO_OUT(t, a00, a01, a10, a11);
-        (void)a01; (void)a11;
-        o0[2 * t] = a00;
-        if (two_rows) o1[2 * t] = a10;
-    }
-#undef WINO_OUT
 }
 
 static void wino_output_task(void *arg, int64_t begin, int64_t end, int worker) {
@@ -293,7 +260,8 @@ static void wino_output_task(void *arg, int64_t begin, int64_t end, int worker) 
         const float bias = blk->a->bias ? blk->a->bias[k] : 0.0f;
         WINO_FOR_SEGMENTS(blk, {
             float *yk = blk->a->y + (n * s->k + k) * P * Q;
-            wino_output_segment(s, blk->m + k * blk->ld + col, mstride, bias, yk, ty, tx0, tx1);
+            wino_output_segment(s, blk->kern, blk->m + k * blk->ld + col, mstride, bias, yk, ty,
+                                tx0, tx1);
         });
     }
 }
@@ -311,6 +279,8 @@ static cp_status wino_run(const cp_run_args *a) {
         .v = (float *)ws,
         .m = (float *)(ws + cpa_align64((size_t)(16 * C * ld) * sizeof(float))),
         .rows_per_worker = wino_rowbuf_floats(s, tb),
+        .kern = a->params->v[WINO_KERNELS] == 1 ? &cpa_wino_kernels_ref
+                                                 : cpa_wino_kernels_select(),
     };
     blk.rows = (float *)(ws + cpa_align64((size_t)(16 * C * ld) * sizeof(float)) +
                          cpa_align64((size_t)(16 * K * ld) * sizeof(float)));
@@ -350,7 +320,7 @@ const cp_algo cpa_winograd_2x2_3x3 = {
     .name = "winograd_2x2_3x3",
     .summary = "Winograd F(2x2,3x3), element-wise stage as 16 GEMMs (3x3, stride 1)",
     .tolerance = 5e-5,
-    .nparams = 1,
+    .nparams = 2,
     .params = wino_params,
     .supports = wino_supports,
     .defaults = wino_defaults,

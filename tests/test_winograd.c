@@ -20,6 +20,7 @@
 #include "convpick/algo.h"
 #include "convpick/oracle.h"
 #include "cpa.h"
+#include "winograd_kernels.h"
 #include "winograd_tile.h"
 
 static const cp_algo *wino(void) {
@@ -156,6 +157,55 @@ static void test_mult_count(void **state) {
     assert_int_equal(mults, 160);
 }
 
+/* The transform loops (portable and, when the CPU has it, AVX2) against the
+ * matrix-form reference of winograd_tile.c, tile by tile.  The loops do the
+ * same additions in the same order as the matrix products (whose other terms
+ * are exact multiplications by 0 and +-1), so the results are equal exactly. */
+static float lcg(uint32_t *st);
+
+static void check_kernel_set(const cpa_wino_kernels *kern) {
+    enum { NT = 19, LEN = 2 * NT + 2 };
+    uint32_t st = 99;
+    float rows[4][LEN], img[4][LEN], v[16][NT], m[16][NT], o[2][2 * NT], o1[2 * NT];
+    for (int i = 0; i < 4; i++)
+        for (int u = 0; u < LEN; u++) img[i][u] = rows[i][u] = lcg(&st);
+    kern->in_rows(rows[0], rows[1], rows[2], rows[3], LEN);
+    for (int i = 0; i < 4; i++)
+        kern->in_cols(rows[i], v[4 * i], v[4 * i + 1], v[4 * i + 2], v[4 * i + 3], NT);
+    for (int xi = 0; xi < 16; xi++)
+        for (int t = 0; t < NT; t++) m[xi][t] = lcg(&st);
+    const float bias = 0.25f;
+    kern->out_2rows(&m[0][0], NT, bias, o[0], o[1], NT);
+    kern->out_1row(&m[0][0], NT, bias, o1, NT);
+    for (int t = 0; t < NT; t++) {
+        float d[16], vr[16], mt[16], yr[4];
+        for (int i = 0; i < 4; i++)
+            for (int j = 0; j < 4; j++) d[i * 4 + j] = img[i][2 * t + j];
+        cpa_wino_input_tx(d, vr);
+        for (int xi = 0; xi < 16; xi++) {
+            assert_true(v[xi][t] == vr[xi]);
+            mt[xi] = m[xi][t];
+        }
+        cpa_wino_output_tx(mt, yr);
+        for (int i = 0; i < 2; i++)
+            for (int j = 0; j < 2; j++) assert_true(o[i][2 * t + j] == yr[i * 2 + j] + bias);
+        assert_true(o1[2 * t] == o[0][2 * t] && o1[2 * t + 1] == o[0][2 * t + 1]);
+    }
+}
+
+static void test_kernel_sets(void **state) {
+    (void)state;
+    check_kernel_set(&cpa_wino_kernels_ref);
+#if defined(__x86_64__) || defined(__i386__)
+    if (__builtin_cpu_supports("avx2") && __builtin_cpu_supports("fma")) {
+        check_kernel_set(&cpa_wino_kernels_avx2);
+        assert_ptr_equal(cpa_wino_kernels_select(), &cpa_wino_kernels_avx2);
+    } else {
+        assert_ptr_equal(cpa_wino_kernels_select(), &cpa_wino_kernels_ref);
+    }
+#endif
+}
+
 /* --- (3) against the oracle ------------------------------------------------ */
 
 static float lcg(uint32_t *st) {
@@ -225,26 +275,27 @@ static void check_case(const grid_case *gc, cp_mode mode, int with_bias) {
     cp_algo_defaults(a, &s, NULL, &defaults);
     const int64_t blocks[] = {defaults.v[0], 1, 3, 16};
     for (size_t bi = 0; bi < sizeof blocks / sizeof blocks[0]; bi++)
-        for (int e = 0; e < 2; e++) {
+        for (int e = 0; e < 4; e++) { /* bit 0: two workers; bit 1: portable kernels */
             cp_params p = defaults;
             p.v[0] = blocks[bi];
+            p.v[1] = e >> 1;
             cp_plan *plan = NULL;
-            assert_int_equal(cp_plan_create(a, &s, mode, &p, NULL, e ? 2 : 1, w, &plan, msg,
+            assert_int_equal(cp_plan_create(a, &s, mode, &p, NULL, (e & 1) ? 2 : 1, w, &plan, msg,
                                             sizeof msg),
                              CP_OK);
             for (size_t i = 0; i < no; i++) y[i] = NAN; /* every output must be written */
             for (size_t i = 0; i < GUARD; i++) y[no + i] = guard_val;
-            assert_int_equal(cp_plan_run(plan, x, bias, y, e ? &two : &serial), CP_OK);
+            assert_int_equal(cp_plan_run(plan, x, bias, y, (e & 1) ? &two : &serial), CP_OK);
             cp_error err = cp_error_measure(y, ref, mag, no);
             if (err.nonfinite || err.rel_err > a->tolerance)
                 fail_msg("n=%lld c=%lld k=%lld h=%lld w=%lld pads=%lld,%lld,%lld,%lld mode=%d "
-                         "bias=%d tile_block=%lld workers=%d: rel_err %.3g (tolerance %.3g), "
-                         "%zu non-finite, worst index %zu",
+                         "bias=%d tile_block=%lld kernels=%lld workers=%d: rel_err %.3g "
+                         "(tolerance %.3g), %zu non-finite, worst index %zu",
                          (long long)s.n, (long long)s.c, (long long)s.k, (long long)s.h,
                          (long long)s.w, (long long)s.pad_top, (long long)s.pad_left,
                          (long long)s.pad_bottom, (long long)s.pad_right, (int)mode, with_bias,
-                         (long long)p.v[0], e ? 2 : 1, err.rel_err, a->tolerance, err.nonfinite,
-                         err.worst);
+                         (long long)p.v[0], (long long)p.v[1], (e & 1) ? 2 : 1, err.rel_err,
+                         a->tolerance, err.nonfinite, err.worst);
             for (size_t i = 0; i < GUARD; i++) assert_true(y[no + i] == guard_val);
             cp_plan_destroy(plan);
         }
@@ -339,6 +390,7 @@ int main(void) {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_f2_3_worked),      cmocka_unit_test(test_f2x2_3x3_worked),
         cmocka_unit_test(test_layer_worked),     cmocka_unit_test(test_mult_count),
+        cmocka_unit_test(test_kernel_sets),
         cmocka_unit_test(test_oracle_grid),      cmocka_unit_test(test_refusals),
         cmocka_unit_test(test_workspace_bounded), cmocka_unit_test(test_candidates),
     };
