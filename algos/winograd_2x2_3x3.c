@@ -26,7 +26,7 @@ enum { WINO_TILE_BLOCK = 0, WINO_KERNELS = 1 };
 
 static const cp_param_desc wino_params[] = {
     {"tile_block", "2x2 output tiles per block; default: the block's 16 V and 16 M "
-                   "matrices fill L2, at least 64 tiles", 1, 65536},
+                   "matrices fill L2, at least 64 tiles", 1, 4096},
     {"kernels", "transform loops: 0 = AVX2 build when the CPU has AVX2+FMA, else portable; "
                 "1 = portable; default 0", 0, 1},
 };
