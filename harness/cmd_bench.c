@@ -39,6 +39,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include <time.h>
+#include <unistd.h>
 
 #include "cli.h"
 #include "data.h"
@@ -77,7 +78,9 @@ static void usage(FILE *f) {
             "exceed 100 %%.  'noisy' marks a\n"
             "measurement whose interquartile range exceeds 10 %% of the median or whose\n"
             "CI missed the target; 'cap' one that --max-seconds stopped.\n\n"
-            "exit status: 0 done, 1 an algorithm failed to plan or run, 2 bad usage or input\n",
+            "exit status: 0 done, 1 an algorithm failed to plan or run (or the results\n"
+            "could not be written), 2 bad usage or input (an unwritable --json directory\n"
+            "is found before anything runs)\n",
             cph_selection_help);
 }
 
@@ -125,6 +128,25 @@ static int parse_double(const char *s, double lo, double hi, double *out) {
     const double v = strtod(s, &end);
     if (errno || end == s || *end || !(v >= lo && v <= hi)) return -1;
     *out = v;
+    return 0;
+}
+
+/* 0 when the directory that will hold path exists and is writable, so that a
+ * long run does not end in an unwritable path. */
+static int check_output_dir(const char *path) {
+    char dir[4096];
+    snprintf(dir, sizeof dir, "%s", path);
+    char *slash = strrchr(dir, '/');
+    if (!slash)
+        snprintf(dir, sizeof dir, ".");
+    else if (slash == dir)
+        dir[1] = '\0';
+    else
+        *slash = '\0';
+    if (access(dir, W_OK | X_OK) != 0) {
+        cph_err("bench: --json %s: directory %s is not writable: %s", path, dir, strerror(errno));
+        return -1;
+    }
     return 0;
 }
 
@@ -188,6 +210,7 @@ static int parse_args(int argc, char **argv, bench_cfg *c) {
         cph_err("bench: unexpected argument '%s' (see convpick bench --help)", argv[optind]);
         return CPH_EXIT_USAGE;
     }
+    if (c->json_path && check_output_dir(c->json_path)) return CPH_EXIT_USAGE;
     static const cp_mode xcorr[] = {CP_XCORR};
     if (cph_selection_finish(&c->sel, xcorr, 1, msg, sizeof msg) != CP_OK) {
         cph_err("bench: %s", msg);

@@ -85,10 +85,12 @@ expect_usage --no-roofs
 expect_usage --shape n=1,c=0,h=4,w=4,k=4,r=3 --no-roofs
 grep -q "target-ci" <("$CLI" bench --help) || { echo "FAIL: help lacks --target-ci"; exit 1; }
 
-# 4. An unwritable JSON path: exit 1, message names the file.
+# 4. An unwritable JSON path is refused before anything runs: exit 2, the
+#    message names the file, and nothing is printed on stdout.
 set +e
-"$CLI" bench --shape "$shape" --algo direct "${fast[@]}" --json "$tmp/no/such/b.json" > /dev/null 2> "$tmp/err"
+"$CLI" bench --shape "$shape" --algo direct "${fast[@]}" --json "$tmp/no/such/b.json" > "$tmp/out2" 2> "$tmp/err"
 rc=$?; set -e
-[ "$rc" = 1 ] || { echo "FAIL: unwritable --json exited $rc, want 1"; exit 1; }
+[ "$rc" = 2 ] || { echo "FAIL: unwritable --json exited $rc, want 2"; exit 1; }
 grep -q "$tmp/no/such/b.json" "$tmp/err" || { echo "FAIL: error should name the file"; cat "$tmp/err"; exit 1; }
+[ ! -s "$tmp/out2" ] || { echo "FAIL: bench ran despite an unwritable --json"; exit 1; }
 echo "cli_bench: all checks passed"
