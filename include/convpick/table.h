@@ -34,8 +34,10 @@ typedef struct cp_candidate {
     cp_params params;
     cp_timing timing;
     double rel_err;     /* against the fp64 oracle */
-    int disqualified;   /* rel_err above the run's max_rel_err */
+    int disqualified;   /* rel_err above the run's max_rel_err (then not timed) */
     int failed;         /* could not be run or timed (rel_err is NaN, timing zero) */
+    double *samples;    /* every timed sample (seconds, run order), or NULL */
+    size_t nsamples;
 } cp_candidate;
 
 typedef struct cp_table_entry {
@@ -47,6 +49,7 @@ typedef struct cp_table_entry {
     cp_params params;
     cp_timing timing;
     const cp_algo *runner_up; /* NULL when only one candidate qualified */
+    cp_params runner_up_params;
     double margin;          /* runner-up median / chosen median - 1 */
     int margin_in_noise;    /* the two confidence intervals overlap */
     size_t ncandidates;
