@@ -234,13 +234,30 @@ static cp_status get_candidate(const ctx *c, const json_t *cj, const char *where
     json_t *t, *re;
     if ((st = field(c, cj, where, "timing", JSON_OBJECT, 1, &t)) != CP_OK) return st;
     if ((st = field(c, cj, where, "rel_err", JSON_REAL, 1, &re)) != CP_OK) return st;
-    if (!out->failed && (json_is_null(t) || json_is_null(re)))
-        return fail(c, CP_EFORMAT, "%s: timing and rel_err may be null only when status is failed",
+    if (!out->failed && !out->disqualified && json_is_null(t))
+        return fail(c, CP_EFORMAT, "%s.timing: null only when status is disqualified or failed",
                     where);
+    if (!out->failed && json_is_null(re))
+        return fail(c, CP_EFORMAT, "%s.rel_err: null only when status is failed", where);
     if (!json_is_null(t)) {
-        char sub[96];
+        char sub[112];
         snprintf(sub, sizeof sub, "%s.timing", where);
         if ((st = get_timing(c, t, sub, &out->timing)) != CP_OK) return st;
+        json_t *sv = json_object_get(t, "samples_s");
+        if (sv) {
+            if (!json_is_array(sv))
+                return fail(c, CP_EFORMAT, "%s.samples_s: expected array, found %s", sub, type_name(sv));
+            out->nsamples = json_array_size(sv);
+            out->samples = out->nsamples ? malloc(out->nsamples * sizeof *out->samples) : NULL;
+            if (out->nsamples && !out->samples) return fail(c, CP_ENOMEM, "%s: out of memory", sub);
+            for (size_t i = 0; i < out->nsamples; i++) {
+                json_t *x = json_array_get(sv, i);
+                if (!json_is_number(x))
+                    return fail(c, CP_EFORMAT, "%s.samples_s[%zu]: expected number, found %s", sub, i,
+                                type_name(x));
+                out->samples[i] = json_number_value(x);
+            }
+        }
     }
     out->rel_err = NAN;
     if (!json_is_null(re)) {
@@ -291,9 +308,8 @@ static cp_status get_entry(const ctx *c, const json_t *e, size_t idx, cp_table_e
     out->runner_up = NULL;
     if (!json_is_null(ru)) {
         snprintf(sub, sizeof sub, "%s.runner_up", where);
-        cp_params rp;
         if ((st = get_algo(c, ru, sub, &out->runner_up)) != CP_OK) return st;
-        if ((st = get_params(c, ru, sub, out->runner_up, &rp)) != CP_OK) return st;
+        if ((st = get_params(c, ru, sub, out->runner_up, &out->runner_up_params)) != CP_OK) return st;
         if ((st = get_real(c, ru, sub, "margin", &out->margin)) != CP_OK) return st;
         if ((st = get_bool(c, ru, sub, "in_noise", &out->margin_in_noise)) != CP_OK) return st;
     }
@@ -473,7 +489,10 @@ cp_status cp_table_load(const char *path, unsigned flags, cp_table **out, char *
 
 void cp_table_free(cp_table *t) {
     if (!t) return;
-    for (size_t i = 0; i < t->n; i++) free(t->entries[i].candidates);
+    for (size_t i = 0; i < t->n; i++) {
+        for (size_t j = 0; j < t->entries[i].ncandidates; j++) free(t->entries[i].candidates[j].samples);
+        free(t->entries[i].candidates);
+    }
     free(t->entries);
     free(t->settings_keys);
     free(t->order);
