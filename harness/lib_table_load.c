@@ -77,7 +77,7 @@ static cp_status field(const ctx *c, const json_t *obj, const char *where, const
 
 static cp_status get_int(const ctx *c, const json_t *obj, const char *where, const char *key,
                          long long lo, long long hi, long long *out) {
-    json_t *v;
+    json_t *v = NULL;
     cp_status st = field(c, obj, where, key, JSON_INTEGER, 0, &v);
     if (st != CP_OK) return st;
     long long x = (long long)json_integer_value(v);
@@ -89,7 +89,7 @@ static cp_status get_int(const ctx *c, const json_t *obj, const char *where, con
 
 static cp_status get_real(const ctx *c, const json_t *obj, const char *where, const char *key,
                           double *out) {
-    json_t *v;
+    json_t *v = NULL;
     cp_status st = field(c, obj, where, key, JSON_REAL, 0, &v);
     if (st != CP_OK) return st;
     *out = json_number_value(v);
@@ -100,7 +100,7 @@ static cp_status get_real(const ctx *c, const json_t *obj, const char *where, co
 
 static cp_status get_str(const ctx *c, const json_t *obj, const char *where, const char *key,
                          const char **out) {
-    json_t *v;
+    json_t *v = NULL;
     cp_status st = field(c, obj, where, key, JSON_STRING, 0, &v);
     if (st == CP_OK) *out = json_string_value(v);
     return st;
@@ -108,7 +108,7 @@ static cp_status get_str(const ctx *c, const json_t *obj, const char *where, con
 
 static cp_status get_bool(const ctx *c, const json_t *obj, const char *where, const char *key,
                           int *out) {
-    json_t *v;
+    json_t *v = NULL;
     cp_status st = field(c, obj, where, key, JSON_TRUE, 0, &v);
     if (st == CP_OK) *out = json_is_true(v);
     return st;
@@ -138,12 +138,12 @@ static cp_status get_algo(const ctx *c, const json_t *obj, const char *where,
 /* "params": {name: integer} with exactly the algorithm's parameters. */
 static cp_status get_params(const ctx *c, const json_t *obj, const char *where, const cp_algo *a,
                             cp_params *out) {
-    json_t *p;
+    json_t *p = NULL;
     cp_status st = field(c, obj, where, "params", JSON_OBJECT, 0, &p);
     if (st != CP_OK) return st;
     memset(out, 0, sizeof *out);
     const char *key;
-    json_t *v;
+    json_t *v = NULL;
     json_object_foreach(p, key, v) {
         if (cp_algo_param_index(a, key) < 0)
             return fail(c, CP_EFORMAT, "%s.params.%s: %s has no parameter of that name", where,
@@ -183,7 +183,7 @@ static const char *const shape_keys[] = {
 };
 
 static cp_status get_shape(const ctx *c, const json_t *e, const char *where, cp_shape *out) {
-    json_t *sh;
+    json_t *sh = NULL;
     cp_status st = field(c, e, where, "shape", JSON_OBJECT, 0, &sh);
     if (st != CP_OK) return st;
     char sub[96];
@@ -231,7 +231,7 @@ static cp_status get_candidate(const ctx *c, const json_t *cj, const char *where
         return fail(c, CP_EFORMAT, "%s.status: '%s' (expected ok, disqualified or failed)", where,
                     status);
     }
-    json_t *t, *re;
+    json_t *t = NULL, *re = NULL;
     if ((st = field(c, cj, where, "timing", JSON_OBJECT, 1, &t)) != CP_OK) return st;
     if ((st = field(c, cj, where, "rel_err", JSON_REAL, 1, &re)) != CP_OK) return st;
     if (!out->failed && !out->disqualified && json_is_null(t))
@@ -290,7 +290,7 @@ static cp_status get_entry(const ctx *c, const json_t *e, size_t idx, cp_table_e
     out->threads = (int)th;
 
     char sub[96];
-    json_t *ch, *t, *ru, *cands, *tried;
+    json_t *ch = NULL, *t = NULL, *ru = NULL, *cands = NULL, *tried = NULL;
     if ((st = field(c, e, where, "choice", JSON_OBJECT, 0, &ch)) != CP_OK) return st;
     snprintf(sub, sizeof sub, "%s.choice", where);
     if ((st = get_algo(c, ch, sub, &out->algo)) != CP_OK) return st;
@@ -334,7 +334,7 @@ static cp_status get_entry(const ctx *c, const json_t *e, size_t idx, cp_table_e
 }
 
 static cp_status get_device(const ctx *c, const json_t *root, cp_table *t) {
-    json_t *dev, *caches;
+    json_t *dev = NULL, *caches = NULL;
     const char *fp;
     cp_status st;
     if ((st = field(c, root, "", "device", JSON_OBJECT, 0, &dev)) != CP_OK) return st;
@@ -404,13 +404,13 @@ static cp_status build(const ctx *c, const json_t *root, unsigned flags, cp_tabl
     if ((st = get_str(c, root, "", "format", &fmt)) != CP_OK) return st;
     if (strcmp(fmt, CP_TABLE_FORMAT) != 0)
         return fail(c, CP_EFORMAT, "format: '%s' is not a %s", fmt, CP_TABLE_FORMAT);
-    json_t *v;
+    json_t *v = NULL;
     if ((st = field(c, root, "", "version", JSON_INTEGER, 0, &v)) != CP_OK) return st;
     if (json_integer_value(v) != CP_TABLE_VERSION)
         return fail(c, CP_EVERSION, "version: %lld is not supported (this build reads version %d)",
                     (long long)json_integer_value(v), CP_TABLE_VERSION);
     const char *created;
-    json_t *cpj, *settings, *entries;
+    json_t *cpj = NULL, *settings = NULL, *entries = NULL;
     if ((st = get_str(c, root, "", "created", &created)) != CP_OK) return st;
     if ((st = field(c, root, "", "convpick", JSON_OBJECT, 0, &cpj)) != CP_OK) return st;
     if ((st = field(c, root, "", "settings", JSON_OBJECT, 0, &settings)) != CP_OK) return st;
@@ -460,14 +460,39 @@ cp_status cp_table_load(const char *path, unsigned flags, cp_table **out, char *
         fclose(f);
         return fail(&c, CP_EFORMAT, "empty file (expected a %s JSON document)", CP_TABLE_FORMAT);
     }
-    json_error_t err;
-    json_t *root = json_loadf(f, JSON_REJECT_DUPLICATES, &err);
+    /* One read into memory, then json_loadb: jansson's stream reader takes
+     * the file a character at a time, noticeably slower on large tables. */
+    size_t size = 0, len = 0, want = S_ISREG(sb.st_mode) ? (size_t)sb.st_size + 1 : 65536;
+    char *buf = NULL;
+    for (;;) {
+        if (len == size) {
+            size_t ncap = size ? size + (size >> 1) : want;
+            char *nb = realloc(buf, ncap);
+            if (!nb) {
+                free(buf);
+                fclose(f);
+                return fail(&c, CP_ENOMEM, "out of memory reading %zu bytes", size);
+            }
+            buf = nb;
+            size = ncap;
+        }
+        size_t got = fread(buf + len, 1, size - len, f);
+        len += got;
+        if (got == 0) break;
+    }
     int rerr = ferror(f);
     fclose(f);
     if (rerr) {
-        json_decref(root);
-        return fail(&c, CP_EIO, "read error");
+        free(buf);
+        return fail(&c, CP_EIO, "read error: %s", strerror(errno));
     }
+    if (len == 0) {
+        free(buf);
+        return fail(&c, CP_EFORMAT, "empty file (expected a %s JSON document)", CP_TABLE_FORMAT);
+    }
+    json_error_t err;
+    json_t *root = json_loadb(buf, len, JSON_REJECT_DUPLICATES, &err);
+    free(buf);
     if (!root) {
         if (msg && cap) snprintf(msg, cap, "%s:%d:%d: %s", path, err.line, err.column, err.text);
         return CP_EFORMAT;

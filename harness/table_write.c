@@ -327,16 +327,12 @@ cp_status cph_write_atomic(const char *path, const void *data, size_t len, char 
     step = "fsync";
     if (fsync(fileno(f)) != 0) goto fail_file;
     step = "close";
-    if (fclose(f) != 0) {
-        f = NULL;
-        fd = -1;
-        goto fail_file;
-    }
+    int closed = fclose(f);
+    f = NULL;
+    fd = -1;
+    if (closed != 0) goto fail_file;
     step = "rename the temporary file over it";
-    if (rename(tmp, path) != 0) {
-        fd = -1;
-        goto fail_file;
-    }
+    if (rename(tmp, path) != 0) goto fail_file;
     /* Renamed: the new table is in place.  The directory fsync makes the
      * rename itself durable; a failure there is reported but nothing to undo. */
     int dfd = open(dir, O_RDONLY | O_DIRECTORY);
