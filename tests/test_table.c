@@ -680,7 +680,39 @@ static void test_large_table(void **state) {
     assert_true(sec < 10.0);
 }
 
-int main(void) {
+/* `test_table --write-sample PATH`: writes a table with the writer (invented
+ * machine, this machine's fingerprint) for the shell tests (schema check,
+ * examples) to read. */
+static int write_sample(const char *path) {
+    cph_machine m;
+    cph_table_settings st;
+    fake_machine(&m);
+    fake_settings(&st);
+    char msg[512];
+    cph_table_doc *d;
+    if (cph_table_doc_new(&m, &st, &d, msg, sizeof msg) != CP_OK) goto bad;
+    cp_table_entry e;
+    cp_candidate c[3];
+    double samples[3] = {1.2e-4, 1.25e-4, 1.3e-4};
+    const char *notes[3] = {"", "rel_err above max_rel_err", "invented failure"};
+    cph_entry_notes n = {.candidate_notes = notes, .planned = 3, .measured = 2, .failed = 1,
+                         .disqualified = 1, .seconds = 0.75};
+    fill_entry(&e, c, samples, "s1", shape3x3(4, 10, 8), CP_XCORR, 1);
+    if (cph_table_doc_put(d, &e, &n, msg, sizeof msg) != CP_OK) goto bad;
+    fill_entry(&e, c, samples, "s2", shape3x3(8, 6, 4), CP_CONV, 1);
+    e.algo = cp_algo_find("direct_flipidx");
+    e.runner_up = NULL;
+    if (cph_table_doc_put(d, &e, &n, msg, sizeof msg) != CP_OK) goto bad;
+    if (cph_table_doc_write(d, path, msg, sizeof msg) != CP_OK) goto bad;
+    cph_table_doc_free(d);
+    return 0;
+bad:
+    fprintf(stderr, "test_table: %s\n", msg);
+    return 1;
+}
+
+int main(int argc, char **argv) {
+    if (argc == 3 && strcmp(argv[1], "--write-sample") == 0) return write_sample(argv[2]);
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_round_trip),
         cmocka_unit_test(test_round_trip_params),
