@@ -105,13 +105,17 @@ cp_shape_fault cp_shape_validate(const cp_shape *s, char *msg, size_t cap) {
     /* Guard the arithmetic below: every field must be small enough that sums
      * and products of two fields stay far from int64 overflow. */
     const int64_t big = (int64_t)1 << 31;
-    const int64_t all[] = {s->n, s->c, s->h, s->w, s->k, s->r, s->s, s->stride_h, s->stride_w,
-                           s->dil_h, s->dil_w, s->groups, s->pad_top, s->pad_left,
-                           s->pad_bottom, s->pad_right};
+    const struct { const char *name; int64_t v; } all[] = {
+        {"n", s->n}, {"c", s->c}, {"h", s->h}, {"w", s->w}, {"k", s->k}, {"r", s->r},
+        {"s", s->s}, {"stride_h", s->stride_h}, {"stride_w", s->stride_w},
+        {"dilation_h", s->dil_h}, {"dilation_w", s->dil_w}, {"groups", s->groups},
+        {"pad_top", s->pad_top}, {"pad_left", s->pad_left}, {"pad_bottom", s->pad_bottom},
+        {"pad_right", s->pad_right},
+    };
     for (size_t i = 0; i < sizeof all / sizeof all[0]; i++)
-        if (all[i] >= big)
-            return fault(CP_SHAPE_OVERFLOW, msg, cap,
-                         "a field is %lld: sizes must stay below 2^31", (long long)all[i]);
+        if (all[i].v >= big)
+            return fault(CP_SHAPE_OVERFLOW, msg, cap, "%s=%lld: sizes must stay below 2^31",
+                         all[i].name, (long long)all[i].v);
     const int64_t eh = s->dil_h * (s->r - 1), ew = s->dil_w * (s->s - 1);
     const struct { const char *name; int64_t v, lim; } big_pads[] = {
         {"pad_top", s->pad_top, eh}, {"pad_bottom", s->pad_bottom, eh},

@@ -1,7 +1,159 @@
-/* PLACEHOLDER: replaced by the real subcommand before landing. */
+/* convpick run: computes one layer from raw float32 files with a chosen
+ * algorithm, so that any algorithm can be checked against an outside tool
+ * (NumPy, SciPy) on the user's own data. */
+#include <getopt.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
 #include "cli.h"
+#include "rawfile.h"
+#include "select.h"
+
+static void usage(FILE *f) {
+    fprintf(f,
+            "usage: convpick run --shape SPEC --algo A --input X.f32 --weights W.f32\n"
+            "                    [--bias B.f32] --output Y.f32 [--mode xcorr|conv]\n\n"
+            "Computes one layer with algorithm A (default parameters) from raw little-endian\n"
+            "float32 files: input N x C x H x W (NCHW), weights K x C/groups x R x S (KCRS),\n"
+            "bias K values; writes the output N x K x P x Q (NCHW), replacing Y.f32 atomically.\n\n"
+            "options:\n"
+            "  --shape SPEC      the layer (syntax as in convpick verify --help)\n"
+            "  --algo A          the algorithm (see convpick algos)\n"
+            "  --input FILE      input activations\n"
+            "  --weights FILE    weights\n"
+            "  --bias FILE       bias (optional)\n"
+            "  --output FILE     where to write the output\n"
+            "  --mode M          xcorr (default) or conv\n"
+            "  -h, --help        this text\n\n"
+            "exit status: 0 written, 1 the computation or the write failed, 2 bad usage or input\n");
+}
+
+enum { OPT_INPUT = 2000, OPT_WEIGHTS, OPT_BIAS, OPT_OUTPUT };
+
+typedef struct {
+    const char *spec, *algo, *input, *weights, *bias, *output, *mode;
+} run_opts;
+
+static int run_layer(const run_opts *o) {
+    char msg[512];
+    cp_shape s;
+    if (cph_parse_shape(o->spec, "--shape", &s, msg, sizeof msg) != CP_OK) {
+        cph_err("%s", msg);
+        return CPH_EXIT_USAGE;
+    }
+    const cp_algo *a = cp_algo_find(o->algo);
+    if (!a) {
+        cph_err("--algo: unknown algorithm '%s' (see convpick algos)", o->algo);
+        return CPH_EXIT_USAGE;
+    }
+    cp_mode mode = CP_XCORR;
+    if (o->mode && strcmp(o->mode, "conv") == 0)
+        mode = CP_CONV;
+    else if (o->mode && strcmp(o->mode, "xcorr") != 0) {
+        cph_err("--mode %s: expected xcorr or conv", o->mode);
+        return CPH_EXIT_USAGE;
+    }
+    char why[256] = "";
+    if (!a->supports(&s, mode, why, sizeof why)) {
+        cph_err("%s does not support this layer in %s mode: %s", a->name,
+                mode == CP_XCORR ? "xcorr" : "conv", why);
+        return CPH_EXIT_USAGE;
+    }
+    int rc = CPH_EXIT_USAGE;
+    float *x = NULL, *w = NULL, *b = NULL, *y = NULL;
+    cp_plan *plan = NULL;
+    if (cph_read_f32(o->input, "input", cp_shape_input_elems(&s), &x, msg, sizeof msg) != CP_OK ||
+        cph_read_f32(o->weights, "weights", cp_shape_weight_elems(&s), &w, msg, sizeof msg) !=
+            CP_OK ||
+        (o->bias && cph_read_f32(o->bias, "bias", (size_t)s.k, &b, msg, sizeof msg) != CP_OK)) {
+        cph_err("%s", msg);
+        goto out;
+    }
+    const cp_cache_sizes caches = cp_cache_sizes_fallback();
+    cp_status st = cp_plan_create(a, &s, mode, NULL, &caches, 1, w, &plan, msg, sizeof msg);
+    if (st != CP_OK) {
+        cph_err("%s", msg);
+        rc = st == CP_ENOMEM ? CPH_EXIT_FAIL : CPH_EXIT_USAGE;
+        goto out;
+    }
+    const size_t ny = cp_shape_output_elems(&s);
+    y = malloc(ny ? ny * sizeof *y : 1);
+    if (!y) {
+        cph_err("run: cannot allocate %zu output values", ny);
+        rc = CPH_EXIT_FAIL;
+        goto out;
+    }
+    st = cp_plan_run(plan, x, b, y, NULL);
+    if (st != CP_OK) {
+        cph_err("run: %s failed: %s", a->name, cp_status_str(st));
+        rc = CPH_EXIT_FAIL;
+        goto out;
+    }
+    if (cph_write_f32_atomic(o->output, y, ny, msg, sizeof msg) != CP_OK) {
+        cph_err("%s", msg);
+        rc = CPH_EXIT_FAIL;
+        goto out;
+    }
+    rc = CPH_EXIT_OK;
+out:
+    cp_plan_destroy(plan);
+    free(x);
+    free(w);
+    free(b);
+    free(y);
+    return rc;
+}
+
 int cph_cmd_run(int argc, char **argv) {
-    (void)argc; (void)argv;
-    cph_err("run: not built yet");
-    return CPH_EXIT_USAGE;
+    static const struct option longopts[] = {
+        {"shape", required_argument, NULL, CPH_OPT_SHAPE},
+        {"algo", required_argument, NULL, CPH_OPT_ALGO},
+        {"mode", required_argument, NULL, CPH_OPT_MODE},
+        {"input", required_argument, NULL, OPT_INPUT},
+        {"weights", required_argument, NULL, OPT_WEIGHTS},
+        {"bias", required_argument, NULL, OPT_BIAS},
+        {"output", required_argument, NULL, OPT_OUTPUT},
+        {"help", no_argument, NULL, 'h'},
+        {NULL, 0, NULL, 0},
+    };
+    run_opts o;
+    memset(&o, 0, sizeof o);
+    int opt;
+    opterr = 0; /* one error line, ours */
+    while ((opt = getopt_long(argc, argv, "h", longopts, NULL)) != -1) {
+        const char **slot = NULL;
+        switch (opt) {
+        case 'h': usage(stdout); return CPH_EXIT_OK;
+        case CPH_OPT_SHAPE: slot = &o.spec; break;
+        case CPH_OPT_ALGO: slot = &o.algo; break;
+        case CPH_OPT_MODE: slot = &o.mode; break;
+        case OPT_INPUT: slot = &o.input; break;
+        case OPT_WEIGHTS: slot = &o.weights; break;
+        case OPT_BIAS: slot = &o.bias; break;
+        case OPT_OUTPUT: slot = &o.output; break;
+        default: return cph_usage_error("run");
+        }
+        if (*slot) {
+            const char *name = "?";
+            for (const struct option *lo = longopts; lo->name; lo++)
+                if (lo->val == opt) name = lo->name;
+            cph_err("run: --%s given twice", name);
+            return CPH_EXIT_USAGE;
+        }
+        *slot = optarg;
+    }
+    if (optind < argc) {
+        cph_err("run: unexpected argument '%s' (see convpick run --help)", argv[optind]);
+        return CPH_EXIT_USAGE;
+    }
+    const struct { const char *name, *v; } need[] = {
+        {"--shape", o.spec}, {"--algo", o.algo}, {"--input", o.input},
+        {"--weights", o.weights}, {"--output", o.output}};
+    for (size_t i = 0; i < sizeof need / sizeof need[0]; i++)
+        if (!need[i].v) {
+            cph_err("run: %s is required (see convpick run --help)", need[i].name);
+            return CPH_EXIT_USAGE;
+        }
+    return run_layer(&o);
 }

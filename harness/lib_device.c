@@ -1,22 +1,66 @@
-/* PLACEHOLDER: the real device fingerprint replaces this file before landing.
- * Only here so that the table loader links: a hash of the cpuid vendor and
- * brand string and the number of online CPUs. */
-#include <cpuid.h>
-#include <stdint.h>
-#include <stdio.h>
-#include <string.h>
+/* This machine's fingerprint: which processor model, ISA, cache geometry and
+ * logical CPU count a tuning table was measured on.  Only identity enters it,
+ * never a measured figure, so it is stable across runs and reboots; it changes
+ * when the table may no longer apply (another CPU model, a VM given another
+ * CPU count).  The harness's machine description uses this same function. */
+#define _GNU_SOURCE
 #include <unistd.h>
 
 #include "convpick/table.h"
+#include "device.h"
+
+uint64_t cph_fnv1a64(uint64_t h, const void *p, size_t n) {
+    const unsigned char *b = p;
+    for (size_t i = 0; i < n; i++) {
+        h ^= b[i];
+        h *= CPH_FNV1A64_PRIME;
+    }
+    return h;
+}
+
+static uint64_t hash_int(uint64_t h, int64_t v) {
+    unsigned char b[8];
+    const uint64_t u = (uint64_t)v;
+    for (int i = 0; i < 8; i++) b[i] = (unsigned char)(u >> (8 * i));
+    return cph_fnv1a64(h, b, sizeof b);
+}
+
+static uint64_t hash_str(uint64_t h, const char *s) {
+    size_t n = 0;
+    while (s[n]) n++;
+    return cph_fnv1a64(h, s, n + 1);
+}
+
+void cph_fingerprint_of(const cph_cpu_id *id, const cph_cpuid_cache *caches, int ncaches,
+                        long logical_cpus, char out[17]) {
+    static const char hex[] = "0123456789abcdef";
+    uint64_t h = CPH_FNV1A64_OFFSET;
+    h = hash_str(h, "convpick-device-1"); /* bump when the recipe changes */
+    h = hash_str(h, id->vendor);
+    h = hash_int(h, id->family);
+    h = hash_int(h, id->model);
+    h = hash_int(h, id->stepping);
+    h = hash_str(h, id->brand);
+    h = hash_int(h, cph_cpuid_feature_bits(id));
+    h = hash_int(h, ncaches);
+    for (int i = 0; i < ncaches; i++) {
+        const cph_cpuid_cache *c = &caches[i];
+        h = hash_int(h, c->level);
+        h = hash_int(h, c->type);
+        h = hash_int(h, c->size);
+        h = hash_int(h, c->line);
+        h = hash_int(h, c->ways);
+        h = hash_int(h, c->sharing);
+    }
+    h = hash_int(h, logical_cpus);
+    for (int i = 0; i < 16; i++) out[i] = hex[(h >> (60 - 4 * i)) & 0xf];
+    out[16] = '\0';
+}
 
 void cp_device_fingerprint(char out[17]) {
-    unsigned r[12] = {0};
-    __get_cpuid(0, &r[0], &r[1], &r[3], &r[2]);
-    for (unsigned i = 0; i < 3; i++) __get_cpuid(0x80000002u + i, &r[4 * i], &r[4 * i + 1], &r[4 * i + 2], &r[4 * i + 3]);
-    uint64_t h = 1469598103934665603ull;
-    const unsigned char *b = (const unsigned char *)r;
-    for (size_t i = 0; i < sizeof r; i++) h = (h ^ b[i]) * 1099511628211ull;
-    long n = sysconf(_SC_NPROCESSORS_ONLN);
-    h = (h ^ (uint64_t)n) * 1099511628211ull;
-    snprintf(out, 17, "%016llx", (unsigned long long)h);
+    cph_cpu_id id;
+    cph_cpuid_cache caches[16];
+    cph_cpuid_read(&id);
+    const int n = cph_cpuid_caches(caches, 16);
+    cph_fingerprint_of(&id, caches, n, sysconf(_SC_NPROCESSORS_ONLN), out);
 }

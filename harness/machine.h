@@ -8,6 +8,8 @@
 #include <stddef.h>
 #include <stdint.h>
 
+#include <jansson.h>
+
 #include "convpick/convpick.h"
 
 #define CPH_MAX_CACHES 8
@@ -43,11 +45,17 @@ typedef struct cph_machine {
 
 /* Detects the running machine.  synthetic != NULL builds the topology from an
  * hwloc synthetic description instead (tests: an invented machine), e.g.
- *   "pack:1 [numa(8GB)] l3:1(32MB) l2:4(512KB) l1d:1(32KB) core:1 pu:2"
- * in which case the ISA fields still come from cpuid but caches, counts and
- * memory come from the description. */
+ *   "pack:1 [numa(memory=8GiB)] l3:1(size=32MiB) l2:4(size=512KiB) l1d:1(size=32KiB) core:1 pu:2"
+ * (hwloc's syntax: sizes need "size=" / "memory=", KiB/MiB/GiB are powers of
+ * two, KB/MB/GB powers of ten; line size is 64 and associativity unknown) in
+ * which case the ISA fields and the fingerprint still come from cpuid but
+ * caches, counts and memory come from the description.  Errors: CP_EINVAL
+ * (description rejected by hwloc), CP_ENOMEM. */
 cp_status cph_machine_detect(cph_machine *m, const char *synthetic, char *msg, size_t cap);
 void cph_machine_free(cph_machine *m);
+
+/* The cache of that level (data or unified), or NULL. */
+const cph_cache_level *cph_machine_cache(const cph_machine *m, int level);
 
 /* L1d / L2 / L3 sizes and line size for the algorithms' defaults (the cache
  * sizes of the levels present; missing levels are taken from the fallback). */
@@ -64,9 +72,26 @@ typedef struct cph_roofs {
     double ridge_1core;          /* FLOP/byte: peak / bandwidth */
     double ridge_all;
     int cores_used;
+    int portable_peak;           /* 1: the AVX2 FMA loop could not run here */
+    int pinned;                  /* 1: the all-core workers were pinned */
+    size_t triad_bytes;          /* bytes of one triad array */
+    double seconds_spent;
 } cph_roofs;
 
-/* Measures the roofs, about `seconds` in total. */
+/* The machine (and the roofs, when given) as a JSON object for reports and
+ * tables; a new reference the caller owns (NULL on failure). */
+json_t *cph_machine_to_json(const cph_machine *m, const cph_roofs *roofs);
+
+/* Measures the roofs, about `seconds` in total (at least a few runs of each
+ * kernel whatever the budget).  Peak: best of several timed runs of an FP32
+ * FMA loop with 12 independent AVX2 chains (FLOPs = 2 per lane per FMA); a
+ * portable loop when the CPU or OS lacks AVX2/FMA (roofs->portable_peak = 1).
+ * Bandwidth: best of several passes of the triad a[i] = b[i] + s*c[i] over
+ * float arrays of at least 4x the last-level cache each, counted as STREAM
+ * counts it: 12 bytes per element (read b, read c, write a), the
+ * write-allocate read of a[] not counted (the bus carries about 4/3 of that).
+ * All-core figures run one pinned worker per physical core through the pool.
+ * CP_EINVAL for a synthetic machine (there is nothing to measure). */
 cp_status cph_roofs_measure(const cph_machine *m, double seconds, cph_roofs *out, char *msg,
                             size_t cap);
 

@@ -35,17 +35,24 @@ typedef struct cph_layer_list {
  * (and, when ctx is not NULL, prefixed by ctx such as "file.txt:12"). */
 cp_status cph_parse_shape(const char *spec, const char *ctx, cp_shape *out, char *msg, size_t cap);
 
+/* A short spec that cph_parse_shape reads back to an equal shape: keys at
+ * their defaults are left out and equal pairs merged ("stride=2,pad=3").
+ * Returns the length the full text needs (like snprintf). */
+int cph_shape_format_short(const cp_shape *s, char *buf, size_t cap);
+
 /* Appends a layer; a shape already in the list only increments its count. */
 cp_status cph_layers_add(cph_layer_list *l, const char *name, const cp_shape *s, int count);
 void cph_layers_free(cph_layer_list *l);
 
-/* Reads a shape file (syntax above); errors name file:line and the key. */
+/* Reads a shape file (syntax above), appending its layers to out; errors name
+ * file:line and the key.  A file without any layer is an error. */
 cp_status cph_load_shape_file(const char *path, cph_layer_list *out, char *msg, size_t cap);
 
 /* Built-in suites: resnet50, vgg16, mobilenet_v1, demo. */
 size_t cph_suite_count(void);
 const char *cph_suite_name(size_t i);
 const char *cph_suite_source(const char *name); /* citation of the network's paper */
+/* Appends the suite's layers to out (CP_ENOTFOUND for an unknown name). */
 cp_status cph_suite_load(const char *name, cph_layer_list *out, char *msg, size_t cap);
 
 typedef struct cph_selection {

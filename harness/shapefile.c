@@ -1,0 +1,113 @@
+/* The shape-file reader: one layer a line, optional "name:" first, '#'
+ * comments, blank lines ignored (syntax in select.h).
+ *
+ * Lines are read into a fixed buffer; a line that does not fit is reported as
+ * an error rather than split, so a corrupt or binary file cannot turn into a
+ * stream of bogus layers. */
+#include <ctype.h>
+#include <errno.h>
+#include <stdarg.h>
+#include <stdio.h>
+#include <string.h>
+
+#include "select.h"
+
+#define CPH_SHAPE_LINE_MAX 1024 /* characters per line, without the newline */
+
+static cp_status fail(cp_status st, char *msg, size_t cap, const char *fmt, ...)
+    __attribute__((format(printf, 4, 5)));
+static cp_status fail(cp_status st, char *msg, size_t cap, const char *fmt, ...) {
+    if (msg && cap) {
+        va_list ap;
+        va_start(ap, fmt);
+        vsnprintf(msg, cap, fmt, ap);
+        va_end(ap);
+    }
+    return st;
+}
+
+static char *trim(char *t) {
+    while (*t && isspace((unsigned char)*t)) t++;
+    size_t len = strlen(t);
+    while (len && isspace((unsigned char)t[len - 1])) t[--len] = '\0';
+    return t;
+}
+
+/* Splits "name: spec" off; a name is [A-Za-z0-9_.-], 1..63 characters. */
+static cp_status split_name(char *line, const char *ctx, char **name, char **spec, char *msg,
+                            size_t cap) {
+    char *colon = strchr(line, ':');
+    *name = NULL;
+    *spec = line;
+    if (!colon) return CP_OK;
+    *colon = '\0';
+    char *nm = trim(line);
+    if (!*nm) return fail(CP_EFORMAT, msg, cap, "%s: empty layer name before ':'", ctx);
+    if (strlen(nm) >= sizeof(((cph_layer *)0)->name))
+        return fail(CP_EFORMAT, msg, cap, "%s: layer name '%.20s...' is longer than %zu characters",
+                    ctx, nm, sizeof(((cph_layer *)0)->name) - 1);
+    for (const char *c = nm; *c; c++)
+        if (!isalnum((unsigned char)*c) && *c != '_' && *c != '.' && *c != '-')
+            return fail(CP_EFORMAT, msg, cap,
+                        "%s: layer name '%s' may hold only letters, digits, '_', '.' and '-'",
+                        ctx, nm);
+    *name = nm;
+    *spec = colon + 1;
+    return CP_OK;
+}
+
+cp_status cph_load_shape_file(const char *path, cph_layer_list *out, char *msg, size_t cap) {
+    FILE *f = fopen(path, "r");
+    if (!f) return fail(CP_EIO, msg, cap, "%s: cannot open: %s", path, strerror(errno));
+    char line[CPH_SHAPE_LINE_MAX + 2];
+    long lineno = 0;
+    size_t added = 0;
+    cp_status st = CP_OK;
+    while (fgets(line, sizeof line, f)) {
+        lineno++;
+        size_t len = strlen(line);
+        if (len && line[len - 1] == '\n')
+            line[--len] = '\0';
+        else if (!feof(f)) {
+            st = fail(CP_EFORMAT, msg, cap, "%s:%ld: line longer than %d characters", path, lineno,
+                      CPH_SHAPE_LINE_MAX);
+            break;
+        }
+        if (len > CPH_SHAPE_LINE_MAX) {
+            st = fail(CP_EFORMAT, msg, cap, "%s:%ld: line longer than %d characters", path, lineno,
+                      CPH_SHAPE_LINE_MAX);
+            break;
+        }
+        char *hash = strchr(line, '#');
+        if (hash) *hash = '\0';
+        char *text = trim(line);
+        if (!*text) continue;
+        char ctx[CPH_SHAPE_LINE_MAX / 2];
+        snprintf(ctx, sizeof ctx, "%.400s:%ld", path, lineno);
+        char *name = NULL, *spec = NULL;
+        st = split_name(text, ctx, &name, &spec, msg, cap);
+        if (st != CP_OK) break;
+        cp_shape s;
+        st = cph_parse_shape(spec, ctx, &s, msg, cap);
+        if (st != CP_OK) {
+            st = CP_EFORMAT;
+            break;
+        }
+        char autoname[32];
+        if (!name) {
+            snprintf(autoname, sizeof autoname, "layer%zu", added + 1);
+            name = autoname;
+        }
+        if (cph_layers_add(out, name, &s, 1) != CP_OK) {
+            st = fail(CP_ENOMEM, msg, cap, "%s:%ld: out of memory", path, lineno);
+            break;
+        }
+        added++;
+    }
+    if (st == CP_OK && ferror(f))
+        st = fail(CP_EIO, msg, cap, "%s: read error: %s", path, strerror(errno));
+    fclose(f);
+    if (st == CP_OK && added == 0)
+        st = fail(CP_EFORMAT, msg, cap, "%s: no layers in the file", path);
+    return st;
+}
