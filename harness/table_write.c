@@ -4,17 +4,15 @@
 #define _POSIX_C_SOURCE 200809L
 #include "table_write.h"
 
-#include <errno.h>
-#include <fcntl.h>
+#include "rawfile.h"
+
 #include <jansson.h>
 #include <math.h>
 #include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <sys/stat.h>
 #include <time.h>
-#include <unistd.h>
 
 #ifndef CP_GIT_REV
 #define CP_GIT_REV "unknown"
@@ -285,81 +283,15 @@ cp_status cph_table_doc_write(const cph_table_doc *d, const char *path, char *ms
     char *text = json_dumps(d->root, JSON_INDENT(1) | JSON_REAL_PRECISION(17));
     if (!text) return fail(CP_ENOMEM, msg, cap, "%s: cannot serialise the table", path);
     size_t len = strlen(text);
-    cp_status st = cph_write_atomic(path, text, len, msg, cap);
-    free(text);
-    return st;
-}
-
-cp_status cph_write_atomic(const char *path, const void *data, size_t len, char *msg, size_t cap) {
-    size_t pl = strlen(path);
-    char *tmp = malloc(pl + 16), *dir = malloc(pl + 2);
-    if (!tmp || !dir) {
-        free(tmp);
-        free(dir);
+    char *nl = realloc(text, len + 2);
+    if (!nl) {
+        free(text);
         return fail(CP_ENOMEM, msg, cap, "%s: out of memory", path);
     }
-    snprintf(tmp, pl + 16, "%s.tmp.XXXXXX", path);
-    /* the directory holding path, for its fsync after the rename */
-    memcpy(dir, path, pl + 1);
-    char *slash = strrchr(dir, '/');
-    if (!slash)
-        strcpy(dir, ".");
-    else if (slash == dir)
-        dir[1] = '\0';
-    else
-        *slash = '\0';
-
-    cp_status st = CP_OK;
-    const char *step = "create a temporary file in its directory";
-    int fd = mkstemp(tmp);
-    FILE *f = NULL;
-    if (fd < 0) goto fail_nofile;
-    step = "set permissions";
-    if (fchmod(fd, 0644) != 0) goto fail_fd;
-    f = fdopen(fd, "wb");
-    step = "open the temporary file";
-    if (!f) goto fail_fd;
-    step = "write";
-    if (len && fwrite(data, 1, len, f) != len) goto fail_file;
-    if (fputc('\n', f) == EOF) goto fail_file;
-    step = "flush";
-    if (fflush(f) != 0) goto fail_file;
-    step = "fsync";
-    if (fsync(fileno(f)) != 0) goto fail_file;
-    step = "close";
-    int closed = fclose(f);
-    f = NULL;
-    fd = -1;
-    if (closed != 0) goto fail_file;
-    step = "rename the temporary file over it";
-    if (rename(tmp, path) != 0) goto fail_file;
-    /* Renamed: the new table is in place.  The directory fsync makes the
-     * rename itself durable; a failure there is reported but nothing to undo. */
-    int dfd = open(dir, O_RDONLY | O_DIRECTORY);
-    if (dfd >= 0) {
-        if (fsync(dfd) != 0 && errno != EINVAL)
-            st = fail(CP_EIO, msg, cap, "%s: fsync of directory %s: %s", path, dir, strerror(errno));
-        close(dfd);
-    }
-    free(tmp);
-    free(dir);
-    return st;
-
-fail_file: {
-    int e = errno;
-    if (f) fclose(f);
-    errno = e;
-    fd = -1;
-}
-fail_fd: {
-    int e = errno;
-    if (fd >= 0) close(fd);
-    unlink(tmp);
-    errno = e;
-}
-fail_nofile:
-    st = fail(CP_EIO, msg, cap, "%s: cannot %s: %s", path, step, strerror(errno));
-    free(tmp);
-    free(dir);
+    text = nl;
+    text[len++] = '\n';
+    text[len] = '\0';
+    cp_status st = cph_write_atomic(path, text, len, msg, cap);
+    free(text);
     return st;
 }

@@ -73,12 +73,9 @@ const char *cph_table_doc_settings_key(const cph_table_doc *d);
 cp_status cph_table_doc_put(cph_table_doc *d, const cp_table_entry *e, const cph_entry_notes *n,
                             char *msg, size_t cap);
 
-/* Writes the document atomically to path (see above).  On failure the old
- * file is untouched, no temporary file remains, and msg names the step and
- * the errno text. */
+/* Writes the document atomically to path (see above) through
+ * cph_write_atomic (rawfile.h).  On failure the old file is untouched, no
+ * temporary file remains, and msg names the step and the errno text. */
 cp_status cph_table_doc_write(const cph_table_doc *d, const char *path, char *msg, size_t cap);
-
-/* The atomic replace itself, for any bytes. */
-cp_status cph_write_atomic(const char *path, const void *data, size_t len, char *msg, size_t cap);
 
 #endif
