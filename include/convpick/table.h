@@ -130,7 +130,9 @@ cp_status cp_table_lookup(const cp_table *t, const cp_shape *s, cp_mode mode, in
                           cp_choice *out, char *msg, size_t cap);
 
 /* Dispatch in one call: looks the shape up and creates a plan with the chosen
- * algorithm and parameters, preparing the weights once.  Run it as often as
+ * algorithm and parameters, preparing the weights once.  The plan's workspace
+ * is sized for `threads` workers (threads <= 0: the entry's thread count, 1
+ * for the default); default parameters come from cp_table_caches(t).  Run it as often as
  * needed with cp_plan_run(); free it with cp_plan_destroy().  choice may be
  * NULL. */
 cp_status cp_table_plan(const cp_table *t, const cp_shape *s, cp_mode mode, int threads,
