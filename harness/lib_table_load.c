@@ -237,8 +237,9 @@ static cp_status get_candidate(const ctx *c, const json_t *cj, const char *where
     if (!out->failed && !out->disqualified && json_is_null(t))
         return fail(c, CP_EFORMAT, "%s.timing: null only when status is disqualified or failed",
                     where);
-    if (!out->failed && json_is_null(re))
-        return fail(c, CP_EFORMAT, "%s.rel_err: null only when status is failed", where);
+    if (!out->failed && !out->disqualified && json_is_null(re))
+        return fail(c, CP_EFORMAT, "%s.rel_err: null only when status is disqualified or failed",
+                    where);
     if (!json_is_null(t)) {
         char sub[112];
         snprintf(sub, sizeof sub, "%s.timing", where);
@@ -364,26 +365,6 @@ static cp_status get_device(const ctx *c, const json_t *root, cp_table *t) {
     cp_device_fingerprint(here);
     t->device_matches = strcmp(here, t->fingerprint) == 0;
     return CP_OK;
-}
-
-int cpt_shape_mode_cmp(const cp_shape *a, cp_mode ma, const cp_shape *b, cp_mode mb) {
-    const int64_t fa[] = {a->n,        a->c,       a->h,        a->w,         a->k,
-                          a->r,        a->s,       a->stride_h, a->stride_w,  a->pad_top,
-                          a->pad_left, a->pad_bottom, a->pad_right, a->dil_h, a->dil_w,
-                          a->groups,   a->act_layout, a->wt_layout, ma};
-    const int64_t fb[] = {b->n,        b->c,       b->h,        b->w,         b->k,
-                          b->r,        b->s,       b->stride_h, b->stride_w,  b->pad_top,
-                          b->pad_left, b->pad_bottom, b->pad_right, b->dil_h, b->dil_w,
-                          b->groups,   b->act_layout, b->wt_layout, mb};
-    for (size_t i = 0; i < sizeof fa / sizeof fa[0]; i++)
-        if (fa[i] != fb[i]) return fa[i] < fb[i] ? -1 : 1;
-    return 0;
-}
-
-int cpt_entry_cmp(const cp_table_entry *a, const cp_table_entry *b) {
-    int r = cpt_shape_mode_cmp(&a->shape, a->mode, &b->shape, b->mode);
-    if (r) return r;
-    return (a->threads > b->threads) - (a->threads < b->threads);
 }
 
 /* qsort has no context argument: the entries being sorted. */

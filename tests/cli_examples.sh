@@ -69,6 +69,9 @@ done
 a="$(LD_LIBRARY_PATH="$libdir" "$tmp/ex/dispatch" "$SRC/tests/data/tiny.table.json" 1,3,16,16,8,3,3,1,1 | grep checksum)"
 b="$(LD_LIBRARY_PATH="$libdir" "$tmp/dispatch_pc" "$SRC/tests/data/tiny.table.json" 1,3,16,16,8,3,3,1,1 | grep checksum)"
 [ "$a" = "$b" ] || { echo "FAIL: checksums differ: $a / $b"; exit 1; }
+# A layer no entry is compatible with (1x1 kernel) runs the documented default.
+d="$(LD_LIBRARY_PATH="$libdir" "$tmp/ex/dispatch" "$SRC/tests/data/tiny.table.json" 1,16,8,8,8,1,1,1,0)"
+grep -q '^choice: im2col_gemm .* default$' <<<"$d" || { echo "FAIL: default dispatch: $d"; exit 1; }
 # A bad table is refused with the loader's message and exit 2.
 set +e
 LD_LIBRARY_PATH="$libdir" "$tmp/ex/dispatch" "$tmp" 1,3,16,16,8,3,3,1,1 2>"$tmp/err"; rc=$?

@@ -177,6 +177,8 @@ static void round_trip(int with_params) {
     if (pa) { /* parameters survive the trip too */
         cp_algo_defaults(pa, &e[1].shape, NULL, &e[1].params);
         e[1].algo = pa;
+        snprintf(c[1][0].algo, sizeof c[1][0].algo, "%s", pa->name);
+        c[1][0].params = e[1].params;
     }
     const char *notes[3] = {"", "rel_err above 1e-4", "plan creation failed"};
     cph_entry_notes n = {.candidate_notes = notes, .planned = 3, .measured = 1, .failed = 1,
@@ -210,6 +212,8 @@ static void round_trip(int with_params) {
         assert_memory_equal(&g->timing, &e[i].timing, sizeof g->timing);
         assert_ptr_equal(g->runner_up, e[i].runner_up);
         if (g->runner_up) {
+            assert_memory_equal(&g->runner_up_params, &e[i].runner_up_params,
+                                sizeof g->runner_up_params);
             assert_true(g->margin == e[i].margin);
             assert_int_equal(g->margin_in_noise, 1);
         }
@@ -218,6 +222,7 @@ static void round_trip(int with_params) {
         for (size_t j = 0; j < 3; j++) {
             const cp_candidate *a = &g->candidates[j], *b = &e[i].candidates[j];
             assert_string_equal(a->algo, b->algo);
+            assert_memory_equal(&a->params, &b->params, sizeof a->params);
             assert_int_equal(a->disqualified, b->disqualified);
             assert_int_equal(a->failed, b->failed);
             if (b->failed) {

@@ -35,7 +35,8 @@ typedef struct cp_candidate {
     cp_timing timing;
     double rel_err;     /* against the fp64 oracle */
     int disqualified;   /* rel_err above the run's max_rel_err (then not timed) */
-    int failed;         /* could not be run or timed (rel_err is NaN, timing zero) */
+    int failed;         /* could not be run or timed (rel_err NaN, timing zero); rel_err is
+                           also NaN for a disqualified candidate whose error was not finite */
     double *samples;    /* every timed sample (seconds, run order), or NULL */
     size_t nsamples;
 } cp_candidate;
