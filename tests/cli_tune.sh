@@ -45,8 +45,10 @@ for sig in KILL INT TERM; do
   n="$(count "$out")"   # json.load fails (and so does the test) on a torn file
   [ "$n" -ge 1 ] && [ "$n" -lt 4 ] || { echo "FAIL($sig): expected 1..3 entries after the kill, got $n"; exit 1; }
   before="$(names "$out")"
-  # The atomic writer's temporary files are hidden: ".NAME.XXXXXX".
-  if ls -A "$tmp" | grep -q '^\.'; then echo "FAIL($sig): temporary file left behind"; ls -A "$tmp"; exit 1; fi
+  # The atomic writer's temporary files are hidden: ".NAME.XXXXXX".  INT and
+  # TERM let the write in flight finish, so none may remain; KILL can land
+  # inside a write and leave one (the table itself is still whole).
+  if [ "$sig" != KILL ] && ls -A "$tmp" | grep -q '^\.'; then echo "FAIL($sig): temporary file left behind"; ls -A "$tmp"; exit 1; fi
   "$CLI" tune --shapes "$tmp/layers.txt" "${fast[@]}" --out "$out" --resume 2>"$tmp/resume.err"
   [ "$(count "$out")" = 4 ] || { echo "FAIL($sig): resume should complete 4 entries"; exit 1; }
   after="$(names "$out")"
