@@ -31,7 +31,9 @@ grep -q -- "--resume" "$tmp/err" || { echo "FAIL: refusal should mention --resum
 # 3. Kill part-way with each signal; the table stays valid; resume completes it.
 for sig in KILL INT TERM; do
   out="$tmp/killed-$sig.json"
-  "$CLI" tune --shapes "$tmp/layers.txt" --budget 1.5 --max-seconds 0.2 --quiet --out "$out" &
+  # An unreachable CI target keeps every candidate sampling up to its cap, so
+  # each layer takes about the budget and the kill lands mid-run.
+  "$CLI" tune --shapes "$tmp/layers.txt" --budget 1.5 --target-ci 0.01 --max-seconds 0.3 --quiet --out "$out" &
   pid=$!
   # wait for the first finished layer
   for _ in $(seq 1 300); do
@@ -43,7 +45,10 @@ for sig in KILL INT TERM; do
   n="$(count "$out")"   # json.load fails (and so does the test) on a torn file
   [ "$n" -ge 1 ] && [ "$n" -lt 4 ] || { echo "FAIL($sig): expected 1..3 entries after the kill, got $n"; exit 1; }
   before="$(names "$out")"
-  ls "$tmp" | grep -q '\.tmp' && { echo "FAIL($sig): temporary file left behind"; ls "$tmp"; exit 1; }
+  # The atomic writer's temporary files are hidden: ".NAME.XXXXXX".  INT and
+  # TERM let the write in flight finish, so none may remain; KILL can land
+  # inside a write and leave one (the table itself is still whole).
+  if [ "$sig" != KILL ] && ls -A "$tmp" | grep -q '^\.'; then echo "FAIL($sig): temporary file left behind"; ls -A "$tmp"; exit 1; fi
   "$CLI" tune --shapes "$tmp/layers.txt" "${fast[@]}" --out "$out" --resume 2>"$tmp/resume.err"
   [ "$(count "$out")" = 4 ] || { echo "FAIL($sig): resume should complete 4 entries"; exit 1; }
   after="$(names "$out")"
