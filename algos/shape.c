@@ -156,7 +156,20 @@ cp_shape_fault cp_shape_validate(const cp_shape *s, char *msg, size_t cap) {
     return CP_SHAPE_OK;
 }
 
+/* Fields outside [1, 2^31) make the padding formulas divide by zero or
+ * overflow; such a shape gets zero pads here and is refused by
+ * cp_shape_validate, which names the field. */
+static int pad_args_ok(int64_t in, int64_t st, int64_t dil, int64_t ker) {
+    const int64_t big = (int64_t)1 << 31;
+    return in >= 1 && in < big && st >= 1 && st < big && dil >= 1 && dil < big && ker >= 1 &&
+           ker < big;
+}
+
 static void same_axis(int64_t in, int64_t st, int64_t dil, int64_t ker, int64_t *a, int64_t *b) {
+    if (!pad_args_ok(in, st, dil, ker)) {
+        *a = *b = 0;
+        return;
+    }
     int64_t out = (in + st - 1) / st;
     int64_t total = (out - 1) * st + dil * (ker - 1) + 1 - in;
     if (total < 0) total = 0;
@@ -170,8 +183,8 @@ void cp_shape_set_padding(cp_shape *s, cp_pad_mode mode) {
         s->pad_top = s->pad_left = s->pad_bottom = s->pad_right = 0;
         break;
     case CP_PAD_FULL:
-        s->pad_top = s->pad_bottom = s->dil_h * (s->r - 1);
-        s->pad_left = s->pad_right = s->dil_w * (s->s - 1);
+        s->pad_top = s->pad_bottom = pad_args_ok(1, 1, s->dil_h, s->r) ? s->dil_h * (s->r - 1) : 0;
+        s->pad_left = s->pad_right = pad_args_ok(1, 1, s->dil_w, s->s) ? s->dil_w * (s->s - 1) : 0;
         break;
     case CP_PAD_SAME:
         same_axis(s->h, s->stride_h, s->dil_h, s->r, &s->pad_top, &s->pad_bottom);

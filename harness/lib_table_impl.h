@@ -9,6 +9,7 @@
 #include "convpick/table.h"
 
 #define CPT_KEY_MAX 40 /* longest settings_key kept, NUL included */
+#define CPT_MAX_BYTES (1ull << 31) /* largest table file read (2 GiB) */
 
 struct cp_table {
     char fingerprint[17];

@@ -442,12 +442,23 @@ cp_status cp_table_load(const char *path, unsigned flags, cp_table **out, char *
         return fail(&c, CP_EFORMAT, "empty file (expected a %s JSON document)", CP_TABLE_FORMAT);
     }
     /* One read into memory, then json_loadb: jansson's stream reader takes
-     * the file a character at a time, noticeably slower on large tables. */
-    size_t size = 0, len = 0, want = S_ISREG(sb.st_mode) ? (size_t)sb.st_size + 1 : 65536;
+     * the file a character at a time, noticeably slower on large tables.  A
+     * regular file is read up to the size it had when opened (a file that
+     * grows meanwhile is refused rather than chased); anything else (a pipe)
+     * up to CPT_MAX_BYTES, so /dev/zero cannot exhaust memory. */
+    const int regular = S_ISREG(sb.st_mode);
+    if (regular && (uintmax_t)sb.st_size > CPT_MAX_BYTES) {
+        fclose(f);
+        return fail(&c, CP_EFORMAT, "%jd bytes: larger than the %llu bytes a table may have",
+                    (intmax_t)sb.st_size, (unsigned long long)CPT_MAX_BYTES);
+    }
+    const size_t limit = regular ? (size_t)sb.st_size : (size_t)CPT_MAX_BYTES;
+    size_t size = 0, len = 0, want = regular ? (size_t)sb.st_size + 1 : 65536;
     char *buf = NULL;
     for (;;) {
         if (len == size) {
             size_t ncap = size ? size + (size >> 1) : want;
+            if (ncap > limit + 1) ncap = limit + 1;
             char *nb = realloc(buf, ncap);
             if (!nb) {
                 free(buf);
@@ -459,7 +470,7 @@ cp_status cp_table_load(const char *path, unsigned flags, cp_table **out, char *
         }
         size_t got = fread(buf + len, 1, size - len, f);
         len += got;
-        if (got == 0) break;
+        if (got == 0 || len > limit) break;
     }
     int rerr = ferror(f);
     fclose(f);
@@ -467,15 +478,33 @@ cp_status cp_table_load(const char *path, unsigned flags, cp_table **out, char *
         free(buf);
         return fail(&c, CP_EIO, "read error: %s", strerror(errno));
     }
+    if (len > limit) {
+        free(buf);
+        if (regular)
+            return fail(&c, CP_EIO, "the file grew while being read (beyond its %zu bytes): "
+                                    "is another program writing it?", limit);
+        return fail(&c, CP_EFORMAT, "more than the %llu bytes a table may have",
+                    (unsigned long long)CPT_MAX_BYTES);
+    }
     if (len == 0) {
         free(buf);
         return fail(&c, CP_EFORMAT, "empty file (expected a %s JSON document)", CP_TABLE_FORMAT);
     }
-    json_error_t err;
-    json_t *root = json_loadb(buf, len, JSON_REJECT_DUPLICATES, &err);
+    cp_status st = cp_table_load_buffer(buf, len, path, flags, out, msg, cap);
     free(buf);
+    return st;
+}
+
+cp_status cp_table_load_buffer(const void *data, size_t len, const char *name, unsigned flags,
+                               cp_table **out, char *msg, size_t cap) {
+    ctx c = {name ? name : "(buffer)", msg, cap};
+    *out = NULL;
+    if (!data || len == 0)
+        return fail(&c, CP_EFORMAT, "empty file (expected a %s JSON document)", CP_TABLE_FORMAT);
+    json_error_t err;
+    json_t *root = json_loadb(data, len, JSON_REJECT_DUPLICATES, &err);
     if (!root) {
-        if (msg && cap) snprintf(msg, cap, "%s:%d:%d: %s", path, err.line, err.column, err.text);
+        if (msg && cap) snprintf(msg, cap, "%s:%d:%d: %s", c.file, err.line, err.column, err.text);
         return CP_EFORMAT;
     }
     cp_table *t = calloc(1, sizeof *t);

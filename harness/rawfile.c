@@ -6,6 +6,7 @@
 #include "rawfile.h"
 
 #include <errno.h>
+#include <math.h>
 #include <fcntl.h>
 #include <stdarg.h>
 #include <stdint.h>
@@ -92,6 +93,36 @@ cp_status cph_read_f32(const char *path, const char *what, size_t count, float *
     if (host_is_big_endian()) swap32(buf, count);
     *out = buf;
     return CP_OK;
+}
+
+cp_status cph_f32_from_bytes(const void *data, size_t len, const char *name, const char *what,
+                             size_t count, float **out, char *msg, size_t cap) {
+    *out = NULL;
+    if (count > SIZE_MAX / sizeof(float))
+        return fail(CP_ENOMEM, msg, cap, "%s file %s: expected size overflows", what, name);
+    const size_t want = count * sizeof(float);
+    if (len != want)
+        return fail(CP_EFORMAT, msg, cap,
+                    "%s file %s: size is %zu bytes, expected %zu bytes (%zu float32 values)", what,
+                    name, len, want, count);
+    float *buf = malloc(want ? want : 1);
+    if (!buf)
+        return fail(CP_ENOMEM, msg, cap, "%s file %s: cannot allocate %zu bytes", what, name, want);
+    if (want) memcpy(buf, data, want);
+    if (host_is_big_endian()) swap32(buf, count);
+    *out = buf;
+    return CP_OK;
+}
+
+cph_nonfinite cph_count_nonfinite(const float *v, size_t count) {
+    cph_nonfinite r = {0, 0};
+    for (size_t i = 0; i < count; i++) {
+        if (isnan(v[i]))
+            r.nan++;
+        else if (isinf(v[i]))
+            r.inf++;
+    }
+    return r;
 }
 
 static int write_all(int fd, const void *data, size_t bytes) {

@@ -13,6 +13,17 @@
 cp_status cph_read_f32(const char *path, const char *what, size_t count, float **out, char *msg,
                        size_t cap);
 
+/* The same check and conversion for bytes already in memory (name stands for
+ * the file in messages). */
+cp_status cph_f32_from_bytes(const void *data, size_t len, const char *name, const char *what,
+                             size_t count, float **out, char *msg, size_t cap);
+
+/* NaN and infinite values among v[0..count). */
+typedef struct cph_nonfinite {
+    size_t nan, inf;
+} cph_nonfinite;
+cph_nonfinite cph_count_nonfinite(const float *v, size_t count);
+
 /* Writes count float32 values little-endian to path atomically: a temporary
  * file in the same directory, fsync, rename over path, fsync of the directory.
  * On failure path is untouched and the temporary file removed. */

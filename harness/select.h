@@ -47,6 +47,10 @@ void cph_layers_free(cph_layer_list *l);
 /* Reads a shape file (syntax above), appending its layers to out; errors name
  * file:line and the key.  A file without any layer is an error. */
 cp_status cph_load_shape_file(const char *path, cph_layer_list *out, char *msg, size_t cap);
+/* The same from text in memory (len bytes, NUL bytes allowed); name stands
+ * for the file in messages. */
+cp_status cph_load_shape_text(const char *text, size_t len, const char *name,
+                              cph_layer_list *out, char *msg, size_t cap);
 
 /* Built-in suites: resnet50, vgg16, mobilenet_v1, demo. */
 size_t cph_suite_count(void);

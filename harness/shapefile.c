@@ -4,15 +4,22 @@
  * Lines are read into a fixed buffer; a line that does not fit is reported as
  * an error rather than split, so a corrupt or binary file cannot turn into a
  * stream of bogus layers. */
+#define _POSIX_C_SOURCE 200809L /* fmemopen */
 #include <ctype.h>
 #include <errno.h>
 #include <stdarg.h>
 #include <stdio.h>
+#include <stdint.h>
 #include <string.h>
+#include <sys/stat.h>
 
 #include "select.h"
 
 #define CPH_SHAPE_LINE_MAX 1024 /* characters per line, without the newline */
+/* Layers per file: far above any network, low enough that a stream of
+ * generated lines (a pipe, /dev/urandom) ends in an error, not in minutes of
+ * de-duplication (cph_layers_add is linear in the list). */
+#define CPH_SHAPE_FILE_MAX_LAYERS 10000
 
 static cp_status fail(cp_status st, char *msg, size_t cap, const char *fmt, ...)
     __attribute__((format(printf, 4, 5)));
@@ -56,9 +63,10 @@ static cp_status split_name(char *line, const char *ctx, char **name, char **spe
     return CP_OK;
 }
 
-cp_status cph_load_shape_file(const char *path, cph_layer_list *out, char *msg, size_t cap) {
-    FILE *f = fopen(path, "r");
-    if (!f) return fail(CP_EIO, msg, cap, "%s: cannot open: %s", path, strerror(errno));
+/* Reads the lines of f (a file, a pipe or a memory stream); path names it in
+ * messages.  Does not close f. */
+static cp_status load_stream(FILE *f, const char *path, cph_layer_list *out, char *msg,
+                             size_t cap) {
     char line[CPH_SHAPE_LINE_MAX + 2];
     long lineno = 0;
     size_t added = 0;
@@ -98,6 +106,11 @@ cp_status cph_load_shape_file(const char *path, cph_layer_list *out, char *msg, 
             snprintf(autoname, sizeof autoname, "layer%zu", added + 1);
             name = autoname;
         }
+        if (added >= CPH_SHAPE_FILE_MAX_LAYERS) {
+            st = fail(CP_EFORMAT, msg, cap, "%s:%ld: more than %d layers in one file", path,
+                      lineno, CPH_SHAPE_FILE_MAX_LAYERS);
+            break;
+        }
         if (cph_layers_add(out, name, &s, 1) != CP_OK) {
             st = fail(CP_ENOMEM, msg, cap, "%s:%ld: out of memory", path, lineno);
             break;
@@ -106,8 +119,29 @@ cp_status cph_load_shape_file(const char *path, cph_layer_list *out, char *msg, 
     }
     if (st == CP_OK && ferror(f))
         st = fail(CP_EIO, msg, cap, "%s: read error: %s", path, strerror(errno));
-    fclose(f);
     if (st == CP_OK && added == 0)
         st = fail(CP_EFORMAT, msg, cap, "%s: no layers in the file", path);
+    return st;
+}
+
+cp_status cph_load_shape_file(const char *path, cph_layer_list *out, char *msg, size_t cap) {
+    struct stat sb;
+    if (stat(path, &sb) == 0 && S_ISDIR(sb.st_mode))
+        return fail(CP_EIO, msg, cap, "%s: cannot read: is a directory", path);
+    FILE *f = fopen(path, "r");
+    if (!f) return fail(CP_EIO, msg, cap, "%s: cannot open: %s", path, strerror(errno));
+    cp_status st = load_stream(f, path, out, msg, cap);
+    fclose(f);
+    return st;
+}
+
+cp_status cph_load_shape_text(const char *text, size_t len, const char *name,
+                              cph_layer_list *out, char *msg, size_t cap) {
+    if (!name) name = "(text)";
+    if (len == 0) return fail(CP_EFORMAT, msg, cap, "%s: no layers in the file", name);
+    FILE *f = fmemopen((void *)(uintptr_t)text, len, "r");
+    if (!f) return fail(CP_ENOMEM, msg, cap, "%s: cannot open the text: %s", name, strerror(errno));
+    cp_status st = load_stream(f, name, out, msg, cap);
+    fclose(f);
     return st;
 }

@@ -73,6 +73,12 @@ enum {
  * mismatch loads and is reported by cp_table_device_matches().  Two entries of
  * the same shape, mode and threads are a CP_EFORMAT error. */
 cp_status cp_table_load(const char *path, unsigned flags, cp_table **out, char *msg, size_t cap);
+/* The same from a document already in memory (len bytes, not necessarily
+ * NUL-terminated); name stands for the file in messages.  cp_table_load
+ * reads the file (at most 2 GiB; a regular file that grows while read is
+ * refused) and calls this. */
+cp_status cp_table_load_buffer(const void *data, size_t len, const char *name, unsigned flags,
+                               cp_table **out, char *msg, size_t cap);
 void cp_table_free(cp_table *t);
 
 size_t cp_table_count(const cp_table *t);

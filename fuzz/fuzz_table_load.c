@@ -1,0 +1,40 @@
+/* Fuzz target: the tuning-table loader (cp_table_load_buffer, the in-memory
+ * form of cp_table_load; harness/lib_table_load.c) and the lookups a
+ * deploying program makes on what it loaded.  Properties: no crash, no leak;
+ * every loaded entry is found again exactly (cp_table_find, cp_table_lookup)
+ * and carries a resolved algorithm that supports its shape. */
+#include <string.h>
+
+#include "convpick/convpick.h"
+#include "fuzz.h"
+
+int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size) {
+    if (size > (1u << 20)) return 0;
+    cp_table *t = NULL;
+    char msg[512] = "";
+    cp_status st = cp_table_load_buffer(data, size, "fuzz.json", 0, &t, msg, sizeof msg);
+    if (st != CP_OK) {
+        cpf_require(t == NULL && msg[0] != '\0', "a refusal has a message and no table");
+        return 0;
+    }
+    for (size_t i = 0; i < cp_table_count(t); i++) {
+        const cp_table_entry *e = cp_table_entry_at(t, i);
+        cpf_require(e->algo != NULL, "entry has an algorithm");
+        cpf_require(e->algo->supports(&e->shape, e->mode, NULL, 0), "algorithm supports entry");
+        cpf_require(cp_table_find(t, &e->shape, e->mode, e->threads) == e, "entry found exactly");
+        cp_choice ch;
+        cpf_require(cp_table_lookup(t, &e->shape, e->mode, e->threads, &ch, msg, sizeof msg) ==
+                        CP_OK && ch.match == CP_MATCH_EXACT && ch.entry == e,
+                    "lookup answers exactly");
+        (void)cp_table_settings_key(t, i);
+    }
+    /* A shape nearby: any answer, no crash. */
+    if (cp_table_count(t)) {
+        cp_shape s = cp_table_entry_at(t, 0)->shape;
+        s.h += 1;
+        cp_choice ch;
+        (void)cp_table_lookup(t, &s, CP_XCORR, 0, &ch, msg, sizeof msg);
+    }
+    cp_table_free(t);
+    return 0;
+}
