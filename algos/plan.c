@@ -1,5 +1,6 @@
 /* Plans: the one place that allocates for an algorithm (workspace and
  * prepared weights), so that kernels themselves never allocate. */
+#include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -37,6 +38,24 @@ static cp_status fail(cp_status st, char *msg, size_t cap, const char *fmt, ...)
     return st;
 }
 
+/* The algorithms' size functions multiply shape fields in int64.  Their
+ * results are bounded by small multiples of a few products (the padded
+ * input, the lowered matrix, 16 transformed weight and input planes, each per
+ * worker); estimating those in double and refusing anything past 2^60 bytes
+ * keeps every size computation far from overflow. */
+static int sizes_fit(const cp_shape *s, int nthreads) {
+    const double hp = (double)s->h + (double)s->pad_top + (double)s->pad_bottom + (double)s->stride_h;
+    const double wp = (double)s->w + (double)s->pad_left + (double)s->pad_right + (double)s->stride_w;
+    const double p = (double)cp_shape_out_h(s), q = (double)cp_shape_out_w(s);
+    const double padded = (double)s->n * (double)s->c * hp * wp;
+    const double lowered = (double)s->c * (double)s->r * (double)s->s * p * q;
+    const double planes = 16.0 * ((double)s->c + (double)s->k) * (hp * wp / 4.0 + 64.0) +
+                          16.0 * (double)s->k * (double)s->c;
+    const double weights = (double)s->k * (double)s->c * (double)s->r * (double)s->s;
+    const double total = (padded + lowered + planes + weights + 1024.0) * 8.0 * (double)nthreads;
+    return total < 0x1p60;
+}
+
 cp_status cp_plan_create(const cp_algo *a, const cp_shape *s, cp_mode mode,
                          const cp_params *params, const cp_cache_sizes *caches, int nthreads,
                          const float *w, cp_plan **out, char *msg, size_t cap) {
@@ -48,6 +67,9 @@ cp_status cp_plan_create(const cp_algo *a, const cp_shape *s, cp_mode mode,
         return fail(CP_EINVAL, msg, cap, "invalid shape: %s", why);
     if (!a->supports(s, mode, why, sizeof why))
         return fail(CP_EUNSUPPORTED, msg, cap, "%s does not support this layer: %s", a->name, why);
+    if (!sizes_fit(s, nthreads))
+        return fail(CP_ENOMEM, msg, cap,
+                    "plan: the buffers of this layer would exceed 2^60 bytes: not allocated");
     cp_plan *p = calloc(1, sizeof *p);
     if (!p) return fail(CP_ENOMEM, msg, cap, "plan: out of memory");
     p->algo = a;

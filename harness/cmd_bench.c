@@ -42,6 +42,7 @@
 #include <unistd.h>
 
 #include "cli.h"
+#include "membudget.h"
 #include "data.h"
 #include "machine.h"
 #include "pool.h"
@@ -71,6 +72,7 @@ static void usage(FILE *f) {
             "  --no-roofs        do not measure the FMA peak and bandwidth first\n"
             "  --json FILE       write every sample and setting (format\n"
             "                    convpick-bench-results, version 1)\n"
+            "%s"
             "  -h, --help        this text\n\n"
             "The peak for t threads is the all-core peak when t is the number of cores\n"
             "measured together, else the one-core peak times t.  FLOPs are those of the\n"
@@ -81,7 +83,7 @@ static void usage(FILE *f) {
             "exit status: 0 done, 1 an algorithm failed to plan or run (or the results\n"
             "could not be written), 2 bad usage or input (an unwritable --json directory\n"
             "is found before anything runs)\n",
-            cph_selection_help);
+            cph_selection_help, cph_membudget_help);
 }
 
 enum { OPT_THREADS = 1, OPT_COLD, OPT_TARGET, OPT_MAXSEC, OPT_MAXSAMP, OPT_NOROOFS, OPT_JSON };
@@ -92,6 +94,7 @@ typedef struct bench_cfg {
     const char *threads_arg;
     const char *json_path;
     int roofs;
+    uint64_t max_memory; /* 0: the default budget */
 } bench_cfg;
 
 typedef struct bench_run {
@@ -161,6 +164,7 @@ static int parse_args(int argc, char **argv, bench_cfg *c) {
         {"max-samples", required_argument, NULL, OPT_MAXSAMP},
         {"no-roofs", no_argument, NULL, OPT_NOROOFS},
         {"json", required_argument, NULL, OPT_JSON},
+        CPH_MEMBUDGET_LONGOPT,
         {"help", no_argument, NULL, 'h'},
         {NULL, 0, NULL, 0},
     };
@@ -198,6 +202,13 @@ static int parse_args(int argc, char **argv, bench_cfg *c) {
             break;
         case OPT_NOROOFS: c->roofs = 0; break;
         case OPT_JSON: c->json_path = optarg; break;
+        case CPH_OPT_MAX_MEMORY:
+            if (cph_mem_parse(optarg, strchr(optarg, '%') ? cph_mem_machine_bytes() : 0,
+                              &c->max_memory, msg, sizeof msg) != CP_OK) {
+                cph_err("bench: %s", msg);
+                return CPH_EXIT_USAGE;
+            }
+            break;
         default:
             if (opt < CPH_OPT_SHAPE) return cph_usage_error("bench");
             if (cph_selection_option(&c->sel, opt, optarg, msg, sizeof msg) != CP_OK) {
@@ -399,6 +410,14 @@ static int bench(bench_cfg *c, int argc, char **argv) {
                                  : (r->threads[0] = 1, 1);
     if (r->nthreads < 1) {
         cph_err("bench: --threads '%s': %s", c->threads_arg, msg);
+        rc = CPH_EXIT_USAGE;
+        goto done;
+    }
+    int most = 1;
+    for (int i = 0; i < r->nthreads; i++)
+        if (r->threads[i] > most) most = r->threads[i];
+    if (cph_mem_check_selection("bench", &c->sel, most, 0,
+                                c->max_memory ? c->max_memory : cph_mem_default()) != 0) {
         rc = CPH_EXIT_USAGE;
         goto done;
     }

@@ -7,6 +7,7 @@
 #include <string.h>
 
 #include "cli.h"
+#include "membudget.h"
 #include "rawfile.h"
 #include "select.h"
 
@@ -25,15 +26,26 @@ static void usage(FILE *f) {
             "  --bias FILE       bias (optional)\n"
             "  --output FILE     where to write the output\n"
             "  --mode M          xcorr (default) or conv\n"
+            "%s"
             "  -h, --help        this text\n\n"
-            "exit status: 0 written, 1 the computation or the write failed, 2 bad usage or input\n");
+            "Non-finite inputs (NaN, Inf) are computed with and reported in a warning.\n\n"
+            "exit status: 0 written, 1 the computation or the write failed, 2 bad usage or input\n",
+            cph_membudget_help);
 }
 
 enum { OPT_INPUT = 2000, OPT_WEIGHTS, OPT_BIAS, OPT_OUTPUT };
 
 typedef struct {
-    const char *spec, *algo, *input, *weights, *bias, *output, *mode;
+    const char *spec, *algo, *input, *weights, *bias, *output, *mode, *max_memory;
 } run_opts;
+
+/* One warning per tensor that holds NaN or Inf: they propagate, never crash. */
+static void warn_nonfinite(const char *what, const char *path, const float *v, size_t n) {
+    const cph_nonfinite nf = cph_count_nonfinite(v, n);
+    if (nf.nan || nf.inf)
+        cph_warn("run: %s %s holds %zu NaN and %zu infinite values of %zu; they propagate to "
+                 "the output", what, path, nf.nan, nf.inf, n);
+}
 
 static int run_layer(const run_opts *o) {
     char msg[512];
@@ -60,6 +72,20 @@ static int run_layer(const run_opts *o) {
                 mode == CP_XCORR ? "xcorr" : "conv", why);
         return CPH_EXIT_USAGE;
     }
+    uint64_t budget = 0;
+    if (o->max_memory &&
+        cph_mem_parse(o->max_memory, strchr(o->max_memory, '%') ? cph_mem_machine_bytes() : 0,
+                      &budget, msg, sizeof msg) != CP_OK) {
+        cph_err("run: %s", msg);
+        return CPH_EXIT_USAGE;
+    }
+    const cp_cache_sizes caches = cp_cache_sizes_fallback();
+    const cph_mem_need need = cph_mem_layer_need(&s, &mode, 1, &a, 1, 1, 0, &caches);
+    if (cph_mem_check("the layer", &need, budget ? budget : cph_mem_default(), msg, sizeof msg) !=
+        CP_OK) {
+        cph_err("run: %s", msg);
+        return CPH_EXIT_USAGE;
+    }
     int rc = CPH_EXIT_USAGE;
     float *x = NULL, *w = NULL, *b = NULL, *y = NULL;
     cp_plan *plan = NULL;
@@ -70,7 +96,9 @@ static int run_layer(const run_opts *o) {
         cph_err("%s", msg);
         goto out;
     }
-    const cp_cache_sizes caches = cp_cache_sizes_fallback();
+    warn_nonfinite("input", o->input, x, cp_shape_input_elems(&s));
+    warn_nonfinite("weights", o->weights, w, cp_shape_weight_elems(&s));
+    if (b) warn_nonfinite("bias", o->bias, b, (size_t)s.k);
     cp_status st = cp_plan_create(a, &s, mode, NULL, &caches, 1, w, &plan, msg, sizeof msg);
     if (st != CP_OK) {
         cph_err("%s", msg);
@@ -90,6 +118,10 @@ static int run_layer(const run_opts *o) {
         rc = CPH_EXIT_FAIL;
         goto out;
     }
+    const cph_nonfinite ynf = cph_count_nonfinite(y, ny);
+    if (ynf.nan || ynf.inf)
+        cph_warn("run: the output holds %zu NaN and %zu infinite values of %zu", ynf.nan, ynf.inf,
+                 ny);
     if (cph_write_f32_atomic(o->output, y, ny, msg, sizeof msg) != CP_OK) {
         cph_err("%s", msg);
         rc = CPH_EXIT_FAIL;
@@ -114,6 +146,7 @@ int cph_cmd_run(int argc, char **argv) {
         {"weights", required_argument, NULL, OPT_WEIGHTS},
         {"bias", required_argument, NULL, OPT_BIAS},
         {"output", required_argument, NULL, OPT_OUTPUT},
+        CPH_MEMBUDGET_LONGOPT,
         {"help", no_argument, NULL, 'h'},
         {NULL, 0, NULL, 0},
     };
@@ -132,6 +165,7 @@ int cph_cmd_run(int argc, char **argv) {
         case OPT_WEIGHTS: slot = &o.weights; break;
         case OPT_BIAS: slot = &o.bias; break;
         case OPT_OUTPUT: slot = &o.output; break;
+        case CPH_OPT_MAX_MEMORY: slot = &o.max_memory; break;
         default: return cph_usage_error("run");
         }
         if (*slot) {

@@ -13,6 +13,7 @@
 
 #include "cli.h"
 #include "machine.h"
+#include "membudget.h"
 #include "pool.h"
 #include "progress.h"
 #include "select.h"
@@ -48,11 +49,12 @@ static void usage(FILE *f) {
             "  --max-candidates N  parameter sets per algorithm (default 16)\n"
             "  --max-samples N     cap on samples per measurement (default 1000)\n"
             "  --cold              flush the caches before every sample (default: warm)\n"
+            "%s"
             "  --quiet             no progress on stderr\n"
             "  --help\n"
             "Modes default to xcorr. Exit: 0 done, 1 a layer had no qualifying candidate,\n"
             "2 bad input, 130 interrupted (the table holds every finished layer).\n",
-            cph_selection_help);
+            cph_selection_help, cph_membudget_help);
 }
 
 static int parse_double(const char *opt, const char *arg, double lo, double *out) {
@@ -100,6 +102,7 @@ int cph_cmd_tune(int argc, char **argv) {
         {"max-samples", required_argument, NULL, O_MAXSAMP},
         {"cold", no_argument, NULL, O_COLD},
         {"quiet", no_argument, NULL, O_QUIET},
+        CPH_MEMBUDGET_LONGOPT,
         {"help", no_argument, NULL, O_HELP},
         {NULL, 0, NULL, 0},
     };
@@ -109,6 +112,7 @@ int cph_cmd_tune(int argc, char **argv) {
     cph_tune_defaults(&o);
     const char *out = NULL, *threads_arg = "1";
     int resume = 0, force = 0, quiet = 0, rc = CPH_EXIT_USAGE;
+    uint64_t budget = 0; /* 0: the default */
     char msg[512];
     cph_machine m;
     int have_machine = 0;
@@ -151,6 +155,13 @@ int cph_cmd_tune(int argc, char **argv) {
             break;
         case O_COLD: o.timing.cold = 1; break;
         case O_QUIET: quiet = 1; break;
+        case CPH_OPT_MAX_MEMORY:
+            if (cph_mem_parse(optarg, strchr(optarg, '%') ? cph_mem_machine_bytes() : 0, &budget,
+                              msg, sizeof msg) != CP_OK) {
+                cph_err("tune: %s", msg);
+                goto done;
+            }
+            break;
         case O_HELP:
             usage(stdout);
             rc = CPH_EXIT_OK;
@@ -198,6 +209,13 @@ int cph_cmd_tune(int argc, char **argv) {
         cph_err("tune: --threads: %s", msg);
         goto done;
     }
+    int most = 1;
+    for (int i = 0; i < nt; i++)
+        if (counts[i] > most) most = counts[i];
+    if (cph_mem_check_selection("tune", &sel, most, 1,
+                                budget ? budget : (uint64_t)m.memory_bytes / 100 *
+                                                      CPH_MEM_DEFAULT_PERCENT) != 0)
+        goto done;
     cph_table_settings ts;
     memset(&ts, 0, sizeof ts);
     ts.target_rel_ci = o.timing.target_rel_ci;

@@ -13,6 +13,7 @@
 
 #include "cli.h"
 #include "data.h"
+#include "membudget.h"
 #include "select.h"
 
 static void usage(FILE *f) {
@@ -22,10 +23,10 @@ static void usage(FILE *f) {
             "compares it with the fp64 oracle; PASS when the error relative to sum|x||w|\n"
             "is within the algorithm's tolerance (see convpick algos).\n\n"
             "options:\n%s"
-            "                    (verify's default mode: both)\n"
+            "                    (verify's default mode: both)\n%s"
             "  -h, --help        this text\n\n"
             "exit status: 0 all applicable checks passed, 1 a check failed, 2 bad usage or input\n",
-            cph_selection_help);
+            cph_selection_help, cph_membudget_help);
 }
 
 /* Derives independent seeds per layer, mode and tensor. */
@@ -127,6 +128,7 @@ out:
 int cph_cmd_verify(int argc, char **argv) {
     static const struct option longopts[] = {
         CPH_SELECTION_LONGOPTS,
+        CPH_MEMBUDGET_LONGOPT,
         {"help", no_argument, NULL, 'h'},
         {NULL, 0, NULL, 0},
     };
@@ -134,6 +136,7 @@ int cph_cmd_verify(int argc, char **argv) {
     cph_selection_init(&sel);
     char msg[512];
     int rc = CPH_EXIT_OK;
+    uint64_t budget = 0; /* 0: the default, found only when needed */
     int opt;
     opterr = 0; /* one error line, ours */
     while ((opt = getopt_long(argc, argv, "h", longopts, NULL)) != -1) {
@@ -145,6 +148,15 @@ int cph_cmd_verify(int argc, char **argv) {
         if (opt < CPH_OPT_SHAPE) {
             cph_selection_free(&sel);
             return cph_usage_error("verify");
+        }
+        if (opt == CPH_OPT_MAX_MEMORY) {
+            if (cph_mem_parse(optarg, strchr(optarg, '%') ? cph_mem_machine_bytes() : 0, &budget,
+                              msg, sizeof msg) != CP_OK) {
+                cph_err("verify: %s", msg);
+                cph_selection_free(&sel);
+                return CPH_EXIT_USAGE;
+            }
+            continue;
         }
         if (cph_selection_option(&sel, opt, optarg, msg, sizeof msg) != CP_OK) {
             cph_err("%s", msg);
@@ -160,6 +172,11 @@ int cph_cmd_verify(int argc, char **argv) {
     static const cp_mode both[] = {CP_XCORR, CP_CONV};
     if (cph_selection_finish(&sel, both, 2, msg, sizeof msg) != CP_OK) {
         cph_err("verify: %s", msg);
+        cph_selection_free(&sel);
+        return CPH_EXIT_USAGE;
+    }
+
+    if (cph_mem_check_selection("verify", &sel, 1, 1, budget ? budget : cph_mem_default()) != 0) {
         cph_selection_free(&sel);
         return CPH_EXIT_USAGE;
     }
