@@ -237,6 +237,7 @@ int cph_cmd_tune(int argc, char **argv) {
         cph_err("tune: %s", msg);
         goto done;
     }
+    if (exists && !resume) cph_table_doc_replaces(doc, out);
     if (o.timing.cold && o.timing.flush_bytes == 0) o.timing.flush_bytes = 2 * cph_machine_llc_total(&m);
     const cp_cache_sizes caches = cph_machine_caches(&m);
 

@@ -130,6 +130,7 @@ static int write_all(int fd, const void *data, size_t bytes) {
     while (bytes) {
         ssize_t w = write(fd, p, bytes);
         if (w < 0 && errno == EINTR) continue;
+        if (w == 0) errno = ENOSPC; /* write() made no progress and set no errno */
         if (w <= 0) return -1;
         p += w;
         bytes -= (size_t)w;
@@ -164,27 +165,29 @@ static cp_status write_atomic(const char *path, int (*fill)(int fd, const void *
     cp_status st = CP_OK;
     int fd = mkstemp(tmp);
     if (fd < 0) {
-        st = fail(CP_EIO, msg, cap, "%s: cannot create a temporary file in %s: %s", path, dir,
-                  strerror(errno));
+        st = fail(CP_EIO, msg, cap, "%s: cannot create a temporary file in %s: %s; %s was left "
+                  "as it was", path, dir, strerror(errno), path);
         goto out;
     }
     /* mkstemp makes the file 0600; give it the mode a plain create would. */
     mode_t mask = umask(0);
     umask(mask);
     if (fchmod(fd, (mode_t)(0666 & ~mask)) != 0 || fill(fd, ctx) != 0 || fsync(fd) != 0) {
-        st = fail(CP_EIO, msg, cap, "%s: write failed: %s", path, strerror(errno));
+        st = fail(CP_EIO, msg, cap, "%s: write failed: %s; %s was left as it was", path,
+                  strerror(errno), path);
         close(fd);
         unlink(tmp);
         goto out;
     }
     if (close(fd) != 0) {
-        st = fail(CP_EIO, msg, cap, "%s: close failed: %s", path, strerror(errno));
+        st = fail(CP_EIO, msg, cap, "%s: close failed: %s; %s was left as it was", path,
+                  strerror(errno), path);
         unlink(tmp);
         goto out;
     }
     if (rename(tmp, path) != 0) {
-        st = fail(CP_EIO, msg, cap, "%s: cannot rename the temporary file into place: %s", path,
-                  strerror(errno));
+        st = fail(CP_EIO, msg, cap, "%s: cannot rename the temporary file into place: %s; %s was "
+                  "left as it was", path, strerror(errno), path);
         unlink(tmp);
         goto out;
     }

@@ -6,8 +6,13 @@
 
 #include "rawfile.h"
 
+#include <errno.h>
+#include <fcntl.h>
 #include <jansson.h>
 #include <math.h>
+#include <sys/file.h>
+#include <sys/stat.h>
+#include <unistd.h>
 #include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -18,11 +23,44 @@
 #define CP_GIT_REV "unknown"
 #endif
 
+/* Which file a path named at some moment: every atomic write makes a new
+ * inode, so a changed identity means someone wrote the table. */
+typedef struct file_id {
+    int exists;
+    dev_t dev;
+    ino_t ino;
+    off_t size;
+    struct timespec mtime;
+} file_id;
+
 struct cph_table_doc {
     json_t *root;    /* the whole document */
     json_t *entries; /* borrowed from root */
+    json_t *mine;    /* entry key -> entry put by this process (they win a merge) */
     char key[17];
+    char fingerprint[17];
+    file_id start;   /* the file the document was read from or replaces */
+    file_id last;    /* the file this process last wrote */
 };
+
+static file_id identify(const char *path) {
+    file_id id;
+    memset(&id, 0, sizeof id);
+    struct stat sb;
+    if (stat(path, &sb) == 0) {
+        id.exists = 1;
+        id.dev = sb.st_dev;
+        id.ino = sb.st_ino;
+        id.size = sb.st_size;
+        id.mtime = sb.st_mtim;
+    }
+    return id;
+}
+
+static int same_file(const file_id *a, const file_id *b) {
+    return a->exists && b->exists && a->dev == b->dev && a->ino == b->ino && a->size == b->size &&
+           a->mtime.tv_sec == b->mtime.tv_sec && a->mtime.tv_nsec == b->mtime.tv_nsec;
+}
 
 static cp_status fail(cp_status st, char *msg, size_t cap, const char *fmt, ...)
     __attribute__((format(printf, 4, 5)));
@@ -171,16 +209,48 @@ static json_t *entry_json(const cp_table_entry *e, const cph_entry_notes *n, con
                      "tried", tried, "settings_key", key);
 }
 
-static cp_status doc_init(cph_table_doc **out, const cph_table_settings *s, char *msg, size_t cap) {
+static cp_status doc_init(cph_table_doc **out, const cph_machine *m, const cph_table_settings *s,
+                          char *msg, size_t cap) {
     *out = calloc(1, sizeof **out);
     if (!*out) return fail(CP_ENOMEM, msg, cap, "table: out of memory");
+    (*out)->mine = json_object();
+    if (!(*out)->mine) {
+        free(*out);
+        *out = NULL;
+        return fail(CP_ENOMEM, msg, cap, "table: out of memory");
+    }
     cph_table_settings_key(s, (*out)->key);
+    snprintf((*out)->fingerprint, sizeof (*out)->fingerprint, "%s", m->fingerprint);
     return CP_OK;
+}
+
+/* The identity of an entry for merging: its shape, mode and threads, printed.
+ * NULL when the entry lacks them (never for a table cp_table_load accepted). */
+static int entry_key(const json_t *e, char *buf, size_t cap) {
+    static const char *const keys[] = {"n", "c", "h", "w", "k", "r", "s", "stride_h", "stride_w",
+                                       "pad_top", "pad_left", "pad_bottom", "pad_right",
+                                       "dilation_h", "dilation_w", "groups"};
+    const json_t *sh = json_object_get(e, "shape");
+    const json_t *md = json_object_get(e, "mode"), *th = json_object_get(e, "threads");
+    const json_t *lay = json_object_get(sh, "layout");
+    if (!json_is_object(sh) || !json_is_string(md) || !json_is_integer(th) || !json_is_string(lay))
+        return 0;
+    size_t len = 0;
+    for (size_t i = 0; i < sizeof keys / sizeof keys[0]; i++) {
+        const json_t *v = json_object_get(sh, keys[i]);
+        if (!json_is_integer(v)) return 0;
+        int n = snprintf(buf + len, cap - len, "%lld,", (long long)json_integer_value(v));
+        if (n < 0 || (size_t)n >= cap - len) return 0;
+        len += (size_t)n;
+    }
+    int n = snprintf(buf + len, cap - len, "%s|%s|%lld", json_string_value(lay),
+                     json_string_value(md), (long long)json_integer_value(th));
+    return n >= 0 && (size_t)n < cap - len;
 }
 
 cp_status cph_table_doc_new(const cph_machine *m, const cph_table_settings *s,
                             cph_table_doc **out, char *msg, size_t cap) {
-    cp_status st = doc_init(out, s, msg, cap);
+    cp_status st = doc_init(out, m, s, msg, cap);
     if (st != CP_OK) return st;
     char created[32];
     time_t now = time(NULL);
@@ -205,6 +275,7 @@ cp_status cph_table_doc_new(const cph_machine *m, const cph_table_settings *s,
 cp_status cph_table_doc_open(const char *path, const cph_machine *m, const cph_table_settings *s,
                              cph_table_doc **out, char *msg, size_t cap) {
     *out = NULL;
+    const file_id start = identify(path); /* before reading: a later write then merges */
     cp_table *t;
     cp_status st = cp_table_load(path, 0, &t, msg, cap);
     if (st != CP_OK) return st;
@@ -219,18 +290,22 @@ cp_status cph_table_doc_open(const char *path, const cph_machine *m, const cph_t
     json_error_t err;
     json_t *root = json_load_file(path, JSON_REJECT_DUPLICATES, &err);
     if (!root) return fail(CP_EFORMAT, msg, cap, "%s:%d:%d: %s", path, err.line, err.column, err.text);
-    if ((st = doc_init(out, s, msg, cap)) != CP_OK) {
+    if ((st = doc_init(out, m, s, msg, cap)) != CP_OK) {
         json_decref(root);
         return st;
     }
+    (*out)->start = start;
     json_object_set_new(root, "settings", settings_json(s));
     (*out)->root = root;
     (*out)->entries = json_object_get(root, "entries");
     return CP_OK;
 }
 
+void cph_table_doc_replaces(cph_table_doc *d, const char *path) { d->start = identify(path); }
+
 void cph_table_doc_free(cph_table_doc *d) {
     if (!d) return;
+    json_decref(d->mine);
     json_decref(d->root);
     free(d);
 }
@@ -273,13 +348,107 @@ cp_status cph_table_doc_put(cph_table_doc *d, const cp_table_entry *e, const cph
     if (!ej)
         return fail(CP_EINVAL, msg, cap, "table entry '%s': cannot build it (name or note not "
                                          "valid UTF-8?)", e->name);
+    char k[512];
+    if (!entry_key(ej, k, sizeof k) || json_object_set(d->mine, k, ej) != 0) {
+        json_decref(ej);
+        return fail(CP_ENOMEM, msg, cap, "table: out of memory");
+    }
     long i = find_index(d, &e->shape, e->mode, e->threads);
     int rc = i >= 0 ? json_array_set_new(d->entries, (size_t)i, ej)
                     : json_array_append_new(d->entries, ej);
     return rc == 0 ? CP_OK : fail(CP_ENOMEM, msg, cap, "table: out of memory");
 }
 
-cp_status cph_table_doc_write(const cph_table_doc *d, const char *path, char *msg, size_t cap) {
+/* Under the lock: the table on disk was written by someone else since this
+ * process read or last wrote it.  The merged list is the disk's entries in
+ * their order, each replaced by this process's own measurement of it, then
+ * this process's entries the disk lacks.  A disk table that is no longer a
+ * valid table of this device is left alone (an error, nothing written). */
+static cp_status merge_from_disk(cph_table_doc *d, const char *path, char *msg, size_t cap) {
+    cp_table *t = NULL;
+    char why[512];
+    cp_status st = cp_table_load(path, 0, &t, why, sizeof why);
+    if (st != CP_OK)
+        return fail(st, msg, cap, "%s changed on disk during this run and cannot be merged (%s); "
+                                  "it was left as it is", path, why);
+    int same = strcmp(cp_table_fingerprint(t), d->fingerprint) == 0;
+    cp_table_free(t);
+    if (!same)
+        return fail(CP_EDEVICE, msg, cap, "%s was replaced during this run by a table of another "
+                                          "device; it was left as it is", path);
+    json_error_t err;
+    json_t *disk = json_load_file(path, JSON_REJECT_DUPLICATES, &err);
+    json_t *dent = disk ? json_object_get(disk, "entries") : NULL;
+    json_t *merged = json_array(), *seen = json_object();
+    st = CP_OK;
+    if (!json_is_array(dent) || !merged || !seen) {
+        st = fail(CP_EFORMAT, msg, cap, "%s changed on disk while being merged; it was left as it "
+                                        "is", path);
+        goto out;
+    }
+    char k[512];
+    size_t i;
+    json_t *e;
+    json_array_foreach(dent, i, e) {
+        if (!entry_key(e, k, sizeof k)) continue;
+        json_t *ours = json_object_get(d->mine, k);
+        json_array_append(merged, ours ? ours : e);
+        json_object_set_new(seen, k, json_true());
+    }
+    json_array_foreach(d->entries, i, e) {
+        if (!entry_key(e, k, sizeof k) || json_object_get(seen, k)) continue;
+        json_array_append(merged, e);
+        json_object_set_new(seen, k, json_true());
+    }
+    if (json_object_set(d->root, "entries", merged) != 0) {
+        st = fail(CP_ENOMEM, msg, cap, "table: out of memory");
+        goto out;
+    }
+    d->entries = merged;
+out:
+    json_decref(merged);
+    json_decref(seen);
+    json_decref(disk);
+    return st;
+}
+
+/* The advisory lock of a table: PATH.lock, created once and left in place
+ * (removing it would let a third process lock a new file while a second
+ * still holds the old one).  Returns the descriptor, or -1 with msg set. */
+static int lock_table(const char *path, char *msg, size_t cap) {
+    const size_t len = strlen(path) + 6;
+    char *lp = malloc(len);
+    if (!lp) {
+        fail(CP_ENOMEM, msg, cap, "%s: out of memory", path);
+        return -1;
+    }
+    snprintf(lp, len, "%s.lock", path);
+    int fd = open(lp, O_RDWR | O_CREAT | O_CLOEXEC, 0666);
+    if (fd < 0) {
+        fail(CP_EIO, msg, cap, "%s: cannot open the lock file %s: %s; the table was left as it is",
+             path, lp, strerror(errno));
+        free(lp);
+        return -1;
+    }
+    int rc;
+    while ((rc = flock(fd, LOCK_EX)) != 0 && errno == EINTR) {
+    }
+    if (rc != 0) {
+        fail(CP_EIO, msg, cap, "%s: cannot lock %s: %s; the table was left as it is", path, lp,
+             strerror(errno));
+        close(fd);
+        fd = -1;
+    }
+    free(lp);
+    return fd;
+}
+
+static cp_status write_locked(cph_table_doc *d, const char *path, char *msg, size_t cap) {
+    const file_id now = identify(path);
+    if (now.exists && !same_file(&now, &d->last) && !same_file(&now, &d->start)) {
+        cp_status st = merge_from_disk(d, path, msg, cap);
+        if (st != CP_OK) return st;
+    }
     char *text = json_dumps(d->root, JSON_INDENT(1) | JSON_REAL_PRECISION(17));
     if (!text) return fail(CP_ENOMEM, msg, cap, "%s: cannot serialise the table", path);
     size_t len = strlen(text);
@@ -293,5 +462,14 @@ cp_status cph_table_doc_write(const cph_table_doc *d, const char *path, char *ms
     text[len] = '\0';
     cp_status st = cph_write_atomic(path, text, len, msg, cap);
     free(text);
+    if (st == CP_OK) d->last = identify(path);
+    return st;
+}
+
+cp_status cph_table_doc_write(cph_table_doc *d, const char *path, char *msg, size_t cap) {
+    int fd = lock_table(path, msg, cap);
+    if (fd < 0) return CP_EIO;
+    cp_status st = write_locked(d, path, msg, cap);
+    close(fd); /* releases the lock */
     return st;
 }

@@ -75,7 +75,20 @@ cp_status cph_table_doc_put(cph_table_doc *d, const cp_table_entry *e, const cph
 
 /* Writes the document atomically to path (see above) through
  * cph_write_atomic (rawfile.h).  On failure the old file is untouched, no
- * temporary file remains, and msg names the step and the errno text. */
-cp_status cph_table_doc_write(const cph_table_doc *d, const char *path, char *msg, size_t cap);
+ * temporary file remains, and msg names the step and the errno text.
+ *
+ * Several processes may write one table: the write holds an advisory lock
+ * (flock) on PATH.lock, created beside the table and left there, around
+ * read-merge-write.  When the file on disk is not the one this document was
+ * read from (cph_table_doc_open), replaces (cph_table_doc_replaces) or last
+ * wrote, another process wrote it: its entries are merged in (this
+ * process's own measurements win for the same shape, mode and threads), so
+ * neither loses the other's entries.  A file on disk that is no longer a
+ * valid table of this device is an error and is left as it is. */
+cp_status cph_table_doc_write(cph_table_doc *d, const char *path, char *msg, size_t cap);
+
+/* Records that the document replaces the file now at path (tune --force): a
+ * later write overwrites that file instead of merging its entries. */
+void cph_table_doc_replaces(cph_table_doc *d, const char *path);
 
 #endif
