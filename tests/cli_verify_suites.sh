@@ -9,13 +9,18 @@ if nm "$CLI" 2>/dev/null | grep -q __asan_init; then
   echo "sanitizer build: only the demo suite (the others run in the Release build)"
   suites="demo"
 fi
+all=""
 for s in $suites; do
   out="$("$CLI" verify --suite "$s")" || { echo "$out" | grep -E "FAIL" | head -20; echo "FAIL: verify --suite $s"; exit 1; }
-  summary="$(echo "$out" | tail -1)"
-  echo "$s: $summary"
-  # at least one PASS per registered algorithm: a suite where an algorithm never ran proves nothing about it
-  for a in $("$CLI" algos | awk 'NR>1 && /^[a-z0-9_]+ /{print $1}' | sort -u); do
-    echo "$out" | grep -Eq "^[^ ]+ +(xcorr|conv) +$a +.*PASS" || { echo "FAIL: $a never ran on $s"; exit 1; }
-  done
+  echo "$s: $(echo "$out" | tail -1)"
+  all+="$out"$'\n'
+done
+# Each registered algorithm must have passed somewhere: a run where one never
+# ran proves nothing about it.  (Not every algorithm applies to every suite:
+# MobileNet v1 has no 3x3 stride-1 layer with groups = 1 for Winograd.)
+for a in $("$CLI" algos | awk 'NR>1 && /^[a-z0-9_]+ /{print $1}' | sort -u); do
+  n=$(grep -Ec "^[^ ]+ +(xcorr|conv) +$a +.*PASS" <<<"$all" || true)
+  [ "$n" -gt 0 ] || { echo "FAIL: $a never ran on: $suites"; exit 1; }
+  echo "  $a: $n passing checks"
 done
 echo "cli_verify_suites: all checks passed"
