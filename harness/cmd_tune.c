@@ -10,6 +10,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
+#include <unistd.h>
 
 #include "cli.h"
 #include "machine.h"
@@ -194,6 +195,26 @@ int cph_cmd_tune(int argc, char **argv) {
     o.seed = sel.seed;
     struct stat sb;
     const int exists = stat(out, &sb) == 0;
+    if (exists && S_ISDIR(sb.st_mode)) {
+        cph_err("tune: --out %s is a directory", out);
+        goto done;
+    }
+    {
+        /* Refuse an unwritable place before measuring anything. */
+        char dir[4096];
+        snprintf(dir, sizeof dir, "%s", out);
+        char *slash = strrchr(dir, '/');
+        if (!slash)
+            snprintf(dir, sizeof dir, ".");
+        else if (slash == dir)
+            dir[1] = '\0';
+        else
+            *slash = '\0';
+        if (access(dir, W_OK | X_OK) != 0) {
+            cph_err("tune: --out %s: directory %s is not writable: %s", out, dir, strerror(errno));
+            goto done;
+        }
+    }
     if (exists && !resume && !force) {
         cph_err("tune: %s exists: use --resume to complete it or --force to replace it", out);
         goto done;

@@ -471,6 +471,19 @@ cp_status cp_table_load(const char *path, unsigned flags, cp_table **out, char *
         size_t got = fread(buf + len, 1, size - len, f);
         len += got;
         if (got == 0 || len > limit) break;
+        /* A stream that does not start like a JSON object (/dev/zero, a
+         * binary pipe) is refused before gigabytes of it are read. */
+        if (!regular && len == got) {
+            size_t i = 0;
+            while (i < len && (buf[i] == ' ' || buf[i] == '\t' || buf[i] == '\n' || buf[i] == '\r'))
+                i++;
+            if (i < len && buf[i] != '{') {
+                free(buf);
+                fclose(f);
+                return fail(&c, CP_EFORMAT, "does not start with '{' (expected a %s JSON object)",
+                            CP_TABLE_FORMAT);
+            }
+        }
     }
     int rerr = ferror(f);
     fclose(f);
