@@ -2,7 +2,9 @@
  * lookup relies on and naming the field at fault ("file: entries[3].shape.k:
  * expected integer"), so that a deploying program never dispatches on a table
  * it misread.  Format: docs/table-format.md.  No hwloc, no harness code. */
+#define _POSIX_C_SOURCE 200809L /* fdopen, O_CLOEXEC */
 #include <errno.h>
+#include <fcntl.h>
 #include <jansson.h>
 #include <limits.h>
 #include <math.h>
@@ -12,6 +14,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
+#include <unistd.h>
 
 #include "lib_table_impl.h"
 
@@ -435,8 +438,18 @@ cp_status cp_table_load(const char *path, unsigned flags, cp_table **out, char *
     struct stat sb;
     if (stat(path, &sb) != 0) return fail(&c, CP_EIO, "cannot read: %s", strerror(errno));
     if (S_ISDIR(sb.st_mode)) return fail(&c, CP_EIO, "cannot read: is a directory");
-    FILE *f = fopen(path, "rb");
-    if (!f) return fail(&c, CP_EIO, "cannot read: %s", strerror(errno));
+    /* Opened without blocking, then switched back to blocking reads: a FIFO
+     * that no program writes reads as empty instead of hanging in open(). */
+    int fd = open(path, O_RDONLY | O_NONBLOCK | O_CLOEXEC);
+    if (fd < 0) return fail(&c, CP_EIO, "cannot read: %s", strerror(errno));
+    int fl = fcntl(fd, F_GETFL);
+    if (fl != -1) (void)fcntl(fd, F_SETFL, fl & ~O_NONBLOCK);
+    FILE *f = fdopen(fd, "rb");
+    if (!f) {
+        int e = errno;
+        close(fd);
+        return fail(&c, CP_EIO, "cannot read: %s", strerror(e));
+    }
     if (S_ISREG(sb.st_mode) && sb.st_size == 0) {
         fclose(f);
         return fail(&c, CP_EFORMAT, "empty file (expected a %s JSON document)", CP_TABLE_FORMAT);

@@ -52,6 +52,10 @@ cp_status cph_read_f32(const char *path, const char *what, size_t count, float *
     if (count > SIZE_MAX / sizeof(float))
         return fail(CP_ENOMEM, msg, cap, "%s file %s: expected size overflows", what, path);
     const size_t want = count * sizeof(float);
+    /* Checked before open(): opening a FIFO would wait for a writer. */
+    struct stat pre;
+    if (stat(path, &pre) == 0 && !S_ISREG(pre.st_mode))
+        return fail(CP_EIO, msg, cap, "%s file %s: not a regular file", what, path);
     int fd = open(path, O_RDONLY);
     if (fd < 0)
         return fail(CP_EIO, msg, cap, "%s file %s: cannot open: %s", what, path, strerror(errno));

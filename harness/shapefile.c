@@ -7,11 +7,13 @@
 #define _POSIX_C_SOURCE 200809L /* fmemopen */
 #include <ctype.h>
 #include <errno.h>
+#include <fcntl.h>
 #include <stdarg.h>
 #include <stdio.h>
 #include <stdint.h>
 #include <string.h>
 #include <sys/stat.h>
+#include <unistd.h>
 
 #include "select.h"
 
@@ -128,8 +130,18 @@ cp_status cph_load_shape_file(const char *path, cph_layer_list *out, char *msg, 
     struct stat sb;
     if (stat(path, &sb) == 0 && S_ISDIR(sb.st_mode))
         return fail(CP_EIO, msg, cap, "%s: cannot read: is a directory", path);
-    FILE *f = fopen(path, "r");
-    if (!f) return fail(CP_EIO, msg, cap, "%s: cannot open: %s", path, strerror(errno));
+    /* Opened without blocking, then switched back: a FIFO that no program
+     * writes reads as empty instead of hanging in open(). */
+    int fd = open(path, O_RDONLY | O_NONBLOCK | O_CLOEXEC);
+    if (fd < 0) return fail(CP_EIO, msg, cap, "%s: cannot open: %s", path, strerror(errno));
+    int fl = fcntl(fd, F_GETFL);
+    if (fl != -1) (void)fcntl(fd, F_SETFL, fl & ~O_NONBLOCK);
+    FILE *f = fdopen(fd, "r");
+    if (!f) {
+        int e = errno;
+        close(fd);
+        return fail(CP_EIO, msg, cap, "%s: cannot open: %s", path, strerror(e));
+    }
     cp_status st = load_stream(f, path, out, msg, cap);
     fclose(f);
     return st;
