@@ -152,7 +152,7 @@ static void print_pairs(const cph_diff *d) {
             if (c->bounded) snprintf(ci, sizeof ci, "[%.4f, %.4f]", c->ratio_lo, c->ratio_hi);
             else snprintf(ci, sizeof ci, "unbounded");
         }
-        printf("%-12s  %-*s  %-5s  %3d  %-*s  %-*s  %10.4f  %10.4f  %7.4f  %7s  %-17s  %8s  %s\n",
+        printf("%-12s  %-*s  %-5s  %3d  %-*s  %-*s  %10.4g  %10.4g  %7.4f  %7s  %-17s  %8s  %s\n",
                cph_verdict_name(p->verdict), lw, it->layer, it->mode == CP_CONV ? "conv" : "xcorr",
                it->threads, aw, it->algo, pw, it->params[0] ? it->params : "-",
                1e3 * c->base_median, 1e3 * c->new_median, c->median_ratio, hl, ci, pv, p->note);

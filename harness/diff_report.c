@@ -27,8 +27,13 @@ void cph_xml_escape(FILE *f, const char *s) {
     }
 }
 
-static cp_status finish(FILE *f, char *buf, size_t len, const char *path, char *msg, size_t cap) {
-    if (fclose(f) != 0 || !buf) {
+/* Closes the memory stream (which sets *buf and *len) and writes it out. */
+static cp_status finish(FILE *f, char **bufp, size_t *lenp, const char *path, char *msg,
+                        size_t cap) {
+    const int bad = fclose(f) != 0;
+    char *buf = *bufp;
+    const size_t len = *lenp;
+    if (bad || !buf) {
         free(buf);
         snprintf(msg, cap, "%s: out of memory building the report", path);
         return CP_ENOMEM;
@@ -89,7 +94,7 @@ cp_status cph_diff_write_junit(const cph_diff *d, const char *path, char *msg, s
         fprintf(f, "</system-out>\n    </testcase>\n");
     }
     fprintf(f, "  </testsuite>\n</testsuites>\n");
-    return finish(f, buf, len, path, msg, cap);
+    return finish(f, &buf, &len, path, msg, cap);
 }
 
 /* A Markdown table cell: '|' escaped, newlines flattened. */
@@ -194,5 +199,5 @@ cp_status cph_diff_write_markdown(const cph_diff *d, const char *path, char *msg
             fprintf(f, "`\n");
         }
     }
-    return finish(f, buf, len, path, msg, cap);
+    return finish(f, &buf, &len, path, msg, cap);
 }
