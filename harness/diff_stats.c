@@ -250,8 +250,8 @@ int cph_compare_samples(const double *base, size_t m, const double *new_samples,
 
 cph_verdict cph_verdict_of(const cph_shift_cmp *c, double alpha, double tol) {
     const int significant = c->mwu.p < alpha;
-    if (significant && c->ratio > 1.0 + tol) return CPH_VERDICT_SLOWER;
-    if (significant && c->ratio < 1.0 - tol) return CPH_VERDICT_FASTER;
+    if (significant && c->bounded && c->ratio_lo > 1.0 + tol) return CPH_VERDICT_SLOWER;
+    if (significant && c->bounded && c->ratio_hi < 1.0 - tol) return CPH_VERDICT_FASTER;
     if (c->bounded && c->ratio_lo >= 1.0 - tol && c->ratio_hi <= 1.0 + tol)
         return CPH_VERDICT_UNCHANGED;
     return CPH_VERDICT_INCONCLUSIVE;

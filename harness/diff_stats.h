@@ -104,12 +104,12 @@ typedef enum cph_verdict {
 } cph_verdict;
 
 /* The verdict rules (docs/diff.md), tol a fraction (0.05 = 5 %):
- *   slower:       p < alpha and ratio > 1 + tol
- *   faster:       p < alpha and ratio < 1 - tol
- *   unchanged:    otherwise, when the interval lies within [1 - tol, 1 + tol]
- *   inconclusive: everything else (not significant and the interval reaches
- *                 past the tolerance; significant, estimate within tolerance
- *                 but the interval reaching past it; no bounded interval). */
+ *   slower:       p < alpha and the whole interval lies above 1 + tol
+ *   faster:       p < alpha and the whole interval lies below 1 - tol
+ *   unchanged:    the interval lies within [1 - tol, 1 + tol]
+ *   inconclusive: everything else: the interval straddles 1 + tol or 1 - tol
+ *                 (whether or not the test rejects), or there is no bounded
+ *                 interval (too few samples). */
 cph_verdict cph_verdict_of(const cph_shift_cmp *c, double alpha, double tol);
 const char *cph_verdict_name(cph_verdict v);
 
