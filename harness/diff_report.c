@@ -137,7 +137,7 @@ cp_status cph_diff_write_markdown(const cph_diff *d, const char *path, char *msg
                "%g %% interval, tolerance +-%g %% (docs/diff.md).\n\n",
             d->alpha, 100.0 * (1.0 - d->alpha), 100.0 * d->tol);
     fprintf(f, "| verdict | layer | mode | threads | algo | params | base ms | new ms | ratio | "
-               "interval | p |\n|---|---|---|---:|---|---|---:|---:|---:|---|---:|\n");
+               "HL ratio | interval | p |\n|---|---|---|---:|---|---|---:|---:|---:|---:|---|---:|\n");
     for (size_t i = 0; i < d->npairs; i++) {
         const cph_diff_pair *p = &d->pairs[i];
         const cph_shift_cmp *c = &p->cmp;
@@ -148,13 +148,15 @@ cp_status cph_diff_write_markdown(const cph_diff *d, const char *path, char *msg
         md_cell(f, p->base->algo);
         fprintf(f, " | ");
         md_cell(f, p->base->params[0] ? p->base->params : "-");
-        fprintf(f, " | %.4f | %.4f | %.4f | ", 1e3 * c->base_median, 1e3 * c->new_median,
+        fprintf(f, " | %.4g | %.4g | %.4f | ", 1e3 * c->base_median, 1e3 * c->new_median,
                 c->median_ratio);
         if (p->compared && c->bounded)
-            fprintf(f, "%.4f..%.4f | %.2g |\n", c->ratio_lo, c->ratio_hi, c->mwu.p);
+            fprintf(f, "%.4f | %.4f..%.4f | %.2g |\n", c->ratio, c->ratio_lo, c->ratio_hi,
+                    c->mwu.p);
         else if (p->compared)
-            fprintf(f, "unbounded | %.2g |\n", c->mwu.p);
+            fprintf(f, "%.4f | unbounded | %.2g |\n", c->ratio, c->mwu.p);
         else {
+            fprintf(f, "- | ");
             md_cell(f, p->note);
             fprintf(f, " | - |\n");
         }
