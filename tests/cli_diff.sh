@@ -22,6 +22,16 @@ expect() {
   fi
 }
 
+# 0. The committed inputs (made by convpick bench and tune) still follow the
+#    formats' schemas (python3-jsonschema).
+$PY - "$DATA" "$SRC/docs/table.schema.json" <<'PY'
+import json, sys, jsonschema
+data, table_schema = sys.argv[1], sys.argv[2]
+jsonschema.validate(json.load(open(data + "/diff_base.bench.json")),
+                    json.load(open(data + "/bench_results.schema.json")))
+jsonschema.validate(json.load(open(data + "/diff_base.table.json")), json.load(open(table_schema)))
+PY
+
 # 1. Synthetic samples with known shifts on the committed bench file's layers:
 #    stem/direct +10 % (a regression), stem/im2col_gemm -10 %, mix/direct 0 %,
 #    mix/im2col_gemm only in BASE, a renamed algorithm only in NEW.  The layer
