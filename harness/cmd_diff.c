@@ -172,12 +172,12 @@ static void print_rest(const cph_diff *d) {
                    ch->base->params[0] ? " [" : "", ch->base->params,
                    ch->base->params[0] ? "]" : "", ch->next->algo, ch->next->params[0] ? " [" : "",
                    ch->next->params, ch->next->params[0] ? "]" : "");
-            if (ch->old_in_new && isfinite(ch->next->median) && ch->next->median > 0)
-                printf("BASE's choice now takes %.4f ms, %+.1f %% over NEW's choice (%.4f ms)\n",
-                       1e3 * ch->old_in_new->median,
-                       100.0 * (ch->old_in_new->median / ch->next->median - 1.0),
-                       1e3 * ch->next->median);
-            else
+            if (ch->old_in_new && isfinite(ch->next->median) && ch->next->median > 0) {
+                const double r = ch->old_in_new->median / ch->next->median;
+                printf("BASE's choice now takes %.4g ms, %.3g times NEW's choice (%.4g ms)%s\n",
+                       1e3 * ch->old_in_new->median, r, 1e3 * ch->next->median,
+                       r < 1.0 ? ": NEW chose a slower candidate" : "");
+            } else
                 printf("NEW did not measure BASE's choice\n");
         }
     }

@@ -177,11 +177,11 @@ cp_status cph_diff_write_markdown(const cph_diff *d, const char *path, char *msg
             md_cell(f, ch->next->algo);
             fprintf(f, "%s", ch->next->params[0] ? " " : "");
             md_cell(f, ch->next->params);
-            if (ch->old_in_new && isfinite(ch->next->median) && ch->next->median > 0)
-                fprintf(f, " | %.4f ms (%+.1f %% over NEW's choice) |\n",
-                        1e3 * ch->old_in_new->median,
-                        100.0 * (ch->old_in_new->median / ch->next->median - 1.0));
-            else
+            if (ch->old_in_new && isfinite(ch->next->median) && ch->next->median > 0) {
+                const double r = ch->old_in_new->median / ch->next->median;
+                fprintf(f, " | %.4g ms (%.3g times NEW's choice) |\n",
+                        1e3 * ch->old_in_new->median, r);
+            } else
                 fprintf(f, " | not measured |\n");
         }
     }

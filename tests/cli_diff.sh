@@ -138,7 +138,7 @@ json.dump(t, open(sys.argv[2], "w"))
 PY
 expect 0 "" -- "$CLI" diff "$DATA/diff_base.table.json" "$tmp/table_new.json" --markdown "$tmp/table.md"
 grep -q "^changed choices (1):" "$tmp/out" || { cat "$tmp/out"; fail "changed choice not reported"; }
-grep -q "BASE's choice now takes .* ms, [+-][0-9.]* % over NEW's choice" "$tmp/out" || fail "old choice cost not reported"
+grep -qE "BASE's choice now takes [0-9.e+-]+ ms, [0-9.e+-]+ times NEW's choice \([0-9.e+-]+ ms\)" "$tmp/out" || fail "old choice cost not reported"
 grep -q "### Changed choices" "$tmp/table.md" || fail "markdown changed choices"
 
 # A bench file against a table of the same device: pairs found across formats.
