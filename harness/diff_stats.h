@@ -70,7 +70,9 @@ double cph_hl_shift(const double *xs, size_t m, const double *ys, size_t n);
 /* The rank k of the lower end of the level 1-alpha interval [D(k), D(mn+1-k)].
  * exact: k is the largest with P(U <= k-1) <= alpha/2 under the exact null
  * distribution, and *coverage = 1 - 2 P(U <= k-1).  Otherwise (large samples)
- * k = floor(mn/2 - z(1-alpha/2) sqrt(mn(m+n+1)/12)) and *coverage = 1-alpha.
+ * k = floor(mn/2 - z(1-alpha/2) sqrt(mn(m+n+1)/12)) and *coverage = 1-alpha
+ * (the large-sample rule of Hollander & Wolfe, from memory; rounding down is
+ * ours and only widens the interval).
  * Returns 0 when no such k >= 1 exists (too few samples: the interval is
  * unbounded) or on failure. */
 size_t cph_hl_ci_rank(size_t m, size_t n, double alpha, int exact, double *coverage);
