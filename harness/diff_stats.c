@@ -40,8 +40,9 @@ double cph_normal_isf(double q) {
 
 int cph_mwu_exact_cdf(size_t m, size_t n, double *cdf) {
     const size_t a = m < n ? m : n, b = m < n ? n : m; /* U's law is symmetric in m, n */
-    if (a > CPH_MWU_EXACT_MAX) return -1;
+    if (a > CPH_MWU_EXACT_MAX || b > ((size_t)1 << 20)) return -1;
     const size_t span = a * b + 1;
+    if ((a + 1) > CPH_MWU_EXACT_CELLS / span) return -1; /* bounded memory and time */
     /* prev[i*span + u] = f(i, j-1, u), cur = f(i, j, u) for i = 0..a */
     double *prev = calloc((a + 1) * span, sizeof *prev);
     double *cur = calloc((a + 1) * span, sizeof *cur);

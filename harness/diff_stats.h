@@ -31,6 +31,8 @@
 /* The smaller sample must have at most this many values for the exact path
  * (SciPy's 'auto' rule). */
 #define CPH_MWU_EXACT_MIN_SIDE 8
+/* Cap on the counting table of cph_mwu_exact_cdf (doubles, two of them). */
+#define CPH_MWU_EXACT_CELLS ((size_t)1 << 22)
 
 typedef enum cph_mwu_method {
     CPH_MWU_AUTO = 0,       /* exact when allowed (above), else asymptotic */
@@ -46,7 +48,7 @@ typedef struct cph_mwu {
 } cph_mwu;
 
 /* The test of x[0..m) against y[0..n).  Returns 0, or -1 when m or n is 0, a
- * value is NaN, the exact path was forced beyond CPH_MWU_EXACT_MAX, or memory
+ * value is NaN, the exact path was forced beyond what cph_mwu_exact_cdf counts, or memory
  * ran out. */
 int cph_mwu_test(const double *x, size_t m, const double *y, size_t n, cph_mwu_method method,
                  cph_mwu *out);
@@ -54,8 +56,8 @@ int cph_mwu_test(const double *x, size_t m, const double *y, size_t n, cph_mwu_m
 /* Null distribution of U for samples of sizes m and n without ties:
  * cdf[u] = P(U <= u) for u = 0..m*n (the caller gives m*n+1 slots).  Counts
  * arrangements by the recurrence f(i,j,u) = f(i-1,j,u-j) + f(i,j-1,u)
- * (common practice, no source).  Returns 0, or -1 when out of memory or
- * min(m,n) > CPH_MWU_EXACT_MAX. */
+ * (common practice, no source).  Returns 0, or -1 when out of memory or the
+ * table it needs, (min(m,n)+1) x (mn+1) values, exceeds CPH_MWU_EXACT_CELLS. */
 int cph_mwu_exact_cdf(size_t m, size_t n, double *cdf);
 
 /* The k-th smallest (1-based, 1 <= k <= m*n) of the m*n differences

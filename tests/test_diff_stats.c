@@ -180,6 +180,26 @@ static void test_exact_cdf_by_hand(void **state) {
     for (int u = 0; u < 5; u++) assert_true(fabs(cdf[u] - want[u]) < 1e-15);
 }
 
+
+/* The exact path's limits: 8 against 1000 untied values is counted (SciPy's
+ * auto rule picks exact there too); a forced exact test of 1000 against 1000
+ * is refused rather than allocating a table of 10^9 counts. */
+static void test_exact_limits(void **state) {
+    (void)state;
+    static double x[1000], y[1000];
+    for (int i = 0; i < 1000; i++) {
+        x[i] = 1.0 + i * 1e-3;
+        y[i] = 1.0005 + i * 1e-3;
+    }
+    cph_mwu r;
+    assert_int_equal(cph_mwu_test(x, 8, y, 1000, CPH_MWU_AUTO, &r), 0);
+    assert_true(r.exact);
+    assert_true(r.p > 0.0 && r.p <= 1.0);
+    assert_int_equal(cph_mwu_test(x, 1000, y, 1000, CPH_MWU_EXACT, &r), -1);
+    assert_int_equal(cph_mwu_test(x, 1000, y, 1000, CPH_MWU_AUTO, &r), 0);
+    assert_false(r.exact);
+}
+
 static uint64_t rng_state;
 static uint64_t splitmix(void) {
     uint64_t z = (rng_state += 0x9E3779B97F4A7C15ull);
@@ -358,6 +378,7 @@ int main(void) {
         cmocka_unit_test(test_against_scipy),
         cmocka_unit_test(test_normal_quantiles),
         cmocka_unit_test(test_exact_cdf_by_hand),
+        cmocka_unit_test(test_exact_limits),
         cmocka_unit_test(test_kth_against_sorting),
         cmocka_unit_test(test_known_shifts),
         cmocka_unit_test(test_too_few_samples),
