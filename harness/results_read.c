@@ -5,12 +5,16 @@
 #include "results_read.h"
 
 #include <errno.h>
+#include <fcntl.h>
 #include <jansson.h>
 #include <math.h>
 #include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
+#include <stdint.h>
 #include <string.h>
+#include <sys/stat.h>
+#include <unistd.h>
 
 #define BENCH_FORMAT "convpick-bench-results"
 #define BENCH_VERSION 1
@@ -431,17 +435,88 @@ static cp_status read_table(ctx *c, const json_t *root) {
 
 /* ---- entry point ----------------------------------------------------------- */
 
+/* Reads a whole file into memory (at most RESULTS_MAX_BYTES): a directory is
+ * refused, a FIFO without a writer reads as empty instead of blocking, a
+ * regular file that grows while read is refused rather than chased. */
+#define RESULTS_MAX_BYTES (1ull << 31)
+static cp_status read_all(const ctx *c, const char *path, char **data, size_t *len) {
+    *data = NULL;
+    *len = 0;
+    struct stat sb;
+    if (stat(path, &sb) != 0) return fail(c, CP_EIO, "cannot read: %s", strerror(errno));
+    if (S_ISDIR(sb.st_mode)) return fail(c, CP_EIO, "cannot read: is a directory");
+    int fd = open(path, O_RDONLY | O_NONBLOCK | O_CLOEXEC);
+    if (fd < 0) return fail(c, CP_EIO, "cannot read: %s", strerror(errno));
+    int fl = fcntl(fd, F_GETFL);
+    if (fl != -1) (void)fcntl(fd, F_SETFL, fl & ~O_NONBLOCK);
+    const int regular = S_ISREG(sb.st_mode);
+    const size_t limit = regular ? (size_t)sb.st_size : (size_t)RESULTS_MAX_BYTES;
+    if (regular && (uintmax_t)sb.st_size > RESULTS_MAX_BYTES) {
+        close(fd);
+        return fail(c, CP_EFORMAT, "larger than %llu bytes", (unsigned long long)RESULTS_MAX_BYTES);
+    }
+    size_t size = 0, n = 0;
+    char *buf = NULL;
+    for (;;) {
+        if (n == size) {
+            size_t ncap = size ? size + (size >> 1) : (regular ? limit + 1 : 65536);
+            if (ncap > limit + 1) ncap = limit + 1;
+            char *nb = realloc(buf, ncap ? ncap : 1);
+            if (!nb) {
+                free(buf);
+                close(fd);
+                return fail(c, CP_ENOMEM, "out of memory reading %zu bytes", size);
+            }
+            buf = nb;
+            size = ncap;
+        }
+        ssize_t got = read(fd, buf + n, size - n);
+        if (got < 0 && errno == EINTR) continue;
+        if (got < 0) {
+            int e = errno;
+            free(buf);
+            close(fd);
+            return fail(c, CP_EIO, "read error: %s", strerror(e));
+        }
+        if (got == 0) break;
+        n += (size_t)got;
+        if (n > limit) break;
+    }
+    close(fd);
+    if (n > limit) {
+        free(buf);
+        return regular ? fail(c, CP_EIO, "the file grew while being read (beyond its %zu bytes): "
+                                         "is another program writing it?", limit)
+                       : fail(c, CP_EFORMAT, "more than %llu bytes",
+                              (unsigned long long)RESULTS_MAX_BYTES);
+    }
+    *data = buf;
+    *len = n;
+    return CP_OK;
+}
+
 cp_status cph_results_read(const char *path, cph_results *out, char *msg, size_t cap) {
     memset(out, 0, sizeof *out);
-    snprintf(out->path, sizeof out->path, "%s", path);
     ctx c = {path, msg, cap, out, 0};
-    FILE *f = fopen(path, "rb");
-    if (!f) return fail(&c, CP_EIO, "cannot read: %s", strerror(errno));
+    char *data;
+    size_t len;
+    cp_status st = read_all(&c, path, &data, &len);
+    if (st != CP_OK) return st;
+    st = cph_results_read_buffer(data, len, path, out, msg, cap);
+    free(data);
+    return st;
+}
+
+cp_status cph_results_read_buffer(const void *data, size_t len, const char *name,
+                                  cph_results *out, char *msg, size_t cap) {
+    if (!name) name = "(buffer)";
+    memset(out, 0, sizeof *out);
+    snprintf(out->path, sizeof out->path, "%s", name);
+    ctx c = {name, msg, cap, out, 0};
     json_error_t err;
-    json_t *root = json_loadf(f, JSON_REJECT_DUPLICATES, &err);
-    fclose(f);
+    json_t *root = json_loadb(data ? data : "", data ? len : 0, JSON_REJECT_DUPLICATES, &err);
     if (!root) {
-        if (msg && cap) snprintf(msg, cap, "%s:%d:%d: malformed JSON: %s", path, err.line,
+        if (msg && cap) snprintf(msg, cap, "%s:%d:%d: malformed JSON: %s", name, err.line,
                                  err.column, err.text);
         return CP_EFORMAT;
     }

@@ -68,6 +68,12 @@ typedef struct cph_results {
  * name, a missing or mistyped field), CP_EVERSION (another format version),
  * each with a one-line message starting with the file name. */
 cp_status cph_results_read(const char *path, cph_results *out, char *msg, size_t cap);
+/* The same for a document in memory (len bytes); name stands for the file in
+ * messages.  cph_results_read reads the file (a directory is refused, a FIFO
+ * without a writer reads as empty, a file growing while read is refused) and
+ * calls this. */
+cp_status cph_results_read_buffer(const void *data, size_t len, const char *name,
+                                  cph_results *out, char *msg, size_t cap);
 void cph_results_free(cph_results *r);
 
 /* "bench results" or "tuning table". */
