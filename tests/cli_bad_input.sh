@@ -105,6 +105,30 @@ kill "$bg" 2>/dev/null || true; wait "$bg" 2>/dev/null || true; bg=""
 if [ "$rc" = 2 ] && grep -qE "grew while being read|end of file expected" T15.err; then echo "ok T15"
 else echo "FAIL T15: exit $rc"; cat T15.err; fails=$((fails+1)); fi
 rm -f grow.json
+# ---- results files (diff reads bench results and tables)
+B="$SRC/tests/data/diff_base.bench.json"
+$PY - "$B" <<'P'
+import json, sys
+src = sys.argv[1]
+b = json.load(open(src))
+b["version"] = 2; json.dump(b, open("dver.json", "w"))
+b["version"] = 1; b["format"] = "other"; json.dump(b, open("dfmt.json", "w"))
+b["format"] = "convpick-bench-results"; b["results"][0]["threads"] = "one"
+json.dump(b, open("dtype.json", "w"))
+raw = open(src, "rb").read()
+open("dutf.json", "wb").write(raw.replace(b'"layer": "', b'"layer": "\xff', 1))
+open("dtrunc.json", "wb").write(raw[:300])
+P
+check D1 2 "diff: missing.json: cannot read: No such file or directory" diff missing.json "$B"
+check D2 2 "diff: adir: cannot read: is a directory" diff adir "$B"
+check D3 2 "empty:1:0: malformed JSON" diff empty "$B"
+check D4 2 "dtrunc.json:16:4: malformed JSON: premature end of input" diff dtrunc.json "$B"
+check D5 2 "format: \"other\" is neither" diff dfmt.json "$B"
+check D6 2 "version 2 is not supported" diff dver.json "$B"
+check D7 2 "results[0].threads: expected an integer, found a string" diff dtype.json "$B"
+check D8 2 "unable to decode byte 0xff" diff dutf.json "$B"
+check D9 2 "idle.fifo:1:0: malformed JSON" diff idle.fifo "$B"
+check D10 2 "expected two files, BASE and NEW, got 1" diff "$B"
 # ---- raw tensor files (run)
 $PY - <<'P'
 import struct, math

@@ -32,6 +32,9 @@ vg tune tune --suite demo --algo im2col_gemm,winograd_2x2_3x3,blocked --budget 0
    --max-seconds 0.002 --max-samples 3 --max-candidates 1 --quiet --out "$tmp/t.json"
 vg lookup lookup "$tmp/t.json" --shape c=16,h=48,w=48,k=32,r=3,pad=1
 vg lookup-near lookup "$tmp/t.json" --shape c=16,h=40,w=40,k=32,r=3,pad=1 --json
+# diff of two tables and of two bench results files (the committed fixtures).
+vg diff-tables diff "$tmp/t.json" "$tmp/t.json"
+vg diff-bench diff "$SRC/tests/data/diff_base.bench.json" "$SRC/tests/data/diff_base.bench.json"
 /usr/bin/python3 - "$tmp" <<'P'
 import struct, sys
 d = sys.argv[1]
