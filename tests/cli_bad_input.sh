@@ -95,6 +95,9 @@ check T12 2 "expected a JSON object at the top level" lookup top.json "${S[@]}"
 check T13 2 "is not this machine's" lookup dev.json "${S[@]}" --strict-device
 check T14 2 "does not start with '{'" lookup /dev/zero "${S[@]}"
 check T16 2 "idle.fifo: empty file" lookup idle.fifo "${S[@]}"
+truncate -s 3G sparse.json   # 3 GiB that take no space: refused from its size, unread
+check T17 2 "3221225472 bytes: larger than the 2147483648 bytes a table may have" lookup sparse.json "${S[@]}"
+rm -f sparse.json
 # A table appended to while it is read: refused as growing, or (if the reader
 # wins the race) as malformed JSON; never a hang or a crash.
 cp good.json grow.json

@@ -43,4 +43,16 @@ done
 "$CLI" tune --shapes "$tmp/b.txt" "${fast[@]}" --force --out "$tmp/shared-1.json" 2>/dev/null
 got="$(names "$tmp/shared-1.json")"
 [ "$got" = "b1 b2 b3" ] || { echo "FAIL: --force kept old entries: '$got'"; exit 1; }
+# The table replaced during a run by something that is not a table: the next
+# write refuses to merge it and leaves it as it is.
+slow=(--budget 1 --target-ci 0.01 --max-seconds 0.2 --max-samples 100000 --quiet)
+t="$tmp/replaced.json"
+"$CLI" tune --shapes "$tmp/a.txt" "${slow[@]}" --out "$t" 2>"$tmp/r.err" &
+pid=$!
+for _ in $(seq 1 300); do [ -s "$t" ] && break; sleep 0.05; done
+echo "not a table" > "$tmp/junk"; mv "$tmp/junk" "$t"
+rc=0; wait "$pid" || rc=$?
+[ "$rc" = 2 ] || { echo "FAIL: expected exit 2 after the table was replaced, got $rc"; cat "$tmp/r.err"; exit 1; }
+grep -q "changed on disk during this run and cannot be merged" "$tmp/r.err" || { echo "FAIL: message"; cat "$tmp/r.err"; exit 1; }
+[ "$(cat "$t")" = "not a table" ] || { echo "FAIL: the replaced file was overwritten"; exit 1; }
 echo "cli_table_concurrency: all checks passed"
