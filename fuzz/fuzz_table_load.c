@@ -2,17 +2,44 @@
  * form of cp_table_load; harness/lib_table_load.c) and the lookups a
  * deploying program makes on what it loaded.  Properties: no crash, no leak;
  * every loaded entry is found again exactly (cp_table_find, cp_table_lookup)
- * and carries a resolved algorithm that supports its shape. */
+ * and carries a resolved algorithm that supports its shape; the loader's fast
+ * path (one entry at a time) and its reference path (one tree) agree on the
+ * status, the message and every entry. */
 #include <string.h>
 
 #include "convpick/convpick.h"
 #include "fuzz.h"
+#include "lib_table_impl.h"
 
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size) {
     if (size > (1u << 20)) return 0;
     cp_table *t = NULL;
     char msg[512] = "";
     cp_status st = cp_table_load_buffer(data, size, "fuzz.json", 0, &t, msg, sizeof msg);
+    cp_table *ref = NULL;
+    char rmsg[512] = "";
+    cp_status rst = cp_table_load_buffer(data, size, "fuzz.json", CPT_LOAD_WHOLE, &ref, rmsg,
+                                         sizeof rmsg);
+    cpf_require(st == rst, "fast and whole loads agree on the status");
+    if (st != CP_OK) cpf_require(strcmp(msg, rmsg) == 0, "fast and whole loads agree on the message");
+    if (st == CP_OK) {
+        cpf_require(cp_table_count(t) == cp_table_count(ref), "same number of entries");
+        for (size_t i = 0; i < cp_table_count(t); i++) {
+            const cp_table_entry *a = cp_table_entry_at(t, i), *b = cp_table_entry_at(ref, i);
+            cpf_require(strcmp(a->name, b->name) == 0 && cp_shape_equal(&a->shape, &b->shape) &&
+                            a->mode == b->mode && a->threads == b->threads && a->algo == b->algo &&
+                            memcmp(&a->params, &b->params, sizeof a->params) == 0 &&
+                            a->runner_up == b->runner_up && a->ncandidates == b->ncandidates,
+                        "same entries");
+            for (size_t j = 0; j < a->ncandidates; j++)
+                cpf_require(a->candidates[j].nsamples == b->candidates[j].nsamples &&
+                                strcmp(a->candidates[j].algo, b->candidates[j].algo) == 0,
+                            "same candidates");
+            cpf_require(strcmp(cp_table_settings_key(t, i), cp_table_settings_key(ref, i)) == 0,
+                        "same settings keys");
+        }
+    }
+    cp_table_free(ref);
     if (st != CP_OK) {
         cpf_require(t == NULL && msg[0] != '\0', "a refusal has a message and no table");
         return 0;

@@ -10,6 +10,9 @@
 
 #define CPT_KEY_MAX 40 /* longest settings_key kept, NUL included */
 #define CPT_MAX_BYTES (1ull << 31) /* largest table file read (2 GiB) */
+/* Internal loader flag (beside the CP_TABLE_ flags): parse the whole document
+ * as one tree, the reference the fast path is checked against (fuzz). */
+#define CPT_LOAD_WHOLE (1u << 30)
 
 struct cp_table {
     char fingerprint[17];
