@@ -1,7 +1,489 @@
-/* PLACEHOLDER: replaced by the real subcommand before landing. */
+/* convpick bench: time every selected algorithm on every selected layer, mode
+ * and thread count, and report the statistics without choosing.
+ *
+ * Each algorithm runs through a plan (cp_plan_create / cp_plan_run) with its
+ * default parameters for this machine's caches; the harness only times it.
+ * Thread counts are the outer loop because a pool pins its workers (the
+ * calling thread included) and only one pool lives at a time.
+ *
+ * --json FILE writes, atomically, format "convpick-bench-results" version 1:
+ *   {
+ *     "format": "convpick-bench-results", "version": 1,
+ *     "convpick_version": "0.1.0", "git_rev": "...",
+ *     "created_utc": "2026-12-01T22:00:00Z", "command_line": ["bench", ...],
+ *     "fingerprint": "16 hex digits",
+ *     "device": {... cph_machine_to_json ...},
+ *     "roofs": null | {"peak_1core_gflops", "peak_all_gflops", "bw_1core_gbs",
+ *                      "bw_all_gbs", "ridge_1core", "ridge_all", "cores_used",
+ *                      "budget_seconds"},
+ *     "settings": {"timing": {timing settings as in report_json.h},
+ *                  "threads": [1, 2], "modes": ["xcorr"], "seed": 1,
+ *                  "caches": {"l1d", "l2", "l3", "line"}},
+ *     "results": [
+ *       {"layer": "conv1", "layer_count": 1, "shape": {shape object},
+ *        "mode": "xcorr", "threads": 1, "pinned": true, "algo": "direct",
+ *        "status": "ok" | "unsupported" | "error", "reason": "..." (not ok),
+ *        "params": {"kb": 64}, "params_text": "kb=64", "flops": 2.3e9,
+ *        "gflops": 41.2, "peak_gflops": 90.1 | null, "peak_fraction": 0.457 | null,
+ *        "measurement": {measurement object, report_json.h}}      (ok only)
+ *     ]
+ *   }
+ * Fields are only ever added within a version; readers ignore unknown keys.
+ * The same structure as a JSON Schema: tests/data/bench_results.schema.json
+ * (tests/cli_bench.sh validates every file it makes against it). */
+#define _POSIX_C_SOURCE 200809L
+#include <errno.h>
+#include <getopt.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <time.h>
+#include <unistd.h>
+
 #include "cli.h"
+#include "data.h"
+#include "machine.h"
+#include "pool.h"
+#include "report_json.h"
+#include "select.h"
+#include "timing.h"
+
+#define BENCH_MAX_THREADS 256
+#define BENCH_ROOF_SECONDS 0.5
+
+static void usage(FILE *f) {
+    fprintf(f,
+            "usage: convpick bench [OPTIONS]\n\n"
+            "Times every selected algorithm (default parameters for this machine's caches)\n"
+            "on each layer, mode and thread count, and prints the median time with its\n"
+            "distribution-free confidence interval, GFLOP/s (direct-equivalent FLOPs) and\n"
+            "the fraction of the measured FMA peak.  Nothing is chosen or written unless\n"
+            "--json is given.\n\n"
+            "options:\n%s"
+            "                    (bench's default mode: xcorr)\n"
+            "  --threads LIST    thread counts, e.g. 1,2 or 1-4 or all (default 1)\n"
+            "  --cold            stream 2x the last-level cache before every sample\n"
+            "  --target-ci PCT   stop when the 95 %% CI of the median is within +-PCT %%\n"
+            "                    of it (default 2)\n"
+            "  --max-seconds S   cap per measurement, warm-up included (default 2)\n"
+            "  --max-samples N   cap on samples per measurement (default 1000)\n"
+            "  --no-roofs        do not measure the FMA peak and bandwidth first\n"
+            "  --json FILE       write every sample and setting (format\n"
+            "                    convpick-bench-results, version 1)\n"
+            "  -h, --help        this text\n\n"
+            "The peak for t threads is the all-core peak when t is the number of cores\n"
+            "measured together, else the one-core peak times t.  FLOPs are those of the\n"
+            "direct method, so an algorithm that does less arithmetic (Winograd) can\n"
+            "exceed 100 %%.  'noisy' marks a\n"
+            "measurement whose interquartile range exceeds 10 %% of the median or whose\n"
+            "CI missed the target; 'cap' one that --max-seconds stopped.\n\n"
+            "exit status: 0 done, 1 an algorithm failed to plan or run (or the results\n"
+            "could not be written), 2 bad usage or input (an unwritable --json directory\n"
+            "is found before anything runs)\n",
+            cph_selection_help);
+}
+
+enum { OPT_THREADS = 1, OPT_COLD, OPT_TARGET, OPT_MAXSEC, OPT_MAXSAMP, OPT_NOROOFS, OPT_JSON };
+
+typedef struct bench_cfg {
+    cph_selection sel;
+    cph_timing_opts timing;
+    const char *threads_arg;
+    const char *json_path;
+    int roofs;
+} bench_cfg;
+
+typedef struct bench_run {
+    cph_machine m;
+    cp_cache_sizes caches;
+    cph_roofs roofs;
+    int have_roofs;
+    int threads[BENCH_MAX_THREADS];
+    int nthreads;
+    json_t *results; /* NULL without --json */
+    int failures;
+    int name_w, algo_w;
+} bench_run;
+
+typedef struct work_arg {
+    cp_plan *plan;
+    const float *x, *bias;
+    float *y;
+    const cp_exec *exec;
+    cp_status st;
+} work_arg;
+
+static int run_plan(void *p) {
+    work_arg *w = p;
+    w->st = cp_plan_run(w->plan, w->x, w->bias, w->y, w->exec);
+    return w->st != CP_OK;
+}
+
+static const char *mode_name(cp_mode m) { return m == CP_CONV ? "conv" : "xcorr"; }
+
+static int parse_double(const char *s, double lo, double hi, double *out) {
+    char *end;
+    errno = 0;
+    const double v = strtod(s, &end);
+    if (errno || end == s || *end || !(v >= lo && v <= hi)) return -1;
+    *out = v;
+    return 0;
+}
+
+/* 0 when the directory that will hold path exists and is writable, so that a
+ * long run does not end in an unwritable path. */
+static int check_output_dir(const char *path) {
+    char dir[4096];
+    snprintf(dir, sizeof dir, "%s", path);
+    char *slash = strrchr(dir, '/');
+    if (!slash)
+        snprintf(dir, sizeof dir, ".");
+    else if (slash == dir)
+        dir[1] = '\0';
+    else
+        *slash = '\0';
+    if (access(dir, W_OK | X_OK) != 0) {
+        cph_err("bench: --json %s: directory %s is not writable: %s", path, dir, strerror(errno));
+        return -1;
+    }
+    return 0;
+}
+
+/* Parses the command line; returns -1 to continue, else an exit code. */
+static int parse_args(int argc, char **argv, bench_cfg *c) {
+    static const struct option longopts[] = {
+        CPH_SELECTION_LONGOPTS,
+        {"threads", required_argument, NULL, OPT_THREADS},
+        {"cold", no_argument, NULL, OPT_COLD},
+        {"target-ci", required_argument, NULL, OPT_TARGET},
+        {"max-seconds", required_argument, NULL, OPT_MAXSEC},
+        {"max-samples", required_argument, NULL, OPT_MAXSAMP},
+        {"no-roofs", no_argument, NULL, OPT_NOROOFS},
+        {"json", required_argument, NULL, OPT_JSON},
+        {"help", no_argument, NULL, 'h'},
+        {NULL, 0, NULL, 0},
+    };
+    char msg[512];
+    int opt;
+    double v;
+    opterr = 0;
+    while ((opt = getopt_long(argc, argv, "h", longopts, NULL)) != -1) {
+        switch (opt) {
+        case 'h': usage(stdout); return CPH_EXIT_OK;
+        case OPT_THREADS: c->threads_arg = optarg; break;
+        case OPT_COLD: c->timing.cold = 1; break;
+        case OPT_TARGET:
+            if (parse_double(optarg, 1e-6, 100.0, &v)) {
+                cph_err("bench: --target-ci '%s': expected a percentage in (0, 100]", optarg);
+                return CPH_EXIT_USAGE;
+            }
+            c->timing.target_rel_ci = v / 100.0;
+            break;
+        case OPT_MAXSEC:
+            if (parse_double(optarg, 1e-6, 1e6, &v)) {
+                cph_err("bench: --max-seconds '%s': expected seconds > 0", optarg);
+                return CPH_EXIT_USAGE;
+            }
+            c->timing.max_seconds = v;
+            break;
+        case OPT_MAXSAMP:
+            if (parse_double(optarg, 1.0, 1e7, &v) || v != floor(v)) {
+                cph_err("bench: --max-samples '%s': expected an integer >= 1", optarg);
+                return CPH_EXIT_USAGE;
+            }
+            c->timing.max_samples = (size_t)v;
+            if (c->timing.min_samples > c->timing.max_samples)
+                c->timing.min_samples = c->timing.max_samples;
+            break;
+        case OPT_NOROOFS: c->roofs = 0; break;
+        case OPT_JSON: c->json_path = optarg; break;
+        default:
+            if (opt < CPH_OPT_SHAPE) return cph_usage_error("bench");
+            if (cph_selection_option(&c->sel, opt, optarg, msg, sizeof msg) != CP_OK) {
+                cph_err("%s", msg);
+                return CPH_EXIT_USAGE;
+            }
+        }
+    }
+    if (optind < argc) {
+        cph_err("bench: unexpected argument '%s' (see convpick bench --help)", argv[optind]);
+        return CPH_EXIT_USAGE;
+    }
+    if (c->json_path && check_output_dir(c->json_path)) return CPH_EXIT_USAGE;
+    static const cp_mode xcorr[] = {CP_XCORR};
+    if (cph_selection_finish(&c->sel, xcorr, 1, msg, sizeof msg) != CP_OK) {
+        cph_err("bench: %s", msg);
+        return CPH_EXIT_USAGE;
+    }
+    return -1;
+}
+
+static double peak_for(const bench_run *r, int threads) {
+    if (!r->have_roofs) return 0.0;
+    if (threads == r->roofs.cores_used) return r->roofs.peak_all_gflops;
+    return r->roofs.peak_1core_gflops * threads;
+}
+
+static void print_row(const bench_run *r, const cph_layer *L, cp_mode mode, int threads,
+                      const cp_algo *a, const char *rest) {
+    printf("%-*s  %-5s  %3d  %-*s  %s\n", r->name_w, L->name, mode_name(mode), threads,
+           r->algo_w, a->name, rest);
+}
+
+static json_t *result_base(const cph_layer *L, cp_mode mode, int threads, int pinned,
+                           const cp_algo *a, const char *status) {
+    return json_pack("{s:s, s:i, s:o, s:s, s:i, s:b, s:s, s:s, s:o}", "layer", L->name,
+                     "layer_count", L->count, "shape", cph_json_shape(&L->shape), "mode",
+                     mode_name(mode), "threads", threads, "pinned", pinned, "algo", a->name,
+                     "status", status, "flops", cph_json_number(cp_shape_flops(&L->shape)));
+}
+
+/* Plans and times one algorithm on one layer x mode x thread count. */
+static void bench_algo(bench_run *r, const cph_timing_opts *to, const cph_layer *L, cp_mode mode,
+                       int threads, int pinned, const cp_exec *exec, const cp_algo *a,
+                       const float *x, const float *w, const float *bias, float *y) {
+    char why[256] = "", line[512];
+    json_t *res = NULL;
+    if (!a->supports(&L->shape, mode, why, sizeof why)) {
+        snprintf(line, sizeof line, "n/a: %s", why);
+        print_row(r, L, mode, threads, a, line);
+        if (r->results) {
+            res = result_base(L, mode, threads, pinned, a, "unsupported");
+            json_object_set_new(res, "reason", json_string(why));
+        }
+        goto out;
+    }
+    cp_plan *plan = NULL;
+    if (cp_plan_create(a, &L->shape, mode, NULL, &r->caches, threads, w, &plan, why,
+                       sizeof why) != CP_OK) {
+        snprintf(line, sizeof line, "ERROR plan: %s", why);
+        print_row(r, L, mode, threads, a, line);
+        r->failures++;
+        if (r->results) {
+            res = result_base(L, mode, threads, pinned, a, "error");
+            json_object_set_new(res, "reason", json_string(why));
+        }
+        goto out;
+    }
+    char ptext[128] = "";
+    cp_params_format(a, cp_plan_params(plan), ptext, sizeof ptext);
+    work_arg wa = {plan, x, bias, y, exec, CP_OK};
+    cph_measurement m;
+    const int rc = cph_measure(to, run_plan, &wa, &m);
+    if (rc) {
+        snprintf(why, sizeof why, "run failed: %s",
+                 rc == -1 && wa.st == CP_OK ? "out of memory" : cp_status_str(wa.st));
+        snprintf(line, sizeof line, "ERROR %s", why);
+        print_row(r, L, mode, threads, a, line);
+        r->failures++;
+        if (r->results) {
+            res = result_base(L, mode, threads, pinned, a, "error");
+            json_object_set_new(res, "reason", json_string(why));
+        }
+    } else {
+        const cph_stats *s = &m.stats;
+        const double gflops = s->median > 0 ? cp_shape_flops(&L->shape) / s->median * 1e-9 : 0;
+        const double peak = peak_for(r, threads);
+        char pk[16] = "-";
+        if (peak > 0) snprintf(pk, sizeof pk, "%.1f", 100.0 * gflops / peak);
+        snprintf(line, sizeof line, "%-26s %10.4f %10.4f %10.4f %6.2f %5zu %8.2f %6s  %s%s",
+                 ptext[0] ? ptext : "-", s->median * 1e3, s->ci_lo * 1e3, s->ci_hi * 1e3,
+                 100.0 * s->rel_ci, m.n, gflops, pk, s->noisy ? "noisy" : "",
+                 m.stop == CPH_STOP_TIME_CAP ? (s->noisy ? ",cap" : "cap") : "");
+        print_row(r, L, mode, threads, a, line);
+        if (r->results) {
+            res = result_base(L, mode, threads, pinned, a, "ok");
+            json_object_set_new(res, "params", cph_json_params(a, cp_plan_params(plan)));
+            json_object_set_new(res, "params_text", json_string(ptext));
+            json_object_set_new(res, "gflops", cph_json_number(gflops));
+            json_object_set_new(res, "peak_gflops", peak > 0 ? json_real(peak) : json_null());
+            json_object_set_new(res, "peak_fraction",
+                                peak > 0 ? json_real(gflops / peak) : json_null());
+            json_object_set_new(res, "measurement", cph_json_measurement(&m));
+        }
+    }
+    cph_measurement_free(&m);
+    cp_plan_destroy(plan);
+out:
+    if (res) json_array_append_new(r->results, res);
+    fflush(stdout);
+}
+
+static uint64_t tensor_seed(uint64_t seed, size_t layer, int tensor) {
+    uint64_t st = seed ^ ((uint64_t)layer << 20) ^ (uint64_t)tensor;
+    return cph_rng_next(&st);
+}
+
+/* One layer at one thread count: tensors once, then every mode x algorithm. */
+static int bench_layer(bench_run *r, const bench_cfg *c, size_t li, int threads, int pinned,
+                       const cp_exec *exec) {
+    const cph_layer *L = &c->sel.layers.v[li];
+    const size_t nx = cp_shape_input_elems(&L->shape), nw = cp_shape_weight_elems(&L->shape),
+                 ny = cp_shape_output_elems(&L->shape), nb = (size_t)L->shape.k;
+    float *x = malloc(nx * sizeof *x), *w = malloc(nw * sizeof *w), *b = malloc(nb * sizeof *b);
+    float *y = malloc(ny * sizeof *y);
+    int rc = 0;
+    if (!x || !w || !b || !y) {
+        cph_err("bench: %s: cannot allocate the tensors", L->name);
+        rc = -1;
+    } else {
+        cph_fill_uniform(x, nx, tensor_seed(c->sel.seed, li, 0));
+        cph_fill_uniform(w, nw, tensor_seed(c->sel.seed, li, 1));
+        cph_fill_uniform(b, nb, tensor_seed(c->sel.seed, li, 2));
+        for (int mi = 0; mi < c->sel.nmodes; mi++)
+            for (size_t ai = 0; ai < c->sel.nalgos; ai++)
+                bench_algo(r, &c->timing, L, c->sel.modes[mi], threads, pinned, exec,
+                           c->sel.algos[ai], x, w, b, y);
+    }
+    free(x);
+    free(w);
+    free(b);
+    free(y);
+    return rc;
+}
+
+static json_t *roofs_json(const bench_run *r) {
+    if (!r->have_roofs) return json_null();
+    const cph_roofs *f = &r->roofs;
+    return json_pack("{s:o, s:o, s:o, s:o, s:o, s:o, s:i, s:o}", "peak_1core_gflops",
+                     cph_json_number(f->peak_1core_gflops), "peak_all_gflops",
+                     cph_json_number(f->peak_all_gflops), "bw_1core_gbs",
+                     cph_json_number(f->bw_1core_gbs), "bw_all_gbs",
+                     cph_json_number(f->bw_all_gbs), "ridge_1core",
+                     cph_json_number(f->ridge_1core), "ridge_all", cph_json_number(f->ridge_all),
+                     "cores_used", f->cores_used, "budget_seconds",
+                     json_real(BENCH_ROOF_SECONDS));
+}
+
+static json_t *document(const bench_run *r, const bench_cfg *c, int argc, char **argv) {
+    char when[32] = "";
+    const time_t now = time(NULL);
+    struct tm tm;
+    if (gmtime_r(&now, &tm)) strftime(when, sizeof when, "%Y-%m-%dT%H:%M:%SZ", &tm);
+    json_t *cmd = json_array(), *thr = json_array(), *modes = json_array();
+    for (int i = 0; i < argc; i++) json_array_append_new(cmd, json_string(argv[i]));
+    for (int i = 0; i < r->nthreads; i++) json_array_append_new(thr, json_integer(r->threads[i]));
+    for (int i = 0; i < c->sel.nmodes; i++)
+        json_array_append_new(modes, json_string(mode_name(c->sel.modes[i])));
+    json_t *settings = json_pack(
+        "{s:o, s:o, s:o, s:I, s:{s:I, s:I, s:I, s:I}}", "timing",
+        cph_json_timing_opts(&c->timing), "threads", thr, "modes", modes, "seed",
+        (json_int_t)c->sel.seed, "caches", "l1d", (json_int_t)r->caches.l1d, "l2",
+        (json_int_t)r->caches.l2, "l3", (json_int_t)r->caches.l3, "line",
+        (json_int_t)r->caches.line);
+    json_t *device = cph_machine_to_json(&r->m, NULL);
+    return json_pack("{s:s, s:i, s:s, s:s, s:s, s:o, s:s, s:o, s:o, s:o, s:O}", "format",
+                     "convpick-bench-results", "version", 1, "convpick_version",
+                     CONVPICK_VERSION, "git_rev", CP_GIT_REV, "created_utc", when,
+                     "command_line", cmd, "fingerprint", r->m.fingerprint, "device",
+                     device ? device : json_null(), "roofs", roofs_json(r), "settings", settings,
+                     "results", r->results);
+}
+
+static int bench(bench_cfg *c, int argc, char **argv) {
+    bench_run *r = calloc(1, sizeof *r);
+    if (!r) {
+        cph_err("bench: out of memory");
+        return CPH_EXIT_FAIL;
+    }
+    char msg[512] = "";
+    int rc = CPH_EXIT_OK;
+    if (cph_machine_detect(&r->m, NULL, msg, sizeof msg) != CP_OK) {
+        cph_err("bench: cannot describe this machine: %s", msg);
+        free(r);
+        return CPH_EXIT_FAIL;
+    }
+    r->nthreads = c->threads_arg ? cph_parse_threads(c->threads_arg, r->m.cores, r->threads,
+                                                     BENCH_MAX_THREADS, msg, sizeof msg)
+                                 : (r->threads[0] = 1, 1);
+    if (r->nthreads < 1) {
+        cph_err("bench: --threads '%s': %s", c->threads_arg, msg);
+        rc = CPH_EXIT_USAGE;
+        goto done;
+    }
+    r->caches = cph_machine_caches(&r->m);
+    if (c->timing.cold) c->timing.flush_bytes = 2 * cph_machine_llc_total(&r->m);
+    if (c->json_path && !(r->results = json_array())) {
+        cph_err("bench: out of memory");
+        rc = CPH_EXIT_FAIL;
+        goto done;
+    }
+    printf("bench: %s, %d cores, device %s\n", r->m.model, r->m.cores, r->m.fingerprint);
+    if (c->roofs) {
+        if (cph_roofs_measure(&r->m, BENCH_ROOF_SECONDS, &r->roofs, msg, sizeof msg) == CP_OK) {
+            r->have_roofs = 1;
+            printf("roofs: FMA peak %.1f GFLOP/s (1 core), %.1f GFLOP/s (%d cores); "
+                   "bandwidth %.1f / %.1f GB/s\n",
+                   r->roofs.peak_1core_gflops, r->roofs.peak_all_gflops, r->roofs.cores_used,
+                   r->roofs.bw_1core_gbs, r->roofs.bw_all_gbs);
+        } else {
+            cph_warn("bench: roofs not measured (%s): no %% of peak", msg);
+        }
+    }
+    printf("timing: %s, warm-up %d, samples %zu..%zu, target +-%.2g %% at %.0f %%, cap %.3g s%s\n",
+           cph_clock_name(), c->timing.warmup, c->timing.min_samples, c->timing.max_samples,
+           100.0 * c->timing.target_rel_ci, 100.0 * c->timing.confidence, c->timing.max_seconds,
+           c->timing.cold ? ", cold caches" : "");
+    r->name_w = 5;
+    r->algo_w = 4;
+    for (size_t i = 0; i < c->sel.layers.n; i++) {
+        const int len = (int)strlen(c->sel.layers.v[i].name);
+        if (len > r->name_w) r->name_w = len;
+    }
+    for (size_t i = 0; i < c->sel.nalgos; i++) {
+        const int len = (int)strlen(c->sel.algos[i]->name);
+        if (len > r->algo_w) r->algo_w = len;
+    }
+    printf("\n%-*s  %-5s  %3s  %-*s  %-26s %10s %10s %10s %6s %5s %8s %6s  %s\n", r->name_w,
+           "layer", "mode", "thr", r->algo_w, "algo", "params", "median_ms", "ci_lo_ms",
+           "ci_hi_ms", "+-%", "n", "GFLOP/s", "%peak", "note");
+    for (int ti = 0; ti < r->nthreads && rc == CPH_EXIT_OK; ti++) {
+        cph_pool *pool = NULL;
+        int pinned = 0;
+        msg[0] = '\0';
+        if (cph_pool_create(&r->m, r->threads[ti], &pool, &pinned, msg, sizeof msg) != CP_OK) {
+            cph_err("bench: cannot start %d worker(s): %s", r->threads[ti], msg);
+            rc = CPH_EXIT_FAIL;
+            break;
+        }
+        if (!pinned && msg[0]) cph_warn("bench: %s", msg);
+        const cp_exec exec = cph_pool_exec(pool);
+        for (size_t li = 0; li < c->sel.layers.n && rc == CPH_EXIT_OK; li++)
+            if (bench_layer(r, c, li, r->threads[ti], pinned, &exec)) rc = CPH_EXIT_FAIL;
+        cph_pool_destroy(pool);
+    }
+    if (rc == CPH_EXIT_OK && r->failures) rc = CPH_EXIT_FAIL;
+    if (c->json_path) {
+        json_t *doc = document(r, c, argc, argv);
+        if (!doc) {
+            cph_err("bench: out of memory building %s", c->json_path);
+            rc = CPH_EXIT_FAIL;
+        } else {
+            if (cph_json_write_atomic(doc, c->json_path, msg, sizeof msg) != CP_OK) {
+                cph_err("bench: %s", msg);
+                rc = CPH_EXIT_FAIL;
+            } else {
+                printf("\nwrote %s\n", c->json_path);
+            }
+            json_decref(doc);
+        }
+    }
+done:
+    json_decref(r->results);
+    cph_machine_free(&r->m);
+    free(r);
+    return rc;
+}
+
 int cph_cmd_bench(int argc, char **argv) {
-    (void)argc; (void)argv;
-    cph_err("bench: not built yet");
-    return CPH_EXIT_USAGE;
+    bench_cfg c;
+    memset(&c, 0, sizeof c);
+    cph_selection_init(&c.sel);
+    cph_timing_defaults(&c.timing);
+    c.roofs = 1;
+    int rc = parse_args(argc, argv, &c);
+    if (rc < 0) rc = bench(&c, argc, argv);
+    cph_selection_free(&c.sel);
+    return rc;
 }

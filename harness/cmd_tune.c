@@ -46,6 +46,7 @@ static void usage(FILE *f) {
             "                      +-PCT %% (default 2)\n"
             "  --max-seconds S     cap on one candidate's measurement (default 1)\n"
             "  --max-candidates N  parameter sets per algorithm (default 16)\n"
+            "  --max-samples N     cap on samples per measurement (default 1000)\n"
             "  --cold              flush the caches before every sample (default: warm)\n"
             "  --quiet             no progress on stderr\n"
             "  --help\n"
@@ -83,7 +84,7 @@ static void on_candidate(void *arg, const cph_tune_progress *p) {
 }
 
 int cph_cmd_tune(int argc, char **argv) {
-    enum { O_OUT = 1, O_RESUME, O_FORCE, O_THREADS, O_BUDGET, O_MAXERR, O_CI, O_MAXS, O_MAXC,
+    enum { O_OUT = 1, O_RESUME, O_FORCE, O_THREADS, O_BUDGET, O_MAXERR, O_CI, O_MAXS, O_MAXC, O_MAXSAMP,
            O_COLD, O_QUIET, O_HELP };
     static const struct option longopts[] = {
         CPH_SELECTION_LONGOPTS,
@@ -96,6 +97,7 @@ int cph_cmd_tune(int argc, char **argv) {
         {"target-ci", required_argument, NULL, O_CI},
         {"max-seconds", required_argument, NULL, O_MAXS},
         {"max-candidates", required_argument, NULL, O_MAXC},
+        {"max-samples", required_argument, NULL, O_MAXSAMP},
         {"cold", no_argument, NULL, O_COLD},
         {"quiet", no_argument, NULL, O_QUIET},
         {"help", no_argument, NULL, O_HELP},
@@ -138,6 +140,14 @@ int cph_cmd_tune(int argc, char **argv) {
                 goto done;
             }
             o.max_candidates = (int)d;
+            break;
+        case O_MAXSAMP:
+            if (!parse_double("--max-samples", optarg, 1.0, &d) || d > 1e7) {
+                cph_err("tune: --max-samples must be 1..10000000");
+                goto done;
+            }
+            o.timing.max_samples = (size_t)d;
+            if (o.timing.min_samples > o.timing.max_samples) o.timing.min_samples = o.timing.max_samples;
             break;
         case O_COLD: o.timing.cold = 1; break;
         case O_QUIET: quiet = 1; break;

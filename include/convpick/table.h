@@ -35,6 +35,8 @@ typedef struct cp_candidate {
     cp_timing timing;
     double rel_err;     /* against the fp64 oracle */
     int disqualified;   /* rel_err above the run's max_rel_err (then not timed) */
+    int failed;         /* could not be run or timed (rel_err NaN, timing zero); rel_err is
+                           also NaN for a disqualified candidate whose error was not finite */
     double *samples;    /* every timed sample (seconds, run order), or NULL */
     size_t nsamples;
 } cp_candidate;
@@ -65,8 +67,11 @@ enum {
 /* Loads a table.  Errors: CP_EIO (cannot read), CP_EFORMAT with
  * "file:line:column: ..." for malformed JSON or "file: entries[3].shape.k: ..."
  * for a missing or mistyped field, CP_EVERSION for another format version,
- * CP_EDEVICE (with CP_TABLE_STRICT_DEVICE) for another device.  Without the
- * flag a device mismatch loads and is reported by cp_table_device_matches(). */
+ * CP_ENOTFOUND for an algorithm this build does not have ("file:
+ * entries[2].choice.algo: unknown algorithm 'x'"), CP_EDEVICE (with
+ * CP_TABLE_STRICT_DEVICE) for another device.  Without the flag a device
+ * mismatch loads and is reported by cp_table_device_matches().  Two entries of
+ * the same shape, mode and threads are a CP_EFORMAT error. */
 cp_status cp_table_load(const char *path, unsigned flags, cp_table **out, char *msg, size_t cap);
 void cp_table_free(cp_table *t);
 
@@ -77,6 +82,13 @@ const char *cp_table_fingerprint(const cp_table *t);
 int cp_table_device_matches(const cp_table *t);
 /* Cache sizes recorded for the device (for default parameters on lookup). */
 cp_cache_sizes cp_table_caches(const cp_table *t);
+/* The settings_key recorded for entry i ("" out of range): a hash of the
+ * measurement settings, so that a resumed tune can tell whether an entry was
+ * measured the way it would measure it now. */
+const char *cp_table_settings_key(const cp_table *t, size_t i);
+/* The entry of exactly this shape, mode and thread count, or NULL (O(log n)). */
+const cp_table_entry *cp_table_find(const cp_table *t, const cp_shape *s, cp_mode mode,
+                                    int threads);
 
 /* This machine's fingerprint (16 hex digits + NUL): a hash of the cpuid
  * vendor, family, model, stepping, brand, ISA features, cache geometry and the
@@ -89,6 +101,9 @@ typedef enum cp_match {
     CP_MATCH_NEAREST,     /* a compatible entry (rules below), reported as approximate */
     CP_MATCH_DEFAULT      /* no compatible entry: the documented default choice */
 } cp_match;
+
+/* "exact", "approximate" or "default". */
+const char *cp_match_str(cp_match m);
 
 typedef struct cp_choice {
     cp_match match;
@@ -110,12 +125,15 @@ typedef struct cp_choice {
  *     cp_params_check, else the algorithm's defaults for the asked shape.
  *  3. Default: im2col_gemm with defaults from the table's cache sizes (it
  *     supports every shape).
- * Fails only for an invalid shape. */
+ * t may be NULL (no table: the default, with fallback cache sizes).
+ * Fails only for an invalid shape (CP_EINVAL). */
 cp_status cp_table_lookup(const cp_table *t, const cp_shape *s, cp_mode mode, int threads,
                           cp_choice *out, char *msg, size_t cap);
 
 /* Dispatch in one call: looks the shape up and creates a plan with the chosen
- * algorithm and parameters, preparing the weights once.  Run it as often as
+ * algorithm and parameters, preparing the weights once.  The plan's workspace
+ * is sized for `threads` workers (threads <= 0: the entry's thread count, 1
+ * for the default); default parameters come from cp_table_caches(t).  Run it as often as
  * needed with cp_plan_run(); free it with cp_plan_destroy().  choice may be
  * NULL. */
 cp_status cp_table_plan(const cp_table *t, const cp_shape *s, cp_mode mode, int threads,

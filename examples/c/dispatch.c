@@ -1,0 +1,95 @@
+/* A deploying program: loads a tuning table, asks it which algorithm to run
+ * for one layer, creates the plan (weights prepared once) and runs it on
+ * random data.  Links only libconvpick.
+ *
+ * usage: dispatch TABLE SPEC [xcorr|conv] [THREADS]
+ *   SPEC: n,c,h,w,k,r,s,stride,pad (nine integers, e.g. 1,64,56,56,64,3,3,1,1)
+ * prints: "choice: ALGO PARAMS MATCH" then "checksum: SUM" (sum of outputs).
+ *
+ * Build against an installed convpick:
+ *   cmake -S examples/c -B build-example -DCMAKE_PREFIX_PATH=PREFIX && cmake --build build-example
+ * or, with pkg-config alone:
+ *   cc -std=c17 dispatch.c -o dispatch $(PKG_CONFIG_PATH=PREFIX/lib/pkgconfig pkg-config --cflags --libs convpick) */
+#include <stdint.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <convpick/convpick.h>
+
+/* Uniform values in [-1, 1) from a fixed seed (xorshift64*), so that runs agree. */
+static void fill(float *v, size_t n, uint64_t seed) {
+    uint64_t x = seed * 0x9E3779B97F4A7C15ull + 1;
+    for (size_t i = 0; i < n; i++) {
+        x ^= x >> 12;
+        x ^= x << 25;
+        x ^= x >> 27;
+        uint64_t r = x * 0x2545F4914F6CDD1Dull;
+        v[i] = (float)((double)(r >> 11) / 9007199254740992.0 * 2.0 - 1.0);
+    }
+}
+
+int main(int argc, char **argv) {
+    if (argc < 3 || argc > 5) {
+        fprintf(stderr, "usage: %s TABLE n,c,h,w,k,r,s,stride,pad [xcorr|conv] [THREADS]\n", argv[0]);
+        return 2;
+    }
+    long long f[9];
+    if (sscanf(argv[2], "%lld,%lld,%lld,%lld,%lld,%lld,%lld,%lld,%lld", &f[0], &f[1], &f[2], &f[3],
+               &f[4], &f[5], &f[6], &f[7], &f[8]) != 9) {
+        fprintf(stderr, "dispatch: layer '%s': expected nine comma-separated integers\n", argv[2]);
+        return 2;
+    }
+    cp_shape s = cp_shape_init();
+    s.n = f[0], s.c = f[1], s.h = f[2], s.w = f[3], s.k = f[4], s.r = f[5], s.s = f[6];
+    s.stride_h = s.stride_w = f[7];
+    s.pad_top = s.pad_left = s.pad_bottom = s.pad_right = f[8];
+    cp_mode mode = argc > 3 && strcmp(argv[3], "conv") == 0 ? CP_CONV : CP_XCORR;
+    int threads = argc > 4 ? atoi(argv[4]) : 1;
+
+    char msg[512];
+    cp_table *t = NULL;
+    if (cp_table_load(argv[1], 0, &t, msg, sizeof msg) != CP_OK) {
+        fprintf(stderr, "dispatch: %s\n", msg);
+        return 2;
+    }
+    if (cp_shape_validate(&s, msg, sizeof msg) != CP_SHAPE_OK) {
+        fprintf(stderr, "dispatch: %s\n", msg);
+        cp_table_free(t);
+        return 2;
+    }
+    size_t nx = cp_shape_input_elems(&s), nw = cp_shape_weight_elems(&s), ny = cp_shape_output_elems(&s);
+    float *x = malloc(nx * sizeof *x), *w = malloc(nw * sizeof *w), *y = malloc(ny * sizeof *y);
+    int rc = 1;
+    cp_plan *plan = NULL;
+    cp_choice c;
+    if (!x || !w || !y) {
+        fprintf(stderr, "dispatch: out of memory\n");
+        goto done;
+    }
+    fill(x, nx, 1);
+    fill(w, nw, 2);
+    if (cp_table_plan(t, &s, mode, threads, w, &plan, &c, msg, sizeof msg) != CP_OK) {
+        fprintf(stderr, "dispatch: %s\n", msg);
+        goto done;
+    }
+    if (cp_plan_run(plan, x, NULL, y, NULL) != CP_OK) {
+        fprintf(stderr, "dispatch: %s failed to run\n", c.algo->name);
+        goto done;
+    }
+    double sum = 0;
+    for (size_t i = 0; i < ny; i++) sum += y[i];
+    char params[256];
+    cp_params_format(c.algo, &c.params, params, sizeof params);
+    printf("choice: %s %s %s\n", c.algo->name, params[0] ? params : "-", cp_match_str(c.match));
+    printf("why: %s\n", c.why);
+    printf("checksum: %.6e\n", sum);
+    rc = 0;
+done:
+    cp_plan_destroy(plan);
+    free(x);
+    free(w);
+    free(y);
+    cp_table_free(t);
+    return rc;
+}

@@ -1,0 +1,96 @@
+#!/usr/bin/env bash
+# convpick bench end to end: the JSON results file (format convpick-bench-results
+# version 1) holds every sample and setting, its statistics agree with NumPy's
+# on the recorded samples, cold mode flushes before each sample, and bad
+# options give one error line and exit status 2.
+set -euo pipefail
+CLI="$1"; SRC="$2"
+PY=/usr/bin/python3
+tmp="$(mktemp -d)"; trap 'rm -rf "$tmp"' EXIT
+shape=n=1,c=4,h=10,w=10,k=4,r=3,pad=1
+fast=(--no-roofs --max-seconds 0.05 --max-samples 40)
+
+# 1. A run with JSON: the document and every measurement.
+"$CLI" bench --shape "$shape" --shape n=1,c=4,h=8,w=8,k=8,r=1 --mode both --threads all \
+  --target-ci 5 "${fast[@]}" --json "$tmp/b.json" > "$tmp/out.txt"
+grep -q "median_ms" "$tmp/out.txt" || { echo "FAIL: no table printed"; cat "$tmp/out.txt"; exit 1; }
+$PY - "$tmp/b.json" "$SRC/tests/data/bench_results.schema.json" <<'P'
+import json, sys
+import jsonschema
+import numpy as np
+d = json.load(open(sys.argv[1]))
+jsonschema.validate(d, json.load(open(sys.argv[2])))
+assert d["format"] == "convpick-bench-results" and d["version"] == 1, d["format"]
+assert len(d["fingerprint"]) == 16 and d["device"]["fingerprint"] == d["fingerprint"]
+assert d["roofs"] is None  # --no-roofs
+t = d["settings"]["timing"]
+assert abs(t["target_rel_ci"] - 0.05) < 1e-15 and t["max_seconds"] == 0.05 and t["max_samples"] == 40
+assert d["settings"]["modes"] == ["xcorr", "conv"]
+ok = [r for r in d["results"] if r["status"] == "ok"]
+assert ok, "no measurement"
+layers = {r["layer"] for r in d["results"]}
+assert len(layers) == 2, layers
+for r in d["results"]:
+    assert r["status"] in ("ok", "unsupported", "error"), r["status"]
+    if r["status"] != "ok":
+        assert r["reason"], r
+for r in ok:
+    m = r["measurement"]; s = m["stats"]; x = np.array(m["samples"])
+    assert 1 <= len(x) <= 40 and s["n"] == len(x)
+    assert (x > 0).all()
+    # outside check: numpy on the recorded samples
+    assert abs(s["median"] - np.median(x)) <= 1e-12 * np.median(x), (s["median"], np.median(x))
+    assert abs(s["mean"] - np.mean(x)) <= 1e-9 * np.mean(x)
+    assert s["min"] == x.min() and s["max"] == x.max()
+    xs = np.sort(x)
+    if s["ci_exact"]:
+        assert s["ci_lo"] == xs[s["ci_rank_lo"]] and s["ci_hi"] == xs[s["ci_rank_hi"]]
+    if m["converged"]:
+        assert m["stop"] == "converged" and s["rel_ci"] <= 0.05
+    else:
+        assert m["stop"] in ("time_cap", "max_samples"), m["stop"]
+    assert m["warmup_runs"] >= 1 and m["flushes"] == 0
+    assert abs(r["gflops"] - r["flops"] / s["median"] * 1e-9) <= 1e-9 * r["gflops"]
+    assert r["threads"] >= 1 and r["mode"] in ("xcorr", "conv")
+print("json ok: %d measurements" % len(ok))
+P
+
+# 2. Cold mode: a flush before every sample, twice the last-level cache.
+"$CLI" bench --shape "$shape" --algo direct --cold "${fast[@]}" --json "$tmp/c.json" > /dev/null
+$PY - "$tmp/c.json" "$SRC/tests/data/bench_results.schema.json" <<'P'
+import json, sys
+import jsonschema
+d = json.load(open(sys.argv[1]))
+jsonschema.validate(d, json.load(open(sys.argv[2])))
+m = d["results"][0]["measurement"]
+assert m["settings"]["cold"] is True
+assert m["flushes"] == len(m["samples"]) > 0
+assert m["settings"]["flush_bytes"] == 2 * d["device"]["llc_total_bytes"], m["settings"]
+print("cold ok")
+P
+
+# 3. Bad input: one line, exit 2; no file written.
+expect_usage() {
+  set +e; "$CLI" bench "$@" > /dev/null 2> "$tmp/err"; rc=$?; set -e
+  [ "$rc" = 2 ] || { echo "FAIL: bench $* exited $rc, want 2"; cat "$tmp/err"; exit 1; }
+  [ "$(wc -l < "$tmp/err")" = 1 ] || { echo "FAIL: bench $*: want one error line"; cat "$tmp/err"; exit 1; }
+}
+expect_usage --shape "$shape" --target-ci abc --no-roofs
+expect_usage --shape "$shape" --target-ci 0 --no-roofs
+expect_usage --shape "$shape" --max-seconds -1 --no-roofs
+expect_usage --shape "$shape" --threads 0 --no-roofs
+expect_usage --shape "$shape" --threads 1,9999 --no-roofs
+expect_usage --shape "$shape" --bogus
+expect_usage --no-roofs
+expect_usage --shape n=1,c=0,h=4,w=4,k=4,r=3 --no-roofs
+grep -q "target-ci" <("$CLI" bench --help) || { echo "FAIL: help lacks --target-ci"; exit 1; }
+
+# 4. An unwritable JSON path is refused before anything runs: exit 2, the
+#    message names the file, and nothing is printed on stdout.
+set +e
+"$CLI" bench --shape "$shape" --algo direct "${fast[@]}" --json "$tmp/no/such/b.json" > "$tmp/out2" 2> "$tmp/err"
+rc=$?; set -e
+[ "$rc" = 2 ] || { echo "FAIL: unwritable --json exited $rc, want 2"; exit 1; }
+grep -q "$tmp/no/such/b.json" "$tmp/err" || { echo "FAIL: error should name the file"; cat "$tmp/err"; exit 1; }
+[ ! -s "$tmp/out2" ] || { echo "FAIL: bench ran despite an unwritable --json"; exit 1; }
+echo "cli_bench: all checks passed"
