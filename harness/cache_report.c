@@ -27,14 +27,18 @@ void cph_cache_report_header(FILE *f, const cph_cache_report *r) {
     char g[256];
     cph_geom_format(o->geom, o->nlevels, g, sizeof g);
     fprintf(f, "simulated caches (%s): %s (LRU, write-allocate, no prefetch)\n", r->geom_source, g);
+    if (r->load[0] >= 0)
+        fprintf(f, "load average (1 min) at start: %.2f on %s\n", r->load[0],
+                "the machine's logical CPUs (other work there perturbs the times)");
     if (r->counters_reason)
         fprintf(f, "hardware counters: not available here (%s)\n", r->counters_reason);
     else
         fprintf(f, "hardware counters: perf_event_open, user space, this thread\n");
-    fprintf(f, "one thread; times are warm-cache medians (cph_measure, cap %.1f s per variant);\n"
+    fprintf(f, "one thread; times are warm-cache medians (cph_measure in %d rounds interleaved\n"
+               "within each family, %.1f s per variant in all);\n"
                "simulation: traced build of the same source, cold caches, first K' output channels\n"
                "(budget %llu accesses per run); misses per output = misses / (N*K'*P*Q)\n",
-            o->time_cap, (unsigned long long)o->max_accesses);
+            o->rounds, o->time_cap, (unsigned long long)o->max_accesses);
 }
 
 void cph_cache_report_layer(FILE *f, const cph_cache_report *r, const cph_layer_result *L) {
@@ -133,6 +137,7 @@ static json_t *variant_json(const cph_cache_report *r, const cph_layer_result *L
         json_object_set_new(t, "confidence", json_real(v->time.confidence));
         json_object_set_new(t, "samples", json_integer((json_int_t)v->time.n));
         json_object_set_new(t, "noisy", json_boolean(v->time.noisy));
+        json_object_set_new(t, "rounds", json_integer(v->rounds));
         json_object_set_new(j, "time", t);
     } else {
         json_object_set_new(j, "time", json_null());
@@ -204,6 +209,9 @@ json_t *cph_cache_report_json(const cph_cache_report *r) {
     json_t *st = json_object();
     json_object_set_new(st, "threads", json_integer(1));
     json_object_set_new(st, "time_cap_s", json_real(o->time_cap));
+    json_object_set_new(st, "rounds", json_integer(o->rounds));
+    json_object_set_new(st, "loadavg_1min_start", r->load[0] >= 0 ? json_real(r->load[0]) : json_null());
+    json_object_set_new(st, "loadavg_1min_end", r->load[1] >= 0 ? json_real(r->load[1]) : json_null());
     json_object_set_new(st, "timed", json_boolean(o->time));
     json_object_set_new(st, "max_accesses", json_integer((json_int_t)o->max_accesses));
     json_object_set_new(st, "channels", json_integer((json_int_t)o->channels));

@@ -26,6 +26,7 @@ typedef struct cph_cache_report {
     const cph_layer_result *layers;
     size_t nlayers;
     json_t *machine;              /* borrowed, may be NULL */
+    double load[2];               /* /proc/loadavg 1-minute at start and end (-1: unknown) */
 } cph_cache_report;
 
 /* The header lines (caches, counters, settings). */

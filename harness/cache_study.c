@@ -147,10 +147,19 @@ static void simulate(const cph_study_opts *o, const cph_variant *v, const cp_sha
     cph_sim_free(&sim);
 }
 
-static void one_variant(const cph_study_opts *o, const cph_variant *v, const cp_shape *s,
-                        const cp_shape *ss, const float *x, const float *w, float *y, float *ys,
-                        float *ypre, int *have_pre, const double *const ref[2],
-                        const double *const mag[2], cph_variant_result *r) {
+/* Per-variant state kept across the phases of a layer. */
+typedef struct {
+    cp_plan *plan;
+    cp_params p;
+    double *samples;
+    size_t ns, cap;
+} vstate;
+
+/* Phase 1: plan, oracle check, comparison with the family's preflip output. */
+static void check_variant(const cph_study_opts *o, const cph_variant *v, const cp_shape *s,
+                          const float *x, const float *w, float *y, float *ypre, int *have_pre,
+                          const double *const ref[2], const double *const mag[2],
+                          cph_variant_result *r, vstate *vs) {
     char msg[256];
     memset(r, 0, sizeof *r);
     r->v = v;
@@ -159,17 +168,16 @@ static void one_variant(const cph_study_opts *o, const cph_variant *v, const cp_
     if (!a || !a->supports(s, v->mode, NULL, 0)) return;
     r->supported = 1;
     r->tolerance = a->tolerance;
-    cp_params p;
-    cp_algo_defaults(a, s, &o->caches, &p);
+    cp_algo_defaults(a, s, &o->caches, &vs->p);
     const int pi = cp_algo_param_index(a, v->param);
-    if (pi >= 0) p.v[pi] = v->param_value;
-    cp_params_format(a, &p, r->params, sizeof r->params);
-    cp_plan *plan = NULL;
-    if (cp_plan_create(a, s, v->mode, &p, &o->caches, 1, w, &plan, msg, sizeof msg) != CP_OK)
+    if (pi >= 0) vs->p.v[pi] = v->param_value;
+    cp_params_format(a, &vs->p, r->params, sizeof r->params);
+    if (cp_plan_create(a, s, v->mode, &vs->p, &o->caches, 1, w, &vs->plan, msg, sizeof msg) !=
+        CP_OK)
         return;
     const size_t ny = cp_shape_output_elems(s);
     for (size_t i = 0; i < ny; i++) y[i] = (float)NAN;
-    run_arg ra = {plan, x, y};
+    run_arg ra = {vs->plan, x, y};
     if (run_once(&ra) == 0) {
         const cp_error e = cp_error_measure(y, ref[v->mode], mag[v->mode], ny);
         r->rel_err = e.nonfinite ? INFINITY : e.rel_err;
@@ -183,28 +191,34 @@ static void one_variant(const cph_study_opts *o, const cph_variant *v, const cp_
     } else if (v->kind == CPH_VK_FLIPIDX && *have_pre) {
         r->diff_vs_preflip = pair_rel_diff(y, ypre, mag[CP_CONV], ny);
     }
-    if (r->pass && o->time) {
-        cph_timing_opts to;
-        cph_timing_defaults(&to);
-        to.max_seconds = o->time_cap;
-        cph_measurement m;
-        memset(&m, 0, sizeof m);
-        if (cph_measure(&to, run_once, &ra, &m) == 0) {
-            r->timed = 1;
-            r->time = m.stats;
+}
+
+/* One round of timing for one variant: a short cph_measure whose samples
+ * join the variant's pool. */
+static void time_round(const cph_study_opts *o, vstate *vs, const float *x, float *y) {
+    cph_timing_opts to;
+    cph_timing_defaults(&to);
+    to.max_seconds = o->time_cap / (double)o->rounds;
+    to.warmup = 1;
+    to.min_samples = 3;
+    cph_measurement m;
+    memset(&m, 0, sizeof m);
+    run_arg ra = {vs->plan, x, y};
+    if (cph_measure(&to, run_once, &ra, &m) == 0 && m.n > 0) {
+        if (vs->ns + m.n > vs->cap) {
+            const size_t nc = (vs->ns + m.n) * 2;
+            double *p = realloc(vs->samples, nc * sizeof *p);
+            if (p) {
+                vs->samples = p;
+                vs->cap = nc;
+            }
         }
-        cph_measurement_free(&m);
+        if (vs->ns + m.n <= vs->cap) {
+            memcpy(vs->samples + vs->ns, m.samples, m.n * sizeof *m.samples);
+            vs->ns += m.n;
+        }
     }
-    if (r->pass && o->use_counters && o->counters) {
-        run_once(&ra); /* warm, like the timed samples */
-        cph_counters_start(o->counters);
-        run_once(&ra);
-        cph_counters_stop(o->counters, &r->ctr);
-        r->have_counters = 1;
-    }
-    cp_plan_destroy(plan);
-    if (r->pass && v->traced)
-        simulate(o, v, ss, &p, x, w, ys, s, ref[v->mode], mag[v->mode], r, msg, sizeof msg);
+    cph_measurement_free(&m);
 }
 
 cp_status cph_study_layer(const cph_study_opts *o, const cph_layer *L,
@@ -238,6 +252,8 @@ cp_status cph_study_layer(const cph_study_opts *o, const cph_layer *L,
     const double *const cmag[2] = {mags[0], mags[1]};
     int have_pre = 0;
     const char *pre_family = NULL;
+    vstate vs[sizeof out->res / sizeof out->res[0]];
+    memset(vs, 0, sizeof vs);
     for (size_t i = 0; i < cph_variant_count(); i++) {
         const cph_variant *v = &variants[i];
         if (!family_selected(v, families, nfamilies)) continue;
@@ -246,8 +262,42 @@ cp_status cph_study_layer(const cph_study_opts *o, const cph_layer *L,
             pre_family = v->family;
             have_pre = 0;
         }
-        one_variant(o, v, s, &ss, x, w, y, ys, ypre, &have_pre, cref, cmag,
-                    &out->res[out->nres++]);
+        check_variant(o, v, s, x, w, y, ypre, &have_pre, cref, cmag, &out->res[out->nres],
+                      &vs[out->nres]);
+        out->nres++;
+    }
+    /* Timing in interleaved rounds within each family (xcorr, preflip,
+     * flipidx, xcorr, ...), so that a drift of the machine (the other core's
+     * load, clock changes) falls on every variant alike. */
+    for (size_t f0 = 0; o->time && f0 < out->nres;) {
+        size_t f1 = f0;
+        while (f1 < out->nres && strcmp(out->res[f1].v->family, out->res[f0].v->family) == 0) f1++;
+        for (int round = 0; round < o->rounds; round++)
+            for (size_t j = f0; j < f1; j++)
+                if (out->res[j].pass) time_round(o, &vs[j], x, y);
+        for (size_t j = f0; j < f1; j++)
+            if (vs[j].ns > 0) {
+                out->res[j].timed = 1;
+                out->res[j].rounds = o->rounds;
+                cph_stats_compute(vs[j].samples, vs[j].ns, 0.95, &out->res[j].time);
+            }
+        f0 = f1;
+    }
+    for (size_t j = 0; j < out->nres; j++) {
+        cph_variant_result *r = &out->res[j];
+        if (r->pass && o->use_counters && o->counters) {
+            run_arg ra = {vs[j].plan, x, y};
+            run_once(&ra); /* warm, like the timed samples */
+            cph_counters_start(o->counters);
+            run_once(&ra);
+            cph_counters_stop(o->counters, &r->ctr);
+            r->have_counters = 1;
+        }
+        cp_plan_destroy(vs[j].plan);
+        free(vs[j].samples);
+        if (r->pass && r->v->traced)
+            simulate(o, r->v, &ss, &vs[j].p, x, w, ys, s, cref[r->v->mode], cmag[r->v->mode], r,
+                     msg, cap);
     }
 out:
     free(x); free(w); free(y); free(ypre); free(ys);

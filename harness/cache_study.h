@@ -52,7 +52,8 @@ typedef struct cph_study_opts {
     uint64_t max_accesses;  /* budget per traced run: picks K' */
     int64_t channels;       /* > 0: K' given explicitly */
     int time;               /* 1: time the variants */
-    double time_cap;        /* seconds per variant */
+    double time_cap;        /* seconds per variant, all rounds together */
+    int rounds;             /* interleaved timing rounds per family (>= 1) */
     cp_cache_sizes caches;  /* for the algorithms' default parameters */
     uint64_t seed;
     int use_counters;       /* 1: counters were opened (see counters) */
@@ -67,7 +68,8 @@ typedef struct cph_variant_result {
     int pass;                 /* oracle check of the full layer */
     double diff_vs_preflip;   /* flipidx only: max |y - y_preflip| / mag, else -1 */
     int timed;
-    cph_stats time;
+    int rounds;               /* timing rounds pooled into time */
+    cph_stats time;       /* over the samples of all rounds */
     int have_counters;
     cph_counter_values ctr;
     int simulated;

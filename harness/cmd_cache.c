@@ -45,7 +45,9 @@ static void usage(FILE *f) {
             "  --max-accesses N  access budget per traced run; K' is the largest multiple of 6\n"
             "                    output channels whose estimate fits (default 30000000)\n"
             "  --channels K      simulate exactly the first K output channels instead\n"
-            "  --time-cap S      seconds of timing per variant (default 1.0)\n"
+            "  --time-cap S      seconds of timing per variant (default 2.0)\n"
+            "  --rounds N        timing rounds per variant, interleaved within a family\n"
+            "                    (default 5); the samples of all rounds are pooled\n"
             "  --no-time         do not time\n"
             "  --json FILE       write the study as JSON (replaced atomically)\n"
             "  --svg FILE        write a bar chart of misses per output (replaced atomically)\n"
@@ -69,7 +71,8 @@ enum {
     OPT_TRACE,
     OPT_PLAIN,
     OPT_SKIP,
-    OPT_FAMILY
+    OPT_FAMILY,
+    OPT_ROUNDS
 };
 
 typedef struct {
@@ -245,6 +248,17 @@ out:
     return rc;
 }
 
+/* The 1-minute load average, or -1. */
+static double loadavg1(void) {
+    FILE *f = fopen("/proc/loadavg", "r");
+    double v = -1.0;
+    if (f) {
+        if (fscanf(f, "%lf", &v) != 1) v = -1.0;
+        fclose(f);
+    }
+    return v;
+}
+
 static int write_text(const char *path, const char *text, const char *what) {
     char msg[512];
     if (cph_write_atomic(path, text, strlen(text), msg, sizeof msg) != CP_OK) {
@@ -279,7 +293,8 @@ static int study(const cache_cli *c, cph_study_opts *o, const cph_selection *sel
     o->counters = &ctr;
     cph_layer_result *res = calloc(sel->layers.n, sizeof *res);
     json_t *mj = cph_machine_to_json(m, NULL);
-    cph_cache_report rep = {o, geom_source, ctr.any ? NULL : ctr.reason, res, 0, mj};
+    cph_cache_report rep = {o, geom_source, ctr.any ? NULL : ctr.reason, res, 0, mj,
+                            {loadavg1(), -1.0}};
     int rc = CPH_EXIT_OK;
     if (!res) {
         cph_err("cache: out of memory");
@@ -301,6 +316,7 @@ static int study(const cache_cli *c, cph_study_opts *o, const cph_selection *sel
         for (size_t j = 0; j < res[i].nres; j++)
             if (res[i].res[j].supported && !res[i].res[j].pass) rc = CPH_EXIT_FAIL;
     }
+    rep.load[1] = loadavg1();
     if (c->json) {
         json_t *j = cph_cache_report_json(&rep);
         char *text = j ? json_dumps(j, JSON_INDENT(2) | JSON_PRESERVE_ORDER) : NULL;
@@ -336,6 +352,7 @@ int cph_cmd_cache(int argc, char **argv) {
         {"plain", no_argument, NULL, OPT_PLAIN},
         {"skip-kernel", no_argument, NULL, OPT_SKIP},
         {"family", required_argument, NULL, OPT_FAMILY},
+        {"rounds", required_argument, NULL, OPT_ROUNDS},
         {"help", no_argument, NULL, 'h'},
         {NULL, 0, NULL, 0},
     };
@@ -347,7 +364,8 @@ int cph_cmd_cache(int argc, char **argv) {
     memset(&o, 0, sizeof o);
     o.max_accesses = 30000000;
     o.time = 1;
-    o.time_cap = 1.0;
+    o.time_cap = 2.0;
+    o.rounds = 5;
     char msg[512];
     int opt, rc = CPH_EXIT_USAGE;
     uint64_t u;
@@ -382,6 +400,13 @@ int cph_cmd_cache(int argc, char **argv) {
             break;
         }
         case OPT_NOTIME: o.time = 0; break;
+        case OPT_ROUNDS:
+            if (!parse_u64(optarg, &u) || u == 0 || u > 1000) {
+                cph_err("--rounds %s: expected an integer in 1..1000", optarg);
+                goto out;
+            }
+            o.rounds = (int)u;
+            break;
         case OPT_JSON: c.json = optarg; break;
         case OPT_SVG: c.svg = optarg; break;
         case OPT_TRACE: c.trace = optarg; break;
