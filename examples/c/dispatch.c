@@ -3,7 +3,9 @@
  * random data.  Links only libconvpick.
  *
  * usage: dispatch TABLE SPEC [xcorr|conv] [THREADS]
- *   SPEC: n,c,h,w,k,r,s,stride,pad (nine integers, e.g. 1,64,56,56,64,3,3,1,1)
+ *   SPEC: n,c,h,w,k,r,s,stride,pad (nine integers, e.g. 1,64,56,56,64,3,3,1,1), or all
+ *         sixteen cp_shape fields: n,c,h,w,k,r,s,stride_h,stride_w,pad_top,pad_left,
+ *         pad_bottom,pad_right,dilation_h,dilation_w,groups
  * prints: "choice: ALGO PARAMS MATCH" then "checksum: SUM" (sum of outputs).
  *
  * Build against an installed convpick:
@@ -34,16 +36,30 @@ int main(int argc, char **argv) {
         fprintf(stderr, "usage: %s TABLE n,c,h,w,k,r,s,stride,pad [xcorr|conv] [THREADS]\n", argv[0]);
         return 2;
     }
-    long long f[9];
-    if (sscanf(argv[2], "%lld,%lld,%lld,%lld,%lld,%lld,%lld,%lld,%lld", &f[0], &f[1], &f[2], &f[3],
-               &f[4], &f[5], &f[6], &f[7], &f[8]) != 9) {
-        fprintf(stderr, "dispatch: layer '%s': expected nine comma-separated integers\n", argv[2]);
+    long long f[16];
+    int nf = 0;
+    for (const char *p = argv[2]; nf < 16;) {
+        char *end;
+        f[nf++] = strtoll(p, &end, 10);
+        if (end == p) { nf = -1; break; }
+        if (*end == '\0') break;
+        if (*end != ',') { nf = -1; break; }
+        p = end + 1;
+    }
+    if (nf != 9 && nf != 16) {
+        fprintf(stderr, "dispatch: layer '%s': expected 9 or 16 comma-separated integers\n", argv[2]);
         return 2;
     }
     cp_shape s = cp_shape_init();
     s.n = f[0], s.c = f[1], s.h = f[2], s.w = f[3], s.k = f[4], s.r = f[5], s.s = f[6];
-    s.stride_h = s.stride_w = f[7];
-    s.pad_top = s.pad_left = s.pad_bottom = s.pad_right = f[8];
+    if (nf == 9) {
+        s.stride_h = s.stride_w = f[7];
+        s.pad_top = s.pad_left = s.pad_bottom = s.pad_right = f[8];
+    } else {
+        s.stride_h = f[7], s.stride_w = f[8];
+        s.pad_top = f[9], s.pad_left = f[10], s.pad_bottom = f[11], s.pad_right = f[12];
+        s.dil_h = f[13], s.dil_w = f[14], s.groups = f[15];
+    }
     cp_mode mode = argc > 3 && strcmp(argv[3], "conv") == 0 ? CP_CONV : CP_XCORR;
     int threads = argc > 4 ? atoi(argv[4]) : 1;
 
