@@ -5,7 +5,7 @@
  * output in a register, 1 sweeps whole output planes once per kernel tap.
  *
  * This file is also compiled a second time, with traced loads and stores and
- * renamed algorithms, by harness/cache_traced.c. */
+ * renamed algorithms, by harness/cache_traced_direct.c. */
 #include <string.h>
 
 #include "cpa.h"

@@ -333,6 +333,9 @@ char *cph_cache_report_svg(const cph_cache_report *r) {
                 sb_printf(&b, "<rect x=\"%d\" y=\"%.1f\" width=\"%d\" height=\"%.1f\" fill=\"%s\">"
                               "<title>%s: %.6g misses per output</title></rect>\n",
                           bx, (double)bottom - h, bw - 3, h, kind_color(v->v->kind), v->v->id, val);
+                sb_printf(&b, "<text x=\"%d\" y=\"%.1f\" font-size=\"7\" text-anchor=\"middle\">%.3g"
+                              "</text>\n",
+                          bx + (bw - 3) / 2, (double)bottom - h - 2.0, val);
                 sb_printf(&b, "<text x=\"%d\" y=\"%d\" font-size=\"8\" transform=\"rotate(60 %d %d)\">"
                               "%s</text>\n",
                           bx + 2, bottom + 8, bx + 2, bottom + 8, v->v->family);
