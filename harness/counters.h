@@ -27,7 +27,7 @@ enum {
 typedef struct cph_counters {
     int fd[CPH_NCTR];          /* -1 when the event could not be opened */
     int any;                   /* at least one event is open */
-    char why[CPH_NCTR][96];    /* per event: why it is unavailable ("" when open) */
+    char why[CPH_NCTR][160];   /* per event: why it is unavailable ("" when open) */
     char reason[160];          /* when none is open: the first failure, in words */
 } cph_counters;
 
