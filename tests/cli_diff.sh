@@ -1,0 +1,173 @@
+#!/usr/bin/env bash
+# convpick diff end to end: verdicts and exit codes on results with known
+# shifts, the JUnit report parsed back with xmllint (libxml2-utils), the
+# Markdown report, changed choices of two tables, every kind of bad input
+# (exit 2 with one clear line), and two bench runs of the same build back to
+# back, which must never show a regression.
+set -euo pipefail
+CLI="$1"; SRC="$2"
+PY=/usr/bin/python3
+DATA="$SRC/tests/data"
+tmp="$(mktemp -d)"; trap 'rm -rf "$tmp"' EXIT
+fail() { echo "FAIL: $*"; exit 1; }
+
+# expect CODE PATTERN -- command...: exit code and a stderr line matching PATTERN
+expect() {
+  local code="$1" pat="$2"; shift 3
+  set +e; "$@" >"$tmp/out" 2>"$tmp/err"; local rc=$?; set -e
+  [ "$rc" = "$code" ] || { cat "$tmp/out" "$tmp/err"; fail "'$*' exited $rc, expected $code"; }
+  if [ -n "$pat" ]; then
+    grep -qE -- "$pat" "$tmp/err" || { cat "$tmp/err"; fail "'$*': stderr lacks /$pat/"; }
+    [ "$(wc -l <"$tmp/err")" = 1 ] || { cat "$tmp/err"; fail "'$*': expected one error line"; }
+  fi
+}
+
+# 0. The committed inputs (made by convpick bench and tune) still follow the
+#    formats' schemas (python3-jsonschema).
+$PY - "$DATA" "$SRC/docs/table.schema.json" <<'PY'
+import json, sys, jsonschema
+data, table_schema = sys.argv[1], sys.argv[2]
+jsonschema.validate(json.load(open(data + "/diff_base.bench.json")),
+                    json.load(open(data + "/bench_results.schema.json")))
+jsonschema.validate(json.load(open(data + "/diff_base.table.json")), json.load(open(table_schema)))
+PY
+
+# 1. Synthetic samples with known shifts on the committed bench file's layers:
+#    stem/direct +10 % (a regression), stem/im2col_gemm -10 %, mix/direct 0 %,
+#    mix/im2col_gemm only in BASE, a renamed algorithm only in NEW.  The layer
+#    name carries XML's special characters.  1 % log-normal noise, 30 samples.
+$PY - "$DATA/diff_base.bench.json" "$tmp" <<'PY'
+import copy, json, random, sys
+src, out = sys.argv[1], sys.argv[2]
+doc = json.load(open(src))
+rng = random.Random(42)
+def samples(med, n=30):
+    return [med * rng.lognormvariate(0.0, 0.01) for _ in range(n)]
+base, new = copy.deepcopy(doc), copy.deepcopy(doc)
+shift = {("stem", "direct"): 1.10, ("stem", "im2col_gemm"): 0.90, ("mix", "direct"): 1.0}
+bres, nres = [], []
+for r in doc["results"]:
+    key = (r["layer"], r["algo"])
+    b = copy.deepcopy(r); b["layer"] = "stem <&\"'>" if r["layer"] == "stem" else r["layer"]
+    b["measurement"]["samples"] = samples(1e-4)
+    bres.append(b)
+    if key in shift:
+        n = copy.deepcopy(b); n["measurement"]["samples"] = samples(1e-4 * shift[key])
+        nres.append(n)
+extra = copy.deepcopy(nres[-1]); extra["algo"] = "direct_renamed"; nres.append(extra)
+base["results"], new["results"] = bres, nres
+json.dump(base, open(out + "/base.json", "w"))
+json.dump(new, open(out + "/new.json", "w"))
+# the same file with another device, another format name, a mistyped sample
+other = copy.deepcopy(new); other["fingerprint"] = "0123456789abcdef"
+json.dump(other, open(out + "/other_device.json", "w"))
+wrong = copy.deepcopy(base); wrong["format"] = "some-other-format"
+json.dump(wrong, open(out + "/wrong_format.json", "w"))
+bad = copy.deepcopy(base); bad["results"][1]["measurement"]["samples"][3] = "fast"
+json.dump(bad, open(out + "/bad_sample.json", "w"))
+# nothing in common: every shape changed
+apart = copy.deepcopy(base)
+for r in apart["results"]: r["shape"]["k"] += 1
+json.dump(apart, open(out + "/apart.json", "w"))
+PY
+
+expect 1 "" -- "$CLI" diff "$tmp/base.json" "$tmp/new.json" --junit "$tmp/junit.xml" --markdown "$tmp/summary.md"
+grep -q "^slower .*stem <&\"'>.* direct " "$tmp/out" || { cat "$tmp/out"; fail "stem/direct should be slower"; }
+grep -q "^faster .* im2col_gemm " "$tmp/out" || fail "stem/im2col_gemm should be faster"
+grep -q "^unchanged .*mix .* direct " "$tmp/out" || fail "mix/direct should be unchanged"
+head -n 20 "$tmp/out" | grep -m1 -E '^(slower|faster|unchanged|inconclusive) ' | grep -q '^slower' \
+  || fail "the worst row (slower) should come first"
+grep -q "only in BASE: mix xcorr t=1 im2col_gemm" "$tmp/out" || fail "unmatched BASE item not reported"
+grep -q "only in NEW: mix xcorr t=1 direct_renamed" "$tmp/out" || fail "unmatched NEW item not reported"
+grep -q "summary: 3 compared: 1 slower, 0 inconclusive, 1 unchanged, 1 faster; 1 only in BASE, 1 only in NEW: REGRESSION" "$tmp/out" \
+  || { cat "$tmp/out"; fail "summary line"; }
+
+# JUnit: well-formed, one testcase per compared pair, one failure with the figures
+xmllint --noout "$tmp/junit.xml" || fail "junit.xml is not well-formed XML"
+[ "$(xmllint --xpath 'count(//testcase)' "$tmp/junit.xml")" = 3 ] || fail "expected 3 testcases"
+[ "$(xmllint --xpath 'count(//testcase/failure)' "$tmp/junit.xml")" = 1 ] || fail "expected 1 failure"
+[ "$(xmllint --xpath 'string(/testsuites/@failures)' "$tmp/junit.xml")" = 1 ] || fail "failures attribute"
+msg="$(xmllint --xpath 'string(//failure/@message)' "$tmp/junit.xml")"
+# the true ratio is 1.10: the message carries a ratio near it, its interval and p
+echo "$msg" | grep -qE '^slower: ratio 1\.(0[6-9]|1[0-4])[0-9]* \(Hodges-Lehmann [0-9.]+, 99\.0 % CI [0-9.]+\.\.[0-9.]+\), Mann-Whitney p = [0-9.e+-]+ ' \
+  || fail "failure message lacks the figures: $msg"
+name="$(xmllint --xpath 'string(//testcase[failure]/@name)' "$tmp/junit.xml")"
+[ "$name" = "stem <&\"'> xcorr t=1 direct" ] || fail "testcase name not escaped and read back: '$name'"
+ls "$tmp" | grep -q '\.tmp' && fail "temporary report file left behind"
+grep -q '^| \*\*slower\*\* | stem <&"'"'"'> | xcorr | 1 | direct |' "$tmp/summary.md" || { cat "$tmp/summary.md"; fail "markdown row"; }
+grep -q "1 only in BASE, 1 only in NEW" "$tmp/summary.md" || fail "markdown summary"
+
+# A file against itself: no regression, every pair unchanged or inconclusive.
+expect 0 "" -- "$CLI" diff "$tmp/base.json" "$tmp/base.json" --junit "$tmp/self.xml"
+[ "$(xmllint --xpath 'count(//testcase/failure)' "$tmp/self.xml")" = 0 ] || fail "self diff failed"
+grep -qE "^(slower|faster) " "$tmp/out" && fail "self diff found a change"
+for f in diff_base.bench.json diff_base.table.json; do
+  expect 0 "" -- "$CLI" diff "$DATA/$f" "$DATA/$f"
+done
+
+# A wider tolerance turns the +10 % into no regression; alpha is validated.
+expect 0 "" -- "$CLI" diff --tolerance 15 "$tmp/base.json" "$tmp/new.json"
+expect 2 "--alpha" -- "$CLI" diff --alpha 0.7 "$tmp/base.json" "$tmp/new.json"
+expect 2 "--tolerance" -- "$CLI" diff --tolerance x "$tmp/base.json" "$tmp/new.json"
+expect 2 "expected two files" -- "$CLI" diff "$tmp/base.json"
+
+# 2. Bad inputs: one clear line each, exit 2.
+expect 2 "missing\.json: cannot read: No such file" -- "$CLI" diff "$tmp/missing.json" "$tmp/new.json"
+expect 2 "wrong_format\.json: format: \"some-other-format\" is neither" -- "$CLI" diff "$tmp/wrong_format.json" "$tmp/new.json"
+printf '{"format": "convpick-bench-results",\n "version": 1,\n "results": [}\n' >"$tmp/torn.json"
+expect 2 "torn\.json:3:[0-9]+: malformed JSON" -- "$CLI" diff "$tmp/base.json" "$tmp/torn.json"
+expect 2 "bad_sample\.json: results\[1\]\.measurement\.samples\[3\]: expected a number" -- "$CLI" diff "$tmp/bad_sample.json" "$tmp/new.json"
+expect 2 "no measurement in common" -- "$CLI" diff "$tmp/base.json" "$tmp/apart.json"
+$PY -c 'import json,sys; d=json.load(open(sys.argv[1])); d["version"]=2; json.dump(d, open(sys.argv[2],"w"))' \
+  "$DATA/diff_base.table.json" "$tmp/table_v2.json"
+expect 2 "table_v2\.json: version: convpick-tuning-table version 2 is not supported" -- "$CLI" diff "$DATA/diff_base.table.json" "$tmp/table_v2.json"
+expect 2 "device .*--allow-other-device" -- "$CLI" diff "$tmp/base.json" "$tmp/other_device.json"
+expect 1 "" -- "$CLI" diff --allow-other-device "$tmp/base.json" "$tmp/other_device.json" --markdown "$tmp/other.md"
+head -n 1 "$tmp/out" | grep -q "^WARNING: BASE and NEW were measured on different devices" || fail "other-device warning not on top"
+grep -q "Warning:\*\* BASE and NEW were measured on different devices" "$tmp/other.md" || fail "markdown other-device warning"
+
+# 3. Two tables: a changed choice and what the old choice costs now.
+$PY - "$DATA/diff_base.table.json" "$tmp/table_new.json" <<'PY'
+import json, sys
+t = json.load(open(sys.argv[1]))
+e = t["entries"][0]
+other = next(c for c in e["candidates"]
+             if c["status"] == "ok" and (c["algo"], c["params"]) != (e["choice"]["algo"], e["choice"]["params"]))
+e["choice"] = {"algo": other["algo"], "params": other["params"]}
+json.dump(t, open(sys.argv[2], "w"))
+PY
+expect 0 "" -- "$CLI" diff "$DATA/diff_base.table.json" "$tmp/table_new.json" --markdown "$tmp/table.md"
+grep -q "^changed choices (1):" "$tmp/out" || { cat "$tmp/out"; fail "changed choice not reported"; }
+grep -qE "BASE's choice now takes [0-9.e+-]+ ms, [0-9.e+-]+ times NEW's choice \([0-9.e+-]+ ms\)" "$tmp/out" || fail "old choice cost not reported"
+grep -q "### Changed choices" "$tmp/table.md" || fail "markdown changed choices"
+
+# A bench file against a table of the same device: pairs found across formats.
+expect 0 "" -- "$CLI" diff --tolerance 99 "$DATA/diff_base.bench.json" "$DATA/diff_base.table.json"
+grep -qE "^summary: [1-9][0-9]* compared" "$tmp/out" || fail "no pair across formats"
+
+# 4. Two bench runs of this build back to back: never a regression.  The
+#    samples of one run cannot see what changes between runs on a shared
+#    machine (a neighbour's load once made every entry of one run 13-55 %
+#    slower here), so a pair that shows a regression is measured again, up to
+#    three pairs: a build compared with itself must not regress in all three.
+if "$CLI" bench --help >/dev/null 2>&1; then
+  shapes=(--shape n=1,c=4,h=10,w=10,k=8,r=3,pad=1 --shape n=1,c=8,h=8,w=8,k=8,r=1)
+  ok=0
+  for attempt in 1 2 3; do
+    for run in a b; do
+      "$CLI" bench "${shapes[@]}" --algo direct,im2col_gemm --max-seconds 0.1 --no-roofs \
+        --json "$tmp/run_$run.json" >/dev/null
+    done
+    set +e; "$CLI" diff "$tmp/run_a.json" "$tmp/run_b.json" --junit "$tmp/runs.xml" >"$tmp/out"; rc=$?; set -e
+    [ "$rc" = 0 ] || [ "$rc" = 1 ] || { cat "$tmp/out"; fail "diff of two runs exited $rc"; }
+    nf="$(xmllint --xpath 'count(//testcase/failure)' "$tmp/runs.xml")"
+    [ "$(( rc == 1 ))" = "$(( nf > 0 ))" ] || fail "exit $rc disagrees with $nf JUnit failures"
+    grep "^summary:" "$tmp/out"
+    if [ "$rc" = 0 ]; then ok=1; break; fi
+    echo "cli_diff: attempt $attempt: two runs of one build differ beyond the tolerance; measuring again"
+  done
+  [ "$ok" = 1 ] || { cat "$tmp/out"; fail "three back-to-back pairs of one build all reported a regression"; }
+else
+  echo "cli_diff: SKIP the back-to-back bench runs: 'convpick bench' is not built in this tree"
+fi
+echo "cli_diff: all checks passed"
