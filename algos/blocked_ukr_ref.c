@@ -7,12 +7,7 @@
  * second time with hooks that feed each access to the cache simulator. */
 #include "blocked_ukr.h"
 
-#ifndef CPA_LD
-#define CPA_LD(ptr) (*(ptr))
-#endif
-#ifndef CPA_ST
-#define CPA_ST(ptr, v) (*(ptr) = (v))
-#endif
+#include "cpa_access.h"
 
 void cpa_blocked_ukr_ref_6x16(const cpa_blocked_tile *t) {
     enum { MR = CPA_BLOCKED_MR, NV = CPA_BLOCKED_NV };

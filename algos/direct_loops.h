@@ -22,12 +22,7 @@
  *   CPA_ST(ptr, v)   how a value is stored   (default *(ptr) = (v))
  * The function computes output planes [nk_begin, nk_end) of the flattened
  * (n, k) range. */
-#ifndef CPA_LD
-#define CPA_LD(ptr) (*(ptr))
-#endif
-#ifndef CPA_ST
-#define CPA_ST(ptr, v) (*(ptr) = (v))
-#endif
+#include "cpa_access.h"
 #ifndef CPA_DIRECT_ORDER
 #define CPA_DIRECT_ORDER 0
 #endif
