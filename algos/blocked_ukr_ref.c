@@ -1,7 +1,13 @@
 /* Portable C tile kernel of the blocked direct convolution (contract in
  * blocked_ukr.h).  Always compiled, always tested; also the fallback for tiles
- * whose full-vector reads would leave the input buffer. */
+ * whose full-vector reads would leave the input buffer.
+ *
+ * Every load and store goes through CPA_LD / CPA_ST (plain accesses unless
+ * defined before inclusion): harness/cache_traced_blocked.c compiles this file a
+ * second time with hooks that feed each access to the cache simulator. */
 #include "blocked_ukr.h"
+
+#include "cpa_access.h"
 
 void cpa_blocked_ukr_ref_6x16(const cpa_blocked_tile *t) {
     enum { MR = CPA_BLOCKED_MR, NV = CPA_BLOCKED_NV };
@@ -13,21 +19,22 @@ void cpa_blocked_ukr_ref_6x16(const cpa_blocked_tile *t) {
             for (int j = 0; j < NV; j++) {
                 float a = 0.0f;
                 if (kk < t->nk && j < nv)
-                    a = t->first ? (t->bias ? t->bias[kk] : 0.0f) : t->y[v][kk * t->y_ks + j];
+                    a = t->first ? (t->bias ? CPA_LD(&t->bias[kk]) : 0.0f)
+                                 : CPA_LD(&t->y[v][kk * t->y_ks + j]);
                 acc[kk][j] = a;
             }
         for (int64_t c = 0; c < t->nc; c++) {
             const float *xc = t->x[v] + c * t->x_cs;
             const float *w = t->w + c * t->ntap * MR;
             for (int64_t i = 0; i < t->ntap; i++, w += t->w_step) {
-                const float *xp = xc + t->tap_off[i];
+                const float *xp = xc + CPA_LD(&t->tap_off[i]);
                 for (int j = 0; j < nv; j++) {
-                    const float xv = xp[j];
-                    for (int kk = 0; kk < MR; kk++) acc[kk][j] += xv * w[kk];
+                    const float xv = CPA_LD(&xp[j]);
+                    for (int kk = 0; kk < MR; kk++) acc[kk][j] += xv * CPA_LD(&w[kk]);
                 }
             }
         }
         for (int kk = 0; kk < t->nk; kk++)
-            for (int j = 0; j < nv; j++) t->y[v][kk * t->y_ks + j] = acc[kk][j];
+            for (int j = 0; j < nv; j++) CPA_ST(&t->y[v][kk * t->y_ks + j], acc[kk][j]);
     }
 }

@@ -20,6 +20,16 @@ int cpa_refuse(char *why, size_t cap, const char *fmt, ...) {
     return 0;
 }
 
+cp_status cpa_fail(cp_status st, char *msg, size_t cap, const char *fmt, ...) {
+    if (msg && cap) {
+        va_list ap;
+        va_start(ap, fmt);
+        vsnprintf(msg, cap, fmt, ap);
+        va_end(ap);
+    }
+    return st;
+}
+
 void cpa_add_bias(float *y, const float *bias, int64_t nk, int64_t npix) {
     if (!bias) return;
     for (int64_t k = 0; k < nk; k++) {

@@ -13,6 +13,11 @@
 int cpa_refuse(char *why, size_t cap, const char *fmt, ...)
     __attribute__((format(printf, 3, 4)));
 
+/* Writes a one-line message into msg (if any) and returns st: the error
+ * path of every call that reports through a (msg, cap) buffer. */
+cp_status cpa_fail(cp_status st, char *msg, size_t cap, const char *fmt, ...)
+    __attribute__((format(printf, 4, 5)));
+
 /* Rounds n up to a multiple of 64 (workspace sub-buffers stay aligned). */
 static inline size_t cpa_align64(size_t n) { return (n + 63u) & ~(size_t)63u; }
 

@@ -1,33 +1,76 @@
 /* direct: the plain nested loops, the slow baseline that supports everything.
  * direct_flipidx: the same loops computing true convolution by reading the
- * kernel in reverse inside the loops (no preparation), for the cache study. */
+ * kernel in reverse inside the loops (no preparation), for the cache study.
+ * Both take one parameter, the loop order (see direct_loops.h): 0 sums each
+ * output in a register, 1 sweeps whole output planes once per kernel tap.
+ *
+ * This file is also compiled a second time, with traced loads and stores and
+ * renamed algorithms, by harness/cache_traced_direct.c. */
 #include <string.h>
 
 #include "cpa.h"
 
 #define CPA_DIRECT_FN direct_loops
 #define CPA_DIRECT_FLIP 0
+#define CPA_DIRECT_ORDER 0
 #include "direct_loops.h"
 #undef CPA_DIRECT_FN
 #undef CPA_DIRECT_FLIP
+#undef CPA_DIRECT_ORDER
 
 #define CPA_DIRECT_FN direct_loops_flipidx
 #define CPA_DIRECT_FLIP 1
+#define CPA_DIRECT_ORDER 0
 #include "direct_loops.h"
+#undef CPA_DIRECT_FN
+#undef CPA_DIRECT_FLIP
+#undef CPA_DIRECT_ORDER
+
+#define CPA_DIRECT_FN direct_loops_o1
+#define CPA_DIRECT_FLIP 0
+#define CPA_DIRECT_ORDER 1
+#include "direct_loops.h"
+#undef CPA_DIRECT_FN
+#undef CPA_DIRECT_FLIP
+#undef CPA_DIRECT_ORDER
+
+#define CPA_DIRECT_FN direct_loops_flipidx_o1
+#define CPA_DIRECT_FLIP 1
+#define CPA_DIRECT_ORDER 1
+#include "direct_loops.h"
+#undef CPA_DIRECT_FN
+#undef CPA_DIRECT_FLIP
+#undef CPA_DIRECT_ORDER
+
+enum { P_ORDER = 0, NPARAMS };
+
+static const cp_param_desc direct_params[NPARAMS] = {
+    {"order", "loop order: 0 = (n,k,p,q,c,r,s), each output summed in a register; "
+              "1 = (n,k,c,r,s,p,q), accumulating into the output plane; default 0", 0, 1},
+};
+
+static void direct_defaults(const cp_shape *s, const cp_cache_sizes *caches, cp_params *out) {
+    (void)s; (void)caches;
+    out->v[P_ORDER] = 0;
+}
+
+typedef void (*direct_loops_fn)(const cp_shape *sh, const float *x, const float *w,
+                                const float *bias, float *y, int64_t nk_begin, int64_t nk_end);
 
 typedef struct {
     const cp_run_args *a;
-    int flipidx;
+    direct_loops_fn loops;
 } direct_job;
 
 static void direct_task(void *arg, int64_t begin, int64_t end, int worker) {
     (void)worker;
     const direct_job *j = arg;
     const cp_run_args *a = j->a;
-    if (j->flipidx)
-        direct_loops_flipidx(a->shape, a->x, a->weights, a->bias, a->y, begin, end);
-    else
-        direct_loops(a->shape, a->x, a->weights, a->bias, a->y, begin, end);
+    j->loops(a->shape, a->x, a->weights, a->bias, a->y, begin, end);
+}
+
+static int64_t order_of(const cp_run_args *a) {
+    return a->params ? a->params->v[P_ORDER] : 0;
 }
 
 static int direct_supports(const cp_shape *s, cp_mode mode, char *why, size_t cap) {
@@ -60,13 +103,13 @@ static cp_status direct_prepare(const cp_shape *s, cp_mode mode, const cp_params
 }
 
 static cp_status direct_run(const cp_run_args *a) {
-    direct_job j = {a, 0};
+    direct_job j = {a, order_of(a) == 1 ? direct_loops_o1 : direct_loops};
     cp_parallel_for(a->exec, a->shape->n * a->shape->k, direct_task, &j);
     return CP_OK;
 }
 
 static cp_status flipidx_run(const cp_run_args *a) {
-    direct_job j = {a, 1};
+    direct_job j = {a, order_of(a) == 1 ? direct_loops_flipidx_o1 : direct_loops_flipidx};
     cp_parallel_for(a->exec, a->shape->n * a->shape->k, direct_task, &j);
     return CP_OK;
 }
@@ -76,11 +119,12 @@ static cp_status flipidx_run(const cp_run_args *a) {
  * (convpick verify); 1e-5 leaves room for very deep reductions. */
 const cp_algo cpa_direct = {
     .name = "direct",
-    .summary = "plain nested loops (n,k,p,q,c,r,s); every shape; the baseline",
+    .summary = "plain nested loops (order 0: n,k,p,q,c,r,s; 1: n,k,c,r,s,p,q); every shape",
     .tolerance = 1e-5,
-    .nparams = 0,
-    .params = NULL,
+    .nparams = NPARAMS,
+    .params = direct_params,
     .supports = direct_supports,
+    .defaults = direct_defaults,
     .prepared_size = direct_prepared_size,
     .prepare = direct_prepare,
     .run = direct_run,
@@ -90,8 +134,9 @@ const cp_algo cpa_direct_flipidx = {
     .name = "direct_flipidx",
     .summary = "plain nested loops reading the kernel reversed (true convolution only)",
     .tolerance = 1e-5,
-    .nparams = 0,
-    .params = NULL,
+    .nparams = NPARAMS,
+    .params = direct_params,
     .supports = flipidx_supports,
+    .defaults = direct_defaults,
     .run = flipidx_run,
 };

@@ -1,19 +1,36 @@
 /* The seven nested loops of a direct convolution, as a template.
  *
- * Included by direct.c (and, later, by a traced build for the cache study) with:
+ * Included by direct.c (and by harness/cache_traced_direct.c, the build traced for
+ * the cache study) with:
  *   CPA_DIRECT_FN    name of the function to define
  *   CPA_DIRECT_FLIP  0: read w[k,c,r,s]; 1: read w[k,c,R-1-r,S-1-s] (true
  *                    convolution by flipped indexing inside the loops)
- *   CPA_LD(ptr)      how a float is loaded   (default *(ptr))
- *   CPA_ST(ptr, v)   how a float is stored   (default *(ptr) = (v))
- * Loop order, outermost first: batch n, output channel k, output row p, output
- * column q, input channel c, kernel row r, kernel column s.  The function
- * computes output planes [kb, ke) of the flattened (n, k) range. */
-#ifndef CPA_LD
-#define CPA_LD(ptr) (*(ptr))
+ *   CPA_DIRECT_ORDER loop order, outermost first (default 0):
+ *                    0: batch n, output channel k, output row p, output
+ *                       column q, input channel c, kernel row r, kernel
+ *                       column s; each output is summed in a register and
+ *                       stored once.
+ *                    1: n, k, c, r, s, p, q; the output plane is set to the
+ *                       bias, then every (c, r, s) tap adds one weight times
+ *                       a shifted input plane into it (load and store of y
+ *                       per product, one weight load per tap).
+ *                    Both add the products of an output in the same (c, r, s)
+ *                    order onto the bias, so they give bit-identical results
+ *                    (no contraction to FMA: the build is ISO C, where GCC
+ *                    leaves -ffp-contract off).
+ *   CPA_LD(ptr)      how a value is loaded   (default *(ptr))
+ *   CPA_ST(ptr, v)   how a value is stored   (default *(ptr) = (v))
+ * The function computes output planes [nk_begin, nk_end) of the flattened
+ * (n, k) range. */
+#include "cpa_access.h"
+#ifndef CPA_DIRECT_ORDER
+#define CPA_DIRECT_ORDER 0
 #endif
-#ifndef CPA_ST
-#define CPA_ST(ptr, v) (*(ptr) = (v))
+
+#if CPA_DIRECT_FLIP
+#define CPA_DIRECT_WIDX(c, r, s) (((c) * R + (R - 1 - (r))) * S + (S - 1 - (s)))
+#else
+#define CPA_DIRECT_WIDX(c, r, s) (((c) * R + (r)) * S + (s))
 #endif
 
 static void CPA_DIRECT_FN(const cp_shape *sh, const float *x, const float *w, const float *bias,
@@ -27,6 +44,7 @@ static void CPA_DIRECT_FN(const cp_shape *sh, const float *x, const float *w, co
         const float *wk = w + k * cg * R * S;
         float *yk = y + nk * P * Q;
         const float b = bias ? CPA_LD(&bias[k]) : 0.0f;
+#if CPA_DIRECT_ORDER == 0
         for (int64_t p = 0; p < P; p++)
             for (int64_t q = 0; q < Q; q++) {
                 float acc = b;
@@ -37,15 +55,32 @@ static void CPA_DIRECT_FN(const cp_shape *sh, const float *x, const float *w, co
                         for (int64_t s = 0; s < S; s++) {
                             const int64_t iw = q * sh->stride_w - sh->pad_left + s * sh->dil_w;
                             if (iw < 0 || iw >= W) continue;
-#if CPA_DIRECT_FLIP
-                            const float *wp = &wk[(c * R + (R - 1 - r)) * S + (S - 1 - s)];
-#else
-                            const float *wp = &wk[(c * R + r) * S + s];
-#endif
-                            acc += CPA_LD(&xg[(c * H + ih) * W + iw]) * CPA_LD(wp);
+                            acc += CPA_LD(&xg[(c * H + ih) * W + iw]) *
+                                   CPA_LD(&wk[CPA_DIRECT_WIDX(c, r, s)]);
                         }
                     }
                 CPA_ST(&yk[p * Q + q], acc);
             }
+#else
+        for (int64_t i = 0; i < P * Q; i++) CPA_ST(&yk[i], b);
+        for (int64_t c = 0; c < cg; c++)
+            for (int64_t r = 0; r < R; r++)
+                for (int64_t s = 0; s < S; s++) {
+                    const float wv = CPA_LD(&wk[CPA_DIRECT_WIDX(c, r, s)]);
+                    for (int64_t p = 0; p < P; p++) {
+                        const int64_t ih = p * sh->stride_h - sh->pad_top + r * sh->dil_h;
+                        if (ih < 0 || ih >= H) continue;
+                        const float *xr = xg + (c * H + ih) * W;
+                        float *yr = yk + p * Q;
+                        for (int64_t q = 0; q < Q; q++) {
+                            const int64_t iw = q * sh->stride_w - sh->pad_left + s * sh->dil_w;
+                            if (iw < 0 || iw >= W) continue;
+                            CPA_ST(&yr[q], CPA_LD(&yr[q]) + CPA_LD(&xr[iw]) * wv);
+                        }
+                    }
+                }
+#endif
     }
 }
+
+#undef CPA_DIRECT_WIDX

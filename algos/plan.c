@@ -1,6 +1,5 @@
 /* Plans: the one place that allocates for an algorithm (workspace and
  * prepared weights), so that kernels themselves never allocate. */
-#include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -26,18 +25,6 @@ static void *alloc64(size_t bytes) {
     return aligned_alloc(64, rounded);
 }
 
-static cp_status fail(cp_status st, char *msg, size_t cap, const char *fmt, ...)
-    __attribute__((format(printf, 4, 5)));
-static cp_status fail(cp_status st, char *msg, size_t cap, const char *fmt, ...) {
-    if (msg && cap) {
-        va_list ap;
-        va_start(ap, fmt);
-        vsnprintf(msg, cap, fmt, ap);
-        va_end(ap);
-    }
-    return st;
-}
-
 /* The algorithms' size functions multiply shape fields in int64.  Their
  * results are bounded by small multiples of a few products (the padded
  * input, the lowered matrix, 16 transformed weight and input planes, each per
@@ -60,18 +47,18 @@ cp_status cp_plan_create(const cp_algo *a, const cp_shape *s, cp_mode mode,
                          const cp_params *params, const cp_cache_sizes *caches, int nthreads,
                          const float *w, cp_plan **out, char *msg, size_t cap) {
     *out = NULL;
-    if (!a || !s || !w) return fail(CP_EINVAL, msg, cap, "plan: algorithm, shape and weights are required");
+    if (!a || !s || !w) return cpa_fail(CP_EINVAL, msg, cap, "plan: algorithm, shape and weights are required");
     if (nthreads < 1) nthreads = 1;
     char why[256];
     if (cp_shape_validate(s, why, sizeof why) != CP_SHAPE_OK)
-        return fail(CP_EINVAL, msg, cap, "invalid shape: %s", why);
+        return cpa_fail(CP_EINVAL, msg, cap, "invalid shape: %s", why);
     if (!a->supports(s, mode, why, sizeof why))
-        return fail(CP_EUNSUPPORTED, msg, cap, "%s does not support this layer: %s", a->name, why);
+        return cpa_fail(CP_EUNSUPPORTED, msg, cap, "%s does not support this layer: %s", a->name, why);
     if (!sizes_fit(s, nthreads))
-        return fail(CP_ENOMEM, msg, cap,
-                    "plan: the buffers of this layer would exceed 2^60 bytes: not allocated");
+        return cpa_fail(CP_ENOMEM, msg, cap,
+                        "plan: the buffers of this layer would exceed 2^60 bytes: not allocated");
     cp_plan *p = calloc(1, sizeof *p);
-    if (!p) return fail(CP_ENOMEM, msg, cap, "plan: out of memory");
+    if (!p) return cpa_fail(CP_ENOMEM, msg, cap, "plan: out of memory");
     p->algo = a;
     p->shape = *s;
     p->mode = mode;
@@ -90,19 +77,19 @@ cp_status cp_plan_create(const cp_algo *a, const cp_shape *s, cp_mode mode,
         p->prepared = alloc64(pbytes);
         if (!p->prepared) {
             cp_plan_destroy(p);
-            return fail(CP_ENOMEM, msg, cap, "plan: cannot allocate %zu bytes of prepared weights", pbytes);
+            return cpa_fail(CP_ENOMEM, msg, cap, "plan: cannot allocate %zu bytes of prepared weights", pbytes);
         }
         st = a->prepare(s, mode, &p->params, w, p->prepared);
         if (st != CP_OK) {
             cp_plan_destroy(p);
-            return fail(st, msg, cap, "%s: weight preparation failed", a->name);
+            return cpa_fail(st, msg, cap, "%s: weight preparation failed", a->name);
         }
     } else {
         size_t wb = cp_shape_weight_elems(s) * sizeof(float);
         float *copy = alloc64(wb);
         if (!copy) {
             cp_plan_destroy(p);
-            return fail(CP_ENOMEM, msg, cap, "plan: cannot allocate %zu bytes of weights", wb);
+            return cpa_fail(CP_ENOMEM, msg, cap, "plan: cannot allocate %zu bytes of weights", wb);
         }
         memcpy(copy, w, wb);
         p->raw = copy;
@@ -113,7 +100,7 @@ cp_status cp_plan_create(const cp_algo *a, const cp_shape *s, cp_mode mode,
         if (!p->workspace) {
             size_t wsb = p->workspace_bytes;
             cp_plan_destroy(p);
-            return fail(CP_ENOMEM, msg, cap, "plan: cannot allocate %zu bytes of workspace", wsb);
+            return cpa_fail(CP_ENOMEM, msg, cap, "plan: cannot allocate %zu bytes of workspace", wsb);
         }
     }
     *out = p;

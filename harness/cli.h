@@ -31,6 +31,7 @@ int cph_cmd_bench(int argc, char **argv);
 int cph_cmd_tune(int argc, char **argv);
 int cph_cmd_lookup(int argc, char **argv);
 int cph_cmd_algos(int argc, char **argv);
+int cph_cmd_cache(int argc, char **argv);
 int cph_cmd_diff(int argc, char **argv);
 
 #endif

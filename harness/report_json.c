@@ -3,6 +3,8 @@
 #define _POSIX_C_SOURCE 200809L
 #include "report_json.h"
 
+#include "cpa.h"
+
 #include <errno.h>
 #include <fcntl.h>
 #include <math.h>
@@ -12,18 +14,6 @@
 #include <string.h>
 #include <sys/stat.h>
 #include <unistd.h>
-
-static cp_status fail(cp_status st, char *msg, size_t cap, const char *fmt, ...)
-    __attribute__((format(printf, 4, 5)));
-static cp_status fail(cp_status st, char *msg, size_t cap, const char *fmt, ...) {
-    if (msg && cap) {
-        va_list ap;
-        va_start(ap, fmt);
-        vsnprintf(msg, cap, fmt, ap);
-        va_end(ap);
-    }
-    return st;
-}
 
 json_t *cph_json_number(double x) { return isfinite(x) ? json_real(x) : json_null(); }
 
@@ -98,7 +88,7 @@ static cp_status get_num(const json_t *obj, const char *where, const char *key, 
                          char *msg, size_t cap) {
     const json_t *v = json_object_get(obj, key);
     if (!v || !json_is_number(v))
-        return fail(CP_EFORMAT, msg, cap, "%s.%s: %s", where, key,
+        return cpa_fail(CP_EFORMAT, msg, cap, "%s.%s: %s", where, key,
                     v ? "expected a number" : "missing");
     *out = json_number_value(v);
     return CP_OK;
@@ -108,7 +98,7 @@ static cp_status get_size(const json_t *obj, const char *where, const char *key,
                           char *msg, size_t cap) {
     const json_t *v = json_object_get(obj, key);
     if (!v || !json_is_integer(v) || json_integer_value(v) < 0)
-        return fail(CP_EFORMAT, msg, cap, "%s.%s: %s", where, key,
+        return cpa_fail(CP_EFORMAT, msg, cap, "%s.%s: %s", where, key,
                     v ? "expected a non-negative integer" : "missing");
     *out = (size_t)json_integer_value(v);
     return CP_OK;
@@ -118,7 +108,7 @@ static cp_status get_bool(const json_t *obj, const char *where, const char *key,
                           char *msg, size_t cap) {
     const json_t *v = json_object_get(obj, key);
     if (!v || !json_is_boolean(v))
-        return fail(CP_EFORMAT, msg, cap, "%s.%s: %s", where, key,
+        return cpa_fail(CP_EFORMAT, msg, cap, "%s.%s: %s", where, key,
                     v ? "expected true or false" : "missing");
     *out = json_is_true(v);
     return CP_OK;
@@ -126,7 +116,7 @@ static cp_status get_bool(const json_t *obj, const char *where, const char *key,
 
 static cp_status read_settings(const json_t *s, const char *where, cph_timing_opts *o, char *msg,
                                size_t cap) {
-    if (!json_is_object(s)) return fail(CP_EFORMAT, msg, cap, "%s: expected an object", where);
+    if (!json_is_object(s)) return cpa_fail(CP_EFORMAT, msg, cap, "%s: expected an object", where);
     size_t warm = 0;
     cp_status st;
     if ((st = get_size(s, where, "warmup", &warm, msg, cap)) ||
@@ -154,14 +144,14 @@ static int stop_from_name(const char *s, cph_stop *out) {
 cp_status cph_json_read_measurement(const json_t *obj, const char *where, cph_measurement *out,
                                     char *msg, size_t cap) {
     memset(out, 0, sizeof *out);
-    if (!json_is_object(obj)) return fail(CP_EFORMAT, msg, cap, "%s: expected an object", where);
+    if (!json_is_object(obj)) return cpa_fail(CP_EFORMAT, msg, cap, "%s: expected an object", where);
     char sub[256];
     snprintf(sub, sizeof sub, "%s.settings", where);
     cp_status st = read_settings(json_object_get(obj, "settings"), sub, &out->opts, msg, cap);
     if (st) return st;
     const json_t *stop = json_object_get(obj, "stop");
     if (!json_is_string(stop) || !stop_from_name(json_string_value(stop), &out->stop))
-        return fail(CP_EFORMAT, msg, cap, "%s.stop: expected one of converged, max_samples, "
+        return cpa_fail(CP_EFORMAT, msg, cap, "%s.stop: expected one of converged, max_samples, "
                     "time_cap, error", where);
     size_t warm = 0;
     if ((st = get_bool(obj, where, "converged", &out->converged, msg, cap)) ||
@@ -174,18 +164,18 @@ cp_status cph_json_read_measurement(const json_t *obj, const char *where, cph_me
     out->warmup_runs = warm > 1000000 ? 1000000 : (int)warm;
     const json_t *samples = json_object_get(obj, "samples");
     if (!json_is_array(samples))
-        return fail(CP_EFORMAT, msg, cap, "%s.samples: %s", where,
+        return cpa_fail(CP_EFORMAT, msg, cap, "%s.samples: %s", where,
                     samples ? "expected an array" : "missing");
     const size_t n = json_array_size(samples);
     if (n) {
         out->samples = malloc(n * sizeof *out->samples);
-        if (!out->samples) return fail(CP_ENOMEM, msg, cap, "%s.samples: out of memory", where);
+        if (!out->samples) return cpa_fail(CP_ENOMEM, msg, cap, "%s.samples: out of memory", where);
     }
     for (size_t i = 0; i < n; i++) {
         const json_t *v = json_array_get(samples, i);
         if (!json_is_number(v) || !(json_number_value(v) >= 0.0)) {
             cph_measurement_free(out);
-            return fail(CP_EFORMAT, msg, cap, "%s.samples[%zu]: expected a non-negative number",
+            return cpa_fail(CP_EFORMAT, msg, cap, "%s.samples[%zu]: expected a non-negative number",
                         where, i);
         }
         out->samples[i] = json_number_value(v);
@@ -219,10 +209,10 @@ static void fsync_dir_of(const char *path) {
 cp_status cph_json_write_atomic(const json_t *root, const char *path, char *msg, size_t cap) {
     char tmp[4096];
     if ((size_t)snprintf(tmp, sizeof tmp, "%s.tmp.XXXXXX", path) >= sizeof tmp)
-        return fail(CP_EIO, msg, cap, "%s: path too long", path);
+        return cpa_fail(CP_EIO, msg, cap, "%s: path too long", path);
     const int fd = mkstemp(tmp);
     if (fd < 0)
-        return fail(CP_EIO, msg, cap, "%s: cannot create a temporary file beside it: %s", path,
+        return cpa_fail(CP_EIO, msg, cap, "%s: cannot create a temporary file beside it: %s", path,
                     strerror(errno));
     const mode_t um = umask(0);
     umask(um);
@@ -232,7 +222,7 @@ cp_status cph_json_write_atomic(const json_t *root, const char *path, char *msg,
         const int e = errno;
         close(fd);
         unlink(tmp);
-        return fail(CP_EIO, msg, cap, "%s: %s", tmp, strerror(e));
+        return cpa_fail(CP_EIO, msg, cap, "%s: %s", tmp, strerror(e));
     }
     const char *step = NULL;
     if (json_dumpf(root, f, JSON_INDENT(1) | JSON_REAL_PRECISION(17)) != 0)
@@ -245,12 +235,12 @@ cp_status cph_json_write_atomic(const json_t *root, const char *path, char *msg,
     if (fclose(f) != 0 && !step) step = "close";
     if (step) {
         unlink(tmp);
-        return fail(CP_EIO, msg, cap, "%s: %s failed: %s", tmp, step, strerror(e));
+        return cpa_fail(CP_EIO, msg, cap, "%s: %s failed: %s", tmp, step, strerror(e));
     }
     if (rename(tmp, path) != 0) {
         const int re = errno;
         unlink(tmp);
-        return fail(CP_EIO, msg, cap, "%s: cannot rename %s over it: %s", path, tmp,
+        return cpa_fail(CP_EIO, msg, cap, "%s: cannot rename %s over it: %s", path, tmp,
                     strerror(re));
     }
     fsync_dir_of(path);

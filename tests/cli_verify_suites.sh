@@ -5,7 +5,8 @@
 set -euo pipefail
 CLI="$1"
 suites="demo resnet50 mobilenet_v1 vgg16"
-if nm "$CLI" 2>/dev/null | grep -q __asan_init; then
+# (grep without -q: an early exit would SIGPIPE nm and fail the pipeline under pipefail)
+if nm "$CLI" 2>/dev/null | grep __asan_init >/dev/null; then
   echo "sanitizer build: only the demo suite (the others run in the Release build)"
   suites="demo"
 fi
