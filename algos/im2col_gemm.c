@@ -18,8 +18,10 @@
  *
  * Threads.  The lowering of a block is split over rows of X_g through
  * cp_parallel_for when the block is large enough to pay for it; every row
- * starts on its own cache line, so workers never share one.  The GEMM runs on
- * the calling thread: OpenBLAS's own thread count is the caller's business.
+ * starts on its own cache line, so workers never share one.  The GEMM is split
+ * over the same workers by columns (gemm_split.h), each calling OpenBLAS on
+ * one thread; with a one-worker executor it is one call and OpenBLAS threads
+ * as the caller set it.
  * Images are not batched into one GEMM: with NCHW output the columns of two
  * images do not form one matrix in y, and batching would need a copy. */
 #include <cblas.h>
@@ -27,6 +29,7 @@
 #include <string.h>
 
 #include "cpa.h"
+#include "gemm_split.h"
 #include "im2col_lower.h"
 
 enum { PARAM_ROW_BLOCK = 0 };
@@ -150,12 +153,6 @@ static void add_bias_rows(float *y, int64_t ld, const float *bias, int64_t nk, i
     }
 }
 
-static void gemm(int64_t m, int64_t n, int64_t k, const float *a, int64_t lda, const float *b,
-                 int64_t ldb, float *c, int64_t ldc) {
-    cblas_sgemm(CblasRowMajor, CblasNoTrans, CblasNoTrans, (blasint)m, (blasint)n, (blasint)k,
-                1.0f, a, (blasint)lda, b, (blasint)ldb, 0.0f, c, (blasint)ldc);
-}
-
 typedef struct {
     const cp_shape *s;
     const float *xg;
@@ -175,7 +172,8 @@ static void run_pointwise(const cp_run_args *a, const float *w) {
     for (int64_t n = 0; n < s->n; n++)
         for (int64_t g = 0; g < G; g++) {
             float *yg = a->y + (n * s->k + g * kg) * HW;
-            gemm(kg, HW, cg, w + g * kg * cg, cg, a->x + (n * s->c + g * cg) * HW, HW, yg, HW);
+            cpa_sgemm_cols(a->exec, kg, HW, cg, w + g * kg * cg, cg, a->x + (n * s->c + g * cg) * HW,
+                           HW, yg, HW);
             if (a->bias) add_bias_rows(yg, HW, a->bias + g * kg, kg, HW);
         }
 }
@@ -205,7 +203,7 @@ static cp_status im2col_run(const cp_run_args *a) {
                     cp_parallel_for(a->exec, rows, lower_task, &j);
                 else
                     lower_task(&j, 0, rows, 0);
-                gemm(kg, cols, rows, wg, rows, col, ldcol, yg + p0 * Q, PQ);
+                cpa_sgemm_cols(a->exec, kg, cols, rows, wg, rows, col, ldcol, yg + p0 * Q, PQ);
                 if (a->bias) add_bias_rows(yg + p0 * Q, PQ, a->bias + g * kg, kg, cols);
             }
         }

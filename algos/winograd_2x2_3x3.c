@@ -12,7 +12,8 @@
  * overlapping by 2):
  *   prepare: U[xi] (K x C) = (G g G^T)[xi] for every (k, c), xi = 4*i + j.
  *   run:     V[xi] (C x T) = (B^T d B)[xi] per tile and channel   (parallel over c)
- *            M[xi] (K x T) = U[xi] * V[xi], 16 cblas_sgemm calls   (calling thread)
+ *            M[xi] (K x T) = U[xi] * V[xi], 16 cblas_sgemm calls   (shared out over the
+ *                                                              workers, gemm_split.h)
  *            y = A^T M A + bias, clipped to P x Q                  (parallel over k)
  * Workspace holds the 16 V and 16 M matrices of one block plus four row buffers
  * per worker, so it grows with the block, never with the layer. */
@@ -20,6 +21,7 @@
 #include <string.h>
 
 #include "cpa.h"
+#include "gemm_split.h"
 #include "winograd_kernels.h"
 
 enum { WINO_TILE_BLOCK = 0, WINO_KERNELS = 1 };
@@ -288,10 +290,8 @@ static cp_status wino_run(const cp_run_args *a) {
         blk.t0 = t0;
         blk.nt = all - t0 < tb ? all - t0 : tb;
         cp_parallel_for(a->exec, C, wino_input_task, &blk);
-        for (int xi = 0; xi < 16; xi++)
-            cblas_sgemm(CblasRowMajor, CblasNoTrans, CblasNoTrans, (blasint)K, (blasint)blk.nt,
-                        (blasint)C, 1.0f, u + xi * K * C, (blasint)C, blk.v + xi * C * ld,
-                        (blasint)ld, 0.0f, blk.m + xi * K * ld, (blasint)ld);
+        cpa_sgemm_batch(a->exec, 16, K, blk.nt, C, u, K * C, C, blk.v, C * ld, ld, blk.m, K * ld,
+                        ld);
         cp_parallel_for(a->exec, K, wino_output_task, &blk);
     }
     return CP_OK;
