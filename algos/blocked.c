@@ -12,7 +12,10 @@
  *    the workspace zero padded, with each row split into stride_w phases
  *    (column col stored at (col % stride_w) * Wph + col / stride_w), so that
  *    the pixels of a segment read consecutive floats at every stride and
- *    dilation.  Otherwise x is read in place.
+ *    dilation.  Otherwise x is read in place.  A strided 1x1 layer without
+ *    padding copies only the pixels it reads, as dense P x Q planes, and is
+ *    then computed as a stride-1 1x1 layer (a quarter of the copy at stride
+ *    2, and whole 8-pixel segments).
  *  - Pixels: a tile takes two segments of up to 8 consecutive output pixels
  *    of a row block; for 1x1 stride-1 unpadded layers the block's rows are
  *    one run of pixels, so Q = 14 or 7 still fills the vectors.
@@ -51,7 +54,9 @@ static const cp_param_desc blocked_params[NPARAMS] = {
 typedef struct {
     int64_t P, Q, cg, kg, ntk, ntap;
     int copy;                /* 1: pad/phase-split the input into the workspace */
-    int flat;                /* 1: 1x1, stride 1, no pad: pixel f of a plane reads x[f] */
+    int sub;                 /* 1: 1x1, no pad, strided: copy only the pixels read (P x Q) */
+    int flat;                /* 1: 1x1 read densely: pixel f of a plane reads x[f] */
+    int64_t sh;              /* input rows between output rows in the buffer read */
     int64_t wph, wrow, hrow; /* floats per phase, per row; rows per channel */
     int64_t cs;              /* floats per channel of the input read */
 } blk_geom;
@@ -64,10 +69,16 @@ static blk_geom geom(const cp_shape *s) {
     g.kg = s->k / s->groups;
     g.ntk = (g.kg + MR - 1) / MR;
     g.ntap = s->r * s->s;
-    g.copy = !(s->pad_top == 0 && s->pad_left == 0 && s->pad_bottom == 0 && s->pad_right == 0 &&
-               s->stride_w == 1);
-    g.flat = !g.copy && s->r == 1 && s->s == 1 && s->stride_h == 1;
-    if (g.copy) {
+    const int nopad =
+        s->pad_top == 0 && s->pad_left == 0 && s->pad_bottom == 0 && s->pad_right == 0;
+    g.sub = nopad && s->r == 1 && s->s == 1 && (s->stride_h > 1 || s->stride_w > 1);
+    g.copy = g.sub || !(nopad && s->stride_w == 1);
+    g.flat = (!g.copy && s->r == 1 && s->s == 1 && s->stride_h == 1) || g.sub;
+    g.sh = g.sub ? 1 : s->stride_h;
+    if (g.sub) { /* the strided 1x1 layer becomes a dense one on P x Q planes */
+        g.wph = g.wrow = g.Q;
+        g.hrow = g.P;
+    } else if (g.copy) {
         const int64_t wp = s->w + s->pad_left + s->pad_right;
         g.wph = (wp + s->stride_w - 1) / s->stride_w;
         g.wrow = g.wph * s->stride_w;
@@ -123,7 +134,7 @@ static void blocked_defaults(const cp_shape *s, const cp_cache_sizes *caches, cp
      * of L2: every weight tile is then used on many pixels. */
     int64_t pb = 1;
     while (pb < g.P) {
-        const int64_t rows = pb * s->stride_h + (s->r - 1) * s->dil_h + 1; /* for pb+1 */
+        const int64_t rows = pb * g.sh + (s->r - 1) * s->dil_h + 1; /* for pb+1 */
         if (cb * rows * g.wrow * (int64_t)sizeof(float) > l2 / 2) break;
         pb++;
     }
@@ -267,6 +278,12 @@ static void pad_task(void *arg, int64_t b, int64_t e, int worker) {
     for (int64_t c = b; c < e; c++) {
         float *dst = dst0 + c * j->g.cs;
         const float *src = j->xsrc + c * s->h * s->w;
+        if (j->g.sub) { /* only the pixels a strided 1x1 kernel reads */
+            const int64_t sh = s->stride_h;
+            for (int64_t p = 0; p < j->g.P; p++, dst += j->g.Q)
+                for (int64_t q = 0; q < j->g.Q; q++) dst[q] = src[p * sh * s->w + q * sw];
+            continue;
+        }
         memset(dst, 0, (size_t)j->g.cs * sizeof(float));
         for (int64_t ih = 0; ih < s->h; ih++) {
             float *row = dst + (ih + s->pad_top) * j->g.wrow;
@@ -352,7 +369,7 @@ static void compute_task(void *arg, int64_t b, int64_t e, int worker) {
                             continue;
                         }
                         segment(g, j->pb, pbi, i + v, &p, &q0, &nv);
-                        const int64_t xo = xc0 * g->cs + p * s->stride_h * g->wrow + q0;
+                        const int64_t xo = xc0 * g->cs + p * g->sh * g->wrow + q0;
                         t.x[v] = j->xb + xo;
                         t.y[v] = yk + p * g->Q + q0;
                         t.n[v] = nv;
