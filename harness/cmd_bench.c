@@ -3,6 +3,11 @@
  *
  * Each algorithm runs through a plan (cp_plan_create / cp_plan_run) with its
  * default parameters for this machine's caches; the harness only times it.
+ * Beside the algorithms, in the same run and with the same statistics: the
+ * bare SGEMM of the im2col products ("sgemm") and of Winograd's GEMM stage
+ * ("sgemm_wino", gemm_ref.h), and with --table what the tuning table chooses
+ * ("chosen", through cp_table_plan).  Then the suite summaries
+ * (bench_summary.h): each performance target, PASS / MISS and by how much.
  * Thread counts are the outer loop because a pool pins its workers (the
  * calling thread included) and only one pool lives at a time.
  *
@@ -19,14 +24,21 @@
  *     "settings": {"timing": {timing settings as in report_json.h},
  *                  "threads": [1, 2], "modes": ["xcorr"], "seed": 1,
  *                  "caches": {"l1d", "l2", "l3", "line"}},
+ *     "roofs_end": null | {the same, measured after the rows},
  *     "results": [
  *       {"layer": "conv1", "layer_count": 1, "shape": {shape object},
  *        "mode": "xcorr", "threads": 1, "pinned": true, "algo": "direct",
+ *        "kind": "algorithm" | "reference" | "chosen",
+ *        "chosen_algo": "blocked" (chosen rows), "flops_performed": 2mnk (SGEMM rows),
  *        "status": "ok" | "unsupported" | "error", "reason": "..." (not ok),
  *        "params": {"kb": 64}, "params_text": "kb=64", "flops": 2.3e9,
  *        "gflops": 41.2, "peak_gflops": 90.1 | null, "peak_fraction": 0.457 | null,
  *        "measurement": {measurement object, report_json.h}}      (ok only)
- *     ]
+ *     ],
+ *     "summaries": [{"id": "blocked_peak", "target_text", "comparison": ">=",
+ *                    "target": 0.7, "value", "unit", "verdict": "pass"|"miss"|"n/a",
+ *                    "missed_by": relative | null, "threads", "base_threads",
+ *                    "mode", "note", "layers": [{"layer", "value", "verdict"?}]}]
  *   }
  * Fields are only ever added within a version; readers ignore unknown keys.
  * The same structure as a JSON Schema: tests/data/bench_results.schema.json
@@ -54,7 +66,12 @@
 #include "timing.h"
 
 #define BENCH_MAX_THREADS 256
-#define BENCH_ROOF_SECONDS 0.5
+/* Roofs are the best of several runs: on a shared machine more runs give
+ * more chances of an undisturbed one.  They are measured again at the end,
+ * and a disagreement of more than 10 % is reported (the machine's load
+ * changed during the run). */
+#define BENCH_ROOF_SECONDS 1.0
+#define BENCH_ROOF_DRIFT 0.10
 
 static void usage(FILE *f) {
     fprintf(f,
@@ -122,6 +139,8 @@ typedef struct bench_run {
     cp_cache_sizes caches;
     cph_roofs roofs;
     int have_roofs;
+    cph_roofs roofs_end; /* measured again after the rows */
+    int have_roofs_end;
     int threads[BENCH_MAX_THREADS];
     int nthreads;
     json_t *results; /* NULL without --json */
@@ -512,9 +531,9 @@ static int bench_layer(bench_run *r, const bench_cfg *c, size_t li, int threads,
     return rc;
 }
 
-static json_t *roofs_json(const bench_run *r) {
-    if (!r->have_roofs) return json_null();
-    const cph_roofs *f = &r->roofs;
+static json_t *roofs_json(const bench_run *r, int end) {
+    if (end ? !r->have_roofs_end : !r->have_roofs) return json_null();
+    const cph_roofs *f = end ? &r->roofs_end : &r->roofs;
     return json_pack("{s:o, s:o, s:o, s:o, s:o, s:o, s:i, s:o}", "peak_1core_gflops",
                      cph_json_number(f->peak_1core_gflops), "peak_all_gflops",
                      cph_json_number(f->peak_all_gflops), "bw_1core_gbs",
@@ -547,7 +566,7 @@ static json_t *document(const bench_run *r, const bench_cfg *c, int argc, char *
                      "convpick-bench-results", "version", 1, "convpick_version",
                      CONVPICK_VERSION, "git_rev", CP_GIT_REV, "created_utc", when,
                      "command_line", cmd, "fingerprint", r->m.fingerprint, "device",
-                     device ? device : json_null(), "roofs", roofs_json(r), "settings", settings,
+                     device ? device : json_null(), "roofs", roofs_json(r, 0), "settings", settings,
                      "results", r->results, "summaries", summaries ? summaries : json_null());
 }
 
@@ -634,6 +653,16 @@ static int bench(bench_cfg *c, int argc, char **argv) {
         cph_pool_destroy(pool);
     }
     if (rc == CPH_EXIT_OK && r->failures) rc = CPH_EXIT_FAIL;
+    if (r->have_roofs &&
+        cph_roofs_measure(&r->m, BENCH_ROOF_SECONDS, &r->roofs_end, msg, sizeof msg) == CP_OK) {
+        r->have_roofs_end = 1;
+        const double a = r->roofs.peak_1core_gflops, b = r->roofs_end.peak_1core_gflops;
+        printf("\nroofs at the end: FMA peak %.1f GFLOP/s (1 core), %.1f GFLOP/s (%d cores)%s\n",
+               b, r->roofs_end.peak_all_gflops, r->roofs_end.cores_used,
+               fabs(b - a) > BENCH_ROOF_DRIFT * a ? " -- differs by more than 10 % from the "
+                                                    "start: the machine's load changed"
+                                              : "");
+    }
     cph_summary *sums = NULL;
     size_t nsums = 0;
     if (r->oom) {
@@ -652,6 +681,7 @@ static int bench(bench_cfg *c, int argc, char **argv) {
     }
     if (c->json_path) {
         json_t *doc = document(r, c, argc, argv, sums ? cph_summaries_json(sums, nsums) : NULL);
+        if (doc) json_object_set_new(doc, "roofs_end", roofs_json(r, 1));
         if (!doc) {
             cph_err("bench: out of memory building %s", c->json_path);
             rc = CPH_EXIT_FAIL;
