@@ -25,6 +25,19 @@ cp_status cph_bench_recs_add(cph_bench_recs *r, const cph_bench_rec *rec) {
     return CP_OK;
 }
 
+cp_status cph_bench_recs_fastest(const cph_bench_recs *r, cph_bench_recs *out) {
+    memset(out, 0, sizeof *out);
+    for (size_t i = 0; i < r->n; i++) {
+        cph_bench_rec e = r->v[i];
+        e.median = e.fastest;
+        if (cph_bench_recs_add(out, &e) != CP_OK) {
+            cph_bench_recs_free(out);
+            return CP_ENOMEM;
+        }
+    }
+    return CP_OK;
+}
+
 void cph_bench_recs_free(cph_bench_recs *r) {
     free(r->v);
     memset(r, 0, sizeof *r);
@@ -347,11 +360,13 @@ static void fmt_value(const cph_summary *s, double v, char *buf, size_t cap) {
         snprintf(buf, cap, "%.1f %%", 100.0 * v);
 }
 
-void cph_summaries_print(FILE *f, const cph_summary *s, size_t n) {
+void cph_summaries_print(FILE *f, const cph_summary *s, const cph_summary *fast, size_t n) {
     fprintf(f, "\nsummary: ratios of medians measured side by side in this run; suite = sum "
-               "over layers of count x median\n");
-    fprintf(f, "%-17s %-5s %4s %10s %11s  %-7s %9s  %s\n", "target", "mode", "thr", "figure",
-            "target", "verdict", "missed_by", "note");
+               "over layers of count x median%s\n",
+            fast ? "; 'fastest': the same from each row's fastest sample (noise floor, "
+                   "not the verdict)" : "");
+    fprintf(f, "%-17s %-5s %4s %10s %11s  %-7s %9s %15s  %s\n", "target", "mode", "thr", "figure",
+            "target", "verdict", "missed_by", fast ? "fastest" : "", "note");
     for (size_t i = 0; i < n; i++) {
         const cph_summary *x = &s[i];
         char v[32], t[32], thr[8], mb[16] = "-";
@@ -364,9 +379,15 @@ void cph_summaries_print(FILE *f, const cph_summary *s, size_t n) {
         else
             snprintf(thr, sizeof thr, "%d", x->threads);
         if (x->verdict == CPH_MISS) snprintf(mb, sizeof mb, "%.1f %%", 100.0 * x->missed_by);
-        fprintf(f, "%-17s %-5s %4s %10s %11s  %-7s %9s  %s\n", x->id,
+        char fv[40] = "";
+        if (fast) {
+            char tmp[24];
+            fmt_value(&fast[i], fast[i].value, tmp, sizeof tmp);
+            snprintf(fv, sizeof fv, "%s %s", tmp, verdict_name(fast[i].verdict));
+        }
+        fprintf(f, "%-17s %-5s %4s %10s %11s  %-7s %9s %15s  %s\n", x->id,
                 x->mode == CP_CONV ? "conv" : "xcorr", thr, v, t, verdict_name(x->verdict), mb,
-                x->note);
+                fv, x->note);
     }
     fprintf(f, "\nper layer:\n");
     for (size_t i = 0; i < n; i++) {
@@ -381,14 +402,24 @@ void cph_summaries_print(FILE *f, const cph_summary *s, size_t n) {
         for (size_t j = 0; j < x->nlayers; j++) {
             char v[32];
             fmt_value(x, x->layers[j].value, v, sizeof v);
-            fprintf(f, "    %-20s %10s%s%s\n", x->layers[j].layer, v,
+            char fv[48] = "";
+            if (fast && j < fast[i].nlayers) {
+                char tmp[24];
+                fmt_value(&fast[i], fast[i].layers[j].value, tmp, sizeof tmp);
+                snprintf(fv, sizeof fv, "  (fastest %s)", tmp);
+            }
+            fprintf(f, "    %-20s %10s%s%s%s\n", x->layers[j].layer, v,
                     x->layers[j].verdict == CPH_NA ? "" : "  ",
-                    x->layers[j].verdict == CPH_NA ? "" : verdict_name(x->layers[j].verdict));
+                    x->layers[j].verdict == CPH_NA ? "" : verdict_name(x->layers[j].verdict), fv);
         }
     }
 }
 
-json_t *cph_summaries_json(const cph_summary *s, size_t n) {
+static const char *verdict_json(cph_verdict v) {
+    return v == CPH_PASS ? "pass" : v == CPH_MISS ? "miss" : "n/a";
+}
+
+json_t *cph_summaries_json(const cph_summary *s, const cph_summary *fast, size_t n) {
     json_t *arr = json_array();
     if (!arr) return NULL;
     for (size_t i = 0; i < n; i++) {
@@ -397,6 +428,8 @@ json_t *cph_summaries_json(const cph_summary *s, size_t n) {
         for (size_t j = 0; j < x->nlayers; j++) {
             json_t *L = json_pack("{s:s, s:o}", "layer", x->layers[j].layer, "value",
                                   cph_json_number(x->layers[j].value));
+            if (L && fast && j < fast[i].nlayers)
+                json_object_set_new(L, "value_fastest", cph_json_number(fast[i].layers[j].value));
             if (L && x->layers[j].verdict != CPH_NA)
                 json_object_set_new(L, "verdict",
                                     json_string(x->layers[j].verdict == CPH_PASS ? "pass" : "miss"));
@@ -411,6 +444,10 @@ json_t *cph_summaries_json(const cph_summary *s, size_t n) {
             "threads", x->threads, "base_threads",
             x->base_threads ? json_integer(x->base_threads) : json_null(), "mode",
             x->mode == CP_CONV ? "conv" : "xcorr", "note", x->note, "layers", layers);
+        if (o && fast) {
+            json_object_set_new(o, "value_fastest", cph_json_number(fast[i].value));
+            json_object_set_new(o, "verdict_fastest", json_string(verdict_json(fast[i].verdict)));
+        }
         if (!o || json_array_append_new(arr, o)) {
             json_decref(arr);
             return NULL;

@@ -16,7 +16,9 @@
  *  scaling           all physical cores vs one thread: suite throughput of
  *                    the chosen (else the best) algorithm per layer >= 1.7x.
  * Suite time = sum over layers of count x median; every ratio uses only the
- * layers where all the rows it compares were measured. */
+ * layers where all the rows it compares were measured.  The verdicts use the
+ * medians; the same figures from the fastest samples are reported beside
+ * them as the machine's noise floor, never in their place. */
 #ifndef CONVPICK_BENCH_SUMMARY_H
 #define CONVPICK_BENCH_SUMMARY_H
 
@@ -47,6 +49,7 @@ typedef struct cph_bench_rec {
     char name[32];        /* algorithm name, "sgemm", "sgemm_wino" or "chosen" */
     char algo[32];        /* the algorithm behind the row ("" for SGEMM rows) */
     double median;        /* seconds */
+    double fastest;       /* the fastest sample, seconds */
     double flops;         /* direct-equivalent FLOPs of the layer */
 } cph_bench_rec;
 
@@ -93,9 +96,17 @@ size_t cph_bench_summarize(const cph_bench_recs *r, double peak_1core, int cores
                            cph_summary **out);
 void cph_summaries_free(cph_summary *s, size_t n);
 
-/* Prints the summaries as a table with PASS / MISS / n/a and the shortfall. */
-void cph_summaries_print(FILE *f, const cph_summary *s, size_t n);
-/* The summaries as a JSON array (new reference, NULL on failure). */
-json_t *cph_summaries_json(const cph_summary *s, size_t n);
+/* The same records with every median replaced by the fastest sample (for
+ * cph_bench_summarize: the summaries at the noise floor -- on a shared
+ * machine interference only ever adds time).  CP_ENOMEM on failure. */
+cp_status cph_bench_recs_fastest(const cph_bench_recs *r, cph_bench_recs *out);
+
+/* Prints the summaries as a table with PASS / MISS / n/a and the shortfall;
+ * fast (NULL or the same summaries computed from the fastest samples, same
+ * order) adds a column with that figure and verdict. */
+void cph_summaries_print(FILE *f, const cph_summary *s, const cph_summary *fast, size_t n);
+/* The summaries as a JSON array (new reference, NULL on failure); fast as
+ * above adds "value_fastest" and "verdict_fastest". */
+json_t *cph_summaries_json(const cph_summary *s, const cph_summary *fast, size_t n);
 
 #endif

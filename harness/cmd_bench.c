@@ -383,6 +383,7 @@ static double time_row(bench_run *r, const cph_timing_opts *to, const row_ctx *x
         snprintf(rec.name, sizeof rec.name, "%s", x->name);
         snprintf(rec.algo, sizeof rec.algo, "%s", x->algo);
         rec.median = median;
+        rec.fastest = s->min;
         rec.flops = flops;
         if (cph_bench_recs_add(&r->recs, &rec) != CP_OK) r->oom = 1;
     }
@@ -663,7 +664,7 @@ static int bench(bench_cfg *c, int argc, char **argv) {
                                                     "start: the machine's load changed"
                                               : "");
     }
-    cph_summary *sums = NULL;
+    cph_summary *sums = NULL, *fast = NULL;
     size_t nsums = 0;
     if (r->oom) {
         cph_err("bench: out of memory recording the rows: no summaries");
@@ -671,16 +672,26 @@ static int bench(bench_cfg *c, int argc, char **argv) {
     } else {
         nsums = cph_bench_summarize(&r->recs, r->have_roofs ? r->roofs.peak_1core_gflops : 0,
                                     r->m.cores, &sums);
-        if (nsums == (size_t)-1) {
+        cph_bench_recs fr;
+        size_t nfast = (size_t)-1;
+        if (nsums != (size_t)-1 && cph_bench_recs_fastest(&r->recs, &fr) == CP_OK) {
+            nfast = cph_bench_summarize(&fr, r->have_roofs ? r->roofs.peak_1core_gflops : 0,
+                                        r->m.cores, &fast);
+            cph_bench_recs_free(&fr);
+        }
+        if (nsums == (size_t)-1 || nfast != nsums) {
             cph_err("bench: out of memory computing the summaries");
+            if (nsums != (size_t)-1) cph_summaries_free(sums, nsums);
+            if (nfast != (size_t)-1) cph_summaries_free(fast, nfast);
+            sums = fast = NULL;
             nsums = 0;
             rc = CPH_EXIT_FAIL;
         } else {
-            cph_summaries_print(stdout, sums, nsums);
+            cph_summaries_print(stdout, sums, fast, nsums);
         }
     }
     if (c->json_path) {
-        json_t *doc = document(r, c, argc, argv, sums ? cph_summaries_json(sums, nsums) : NULL);
+        json_t *doc = document(r, c, argc, argv, sums ? cph_summaries_json(sums, fast, nsums) : NULL);
         if (doc) json_object_set_new(doc, "roofs_end", roofs_json(r, 1));
         if (!doc) {
             cph_err("bench: out of memory building %s", c->json_path);
@@ -696,6 +707,7 @@ static int bench(bench_cfg *c, int argc, char **argv) {
         }
     }
     cph_summaries_free(sums, nsums);
+    cph_summaries_free(fast, nsums);
 done:
     json_decref(r->results);
     cph_bench_recs_free(&r->recs);

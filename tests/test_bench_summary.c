@@ -42,6 +42,7 @@ static void add(cph_bench_recs *r, size_t layer, const char *lname, int count, c
     e.kind = kind;
     snprintf(e.name, sizeof e.name, "%s", name);
     e.median = ms * 1e-3;
+    e.fastest = 0.9 * ms * 1e-3; /* every row's fastest sample 10 % below its median */
     e.flops = flops;
     assert_int_equal(cph_bench_recs_add(r, &e), CP_OK);
 }
@@ -137,7 +138,7 @@ static void worked_example(void **state) {
     assert_near(sc->value, 5.9 / 3.2);
     assert_int_equal(sc->verdict, CPH_PASS);
 
-    json_t *j = cph_summaries_json(s, n);
+    json_t *j = cph_summaries_json(s, NULL, n);
     assert_non_null(j);
     assert_int_equal(json_array_size(j), n);
     json_decref(j);
@@ -163,10 +164,29 @@ static void missing_rows_are_na(void **state) {
     cph_bench_recs_free(&r);
 }
 
+/* The noise-floor summaries: every row 10 % faster scales throughput by 1/0.9
+ * and leaves every ratio of times unchanged. */
+static void fastest_samples(void **state) {
+    (void)state;
+    cph_bench_recs r = {0}, f = {0};
+    fill(&r, 1);
+    assert_int_equal(cph_bench_recs_fastest(&r, &f), CP_OK);
+    assert_int_equal(f.n, r.n);
+    cph_summary *s = NULL;
+    const size_t n = cph_bench_summarize(&f, 100.0, 2, &s);
+    assert_near(get(s, n, "blocked_peak", 1)->value, 0.5 / 0.9);
+    assert_near(get(s, n, "im2col_vs_sgemm", 1)->value, 10.6 / 9.0);
+    assert_near(get(s, n, "scaling", 2)->value, 5.9 / 3.2);
+    cph_summaries_free(s, n);
+    cph_bench_recs_free(&f);
+    cph_bench_recs_free(&r);
+}
+
 int main(void) {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(worked_example),
         cmocka_unit_test(missing_rows_are_na),
+        cmocka_unit_test(fastest_samples),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
