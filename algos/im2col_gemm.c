@@ -16,12 +16,15 @@
  * True convolution flips them once in prepare() (cp_weights_flip), except for
  * 1x1 kernels where the flip is the identity and the raw weights are used.
  *
- * Threads.  The lowering of a block is split over rows of X_g through
- * cp_parallel_for when the block is large enough to pay for it; every row
- * starts on its own cache line, so workers never share one.  The GEMM is split
- * over the same workers by columns (gemm_split.h), each calling OpenBLAS on
- * one thread; with a one-worker executor it is one call and OpenBLAS threads
- * as the caller set it.
+ * Threads.  With at least two blocks (image x group x row block) per worker,
+ * or a whole number of blocks per worker, the blocks are shared out: each worker lowers its blocks into its own
+ * column buffer and multiplies them itself (OpenBLAS on one thread, as the
+ * pool sets it), so no worker waits for another and a buffer never leaves
+ * its worker's L2.  With fewer blocks, each block's lowering is split over
+ * rows of X_g (when large enough to pay for it; every row starts on its own
+ * cache line, so workers never share one) and its GEMM over the same workers
+ * by columns (gemm_split.h).  With a one-worker executor the GEMM is one call
+ * and OpenBLAS threads as the caller set it.
  * Images are not batched into one GEMM: with NCHW output the columns of two
  * images do not form one matrix in y, and batching would need a copy. */
 #include <cblas.h>
@@ -58,6 +61,11 @@ static int64_t col_rows(const cp_shape *s) { return (s->c / s->groups) * s->r * 
 /* Leading dimension of a column block of `pixels` columns: a whole number of
  * 64-byte lines, so that rows never share a line. */
 static int64_t col_ld(int64_t pixels) { return (pixels + 15) & ~(int64_t)15; }
+
+/* Bytes of one column buffer (a whole number of lines: rows never share one). */
+static size_t col_bytes(const cp_shape *s, int64_t rb) {
+    return (size_t)(col_rows(s) * col_ld(rb * cp_shape_out_w(s))) * sizeof(float);
+}
 
 static int64_t clamp_rows(const cp_shape *s, int64_t rb) {
     const int64_t P = cp_shape_out_h(s);
@@ -141,15 +149,15 @@ static int im2col_candidates(const cp_shape *s, const cp_cache_sizes *caches, cp
     return n;
 }
 
-/* One column buffer for the whole run (the lowering is shared by the workers,
- * not replicated), so nthreads does not change the size. */
+/* One column buffer per worker (see "Threads" above); a single worker's is
+ * also the shared buffer when the blocks are too few to go round. */
 static size_t im2col_workspace_size(const cp_shape *s, cp_mode mode, const cp_params *p,
                                     int nthreads) {
     (void)mode;
-    (void)nthreads;
     if (is_pointwise(s)) return 0;
+    if (nthreads < 1) nthreads = 1;
     const int64_t rb = clamp_rows(s, p->v[PARAM_ROW_BLOCK]);
-    return (size_t)(col_rows(s) * col_ld(rb * cp_shape_out_w(s))) * sizeof(float);
+    return (size_t)nthreads * col_bytes(s, rb);
 }
 
 static size_t im2col_prepared_size(const cp_shape *s, cp_mode mode, const cp_params *p) {
@@ -202,6 +210,35 @@ static void run_pointwise(const cp_run_args *a, const float *w) {
         }
 }
 
+/* Per-worker blocks: block b = (image, group, row block) flattened; each
+ * worker lowers its blocks into its own column buffer and multiplies them on
+ * its own, single-threaded OpenBLAS call, so the buffer stays in its L2. */
+typedef struct {
+    const cp_run_args *a;
+    int64_t rb, nrb, ldcol;
+    size_t col_floats; /* floats per worker buffer */
+} block_job;
+
+static void block_task(void *arg, int64_t begin, int64_t end, int worker) {
+    const block_job *j = arg;
+    const cp_run_args *a = j->a;
+    const cp_shape *s = a->shape;
+    const int64_t G = s->groups, cg = s->c / G, kg = s->k / G;
+    const int64_t P = cp_shape_out_h(s), Q = cp_shape_out_w(s), PQ = P * Q, rows = col_rows(s);
+    const float *w = a->weights;
+    float *col = (float *)a->workspace + (size_t)worker * j->col_floats;
+    for (int64_t b = begin; b < end; b++) {
+        const int64_t n = b / (G * j->nrb), g = (b / j->nrb) % G, p0 = (b % j->nrb) * j->rb;
+        const int64_t p1 = p0 + j->rb < P ? p0 + j->rb : P, cols = (p1 - p0) * Q;
+        const float *xg = a->x + (n * s->c + g * cg) * s->h * s->w;
+        float *yg = a->y + (n * s->k + g * kg) * PQ;
+        cpa_im2col_lower_rows(s, xg, p0, p1, col, j->ldcol, 0, rows);
+        cpa_sgemm_cols(NULL, kg, cols, rows, w + g * kg * rows, rows, col, j->ldcol, yg + p0 * Q,
+                       PQ);
+        if (a->bias) add_bias_rows(yg + p0 * Q, PQ, a->bias + g * kg, kg, cols);
+    }
+}
+
 static cp_status im2col_run(const cp_run_args *a) {
     const cp_shape *s = a->shape;
     const float *w = a->weights;
@@ -213,7 +250,14 @@ static cp_status im2col_run(const cp_run_args *a) {
     const int64_t P = cp_shape_out_h(s), Q = cp_shape_out_w(s), PQ = P * Q;
     const int64_t rows = col_rows(s), rb = clamp_rows(s, a->params->v[PARAM_ROW_BLOCK]);
     const int64_t ldcol = col_ld(rb * Q);
-    const int parallel = cp_exec_threads(a->exec) > 1;
+    const int nt = cp_exec_threads(a->exec), parallel = nt > 1;
+    const int64_t nrb = (P + rb - 1) / rb;
+    const int64_t nblk = s->n * G * nrb;
+    if (parallel && (nblk >= 2 * (int64_t)nt || nblk % nt == 0)) {
+        block_job bj = {a, rb, nrb, ldcol, col_bytes(s, rb) / sizeof(float)};
+        cp_parallel_for(a->exec, s->n * G * nrb, block_task, &bj);
+        return CP_OK;
+    }
     float *col = a->workspace;
     for (int64_t n = 0; n < s->n; n++)
         for (int64_t g = 0; g < G; g++) {
