@@ -134,6 +134,11 @@ static void blocked_defaults(const cp_shape *s, const cp_cache_sizes *caches, cp
     int64_t cbmax = (l1 / 2) / tile_w_per_c;
     if ((l1 / 2) / x_per_c < cbmax) cbmax = (l1 / 2) / x_per_c;
     cbmax = clamp64(cbmax, 1, g.cg);
+    /* A 1x1 layer with up to twice that many channels runs them as one block:
+     * one pass over y instead of two read-modify-writes measured faster
+     * (c=256 k=64 56x56: 1.24 ms at cb=256 vs 1.39 ms at cb=128, fastest
+     * samples on one Zen 3 core). */
+    if (g.ntap == 1 && g.cg <= 2 * cbmax) cbmax = g.cg;
     /* Equal blocks (512 channels, at most 72: 8 x 64, not 7 x 72 + 8). */
     const int64_t ncb = (g.cg + cbmax - 1) / cbmax;
     const int64_t cb = (g.cg + ncb - 1) / ncb;
