@@ -617,6 +617,11 @@ static int bench(bench_cfg *c, int argc, char **argv) {
                    "bandwidth %.1f / %.1f GB/s\n",
                    r->roofs.peak_1core_gflops, r->roofs.peak_all_gflops, r->roofs.cores_used,
                    r->roofs.bw_1core_gbs, r->roofs.bw_all_gbs);
+            const double ratio = r->roofs.peak_all_gflops / r->roofs.peak_1core_gflops;
+            if (r->roofs.cores_used > 1 && ratio < 0.9 * r->roofs.cores_used)
+                printf("roofs: the %d-core peak is only %.2fx the 1-core peak: other work is "
+                       "running on these cores, so multi-thread rows are slowed by it\n",
+                       r->roofs.cores_used, ratio);
         } else {
             cph_warn("bench: roofs not measured (%s): no %% of peak", msg);
         }
