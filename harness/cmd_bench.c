@@ -668,6 +668,10 @@ static int bench(bench_cfg *c, int argc, char **argv) {
                fabs(b - a) > BENCH_ROOF_DRIFT * a ? " -- differs by more than 10 % from the "
                                                     "start: the machine's load changed"
                                               : "");
+        const double aa = r->roofs.peak_all_gflops, ba = r->roofs_end.peak_all_gflops;
+        if (fabs(ba - aa) > BENCH_ROOF_DRIFT * aa)
+            printf("roofs: the %d-core peak moved from %.1f to %.1f GFLOP/s during the run\n",
+                   r->roofs_end.cores_used, aa, ba);
     }
     cph_summary *sums = NULL, *fast = NULL;
     size_t nsums = 0;
