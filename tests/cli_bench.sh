@@ -83,6 +83,7 @@ expect_usage --shape "$shape" --threads 1,9999 --no-roofs
 expect_usage --shape "$shape" --bogus
 expect_usage --no-roofs
 expect_usage --shape n=1,c=0,h=4,w=4,k=4,r=3 --no-roofs
+expect_usage --shape "$shape" --no-roofs --table "$tmp/no-such-table.json"
 grep -q "target-ci" <("$CLI" bench --help) || { echo "FAIL: help lacks --target-ci"; exit 1; }
 
 # 4. An unwritable JSON path is refused before anything runs: exit 2, the
