@@ -12,7 +12,10 @@
  *    the workspace zero padded, with each row split into stride_w phases
  *    (column col stored at (col % stride_w) * Wph + col / stride_w), so that
  *    the pixels of a segment read consecutive floats at every stride and
- *    dilation.  Otherwise x is read in place.
+ *    dilation.  Otherwise x is read in place.  A strided 1x1 layer without
+ *    padding copies only the pixels it reads, as dense P x Q planes, and is
+ *    then computed as a stride-1 1x1 layer (a quarter of the copy at stride
+ *    2, and whole 8-pixel segments).
  *  - Pixels: a tile takes two segments of up to 8 consecutive output pixels
  *    of a row block; for 1x1 stride-1 unpadded layers the block's rows are
  *    one run of pixels, so Q = 14 or 7 still fills the vectors.
@@ -33,7 +36,7 @@
 #include "blocked_ukr.h"
 #include "cpa.h"
 
-enum { P_KB = 0, P_CB, P_PB, P_UKERNEL, NPARAMS };
+enum { P_KB = 0, P_CB, P_PB, P_UKERNEL, P_ORDER, NPARAMS };
 enum { MR = CPA_BLOCKED_MR, NV = CPA_BLOCKED_NV, SLACK = 2 * CPA_BLOCKED_NV };
 
 static const cp_param_desc blocked_params[NPARAMS] = {
@@ -45,13 +48,18 @@ static const cp_param_desc blocked_params[NPARAMS] = {
     {"pb", "output rows per cache block; default: the block's input rows in half of L2, "
            "halved until there are 8 tasks, one more if the 8-pixel segments are odd", 1, (int64_t)1 << 30},
     {"ukernel", "tile kernel: 0 = best the CPU supports, 1 = portable C", 0, 1},
+    {"order", "inside an input-channel block: 0 = channel tiles outer (a tile's weights stay "
+              "in L1), 1 = pixel pairs outer (a pair's input vectors stay in L1); default 1 "
+              "for 1x1 layers, else 0", 0, 1},
 };
 
 /* Sizes derived from the shape that run(), prepare and the sizes agree on. */
 typedef struct {
     int64_t P, Q, cg, kg, ntk, ntap;
     int copy;                /* 1: pad/phase-split the input into the workspace */
-    int flat;                /* 1: 1x1, stride 1, no pad: pixel f of a plane reads x[f] */
+    int sub;                 /* 1: 1x1, no pad, strided: copy only the pixels read (P x Q) */
+    int flat;                /* 1: 1x1 read densely: pixel f of a plane reads x[f] */
+    int64_t sh;              /* input rows between output rows in the buffer read */
     int64_t wph, wrow, hrow; /* floats per phase, per row; rows per channel */
     int64_t cs;              /* floats per channel of the input read */
 } blk_geom;
@@ -64,10 +72,16 @@ static blk_geom geom(const cp_shape *s) {
     g.kg = s->k / s->groups;
     g.ntk = (g.kg + MR - 1) / MR;
     g.ntap = s->r * s->s;
-    g.copy = !(s->pad_top == 0 && s->pad_left == 0 && s->pad_bottom == 0 && s->pad_right == 0 &&
-               s->stride_w == 1);
-    g.flat = !g.copy && s->r == 1 && s->s == 1 && s->stride_h == 1;
-    if (g.copy) {
+    const int nopad =
+        s->pad_top == 0 && s->pad_left == 0 && s->pad_bottom == 0 && s->pad_right == 0;
+    g.sub = nopad && s->r == 1 && s->s == 1 && (s->stride_h > 1 || s->stride_w > 1);
+    g.copy = g.sub || !(nopad && s->stride_w == 1);
+    g.flat = (!g.copy && s->r == 1 && s->s == 1 && s->stride_h == 1) || g.sub;
+    g.sh = g.sub ? 1 : s->stride_h;
+    if (g.sub) { /* the strided 1x1 layer becomes a dense one on P x Q planes */
+        g.wph = g.wrow = g.Q;
+        g.hrow = g.P;
+    } else if (g.copy) {
         const int64_t wp = s->w + s->pad_left + s->pad_right;
         g.wph = (wp + s->stride_w - 1) / s->stride_w;
         g.wrow = g.wph * s->stride_w;
@@ -111,11 +125,20 @@ static void blocked_defaults(const cp_shape *s, const cp_cache_sizes *caches, cp
     const int64_t l1 = (int64_t)caches->l1d, l2 = (int64_t)caches->l2;
     const int64_t tile_w_per_c = g.ntap * MR * (int64_t)sizeof(float);
     /* One tile's weights in half of L1, and its input (2 segments of NV floats
-     * per channel, what bounds 1x1 layers) in the other half. */
-    const int64_t x_per_c = 2 * NV * (int64_t)sizeof(float);
+     * per channel, what bounds 1x1 layers) in the other half.  The segments'
+     * channel stride is rarely a multiple of a line, so two segments touch
+     * up to four lines a channel: counted as 4 x 8 floats.  Measured on one
+     * Zen 3 core (fastest sample): c=1024 k=256 14x14 1.09 ms at cb=128 vs
+     * 1.17 ms at cb=256; c=2048 k=512 7x7 1.40 vs 1.57 ms. */
+    const int64_t x_per_c = 4 * NV * (int64_t)sizeof(float);
     int64_t cbmax = (l1 / 2) / tile_w_per_c;
     if ((l1 / 2) / x_per_c < cbmax) cbmax = (l1 / 2) / x_per_c;
     cbmax = clamp64(cbmax, 1, g.cg);
+    /* A 1x1 layer with up to twice that many channels runs them as one block:
+     * one pass over y instead of two read-modify-writes measured faster
+     * (c=256 k=64 56x56: 1.24 ms at cb=256 vs 1.39 ms at cb=128, fastest
+     * samples on one Zen 3 core). */
+    if (g.ntap == 1 && g.cg <= 2 * cbmax) cbmax = g.cg;
     /* Equal blocks (512 channels, at most 72: 8 x 64, not 7 x 72 + 8). */
     const int64_t ncb = (g.cg + cbmax - 1) / cbmax;
     const int64_t cb = (g.cg + ncb - 1) / ncb;
@@ -123,7 +146,7 @@ static void blocked_defaults(const cp_shape *s, const cp_cache_sizes *caches, cp
      * of L2: every weight tile is then used on many pixels. */
     int64_t pb = 1;
     while (pb < g.P) {
-        const int64_t rows = pb * s->stride_h + (s->r - 1) * s->dil_h + 1; /* for pb+1 */
+        const int64_t rows = pb * g.sh + (s->r - 1) * s->dil_h + 1; /* for pb+1 */
         if (cb * rows * g.wrow * (int64_t)sizeof(float) > l2 / 2) break;
         pb++;
     }
@@ -142,6 +165,7 @@ static void blocked_defaults(const cp_shape *s, const cp_cache_sizes *caches, cp
     out->v[P_CB] = cb;
     out->v[P_PB] = pb;
     out->v[P_UKERNEL] = 0;
+    out->v[P_ORDER] = s->r == 1 && s->s == 1;
 }
 
 static int same_params(const cp_params *a, const cp_params *b) {
@@ -159,6 +183,11 @@ static int blocked_candidates(const cp_shape *s, const cp_cache_sizes *caches, c
     const int64_t pbs[2] = {d.v[P_PB], clamp64(d.v[P_PB] * 2, 1, g.P)};
     const int64_t kbs[2] = {d.v[P_KB], clamp64(d.v[P_KB] / 2, 1, g.ntk)};
     int n = 0;
+    if (max >= 2) { /* the defaults, then the defaults in the other loop order */
+        out[n++] = d;
+        out[n] = d;
+        out[n++].v[P_ORDER] = !d.v[P_ORDER];
+    }
     for (int i = 0; i < 3; i++)
         for (int j = 0; j < 2; j++)
             for (int k = 0; k < 2; k++) {
@@ -253,6 +282,7 @@ typedef struct {
     const int64_t *tap_off;
     int64_t max_off;
     int flipidx;
+    int order;            /* P_ORDER */
     cpa_blocked_ukr_fn ukr;
     int full_reads;
 } blk_job;
@@ -267,6 +297,12 @@ static void pad_task(void *arg, int64_t b, int64_t e, int worker) {
     for (int64_t c = b; c < e; c++) {
         float *dst = dst0 + c * j->g.cs;
         const float *src = j->xsrc + c * s->h * s->w;
+        if (j->g.sub) { /* only the pixels a strided 1x1 kernel reads */
+            const int64_t sh = s->stride_h;
+            for (int64_t p = 0; p < j->g.P; p++, dst += j->g.Q)
+                for (int64_t q = 0; q < j->g.Q; q++) dst[q] = src[p * sh * s->w + q * sw];
+            continue;
+        }
         memset(dst, 0, (size_t)j->g.cs * sizeof(float));
         for (int64_t ih = 0; ih < s->h; ih++) {
             float *row = dst + (ih + s->pad_top) * j->g.wrow;
@@ -307,13 +343,79 @@ static int64_t segment(const blk_geom *g, int64_t pb, int64_t pbi, int64_t i, in
     return 0;
 }
 
-static void compute_task(void *arg, int64_t b, int64_t e, int worker) {
-    (void)worker;
-    const blk_job *j = arg;
+/* Where the two segments of pair i of pixel block pbi start (channel xc0 of
+ * the input read, offset of the output in a plane), their lengths, and
+ * whether full-vector reads stay inside the input buffer. */
+typedef struct {
+    const float *x[2];
+    int64_t yoff[2];
+    int n[2];
+    int safe;
+} seg_pair;
+
+static void pair_setup(const blk_job *j, int64_t pbi, int64_t i, int64_t nsegs, int64_t nc,
+                       int64_t xc0, seg_pair *sp) {
+    const blk_geom *g = &j->g;
+    int64_t p, q0;
+    int nv;
+    sp->safe = 1;
+    for (int v = 0; v < 2; v++) {
+        if (i + v >= nsegs) {
+            sp->x[1] = sp->x[0];
+            sp->yoff[1] = sp->yoff[0];
+            sp->n[1] = 0;
+            continue;
+        }
+        segment(g, j->pb, pbi, i + v, &p, &q0, &nv);
+        const int64_t xo = xc0 * g->cs + p * g->sh * g->wrow + q0;
+        sp->x[v] = j->xb + xo;
+        sp->yoff[v] = p * g->Q + q0;
+        sp->n[v] = nv;
+        if (xo + (nc - 1) * g->cs + j->max_off + NV > j->xb_len) sp->safe = 0;
+    }
+}
+
+/* The tile of channel tile kt for the input block starting at c0. */
+static void tile_setup(const blk_job *j, int64_t gr, int64_t kt, int64_t c0, int64_t nc,
+                       cpa_blocked_tile *t, float **yk) {
     const cp_run_args *a = j->a;
     const cp_shape *s = a->shape;
     const blk_geom *g = &j->g;
     const float *wpk = a->weights;
+    const int64_t k0 = gr * g->kg + kt * MR;
+    t->nc = nc;
+    t->ntap = g->ntap;
+    t->x_cs = g->cs;
+    t->tap_off = j->tap_off;
+    t->w = wpk + ((gr * g->ntk + kt) * g->cg + c0) * g->ntap * MR;
+    t->w_step = MR;
+    if (j->flipidx) { /* kernel tap (R-1-r, S-1-s) = index ntap-1-t */
+        t->w += (g->ntap - 1) * MR;
+        t->w_step = -MR;
+    }
+    t->y_ks = g->P * g->Q;
+    t->bias = a->bias ? a->bias + k0 : NULL;
+    t->nk = (int)clamp64(g->kg - kt * MR, 1, MR);
+    t->first = c0 == 0;
+    *yk = a->y + (j->n * s->k + k0) * g->P * g->Q;
+}
+
+static void call_tile(const blk_job *j, cpa_blocked_tile *t, float *yk, const seg_pair *sp) {
+    for (int v = 0; v < 2; v++) {
+        t->x[v] = sp->x[v];
+        t->y[v] = yk + sp->yoff[v];
+        t->n[v] = sp->n[v];
+    }
+    if (j->full_reads && sp->safe)
+        j->ukr(t);
+    else
+        cpa_blocked_ukr_ref_6x16(t);
+}
+
+static void compute_task(void *arg, int64_t b, int64_t e, int worker) {
+    (void)worker;
+    const blk_job *j = arg;
+    const blk_geom *g = &j->g;
     for (int64_t task = b; task < e; task++) {
         const int64_t gr = task / (j->nkb * j->npb);
         const int64_t kbi = (task / j->npb) % j->nkb, pbi = task % j->npb;
@@ -324,44 +426,24 @@ static void compute_task(void *arg, int64_t b, int64_t e, int worker) {
         for (int64_t c0 = 0; c0 < g->cg; c0 += j->cb) {
             const int64_t nc = clamp64(g->cg - c0, 1, j->cb);
             const int64_t xc0 = gr * g->cg + c0; /* first input channel of the block */
-            for (int64_t kt = kt0; kt < kt1; kt++) {
-                const int64_t k0 = gr * g->kg + kt * MR;
-                cpa_blocked_tile t;
-                t.nc = nc;
-                t.ntap = g->ntap;
-                t.x_cs = g->cs;
-                t.tap_off = j->tap_off;
-                t.w = wpk + ((gr * g->ntk + kt) * g->cg + c0) * g->ntap * MR;
-                t.w_step = MR;
-                if (j->flipidx) { /* kernel tap (R-1-r, S-1-s) = index ntap-1-t */
-                    t.w += (g->ntap - 1) * MR;
-                    t.w_step = -MR;
-                }
-                t.y_ks = g->P * g->Q;
-                t.bias = a->bias ? a->bias + k0 : NULL;
-                t.nk = (int)clamp64(g->kg - kt * MR, 1, MR);
-                t.first = c0 == 0;
-                float *yk = a->y + (j->n * s->k + k0) * g->P * g->Q;
-                for (int64_t i = 0; i < nsegs; i += 2) {
-                    int safe = 1;
-                    for (int v = 0; v < 2; v++) {
-                        if (i + v >= nsegs) {
-                            t.x[1] = t.x[0];
-                            t.y[1] = t.y[0];
-                            t.n[1] = 0;
-                            continue;
-                        }
-                        segment(g, j->pb, pbi, i + v, &p, &q0, &nv);
-                        const int64_t xo = xc0 * g->cs + p * s->stride_h * g->wrow + q0;
-                        t.x[v] = j->xb + xo;
-                        t.y[v] = yk + p * g->Q + q0;
-                        t.n[v] = nv;
-                        if (xo + (nc - 1) * g->cs + j->max_off + NV > j->xb_len) safe = 0;
+            cpa_blocked_tile t;
+            float *yk;
+            seg_pair sp;
+            if (j->order == 0) { /* a tile's weights stay in L1 while the pixels pass */
+                for (int64_t kt = kt0; kt < kt1; kt++) {
+                    tile_setup(j, gr, kt, c0, nc, &t, &yk);
+                    for (int64_t i = 0; i < nsegs; i += 2) {
+                        pair_setup(j, pbi, i, nsegs, nc, xc0, &sp);
+                        call_tile(j, &t, yk, &sp);
                     }
-                    if (j->full_reads && safe)
-                        j->ukr(&t);
-                    else
-                        cpa_blocked_ukr_ref_6x16(&t);
+                }
+            } else { /* a pair's input vectors stay in L1 while the tiles pass */
+                for (int64_t i = 0; i < nsegs; i += 2) {
+                    pair_setup(j, pbi, i, nsegs, nc, xc0, &sp);
+                    for (int64_t kt = kt0; kt < kt1; kt++) {
+                        tile_setup(j, gr, kt, c0, nc, &t, &yk);
+                        call_tile(j, &t, yk, &sp);
+                    }
                 }
             }
         }
@@ -381,6 +463,7 @@ static cp_status run_common(const cp_run_args *a, int flipidx) {
     j.nkb = (g->ntk + j.kb - 1) / j.kb;
     j.npb = pixel_blocks(g, j.pb);
     j.ukr = cpa_blocked_ukr_select(a->params->v[P_UKERNEL], &j.full_reads);
+    j.order = (int)a->params->v[P_ORDER];
 
     int64_t *taps = a->workspace;
     j.flipidx = flipidx;

@@ -1,6 +1,6 @@
 /* AVX2 + FMA tile kernel of the blocked direct convolution: 6 output channels
  * x 2 segments of 8 output pixels = 12 YMM accumulators (contract in
- * blocked_ukr.h).  Per input channel and tap: two unaligned 8-float input
+ * blocked_ukr.h); a tile with an empty second segment runs a 6 x 8 loop.  Per input channel and tap: two unaligned 8-float input
  * loads, six weight broadcasts, twelve FMAs.  Built with -mavx2 -mfma; only
  * called after cpa_blocked_ukr_select() saw both features. */
 #include "blocked_ukr.h"
@@ -28,7 +28,37 @@ static inline void store_acc(const cpa_blocked_tile *t, int v, int kk, __m256i m
         _mm256_maskstore_ps(p, m, a);
 }
 
+/* A tile whose second segment is empty (the last, odd segment of a block):
+ * 6 accumulators, half the FMAs of the full tile for the same result. */
+static void tile_6x8(const cpa_blocked_tile *t) {
+    const __m256i m0 = lane_mask(t->n[0]);
+    __m256 a0 = load_start(t, 0, 0, m0), a1 = load_start(t, 0, 1, m0);
+    __m256 a2 = load_start(t, 0, 2, m0), a3 = load_start(t, 0, 3, m0);
+    __m256 a4 = load_start(t, 0, 4, m0), a5 = load_start(t, 0, 5, m0);
+    const float *x0 = t->x[0];
+    const int64_t ntap = t->ntap, cs = t->x_cs, step = t->w_step;
+    const int64_t *off = t->tap_off;
+    for (int64_t c = 0; c < t->nc; c++, x0 += cs) {
+        const float *w = t->w + c * ntap * CPA_BLOCKED_MR;
+        for (int64_t i = 0; i < ntap; i++, w += step) {
+            const __m256 v0 = _mm256_loadu_ps(x0 + off[i]);
+            a0 = _mm256_fmadd_ps(v0, _mm256_broadcast_ss(w + 0), a0);
+            a1 = _mm256_fmadd_ps(v0, _mm256_broadcast_ss(w + 1), a1);
+            a2 = _mm256_fmadd_ps(v0, _mm256_broadcast_ss(w + 2), a2);
+            a3 = _mm256_fmadd_ps(v0, _mm256_broadcast_ss(w + 3), a3);
+            a4 = _mm256_fmadd_ps(v0, _mm256_broadcast_ss(w + 4), a4);
+            a5 = _mm256_fmadd_ps(v0, _mm256_broadcast_ss(w + 5), a5);
+        }
+    }
+    store_acc(t, 0, 0, m0, a0); store_acc(t, 0, 1, m0, a1); store_acc(t, 0, 2, m0, a2);
+    store_acc(t, 0, 3, m0, a3); store_acc(t, 0, 4, m0, a4); store_acc(t, 0, 5, m0, a5);
+}
+
 void cpa_blocked_ukr_avx2_6x16(const cpa_blocked_tile *t) {
+    if (t->n[1] <= 0) {
+        tile_6x8(t);
+        return;
+    }
     const __m256i m0 = lane_mask(t->n[0]), m1 = lane_mask(t->n[1]);
     __m256 a00 = load_start(t, 0, 0, m0), a10 = load_start(t, 1, 0, m1);
     __m256 a01 = load_start(t, 0, 1, m0), a11 = load_start(t, 1, 1, m1);

@@ -12,23 +12,39 @@
  * overlapping by 2):
  *   prepare: U[xi] (K x C) = (G g G^T)[xi] for every (k, c), xi = 4*i + j.
  *   run:     V[xi] (C x T) = (B^T d B)[xi] per tile and channel   (parallel over c)
- *            M[xi] (K x T) = U[xi] * V[xi], 16 cblas_sgemm calls   (calling thread)
+ *            M[xi] (K x T) = U[xi] * V[xi], 16 cblas_sgemm calls   (shared out over the
+ *                                                              workers, gemm_split.h)
  *            y = A^T M A + bias, clipped to P x Q                  (parallel over k)
  * Workspace holds the 16 V and 16 M matrices of one block plus four row buffers
  * per worker, so it grows with the block, never with the layer. */
 #include <cblas.h>
 #include <string.h>
 
+#include "blocked_ukr.h"
 #include "cpa.h"
+#include "gemm_split.h"
 #include "winograd_kernels.h"
 
-enum { WINO_TILE_BLOCK = 0, WINO_KERNELS = 1 };
+enum { WINO_TILE_BLOCK = 0, WINO_KERNELS = 1, WINO_GEMM = 2, WINO_NPARAMS };
+enum { MR = CPA_BLOCKED_MR, NV = CPA_BLOCKED_NV };
+
+/* At most this many tiles in the whole layer and the default GEMM is the
+ * packed tile kernel: with so few columns OpenBLAS spends its time re-packing
+ * U (K x C per point, all of U every run) for a product only 16..64 columns
+ * wide.  Measured on one Zen 3 core of a shared machine (fastest sample of
+ * each, tile_block at its default): c=k=512 h=w=7 (16 tiles) 2.13 ms packed
+ * vs 2.82 ms OpenBLAS; c=k=256 h=w=14 (49 tiles) 1.59 vs 1.85; at 196 and 784
+ * tiles (c=k=128 h=w=28, c=k=64 h=w=56) the two were within 5 %. */
+#define WINO_PACKED_MAX_TILES 64
 
 static const cp_param_desc wino_params[] = {
     {"tile_block", "2x2 output tiles per block; default: the block's 16 V and 16 M "
                    "matrices fill L2, at least 64 tiles", 1, 4096},
-    {"kernels", "transform loops: 0 = AVX2 build when the CPU has AVX2+FMA, else portable; "
-                "1 = portable; default 0", 0, 1},
+    {"kernels", "transform loops and packed GEMM tile kernel: 0 = AVX2 builds when the CPU "
+                "has AVX2+FMA, else portable; 1 = portable; default 0", 0, 1},
+    {"gemm", "element-wise stage: 0 = OpenBLAS sgemm on U as 16 K x C matrices; 1 = the "
+             "blocked 6x16 tile kernel on U pre-packed in 6-channel panels; default 1 when "
+             "the layer has at most 64 tiles, else 0", 0, 1},
 };
 
 /* Row stride of the V and M matrices: a multiple of 16 floats (64 bytes), so
@@ -86,6 +102,7 @@ static int64_t wino_block_for(const cp_shape *s, size_t budget, int64_t lo) {
  * c=k=512 h=w=7 n=4 at 64..128 (83..84 vs 59 at 32). */
 static void wino_defaults(const cp_shape *s, const cp_cache_sizes *caches, cp_params *out) {
     out->v[WINO_TILE_BLOCK] = wino_block_for(s, caches->l2, 64);
+    out->v[WINO_GEMM] = s->n * wino_tiles_h(s) * wino_tiles_w(s) <= WINO_PACKED_MAX_TILES;
 }
 
 /* The default first, then narrower and wider blocks around it. */
@@ -96,13 +113,21 @@ static int wino_candidates(const cp_shape *s, const cp_cache_sizes *caches, cp_p
         wino_block_for(s, caches->l2 * 2, 128), wino_block_for(s, caches->l1d, 16),
         wino_block_for(s, caches->l3 / 8, 256),
     };
+    cp_params d;
+    memset(&d, 0, sizeof d);
+    wino_defaults(s, caches, &d);
     int n = 0;
-    for (size_t i = 0; i < sizeof tries / sizeof tries[0] && n < max; i++) {
-        int dup = 0;
-        for (int j = 0; j < n; j++) dup |= out[j].v[WINO_TILE_BLOCK] == tries[i];
-        if (dup) continue;
-        memset(&out[n], 0, sizeof out[n]);
-        out[n++].v[WINO_TILE_BLOCK] = tries[i];
+    for (int g = 0; g < 2; g++) { /* the default GEMM first, then the other */
+        const int64_t gemm = g == 0 ? d.v[WINO_GEMM] : !d.v[WINO_GEMM];
+        for (size_t i = 0; i < sizeof tries / sizeof tries[0] && n < max; i++) {
+            int dup = 0;
+            for (int j = 0; j < n; j++)
+                dup |= out[j].v[WINO_TILE_BLOCK] == tries[i] && out[j].v[WINO_GEMM] == gemm;
+            if (dup) continue;
+            memset(&out[n], 0, sizeof out[n]);
+            out[n].v[WINO_TILE_BLOCK] = tries[i];
+            out[n++].v[WINO_GEMM] = gemm;
+        }
     }
     return n;
 }
@@ -118,18 +143,29 @@ static size_t wino_workspace_size(const cp_shape *s, cp_mode mode, const cp_para
     return v + m + rows;
 }
 
+/* 6-channel panels of K (the packed GEMM's U rows, zero padded). */
+static int64_t wino_ktiles(const cp_shape *s) { return (s->k + MR - 1) / MR; }
+
 static size_t wino_prepared_size(const cp_shape *s, cp_mode mode, const cp_params *p) {
-    (void)mode; (void)p;
+    (void)mode;
+    if (p->v[WINO_GEMM] == 1) return (size_t)(16 * wino_ktiles(s) * MR * s->c) * sizeof(float);
     return (size_t)(16 * s->k * s->c) * sizeof(float);
 }
 
-/* U[xi][k][c] = (G g G^T)[xi]; g is w[k,c] (flipped for CP_CONV). */
+/* U = (G g G^T)[xi] for every (k, c); g is w[k,c] (flipped for CP_CONV).
+ * gemm 0: U[xi][k][c], 16 row-major K x C matrices.  gemm 1: U[xi][kt][c][kk]
+ * with k = 6 kt + kk, the panel order of the blocked tile kernel
+ * (blocked_ukr.h), channels past K zero. */
 static cp_status wino_prepare(const cp_shape *s, cp_mode mode, const cp_params *p,
                               const float *w, void *out) {
-    (void)p;
     const int64_t K = s->k, C = s->c, KC = K * C;
+    const int packed = p->v[WINO_GEMM] == 1;
+    const int64_t ntk = wino_ktiles(s), xstride = packed ? ntk * MR * C : KC;
     float *u = out;
+    if (packed) memset(u, 0, wino_prepared_size(s, mode, p));
     for (int64_t kc = 0; kc < KC; kc++) {
+        const int64_t ko = kc / C, co = kc % C;
+        const int64_t at = packed ? ((ko / MR) * C + co) * MR + ko % MR : kc;
         float g[9];
         const float *src = w + kc * 9;
         for (int i = 0; i < 9; i++) g[i] = mode == CP_CONV ? src[8 - i] : src[i];
@@ -143,10 +179,10 @@ static cp_status wino_prepare(const cp_shape *s, cp_mode mode, const cp_params *
         }
         for (int i = 0; i < 4; i++) { /* (G g) G^T */
             const float a = gg[i][0], b = gg[i][1], c = gg[i][2];
-            u[(4 * i + 0) * KC + kc] = a;
-            u[(4 * i + 1) * KC + kc] = 0.5f * (a + b + c);
-            u[(4 * i + 2) * KC + kc] = 0.5f * (a - b + c);
-            u[(4 * i + 3) * KC + kc] = c;
+            u[(4 * i + 0) * xstride + at] = a;
+            u[(4 * i + 1) * xstride + at] = 0.5f * (a + b + c);
+            u[(4 * i + 2) * xstride + at] = 0.5f * (a - b + c);
+            u[(4 * i + 3) * xstride + at] = c;
         }
     }
     return CP_OK;
@@ -159,6 +195,7 @@ typedef struct {
     float *v, *m, *rows;
     size_t rows_per_worker;
     const cpa_wino_kernels *kern;
+    cpa_blocked_ukr_fn ukr; /* the packed GEMM's tile kernel */
 } wino_block;
 
 /* Runs body for each segment of the block: a run of tiles [tx0, tx1) of tile
@@ -266,6 +303,49 @@ static void wino_output_task(void *arg, int64_t begin, int64_t end, int worker) 
     }
 }
 
+/* The packed GEMM: task (xi, kt) computes rows 6 kt .. 6 kt + 5 of M[xi] =
+ * U[xi] V[xi] over the block's columns with the blocked 6x16 tile kernel (a
+ * 1x1 "convolution" of V's C rows: one tap, channel stride ld).  Its U panel
+ * (C x 6 floats) stays in L1 across the column pairs; V[xi] is shared by the
+ * ktiles tasks of the point.  Full 8-float reads stay inside a row: columns
+ * start at multiples of 8 and ld is a multiple of 16 >= nt. */
+static void wino_packed_task(void *arg, int64_t begin, int64_t end, int worker) {
+    (void)worker;
+    static const int64_t tap0[1] = {0};
+    const wino_block *blk = arg;
+    const cp_shape *s = blk->a->shape;
+    const int64_t C = s->c, K = s->k, ntk = wino_ktiles(s), ld = blk->ld;
+    const cpa_blocked_ukr_fn ukr = blk->ukr;
+    const float *u = blk->a->weights;
+    for (int64_t task = begin; task < end; task++) {
+        const int64_t xi = task / ntk, kt = task % ntk;
+        cpa_blocked_tile t;
+        memset(&t, 0, sizeof t);
+        t.nc = C;
+        t.ntap = 1;
+        t.x_cs = ld;
+        t.tap_off = tap0;
+        t.w = u + (xi * ntk + kt) * C * MR;
+        t.w_step = MR;
+        t.y_ks = ld;
+        t.bias = NULL;
+        t.nk = (int)(K - kt * MR < MR ? K - kt * MR : MR);
+        t.first = 1;
+        const float *vx = blk->v + xi * C * ld;
+        float *mx = blk->m + xi * K * ld + kt * MR * ld;
+        for (int64_t col = 0; col < blk->nt; col += 2 * NV) {
+            const int64_t left = blk->nt - col;
+            t.x[0] = vx + col;
+            t.y[0] = mx + col;
+            t.n[0] = (int)(left < NV ? left : NV);
+            t.n[1] = (int)(left - NV <= 0 ? 0 : left - NV < NV ? left - NV : NV);
+            t.x[1] = t.n[1] ? vx + col + NV : t.x[0];
+            t.y[1] = t.n[1] ? mx + col + NV : t.y[0];
+            ukr(&t);
+        }
+    }
+}
+
 static cp_status wino_run(const cp_run_args *a) {
     const cp_shape *s = a->shape;
     const int64_t C = s->c, K = s->k;
@@ -282,16 +362,19 @@ static cp_status wino_run(const cp_run_args *a) {
         .kern = a->params->v[WINO_KERNELS] == 1 ? &cpa_wino_kernels_ref
                                                  : cpa_wino_kernels_select(),
     };
+    int full_reads = 0; /* either kernel is safe here (see wino_packed_task) */
+    blk.ukr = cpa_blocked_ukr_select(a->params->v[WINO_KERNELS], &full_reads);
     blk.rows = (float *)(ws + cpa_align64((size_t)(16 * C * ld) * sizeof(float)) +
                          cpa_align64((size_t)(16 * K * ld) * sizeof(float)));
     for (int64_t t0 = 0; t0 < all; t0 += tb) {
         blk.t0 = t0;
         blk.nt = all - t0 < tb ? all - t0 : tb;
         cp_parallel_for(a->exec, C, wino_input_task, &blk);
-        for (int xi = 0; xi < 16; xi++)
-            cblas_sgemm(CblasRowMajor, CblasNoTrans, CblasNoTrans, (blasint)K, (blasint)blk.nt,
-                        (blasint)C, 1.0f, u + xi * K * C, (blasint)C, blk.v + xi * C * ld,
-                        (blasint)ld, 0.0f, blk.m + xi * K * ld, (blasint)ld);
+        if (a->params->v[WINO_GEMM] == 1)
+            cp_parallel_for(a->exec, 16 * wino_ktiles(s), wino_packed_task, &blk);
+        else
+            cpa_sgemm_batch(a->exec, 16, K, blk.nt, C, u, K * C, C, blk.v, C * ld, ld, blk.m,
+                            K * ld, ld);
         cp_parallel_for(a->exec, K, wino_output_task, &blk);
     }
     return CP_OK;
@@ -320,7 +403,7 @@ const cp_algo cpa_winograd_2x2_3x3 = {
     .name = "winograd_2x2_3x3",
     .summary = "Winograd F(2x2,3x3), element-wise stage as 16 GEMMs (3x3, stride 1)",
     .tolerance = 5e-5,
-    .nparams = 2,
+    .nparams = WINO_NPARAMS,
     .params = wino_params,
     .supports = wino_supports,
     .defaults = wino_defaults,

@@ -3,6 +3,11 @@
  *
  * Each algorithm runs through a plan (cp_plan_create / cp_plan_run) with its
  * default parameters for this machine's caches; the harness only times it.
+ * Beside the algorithms, in the same run and with the same statistics: the
+ * bare SGEMM of the im2col products ("sgemm") and of Winograd's GEMM stage
+ * ("sgemm_wino", gemm_ref.h), and with --table what the tuning table chooses
+ * ("chosen", through cp_table_plan).  Then the suite summaries
+ * (bench_summary.h): each performance target, PASS / MISS and by how much.
  * Thread counts are the outer loop because a pool pins its workers (the
  * calling thread included) and only one pool lives at a time.
  *
@@ -19,19 +24,27 @@
  *     "settings": {"timing": {timing settings as in report_json.h},
  *                  "threads": [1, 2], "modes": ["xcorr"], "seed": 1,
  *                  "caches": {"l1d", "l2", "l3", "line"}},
+ *     "roofs_end": null | {the same, measured after the rows},
  *     "results": [
  *       {"layer": "conv1", "layer_count": 1, "shape": {shape object},
  *        "mode": "xcorr", "threads": 1, "pinned": true, "algo": "direct",
+ *        "kind": "algorithm" | "reference" | "chosen",
+ *        "chosen_algo": "blocked" (chosen rows), "flops_performed": 2mnk (SGEMM rows),
  *        "status": "ok" | "unsupported" | "error", "reason": "..." (not ok),
  *        "params": {"kb": 64}, "params_text": "kb=64", "flops": 2.3e9,
  *        "gflops": 41.2, "peak_gflops": 90.1 | null, "peak_fraction": 0.457 | null,
  *        "measurement": {measurement object, report_json.h}}      (ok only)
- *     ]
+ *     ],
+ *     "summaries": [{"id": "blocked_peak", "target_text", "comparison": ">=",
+ *                    "target": 0.7, "value", "unit", "verdict": "pass"|"miss"|"n/a",
+ *                    "missed_by": relative | null, "threads", "base_threads",
+ *                    "mode", "note", "layers": [{"layer", "value", "verdict"?}]}]
  *   }
  * Fields are only ever added within a version; readers ignore unknown keys.
  * The same structure as a JSON Schema: tests/data/bench_results.schema.json
  * (tests/cli_bench.sh validates every file it makes against it). */
 #define _POSIX_C_SOURCE 200809L
+#include <cblas.h>
 #include <errno.h>
 #include <getopt.h>
 #include <math.h>
@@ -41,9 +54,12 @@
 #include <time.h>
 #include <unistd.h>
 
+#include "bench_summary.h"
 #include "cli.h"
 #include "membudget.h"
+#include "convpick/table.h"
 #include "data.h"
+#include "gemm_ref.h"
 #include "machine.h"
 #include "pool.h"
 #include "report_json.h"
@@ -51,7 +67,12 @@
 #include "timing.h"
 
 #define BENCH_MAX_THREADS 256
-#define BENCH_ROOF_SECONDS 0.5
+/* Roofs are the best of several runs: on a shared machine more runs give
+ * more chances of an undisturbed one.  They are measured again at the end,
+ * and a disagreement of more than 10 % is reported (the machine's load
+ * changed during the run). */
+#define BENCH_ROOF_SECONDS 1.0
+#define BENCH_ROOF_DRIFT 0.10
 
 static void usage(FILE *f) {
     fprintf(f,
@@ -73,11 +94,18 @@ static void usage(FILE *f) {
             "  --json FILE       write every sample and setting (format\n"
             "                    convpick-bench-results, version 1)\n"
             "%s"
+            "  --table FILE      also time what this tuning table chooses for each layer\n"
+            "                    (through cp_table_plan, as a deploying program would): row\n"
+            "                    'chosen', compared in the summaries\n"
+            "  --no-sgemm        skip the bare SGEMM reference rows ('sgemm': the im2col\n"
+            "                    products; 'sgemm_wino': Winograd's 16 GEMMs)\n"
             "  -h, --help        this text\n\n"
             "The peak for t threads is the all-core peak when t is the number of cores\n"
             "measured together, else the one-core peak times t.  FLOPs are those of the\n"
             "direct method, so an algorithm that does less arithmetic (Winograd) can\n"
-            "exceed 100 %%.  'noisy' marks a\n"
+            "exceed 100 %%.  After the rows, the suite summaries: each performance\n"
+            "target with the figure measured in this run, PASS or MISS, and by how much\n"
+            "it was missed (docs/benchmark.md).  'noisy' marks a\n"
             "measurement whose interquartile range exceeds 10 %% of the median or whose\n"
             "CI missed the target; 'cap' one that --max-seconds stopped.\n\n"
             "exit status: 0 done, 1 an algorithm failed to plan or run (or the results\n"
@@ -86,15 +114,27 @@ static void usage(FILE *f) {
             cph_selection_help, cph_membudget_help);
 }
 
-enum { OPT_THREADS = 1, OPT_COLD, OPT_TARGET, OPT_MAXSEC, OPT_MAXSAMP, OPT_NOROOFS, OPT_JSON };
+enum {
+    OPT_THREADS = 1,
+    OPT_COLD,
+    OPT_TARGET,
+    OPT_MAXSEC,
+    OPT_MAXSAMP,
+    OPT_NOROOFS,
+    OPT_JSON,
+    OPT_TABLE,
+    OPT_NOSGEMM
+};
 
 typedef struct bench_cfg {
     cph_selection sel;
     cph_timing_opts timing;
     const char *threads_arg;
     const char *json_path;
+    const char *table_path;
     int roofs;
     uint64_t max_memory; /* 0: the default budget */
+    int sgemm;
 } bench_cfg;
 
 typedef struct bench_run {
@@ -102,9 +142,14 @@ typedef struct bench_run {
     cp_cache_sizes caches;
     cph_roofs roofs;
     int have_roofs;
+    cph_roofs roofs_end; /* measured again after the rows */
+    int have_roofs_end;
     int threads[BENCH_MAX_THREADS];
     int nthreads;
     json_t *results; /* NULL without --json */
+    cph_bench_recs recs; /* every measured row, for the summaries */
+    cp_table *table;     /* --table, or NULL */
+    int oom;
     int failures;
     int name_w, algo_w;
 } bench_run;
@@ -124,6 +169,8 @@ static int run_plan(void *p) {
 }
 
 static const char *mode_name(cp_mode m) { return m == CP_CONV ? "conv" : "xcorr"; }
+
+static int is_winograd_algo(const cp_algo *a) { return strncmp(a->name, "winograd", 8) == 0; }
 
 static int parse_double(const char *s, double lo, double hi, double *out) {
     char *end;
@@ -165,6 +212,8 @@ static int parse_args(int argc, char **argv, bench_cfg *c) {
         {"no-roofs", no_argument, NULL, OPT_NOROOFS},
         {"json", required_argument, NULL, OPT_JSON},
         CPH_MEMBUDGET_LONGOPT,
+        {"table", required_argument, NULL, OPT_TABLE},
+        {"no-sgemm", no_argument, NULL, OPT_NOSGEMM},
         {"help", no_argument, NULL, 'h'},
         {NULL, 0, NULL, 0},
     };
@@ -209,6 +258,8 @@ static int parse_args(int argc, char **argv, bench_cfg *c) {
                 return CPH_EXIT_USAGE;
             }
             break;
+        case OPT_TABLE: c->table_path = optarg; break;
+        case OPT_NOSGEMM: c->sgemm = 0; break;
         default:
             if (opt < CPH_OPT_SHAPE) return cph_usage_error("bench");
             if (cph_selection_option(&c->sel, opt, optarg, msg, sizeof msg) != CP_OK) {
@@ -236,89 +287,217 @@ static double peak_for(const bench_run *r, int threads) {
     return r->roofs.peak_1core_gflops * threads;
 }
 
-static void print_row(const bench_run *r, const cph_layer *L, cp_mode mode, int threads,
-                      const cp_algo *a, const char *rest) {
-    printf("%-*s  %-5s  %3d  %-*s  %s\n", r->name_w, L->name, mode_name(mode), threads,
-           r->algo_w, a->name, rest);
+/* Where one row stands: the layer, mode, thread count and what is timed. */
+typedef struct row_ctx {
+    const cph_layer *L;
+    size_t li;
+    cp_mode mode;
+    int threads, pinned;
+    cph_row_kind kind;
+    const char *name; /* printed in the algo column */
+    const char *algo; /* the algorithm behind the row, "" for SGEMM rows */
+} row_ctx;
+
+static const char *kind_name(cph_row_kind k) {
+    return k == CPH_ROW_ALGO ? "algorithm" : k == CPH_ROW_CHOSEN ? "chosen" : "reference";
 }
 
-static json_t *result_base(const cph_layer *L, cp_mode mode, int threads, int pinned,
-                           const cp_algo *a, const char *status) {
-    return json_pack("{s:s, s:i, s:o, s:s, s:i, s:b, s:s, s:s, s:o}", "layer", L->name,
-                     "layer_count", L->count, "shape", cph_json_shape(&L->shape), "mode",
-                     mode_name(mode), "threads", threads, "pinned", pinned, "algo", a->name,
-                     "status", status, "flops", cph_json_number(cp_shape_flops(&L->shape)));
+static void print_row(const bench_run *r, const row_ctx *x, const char *rest) {
+    printf("%-*s  %-5s  %3d  %-*s  %s\n", r->name_w, x->L->name, mode_name(x->mode), x->threads,
+           r->algo_w, x->name, rest);
 }
 
-/* Plans and times one algorithm on one layer x mode x thread count. */
-static void bench_algo(bench_run *r, const cph_timing_opts *to, const cph_layer *L, cp_mode mode,
-                       int threads, int pinned, const cp_exec *exec, const cp_algo *a,
-                       const float *x, const float *w, const float *bias, float *y) {
-    char why[256] = "", line[512];
-    json_t *res = NULL;
-    if (!a->supports(&L->shape, mode, why, sizeof why)) {
-        snprintf(line, sizeof line, "n/a: %s", why);
-        print_row(r, L, mode, threads, a, line);
-        if (r->results) {
-            res = result_base(L, mode, threads, pinned, a, "unsupported");
-            json_object_set_new(res, "reason", json_string(why));
-        }
-        goto out;
+static json_t *result_base(const row_ctx *x, const char *status) {
+    json_t *o = json_pack("{s:s, s:i, s:o, s:s, s:i, s:b, s:s, s:s, s:s, s:o}", "layer",
+                          x->L->name, "layer_count", x->L->count, "shape",
+                          cph_json_shape(&x->L->shape), "mode", mode_name(x->mode), "threads",
+                          x->threads, "pinned", x->pinned, "algo", x->name, "kind",
+                          kind_name(x->kind), "status", status, "flops",
+                          cph_json_number(cp_shape_flops(&x->L->shape)));
+    if (o && x->kind == CPH_ROW_CHOSEN) json_object_set_new(o, "chosen_algo", json_string(x->algo));
+    return o;
+}
+
+/* A row that was not measured: printed, and in the JSON with its reason. */
+static void row_not_timed(bench_run *r, const row_ctx *x, const char *status, const char *why) {
+    char line[512];
+    snprintf(line, sizeof line, "%s%s", strcmp(status, "unsupported") == 0 ? "n/a: " : "ERROR ",
+             why);
+    print_row(r, x, line);
+    if (strcmp(status, "error") == 0) r->failures++;
+    if (r->results) {
+        json_t *res = result_base(x, status);
+        if (res) json_object_set_new(res, "reason", json_string(why));
+        json_array_append_new(r->results, res);
     }
-    cp_plan *plan = NULL;
-    if (cp_plan_create(a, &L->shape, mode, NULL, &r->caches, threads, w, &plan, why,
-                       sizeof why) != CP_OK) {
-        snprintf(line, sizeof line, "ERROR plan: %s", why);
-        print_row(r, L, mode, threads, a, line);
-        r->failures++;
-        if (r->results) {
-            res = result_base(L, mode, threads, pinned, a, "error");
-            json_object_set_new(res, "reason", json_string(why));
-        }
-        goto out;
-    }
-    char ptext[128] = "";
-    cp_params_format(a, cp_plan_params(plan), ptext, sizeof ptext);
-    work_arg wa = {plan, x, bias, y, exec, CP_OK};
+    fflush(stdout);
+}
+
+/* Times fn(arg) for one row and reports it (table line, JSON, summary record).
+ * params: the row's parameters as JSON (stolen; NULL = {}); ptext their text.
+ * flops_used: the FLOPs the row actually does when they differ from the
+ * layer's direct-equivalent FLOPs (SGEMM rows), else 0.  Returns the median,
+ * or 0 when the work failed (*st tells why). */
+static double time_row(bench_run *r, const cph_timing_opts *to, const row_ctx *x,
+                       cph_work_fn fn, void *arg, const cp_status *st, const char *ptext,
+                       json_t *params, double flops_used) {
+    char why[256], line[512];
     cph_measurement m;
-    const int rc = cph_measure(to, run_plan, &wa, &m);
+    const int rc = cph_measure(to, fn, arg, &m);
+    double median = 0;
     if (rc) {
         snprintf(why, sizeof why, "run failed: %s",
-                 rc == -1 && wa.st == CP_OK ? "out of memory" : cp_status_str(wa.st));
-        snprintf(line, sizeof line, "ERROR %s", why);
-        print_row(r, L, mode, threads, a, line);
-        r->failures++;
-        if (r->results) {
-            res = result_base(L, mode, threads, pinned, a, "error");
-            json_object_set_new(res, "reason", json_string(why));
-        }
-    } else {
-        const cph_stats *s = &m.stats;
-        const double gflops = s->median > 0 ? cp_shape_flops(&L->shape) / s->median * 1e-9 : 0;
-        const double peak = peak_for(r, threads);
-        char pk[16] = "-";
-        if (peak > 0) snprintf(pk, sizeof pk, "%.1f", 100.0 * gflops / peak);
-        snprintf(line, sizeof line, "%-26s %10.4f %10.4f %10.4f %6.2f %5zu %8.2f %6s  %s%s",
-                 ptext[0] ? ptext : "-", s->median * 1e3, s->ci_lo * 1e3, s->ci_hi * 1e3,
-                 100.0 * s->rel_ci, m.n, gflops, pk, s->noisy ? "noisy" : "",
-                 m.stop == CPH_STOP_TIME_CAP ? (s->noisy ? ",cap" : "cap") : "");
-        print_row(r, L, mode, threads, a, line);
-        if (r->results) {
-            res = result_base(L, mode, threads, pinned, a, "ok");
-            json_object_set_new(res, "params", cph_json_params(a, cp_plan_params(plan)));
+                 rc == -1 && (!st || *st == CP_OK) ? "out of memory" : cp_status_str(*st));
+        row_not_timed(r, x, "error", why);
+        json_decref(params);
+        cph_measurement_free(&m);
+        return 0;
+    }
+    const cph_stats *s = &m.stats;
+    const double flops = cp_shape_flops(&x->L->shape);
+    const double gflops = s->median > 0 ? flops / s->median * 1e-9 : 0;
+    const double peak = peak_for(r, x->threads);
+    char pk[16] = "-";
+    if (peak > 0) snprintf(pk, sizeof pk, "%.1f", 100.0 * gflops / peak);
+    snprintf(line, sizeof line, "%-26s %10.4f %10.4f %10.4f %6.2f %5zu %8.2f %6s  %s%s",
+             ptext[0] ? ptext : "-", s->median * 1e3, s->ci_lo * 1e3, s->ci_hi * 1e3,
+             100.0 * s->rel_ci, m.n, gflops, pk, s->noisy ? "noisy" : "",
+             m.stop == CPH_STOP_TIME_CAP ? (s->noisy ? ",cap" : "cap") : "");
+    print_row(r, x, line);
+    if (r->results) {
+        json_t *res = result_base(x, "ok");
+        if (res) {
+            json_object_set_new(res, "params", params ? params : json_object());
+            params = NULL;
             json_object_set_new(res, "params_text", json_string(ptext));
             json_object_set_new(res, "gflops", cph_json_number(gflops));
             json_object_set_new(res, "peak_gflops", peak > 0 ? json_real(peak) : json_null());
             json_object_set_new(res, "peak_fraction",
                                 peak > 0 ? json_real(gflops / peak) : json_null());
+            if (flops_used > 0) json_object_set_new(res, "flops_performed", json_real(flops_used));
             json_object_set_new(res, "measurement", cph_json_measurement(&m));
+            json_array_append_new(r->results, res);
         }
     }
+    json_decref(params);
+    median = s->median;
+    if (median > 0) {
+        cph_bench_rec rec;
+        memset(&rec, 0, sizeof rec);
+        rec.layer = x->li;
+        snprintf(rec.layer_name, sizeof rec.layer_name, "%s", x->L->name);
+        rec.count = x->L->count;
+        rec.shape = x->L->shape;
+        rec.mode = x->mode;
+        rec.threads = x->threads;
+        rec.kind = x->kind;
+        snprintf(rec.name, sizeof rec.name, "%s", x->name);
+        snprintf(rec.algo, sizeof rec.algo, "%s", x->algo);
+        rec.median = median;
+        rec.fastest = s->min;
+        rec.flops = flops;
+        if (cph_bench_recs_add(&r->recs, &rec) != CP_OK) r->oom = 1;
+    }
     cph_measurement_free(&m);
-    cp_plan_destroy(plan);
-out:
-    if (res) json_array_append_new(r->results, res);
     fflush(stdout);
+    return median;
+}
+
+/* Times an existing plan as one row. */
+static void time_plan(bench_run *r, const cph_timing_opts *to, const row_ctx *x, cp_plan *plan,
+                      const float *xin, const float *bias, float *y, const cp_exec *exec) {
+    const cp_algo *a = cp_plan_algo(plan);
+    char ptext[128] = "", shown[192];
+    cp_params_format(a, cp_plan_params(plan), ptext, sizeof ptext);
+    if (x->kind == CPH_ROW_CHOSEN)
+        snprintf(shown, sizeof shown, "%s%s%s", a->name, ptext[0] ? " " : "", ptext);
+    else
+        snprintf(shown, sizeof shown, "%s", ptext);
+    work_arg wa = {plan, xin, bias, y, exec, CP_OK};
+    time_row(r, to, x, run_plan, &wa, &wa.st, shown, cph_json_params(a, cp_plan_params(plan)), 0);
+}
+
+/* Plans and times one algorithm on one layer x mode x thread count; the
+ * tile_block of a Winograd plan goes to *wino_tb (for its SGEMM reference). */
+static void bench_algo(bench_run *r, const cph_timing_opts *to, row_ctx *x, const cp_exec *exec,
+                       const cp_algo *a, const float *xin, const float *w, const float *bias,
+                       float *y, int64_t *wino_tb) {
+    char why[256] = "";
+    x->kind = CPH_ROW_ALGO;
+    x->name = x->algo = a->name;
+    if (!a->supports(&x->L->shape, x->mode, why, sizeof why)) {
+        row_not_timed(r, x, "unsupported", why);
+        return;
+    }
+    cp_plan *plan = NULL;
+    if (cp_plan_create(a, &x->L->shape, x->mode, NULL, &r->caches, x->threads, w, &plan, why,
+                       sizeof why) != CP_OK) {
+        char line[300];
+        snprintf(line, sizeof line, "plan: %s", why);
+        row_not_timed(r, x, "error", line);
+        return;
+    }
+    const int tbi = cp_algo_param_index(a, "tile_block");
+    if (is_winograd_algo(a) && tbi >= 0) *wino_tb = cp_plan_params(plan)->v[tbi];
+    time_plan(r, to, x, plan, xin, bias, y, exec);
+    cp_plan_destroy(plan);
+}
+
+/* The bare SGEMM of the im2col products (kind CPH_ROW_SGEMM) or of Winograd's
+ * GEMM stage with tile_block tb (CPH_ROW_SGEMM_WINO). */
+static void bench_sgemm(bench_run *r, const cph_timing_opts *to, row_ctx *x, cph_row_kind kind,
+                        int64_t tb, uint64_t seed) {
+    cph_gemm_ref g;
+    x->kind = kind;
+    x->name = kind == CPH_ROW_SGEMM ? "sgemm" : "sgemm_wino";
+    x->algo = "";
+    const cp_status st = kind == CPH_ROW_SGEMM ? cph_gemm_ref_im2col(&x->L->shape, seed, &g)
+                                               : cph_gemm_ref_winograd(&x->L->shape, tb, seed, &g);
+    if (st != CP_OK) {
+        row_not_timed(r, x, "error", "cannot allocate the SGEMM operands");
+        return;
+    }
+    char ptext[128];
+    if (kind == CPH_ROW_SGEMM)
+        snprintf(ptext, sizeof ptext, "%lldx%lldx%lld x%lld", (long long)g.m, (long long)g.k,
+                 (long long)g.n, (long long)(g.products * g.repeats));
+    else
+        snprintf(ptext, sizeof ptext, "16x %lldx%lldx%lld x%lld", (long long)g.m, (long long)g.k,
+                 (long long)g.n, (long long)g.repeats);
+    json_t *params = json_pack("{s:I, s:I, s:I, s:I, s:I}", "m", (json_int_t)g.m, "k",
+                               (json_int_t)g.k, "n", (json_int_t)g.n, "products",
+                               (json_int_t)g.products, "repeats", (json_int_t)g.repeats);
+    /* The bare reference is OpenBLAS threading itself over the row's cores
+     * (the pool keeps it at one thread for the algorithms, pool.h). */
+    const int blas_before = openblas_get_num_threads();
+    openblas_set_num_threads(x->threads);
+    time_row(r, to, x, cph_gemm_ref_run, &g, NULL, ptext, params, cph_gemm_ref_flops(&g));
+    openblas_set_num_threads(blas_before);
+    cph_gemm_ref_free(&g);
+}
+
+/* What the tuning table chooses for the layer, planned through cp_table_plan. */
+static void bench_chosen(bench_run *r, const cph_timing_opts *to, row_ctx *x, const cp_exec *exec,
+                         const float *xin, const float *w, const float *bias, float *y) {
+    char why[256] = "";
+    cp_choice choice;
+    cp_plan *plan = NULL;
+    x->kind = CPH_ROW_CHOSEN;
+    x->name = "chosen";
+    x->algo = "";
+    if (cp_table_plan(r->table, &x->L->shape, x->mode, x->threads, w, &plan, &choice, why,
+                      sizeof why) != CP_OK) {
+        char line[300];
+        snprintf(line, sizeof line, "table plan: %s", why);
+        row_not_timed(r, x, "error", line);
+        return;
+    }
+    x->algo = cp_plan_algo(plan)->name;
+    if (choice.match != CP_MATCH_EXACT)
+        cph_warn("bench: %s (%d threads): the table has no exact entry: %s", x->L->name,
+                 x->threads, choice.why);
+    time_plan(r, to, x, plan, xin, bias, y, exec);
+    cp_plan_destroy(plan);
 }
 
 static uint64_t tensor_seed(uint64_t seed, size_t layer, int tensor) {
@@ -342,10 +521,20 @@ static int bench_layer(bench_run *r, const bench_cfg *c, size_t li, int threads,
         cph_fill_uniform(x, nx, tensor_seed(c->sel.seed, li, 0));
         cph_fill_uniform(w, nw, tensor_seed(c->sel.seed, li, 1));
         cph_fill_uniform(b, nb, tensor_seed(c->sel.seed, li, 2));
-        for (int mi = 0; mi < c->sel.nmodes; mi++)
-            for (size_t ai = 0; ai < c->sel.nalgos; ai++)
-                bench_algo(r, &c->timing, L, c->sel.modes[mi], threads, pinned, exec,
-                           c->sel.algos[ai], x, w, b, y);
+        for (int mi = 0; mi < c->sel.nmodes; mi++) {
+            row_ctx rx = {L, li, c->sel.modes[mi], threads, pinned, CPH_ROW_ALGO, "", ""};
+            int64_t wino_tb = 0;
+            int im2col = 0;
+            for (size_t ai = 0; ai < c->sel.nalgos; ai++) {
+                bench_algo(r, &c->timing, &rx, exec, c->sel.algos[ai], x, w, b, y, &wino_tb);
+                im2col |= strcmp(c->sel.algos[ai]->name, "im2col_gemm") == 0;
+            }
+            const uint64_t gseed = tensor_seed(c->sel.seed, li, 3);
+            if (c->sgemm && im2col) bench_sgemm(r, &c->timing, &rx, CPH_ROW_SGEMM, 0, gseed);
+            if (c->sgemm && wino_tb > 0)
+                bench_sgemm(r, &c->timing, &rx, CPH_ROW_SGEMM_WINO, wino_tb, gseed);
+            if (r->table) bench_chosen(r, &c->timing, &rx, exec, x, w, b, y);
+        }
     }
     free(x);
     free(w);
@@ -354,9 +543,9 @@ static int bench_layer(bench_run *r, const bench_cfg *c, size_t li, int threads,
     return rc;
 }
 
-static json_t *roofs_json(const bench_run *r) {
-    if (!r->have_roofs) return json_null();
-    const cph_roofs *f = &r->roofs;
+static json_t *roofs_json(const bench_run *r, int end) {
+    if (end ? !r->have_roofs_end : !r->have_roofs) return json_null();
+    const cph_roofs *f = end ? &r->roofs_end : &r->roofs;
     return json_pack("{s:o, s:o, s:o, s:o, s:o, s:o, s:i, s:o}", "peak_1core_gflops",
                      cph_json_number(f->peak_1core_gflops), "peak_all_gflops",
                      cph_json_number(f->peak_all_gflops), "bw_1core_gbs",
@@ -367,7 +556,8 @@ static json_t *roofs_json(const bench_run *r) {
                      json_real(BENCH_ROOF_SECONDS));
 }
 
-static json_t *document(const bench_run *r, const bench_cfg *c, int argc, char **argv) {
+static json_t *document(const bench_run *r, const bench_cfg *c, int argc, char **argv,
+                        json_t *summaries) {
     char when[32] = "";
     const time_t now = time(NULL);
     struct tm tm;
@@ -384,12 +574,12 @@ static json_t *document(const bench_run *r, const bench_cfg *c, int argc, char *
         (json_int_t)r->caches.l2, "l3", (json_int_t)r->caches.l3, "line",
         (json_int_t)r->caches.line);
     json_t *device = cph_machine_to_json(&r->m, NULL);
-    return json_pack("{s:s, s:i, s:s, s:s, s:s, s:o, s:s, s:o, s:o, s:o, s:O}", "format",
+    return json_pack("{s:s, s:i, s:s, s:s, s:s, s:o, s:s, s:o, s:o, s:o, s:O, s:o}", "format",
                      "convpick-bench-results", "version", 1, "convpick_version",
                      CONVPICK_VERSION, "git_rev", CP_GIT_REV, "created_utc", when,
                      "command_line", cmd, "fingerprint", r->m.fingerprint, "device",
-                     device ? device : json_null(), "roofs", roofs_json(r), "settings", settings,
-                     "results", r->results);
+                     device ? device : json_null(), "roofs", roofs_json(r, 0), "settings", settings,
+                     "results", r->results, "summaries", summaries ? summaries : json_null());
 }
 
 static int bench(bench_cfg *c, int argc, char **argv) {
@@ -422,6 +612,16 @@ static int bench(bench_cfg *c, int argc, char **argv) {
         goto done;
     }
     r->caches = cph_machine_caches(&r->m);
+    if (c->table_path) {
+        if (cp_table_load(c->table_path, 0, &r->table, msg, sizeof msg) != CP_OK) {
+            cph_err("bench: --table: %s", msg);
+            rc = CPH_EXIT_USAGE;
+            goto done;
+        }
+        if (!cp_table_device_matches(r->table))
+            cph_warn("bench: --table %s was tuned on another device (%s)", c->table_path,
+                     cp_table_fingerprint(r->table));
+    }
     if (c->timing.cold) c->timing.flush_bytes = 2 * cph_machine_llc_total(&r->m);
     if (c->json_path && !(r->results = json_array())) {
         cph_err("bench: out of memory");
@@ -436,6 +636,11 @@ static int bench(bench_cfg *c, int argc, char **argv) {
                    "bandwidth %.1f / %.1f GB/s\n",
                    r->roofs.peak_1core_gflops, r->roofs.peak_all_gflops, r->roofs.cores_used,
                    r->roofs.bw_1core_gbs, r->roofs.bw_all_gbs);
+            const double ratio = r->roofs.peak_all_gflops / r->roofs.peak_1core_gflops;
+            if (r->roofs.cores_used > 1 && ratio < 0.9 * r->roofs.cores_used)
+                printf("roofs: the %d-core peak is only %.2fx the 1-core peak: other work is "
+                       "running on these cores, so multi-thread rows are slowed by it\n",
+                       r->roofs.cores_used, ratio);
         } else {
             cph_warn("bench: roofs not measured (%s): no %% of peak", msg);
         }
@@ -445,7 +650,7 @@ static int bench(bench_cfg *c, int argc, char **argv) {
            100.0 * c->timing.target_rel_ci, 100.0 * c->timing.confidence, c->timing.max_seconds,
            c->timing.cold ? ", cold caches" : "");
     r->name_w = 5;
-    r->algo_w = 4;
+    r->algo_w = 10; /* "sgemm_wino" */
     for (size_t i = 0; i < c->sel.layers.n; i++) {
         const int len = (int)strlen(c->sel.layers.v[i].name);
         if (len > r->name_w) r->name_w = len;
@@ -473,8 +678,49 @@ static int bench(bench_cfg *c, int argc, char **argv) {
         cph_pool_destroy(pool);
     }
     if (rc == CPH_EXIT_OK && r->failures) rc = CPH_EXIT_FAIL;
+    if (r->have_roofs &&
+        cph_roofs_measure(&r->m, BENCH_ROOF_SECONDS, &r->roofs_end, msg, sizeof msg) == CP_OK) {
+        r->have_roofs_end = 1;
+        const double a = r->roofs.peak_1core_gflops, b = r->roofs_end.peak_1core_gflops;
+        printf("\nroofs at the end: FMA peak %.1f GFLOP/s (1 core), %.1f GFLOP/s (%d cores)%s\n",
+               b, r->roofs_end.peak_all_gflops, r->roofs_end.cores_used,
+               fabs(b - a) > BENCH_ROOF_DRIFT * a ? " -- differs by more than 10 % from the "
+                                                    "start: the machine's load changed"
+                                              : "");
+        const double aa = r->roofs.peak_all_gflops, ba = r->roofs_end.peak_all_gflops;
+        if (fabs(ba - aa) > BENCH_ROOF_DRIFT * aa)
+            printf("roofs: the %d-core peak moved from %.1f to %.1f GFLOP/s during the run\n",
+                   r->roofs_end.cores_used, aa, ba);
+    }
+    cph_summary *sums = NULL, *fast = NULL;
+    size_t nsums = 0;
+    if (r->oom) {
+        cph_err("bench: out of memory recording the rows: no summaries");
+        rc = CPH_EXIT_FAIL;
+    } else {
+        nsums = cph_bench_summarize(&r->recs, r->have_roofs ? r->roofs.peak_1core_gflops : 0,
+                                    r->m.cores, &sums);
+        cph_bench_recs fr;
+        size_t nfast = (size_t)-1;
+        if (nsums != (size_t)-1 && cph_bench_recs_fastest(&r->recs, &fr) == CP_OK) {
+            nfast = cph_bench_summarize(&fr, r->have_roofs ? r->roofs.peak_1core_gflops : 0,
+                                        r->m.cores, &fast);
+            cph_bench_recs_free(&fr);
+        }
+        if (nsums == (size_t)-1 || nfast != nsums) {
+            cph_err("bench: out of memory computing the summaries");
+            if (nsums != (size_t)-1) cph_summaries_free(sums, nsums);
+            if (nfast != (size_t)-1) cph_summaries_free(fast, nfast);
+            sums = fast = NULL;
+            nsums = 0;
+            rc = CPH_EXIT_FAIL;
+        } else {
+            cph_summaries_print(stdout, sums, fast, nsums);
+        }
+    }
     if (c->json_path) {
-        json_t *doc = document(r, c, argc, argv);
+        json_t *doc = document(r, c, argc, argv, sums ? cph_summaries_json(sums, fast, nsums) : NULL);
+        if (doc) json_object_set_new(doc, "roofs_end", roofs_json(r, 1));
         if (!doc) {
             cph_err("bench: out of memory building %s", c->json_path);
             rc = CPH_EXIT_FAIL;
@@ -488,8 +734,12 @@ static int bench(bench_cfg *c, int argc, char **argv) {
             json_decref(doc);
         }
     }
+    cph_summaries_free(sums, nsums);
+    cph_summaries_free(fast, nsums);
 done:
     json_decref(r->results);
+    cph_bench_recs_free(&r->recs);
+    cp_table_free(r->table);
     cph_machine_free(&r->m);
     free(r);
     return rc;
@@ -501,6 +751,7 @@ int cph_cmd_bench(int argc, char **argv) {
     cph_selection_init(&c.sel);
     cph_timing_defaults(&c.timing);
     c.roofs = 1;
+    c.sgemm = 1;
     int rc = parse_args(argc, argv, &c);
     if (rc < 0) rc = bench(&c, argc, argv);
     cph_selection_free(&c.sel);

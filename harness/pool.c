@@ -239,7 +239,7 @@ cp_status cph_pool_create(const cph_machine *m, int nthreads, cph_pool **out, in
     if (!p->pinned)
         for (int i = 0; i < nthreads; i++) p->cores[i] = -1;
     p->blas_threads_before = openblas_get_num_threads();
-    openblas_set_num_threads(nthreads);
+    openblas_set_num_threads(1); /* the workers share GEMMs out themselves (pool.h) */
     if (pinned) *pinned = p->pinned;
     *out = p;
     return CP_OK;

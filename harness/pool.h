@@ -1,7 +1,10 @@
 /* A pool of worker threads pinned one per physical core (hwloc), exposed to
  * the algorithms as a cp_exec.  Also owns OpenBLAS's thread count: while a
- * pool of n workers is in use, OpenBLAS is set to n threads, so GEMM calls made
- * from the calling thread never oversubscribe the cores the harness uses. */
+ * pool is in use, OpenBLAS is set to one thread, because the GEMM-based
+ * algorithms split their products over the pool's workers (algos/gemm_split.h)
+ * and OpenBLAS threads of its own would land, unpinned and spinning after each
+ * call, on the cores the workers are pinned to.  The previous count is
+ * restored when the pool is destroyed. */
 #ifndef CONVPICK_POOL_H
 #define CONVPICK_POOL_H
 

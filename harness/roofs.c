@@ -60,7 +60,10 @@ static void peak_task(void *arg, int64_t begin, int64_t end, int worker) {
 /* GFLOP/s of the best run of `workers` cores running the loop at once. */
 static double peak_gflops(const cp_exec *ex, int workers, peak_job *j, double budget) {
     const double per_iter = j->avx2 ? CPH_ROOF_AVX2_FLOPS_PER_ITER : CPH_ROOF_PORTABLE_FLOPS_PER_ITER;
-    const double target = fmin(fmax(budget / 10.0, 1e-3), 0.05); /* one run's length */
+    /* One run's length: short (at most 2 ms, under a scheduler time slice), so
+     * that on a shared machine some runs land in a window where nothing else
+     * runs on the cores; the best run is kept. */
+    const double target = fmin(fmax(budget / 10.0, 1e-3), 0.002);
     j->iters = 1 << 14;
     double t = 0.0;
     for (;;) { /* calibrate: grow the run until it lasts `target` */

@@ -83,6 +83,7 @@ expect_usage --shape "$shape" --threads 1,9999 --no-roofs
 expect_usage --shape "$shape" --bogus
 expect_usage --no-roofs
 expect_usage --shape n=1,c=0,h=4,w=4,k=4,r=3 --no-roofs
+expect_usage --shape "$shape" --no-roofs --table "$tmp/no-such-table.json"
 grep -q "target-ci" <("$CLI" bench --help) || { echo "FAIL: help lacks --target-ci"; exit 1; }
 
 # 4. An unwritable JSON path is refused before anything runs: exit 2, the
@@ -93,4 +94,45 @@ rc=$?; set -e
 [ "$rc" = 2 ] || { echo "FAIL: unwritable --json exited $rc, want 2"; exit 1; }
 grep -q "$tmp/no/such/b.json" "$tmp/err" || { echo "FAIL: error should name the file"; cat "$tmp/err"; exit 1; }
 [ ! -s "$tmp/out2" ] || { echo "FAIL: bench ran despite an unwritable --json"; exit 1; }
+# 5. --table: a 'chosen' row planned from a tuning table, SGEMM reference rows
+#    and the suite summaries, in the text and in the JSON.
+s3=n=1,c=64,h=8,w=8,k=64,r=3,pad=1
+"$CLI" tune --shape "$s3" --algo im2col_gemm,blocked --budget 0.2 --max-seconds 0.05 \
+  --max-samples 20 --quiet --out "$tmp/t.json" > /dev/null
+"$CLI" bench --shape "$s3" --algo im2col_gemm,blocked,winograd_2x2_3x3 --table "$tmp/t.json" \
+  "${fast[@]}" --json "$tmp/s.json" > "$tmp/out3.txt"
+for w in " chosen " " sgemm " " sgemm_wino " "im2col_vs_sgemm" "chosen_vs_im2col"; do
+  grep -q -- "$w" "$tmp/out3.txt" || { echo "FAIL: bench output lacks '$w'"; cat "$tmp/out3.txt"; exit 1; }
+done
+$PY - "$tmp/s.json" "$SRC/tests/data/bench_results.schema.json" "$tmp/t.json" <<'P'
+import json, sys
+import jsonschema
+d = json.load(open(sys.argv[1]))
+jsonschema.validate(d, json.load(open(sys.argv[2])))
+table = json.load(open(sys.argv[3]))
+rows = {r["algo"]: r for r in d["results"]}
+ch = rows["chosen"]
+assert ch["kind"] == "chosen" and ch["status"] == "ok", ch
+# the chosen row runs the algorithm the table recorded for this shape
+assert ch["chosen_algo"] == table["entries"][0]["choice"]["algo"], (ch["chosen_algo"], table["entries"][0]["choice"])
+g = rows["sgemm"]
+assert g["kind"] == "reference" and g["params"] == {"m": 64, "k": 576, "n": 64, "products": 1, "repeats": 1}
+# the im2col product of this layer: 2 K (C R S) (P Q) FLOPs (common practice, no source)
+assert g["flops_performed"] == 2 * 64 * 576 * 64, g["flops_performed"]
+# Winograd's GEMM stage: 16 products K x C x tiles, 16 tiles of 2x2 on an 8x8 output
+gw = rows["sgemm_wino"]
+assert gw["flops_performed"] == 16 * 2 * 64 * 64 * 16, gw["flops_performed"]
+sums = {(s["id"], s["threads"]): s for s in d["summaries"]}
+im = sums[("im2col_vs_sgemm", 1)]
+want = rows["im2col_gemm"]["measurement"]["stats"]["median"] / g["measurement"]["stats"]["median"]
+assert abs(im["value"] - want) <= 1e-12 * want, (im["value"], want)
+assert im["verdict"] == ("pass" if want <= 1.25 else "miss")
+cv = sums[("chosen_vs_im2col", 1)]
+want = ch["measurement"]["stats"]["median"] / rows["im2col_gemm"]["measurement"]["stats"]["median"]
+assert abs(cv["value"] - want) <= 1e-12 * want, (cv["value"], want)
+if cv["verdict"] == "miss":
+    assert abs(cv["missed_by"] - (want - 0.8) / 0.8) <= 1e-12
+assert sums[("blocked_peak", 1)]["verdict"] == "n/a"  # --no-roofs: no peak to compare with
+print("table + summaries ok")
+P
 echo "cli_bench: all checks passed"

@@ -143,8 +143,11 @@ static void test_grid_vs_oracle(void **state) {
             const cp_mode mode = m ? CP_CONV : CP_XCORR;
             layer L;
             layer_make(&L, &s, mode, (int)(i % 2));
-            for (int64_t uk = 0; uk <= 1; uk++) {
+            for (int64_t e = 0; e <= 3; e++) { /* bit 0: portable kernel; bit 1: other order */
+                const int64_t uk = e & 1;
                 cp_params p = defaults_with_ukernel(blk, &s, uk);
+                const int oi = cp_algo_param_index(blk, "order");
+                if (e & 2) p.v[oi] = !p.v[oi];
                 float *y = run_algo(blk, &L, mode, &p, NULL, 1);
                 expect_accurate(blk, &L, y, uk ? "portable" : "best");
                 free(y);

@@ -382,7 +382,8 @@ static void test_lower_writes_own_row(void **state) {
 }
 
 /* Defaults and every candidate pass the range check, the default comes first,
- * and a workspace from the defaults fits in half the L3 given. */
+ * and a workspace from the defaults fits in half the L2 given unless that
+ * leaves the GEMM fewer than 512 columns. */
 static void test_params(void **state) {
     (void)state;
     const cp_algo *a = algo();
@@ -398,8 +399,17 @@ static void test_params(void **state) {
     cp_params d, cand[8];
     cp_algo_defaults(a, &s, &small, &d);
     assert_int_equal(cp_params_check(a, &d, msg, sizeof msg), CP_OK);
-    assert_true(a->workspace_size(&s, CP_XCORR, &d, 1) <= small.l3 / 2);
-    assert_true(d.v[0] < 56); /* 576 x 56*56 floats = 7 MiB does not fit: blocked */
+    /* Half of L2 (256 KiB) holds 2 rows' columns (576 x 112 floats = 252 KiB),
+     * so the 512-column floor binds: 10 rows (560 columns); equal blocks of
+     * ceil(56 / ceil(56 / 10)) = 10 rows. */
+    assert_int_equal(d.v[0], 10);
+    cp_cache_sizes big = {32u << 10, 4u << 20, 32u << 20, 64u};
+    cp_params db;
+    cp_algo_defaults(a, &s, &big, &db);
+    /* 2 MiB holds 16 rows (576 x 896 floats = 2016 KiB): 4 equal blocks of 14
+     * rows, within half of L2 */
+    assert_int_equal(db.v[0], 14);
+    assert_true(a->workspace_size(&s, CP_XCORR, &db, 1) <= big.l2 / 2);
     const int n = a->candidates(&s, &small, cand, 8);
     assert_true(n >= 2 && n <= 8);
     assert_int_equal(cand[0].v[0], d.v[0]);

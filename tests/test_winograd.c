@@ -106,6 +106,7 @@ static void test_layer_worked(void **state) {
     const cp_algo *a = wino();
     cp_params p;
     cp_algo_defaults(a, &s, NULL, &p);
+    p.v[2] = 0; /* U as 16 plain K x C matrices */
     assert_int_equal(a->prepared_size(&s, CP_XCORR, &p), 16 * sizeof(float));
     float u[16];
     assert_int_equal(a->prepare(&s, CP_XCORR, &p, ex_g, u), CP_OK);
@@ -115,6 +116,16 @@ static void test_layer_worked(void **state) {
     for (int i = 0; i < 9; i++) gf[i] = ex_g[8 - i];
     assert_int_equal(a->prepare(&s, CP_CONV, &p, gf, uf), CP_OK);
     for (int i = 0; i < 16; i++) assert_true(uf[i] == ex_u[i]);
+    /* Packed for the tile kernel: per point one 6-channel panel of C = 1,
+     * channel 0 first and five zero channels (blocked_ukr.h order). */
+    p.v[2] = 1;
+    assert_int_equal(a->prepared_size(&s, CP_XCORR, &p), 16 * 6 * sizeof(float));
+    float up[96];
+    assert_int_equal(a->prepare(&s, CP_XCORR, &p, ex_g, up), CP_OK);
+    for (int i = 0; i < 16; i++) {
+        assert_true(up[6 * i] == ex_u[i]);
+        for (int kk = 1; kk < 6; kk++) assert_true(up[6 * i + kk] == 0.0f);
+    }
 
     cp_plan *plan = NULL;
     char msg[256];
@@ -275,10 +286,12 @@ static void check_case(const grid_case *gc, cp_mode mode, int with_bias) {
     cp_algo_defaults(a, &s, NULL, &defaults);
     const int64_t blocks[] = {defaults.v[0], 1, 3, 16};
     for (size_t bi = 0; bi < sizeof blocks / sizeof blocks[0]; bi++)
-        for (int e = 0; e < 4; e++) { /* bit 0: two workers; bit 1: portable kernels */
+        for (int e = 0; e < 8; e++) { /* bit 0: two workers; bit 1: portable kernels;
+                                         bit 2: the other GEMM (OpenBLAS / packed) */
             cp_params p = defaults;
             p.v[0] = blocks[bi];
-            p.v[1] = e >> 1;
+            p.v[1] = (e >> 1) & 1;
+            p.v[2] = (e >> 2) ? !defaults.v[2] : defaults.v[2];
             cp_plan *plan = NULL;
             assert_int_equal(cp_plan_create(a, &s, mode, &p, NULL, (e & 1) ? 2 : 1, w, &plan, msg,
                                             sizeof msg),
@@ -289,12 +302,13 @@ static void check_case(const grid_case *gc, cp_mode mode, int with_bias) {
             cp_error err = cp_error_measure(y, ref, mag, no);
             if (err.nonfinite || err.rel_err > a->tolerance)
                 fail_msg("n=%lld c=%lld k=%lld h=%lld w=%lld pads=%lld,%lld,%lld,%lld mode=%d "
-                         "bias=%d tile_block=%lld kernels=%lld workers=%d: rel_err %.3g "
+                         "bias=%d tile_block=%lld kernels=%lld gemm=%lld workers=%d: rel_err %.3g "
                          "(tolerance %.3g), %zu non-finite, worst index %zu",
                          (long long)s.n, (long long)s.c, (long long)s.k, (long long)s.h,
                          (long long)s.w, (long long)s.pad_top, (long long)s.pad_left,
                          (long long)s.pad_bottom, (long long)s.pad_right, (int)mode, with_bias,
-                         (long long)p.v[0], (long long)p.v[1], (e & 1) ? 2 : 1, err.rel_err,
+                         (long long)p.v[0], (long long)p.v[1], (long long)p.v[2], (e & 1) ? 2 : 1,
+                         err.rel_err,
                          a->tolerance, err.nonfinite, err.worst);
             for (size_t i = 0; i < GUARD; i++) assert_true(y[no + i] == guard_val);
             cp_plan_destroy(plan);
@@ -377,10 +391,11 @@ static void test_candidates(void **state) {
         assert_int_equal(cp_params_check(a, &d, msg, sizeof msg), CP_OK);
         const int n = a->candidates(&s, &caches, cand, 8);
         assert_true(n >= 2 && n <= 8);
-        assert_true(cand[0].v[0] == d.v[0]);
+        assert_true(cand[0].v[0] == d.v[0] && cand[0].v[2] == d.v[2]);
         for (int j = 0; j < n; j++) {
             assert_int_equal(cp_params_check(a, &cand[j], msg, sizeof msg), CP_OK);
-            for (int k = 0; k < j; k++) assert_true(cand[j].v[0] != cand[k].v[0]);
+            for (int k = 0; k < j; k++)
+                assert_true(cand[j].v[0] != cand[k].v[0] || cand[j].v[2] != cand[k].v[2]);
         }
         assert_int_equal(a->candidates(&s, &caches, cand, 1), 1);
     }

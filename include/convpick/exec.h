@@ -23,9 +23,12 @@ typedef struct cp_exec {
      * NULL means: call fn(arg, 0, count, 0) on the calling thread. */
     void (*parallel_for)(void *pool, int64_t count, cp_task_fn fn, void *arg);
     void *pool;
-    /* GEMM-based algorithms call OpenBLAS from the calling thread; OpenBLAS's
-     * own thread count is set by the caller (the harness sets it to nthreads so
-     * that it never oversubscribes the cores it uses). */
+    /* GEMM-based algorithms split their products over these workers, each
+     * worker calling OpenBLAS; with nthreads > 1 the caller should set
+     * OpenBLAS to one thread (the harness's pool does), else the workers' calls
+     * each start OpenBLAS threads and oversubscribe the cores.  With one
+     * worker a product is one OpenBLAS call on the calling thread, threaded as
+     * the caller set OpenBLAS. */
 } cp_exec;
 
 /* A single-threaded executor. */
