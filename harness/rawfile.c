@@ -4,6 +4,7 @@
  * byte-swapped on the way in and out, so a file means the same everywhere. */
 #define _POSIX_C_SOURCE 200809L /* open, fstat, mkstemp, fsync, fchmod */
 #include "rawfile.h"
+#include "cpa.h"
 
 #include <errno.h>
 #include <math.h>
@@ -15,18 +16,6 @@
 #include <string.h>
 #include <sys/stat.h>
 #include <unistd.h>
-
-static cp_status fail(cp_status st, char *msg, size_t cap, const char *fmt, ...)
-    __attribute__((format(printf, 4, 5)));
-static cp_status fail(cp_status st, char *msg, size_t cap, const char *fmt, ...) {
-    if (msg && cap) {
-        va_list ap;
-        va_start(ap, fmt);
-        vsnprintf(msg, cap, fmt, ap);
-        va_end(ap);
-    }
-    return st;
-}
 
 static int host_is_big_endian(void) {
     const uint32_t one = 1;
@@ -50,35 +39,35 @@ cp_status cph_read_f32(const char *path, const char *what, size_t count, float *
                        size_t cap) {
     *out = NULL;
     if (count > SIZE_MAX / sizeof(float))
-        return fail(CP_ENOMEM, msg, cap, "%s file %s: expected size overflows", what, path);
+        return cpa_fail(CP_ENOMEM, msg, cap, "%s file %s: expected size overflows", what, path);
     const size_t want = count * sizeof(float);
     /* Checked before open(): opening a FIFO would wait for a writer. */
     struct stat pre;
     if (stat(path, &pre) == 0 && !S_ISREG(pre.st_mode))
-        return fail(CP_EIO, msg, cap, "%s file %s: not a regular file", what, path);
+        return cpa_fail(CP_EIO, msg, cap, "%s file %s: not a regular file", what, path);
     int fd = open(path, O_RDONLY);
     if (fd < 0)
-        return fail(CP_EIO, msg, cap, "%s file %s: cannot open: %s", what, path, strerror(errno));
+        return cpa_fail(CP_EIO, msg, cap, "%s file %s: cannot open: %s", what, path, strerror(errno));
     struct stat stt;
     if (fstat(fd, &stt) != 0) {
         int e = errno;
         close(fd);
-        return fail(CP_EIO, msg, cap, "%s file %s: cannot stat: %s", what, path, strerror(e));
+        return cpa_fail(CP_EIO, msg, cap, "%s file %s: cannot stat: %s", what, path, strerror(e));
     }
     if (!S_ISREG(stt.st_mode)) {
         close(fd);
-        return fail(CP_EIO, msg, cap, "%s file %s: not a regular file", what, path);
+        return cpa_fail(CP_EIO, msg, cap, "%s file %s: not a regular file", what, path);
     }
     if ((uintmax_t)stt.st_size != (uintmax_t)want) {
         close(fd);
-        return fail(CP_EFORMAT, msg, cap,
+        return cpa_fail(CP_EFORMAT, msg, cap,
                     "%s file %s: size is %jd bytes, expected %zu bytes (%zu float32 values)",
                     what, path, (intmax_t)stt.st_size, want, count);
     }
     float *buf = malloc(want ? want : 1);
     if (!buf) {
         close(fd);
-        return fail(CP_ENOMEM, msg, cap, "%s file %s: cannot allocate %zu bytes", what, path, want);
+        return cpa_fail(CP_ENOMEM, msg, cap, "%s file %s: cannot allocate %zu bytes", what, path, want);
     }
     size_t got = 0;
     while (got < want) {
@@ -88,7 +77,7 @@ cp_status cph_read_f32(const char *path, const char *what, size_t count, float *
             int e = r < 0 ? errno : 0;
             close(fd);
             free(buf);
-            return fail(CP_EIO, msg, cap, "%s file %s: read failed after %zu bytes: %s", what,
+            return cpa_fail(CP_EIO, msg, cap, "%s file %s: read failed after %zu bytes: %s", what,
                         path, got, e ? strerror(e) : "file shrank while reading");
         }
         got += (size_t)r;
@@ -103,15 +92,15 @@ cp_status cph_f32_from_bytes(const void *data, size_t len, const char *name, con
                              size_t count, float **out, char *msg, size_t cap) {
     *out = NULL;
     if (count > SIZE_MAX / sizeof(float))
-        return fail(CP_ENOMEM, msg, cap, "%s file %s: expected size overflows", what, name);
+        return cpa_fail(CP_ENOMEM, msg, cap, "%s file %s: expected size overflows", what, name);
     const size_t want = count * sizeof(float);
     if (len != want)
-        return fail(CP_EFORMAT, msg, cap,
+        return cpa_fail(CP_EFORMAT, msg, cap,
                     "%s file %s: size is %zu bytes, expected %zu bytes (%zu float32 values)", what,
                     name, len, want, count);
     float *buf = malloc(want ? want : 1);
     if (!buf)
-        return fail(CP_ENOMEM, msg, cap, "%s file %s: cannot allocate %zu bytes", what, name, want);
+        return cpa_fail(CP_ENOMEM, msg, cap, "%s file %s: cannot allocate %zu bytes", what, name, want);
     if (want) memcpy(buf, data, want);
     if (host_is_big_endian()) swap32(buf, count);
     *out = buf;
@@ -148,14 +137,14 @@ static cp_status write_atomic(const char *path, int (*fill)(int fd, const void *
     const char *slash = strrchr(path, '/');
     const size_t dirlen = slash ? (size_t)(slash - path) : 0;
     const char *base = slash ? slash + 1 : path;
-    if (!*base) return fail(CP_EIO, msg, cap, "%s: not a file name", path);
+    if (!*base) return cpa_fail(CP_EIO, msg, cap, "%s: not a file name", path);
     const size_t tlen = dirlen + strlen(base) + 16;
     char *tmp = malloc(tlen);
     char *dir = malloc(dirlen + 2);
     if (!tmp || !dir) {
         free(tmp);
         free(dir);
-        return fail(CP_ENOMEM, msg, cap, "%s: out of memory", path);
+        return cpa_fail(CP_ENOMEM, msg, cap, "%s: out of memory", path);
     }
     if (slash) {
         memcpy(dir, path, dirlen);
@@ -169,7 +158,7 @@ static cp_status write_atomic(const char *path, int (*fill)(int fd, const void *
     cp_status st = CP_OK;
     int fd = mkstemp(tmp);
     if (fd < 0) {
-        st = fail(CP_EIO, msg, cap, "%s: cannot create a temporary file in %s: %s; %s was left "
+        st = cpa_fail(CP_EIO, msg, cap, "%s: cannot create a temporary file in %s: %s; %s was left "
                   "as it was", path, dir, strerror(errno), path);
         goto out;
     }
@@ -177,20 +166,20 @@ static cp_status write_atomic(const char *path, int (*fill)(int fd, const void *
     mode_t mask = umask(0);
     umask(mask);
     if (fchmod(fd, (mode_t)(0666 & ~mask)) != 0 || fill(fd, ctx) != 0 || fsync(fd) != 0) {
-        st = fail(CP_EIO, msg, cap, "%s: write failed: %s; %s was left as it was", path,
+        st = cpa_fail(CP_EIO, msg, cap, "%s: write failed: %s; %s was left as it was", path,
                   strerror(errno), path);
         close(fd);
         unlink(tmp);
         goto out;
     }
     if (close(fd) != 0) {
-        st = fail(CP_EIO, msg, cap, "%s: close failed: %s; %s was left as it was", path,
+        st = cpa_fail(CP_EIO, msg, cap, "%s: close failed: %s; %s was left as it was", path,
                   strerror(errno), path);
         unlink(tmp);
         goto out;
     }
     if (rename(tmp, path) != 0) {
-        st = fail(CP_EIO, msg, cap, "%s: cannot rename the temporary file into place: %s; %s was "
+        st = cpa_fail(CP_EIO, msg, cap, "%s: cannot rename the temporary file into place: %s; %s was "
                   "left as it was", path, strerror(errno), path);
         unlink(tmp);
         goto out;

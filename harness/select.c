@@ -7,6 +7,7 @@
  * cp_shape_validate so that there is one place that decides validity. */
 #define _POSIX_C_SOURCE 200809L /* strdup */
 #include "select.h"
+#include "cpa.h"
 
 #include <ctype.h>
 #include <errno.h>
@@ -15,18 +16,6 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-
-static cp_status fail(cp_status st, char *msg, size_t cap, const char *fmt, ...)
-    __attribute__((format(printf, 4, 5)));
-static cp_status fail(cp_status st, char *msg, size_t cap, const char *fmt, ...) {
-    if (msg && cap) {
-        va_list ap;
-        va_start(ap, fmt);
-        vsnprintf(msg, cap, fmt, ap);
-        va_end(ap);
-    }
-    return st;
-}
 
 /* --- The spec parser ------------------------------------------------------ */
 
@@ -98,16 +87,16 @@ static char *trim(char *t) {
 /* Decimal integer in int range; writes a message naming the key otherwise. */
 static cp_status parse_int_value(const char *key, const char *val, int64_t *out, char *msg,
                                  size_t cap) {
-    if (!*val) return fail(CP_EINVAL, msg, cap, "%s: empty value (expected a number)", key);
+    if (!*val) return cpa_fail(CP_EINVAL, msg, cap, "%s: empty value (expected a number)", key);
     errno = 0;
     char *end = NULL;
     long long v = strtoll(val, &end, 10);
-    if (end == val) return fail(CP_EINVAL, msg, cap, "%s=%s: not a number", key, val);
+    if (end == val) return cpa_fail(CP_EINVAL, msg, cap, "%s=%s: not a number", key, val);
     if (*end)
-        return fail(CP_EINVAL, msg, cap, "%s=%s: trailing characters '%s' after the number", key,
+        return cpa_fail(CP_EINVAL, msg, cap, "%s=%s: trailing characters '%s' after the number", key,
                     val, end);
     if (errno == ERANGE || v < INT_MIN || v > INT_MAX)
-        return fail(CP_EINVAL, msg, cap, "%s=%s: out of range (must fit in an int, %d..%d)",
+        return cpa_fail(CP_EINVAL, msg, cap, "%s=%s: out of range (must fit in an int, %d..%d)",
                     key, val, INT_MIN, INT_MAX);
     *out = v;
     return CP_OK;
@@ -118,7 +107,7 @@ static cp_status parse_spec(char *buf, cp_shape *out, char *msg, size_t cap) {
     unsigned seen_fields = 0;
     unsigned seen_keys = 0; /* bit i: keys[i] given */
     int pad_mode = -1;      /* a cp_pad_mode, applied after all keys */
-    if (!*trim(buf)) return fail(CP_EINVAL, msg, cap, "empty shape spec (expected key=value,...)");
+    if (!*trim(buf)) return cpa_fail(CP_EINVAL, msg, cap, "empty shape spec (expected key=value,...)");
     char *save = NULL;
     int item = 0;
     /* A manual split (not strtok) keeps empty items visible as errors. */
@@ -129,28 +118,28 @@ static cp_status parse_spec(char *buf, cp_shape *out, char *msg, size_t cap) {
         item++;
         char *tok = trim(p);
         if (!*tok)
-            return fail(CP_EINVAL, msg, cap, "item %d is empty (stray ',')", item);
+            return cpa_fail(CP_EINVAL, msg, cap, "item %d is empty (stray ',')", item);
         char *eq = strchr(tok, '=');
-        if (!eq) return fail(CP_EINVAL, msg, cap, "%s: missing '=' (expected key=value)", tok);
+        if (!eq) return cpa_fail(CP_EINVAL, msg, cap, "%s: missing '=' (expected key=value)", tok);
         *eq = '\0';
         char *key = trim(tok), *val = trim(eq + 1);
-        if (!*key) return fail(CP_EINVAL, msg, cap, "item %d: missing key before '='", item);
+        if (!*key) return cpa_fail(CP_EINVAL, msg, cap, "item %d: missing key before '='", item);
         size_t ki = NKEYS;
         for (size_t i = 0; i < NKEYS; i++)
             if (strcmp(keys[i].name, key) == 0) ki = i;
         if (ki == NKEYS)
-            return fail(CP_EINVAL, msg, cap,
+            return cpa_fail(CP_EINVAL, msg, cap,
                         "unknown key '%s' (keys: n c h w k r s stride stride_h stride_w pad "
                         "pad_h pad_w pad_top pad_left pad_bottom pad_right dilation dilation_h "
                         "dilation_w groups)",
                         key);
-        if (seen_keys & (1u << ki)) return fail(CP_EINVAL, msg, cap, "%s: key given twice", key);
+        if (seen_keys & (1u << ki)) return cpa_fail(CP_EINVAL, msg, cap, "%s: key given twice", key);
         if (seen_fields & keys[ki].fields) {
             const char *other = "?";
             for (size_t i = 0; i < NKEYS; i++)
                 if ((seen_keys & (1u << i)) && (keys[i].fields & keys[ki].fields))
                     other = keys[i].name;
-            return fail(CP_EINVAL, msg, cap, "%s: conflicts with '%s' given before", key, other);
+            return cpa_fail(CP_EINVAL, msg, cap, "%s: conflicts with '%s' given before", key, other);
         }
         seen_keys |= 1u << ki;
         seen_fields |= keys[ki].fields;
@@ -162,7 +151,7 @@ static cp_status parse_spec(char *buf, cp_shape *out, char *msg, size_t cap) {
             else if (strcmp(val, "full") == 0)
                 pad_mode = CP_PAD_FULL;
             else
-                return fail(CP_EINVAL, msg, cap,
+                return cpa_fail(CP_EINVAL, msg, cap,
                             "pad=%s: expected a number or valid|same|full", val);
             continue;
         }
@@ -175,29 +164,29 @@ static cp_status parse_spec(char *buf, cp_shape *out, char *msg, size_t cap) {
         {"c", F_C}, {"h", F_H}, {"w", F_W}, {"k", F_K}, {"r", F_R}};
     for (size_t i = 0; i < sizeof required / sizeof required[0]; i++)
         if (!(seen_fields & required[i].f))
-            return fail(CP_EINVAL, msg, cap, "missing required key '%s'", required[i].name);
+            return cpa_fail(CP_EINVAL, msg, cap, "missing required key '%s'", required[i].name);
     if (!(seen_fields & F_S)) s.s = s.r;
     if (pad_mode >= 0) cp_shape_set_padding(&s, (cp_pad_mode)pad_mode);
     char why[256];
     if (cp_shape_validate(&s, why, sizeof why) != CP_SHAPE_OK)
-        return fail(CP_EINVAL, msg, cap, "invalid shape: %s", why);
+        return cpa_fail(CP_EINVAL, msg, cap, "invalid shape: %s", why);
     *out = s;
     return CP_OK;
 }
 
 cp_status cph_parse_shape(const char *spec, const char *ctx, cp_shape *out, char *msg,
                           size_t cap) {
-    if (!spec) return fail(CP_EINVAL, msg, cap, "%s%sno shape spec", ctx ? ctx : "", ctx ? ": " : "");
+    if (!spec) return cpa_fail(CP_EINVAL, msg, cap, "%s%sno shape spec", ctx ? ctx : "", ctx ? ": " : "");
     char *buf = strdup(spec);
-    if (!buf) return fail(CP_ENOMEM, msg, cap, "out of memory");
+    if (!buf) return cpa_fail(CP_ENOMEM, msg, cap, "out of memory");
     char m[512];
     cp_status st = parse_spec(buf, out, m, sizeof m);
     free(buf);
     if (st != CP_OK) {
         if (ctx)
-            fail(st, msg, cap, "%s: %s", ctx, m);
+            cpa_fail(st, msg, cap, "%s: %s", ctx, m);
         else
-            fail(st, msg, cap, "%s", m);
+            cpa_fail(st, msg, cap, "%s", m);
     }
     return st;
 }
@@ -285,7 +274,7 @@ void cph_selection_free(cph_selection *sel) { cph_layers_free(&sel->layers); }
 
 static cp_status add_algos(cph_selection *sel, const char *arg, char *msg, size_t cap) {
     char *buf = strdup(arg);
-    if (!buf) return fail(CP_ENOMEM, msg, cap, "out of memory");
+    if (!buf) return cpa_fail(CP_ENOMEM, msg, cap, "out of memory");
     cp_status st = CP_OK;
     char *save = NULL;
     for (char *p = buf; p; p = save) {
@@ -303,7 +292,7 @@ static cp_status add_algos(cph_selection *sel, const char *arg, char *msg, size_
                 if (w < 0) break;
                 off += (size_t)w;
             }
-            st = fail(CP_EINVAL, msg, cap, "--algo: unknown algorithm '%s' (known: %s)", name,
+            st = cpa_fail(CP_EINVAL, msg, cap, "--algo: unknown algorithm '%s' (known: %s)", name,
                       known);
             break;
         }
@@ -311,7 +300,7 @@ static cp_status add_algos(cph_selection *sel, const char *arg, char *msg, size_
         for (size_t i = 0; i < sel->nalgos; i++) dup |= sel->algos[i] == a;
         if (dup) continue;
         if (sel->nalgos == sizeof sel->algos / sizeof sel->algos[0]) {
-            st = fail(CP_EINVAL, msg, cap, "--algo: too many algorithms");
+            st = cpa_fail(CP_EINVAL, msg, cap, "--algo: too many algorithms");
             break;
         }
         sel->algos[sel->nalgos++] = a;
@@ -332,7 +321,7 @@ cp_status cph_selection_option(cph_selection *sel, int opt, const char *arg, cha
         char name[32];
         snprintf(name, sizeof name, "shape%zu", sel->layers.n + 1);
         if (cph_layers_add(&sel->layers, name, &s, 1) != CP_OK)
-            return fail(CP_ENOMEM, msg, cap, "out of memory");
+            return cpa_fail(CP_ENOMEM, msg, cap, "out of memory");
         return CP_OK;
     }
     case CPH_OPT_SHAPES:
@@ -353,23 +342,23 @@ cp_status cph_selection_option(cph_selection *sel, int opt, const char *arg, cha
             sel->modes[1] = CP_CONV;
             sel->nmodes = 2;
         } else {
-            return fail(CP_EINVAL, msg, cap, "--mode %s: expected xcorr, conv or both", arg);
+            return cpa_fail(CP_EINVAL, msg, cap, "--mode %s: expected xcorr, conv or both", arg);
         }
         return CP_OK;
     case CPH_OPT_SEED: {
         errno = 0;
         char *end = NULL;
         if (!isdigit((unsigned char)arg[0]))
-            return fail(CP_EINVAL, msg, cap, "--seed %s: expected a non-negative integer", arg);
+            return cpa_fail(CP_EINVAL, msg, cap, "--seed %s: expected a non-negative integer", arg);
         unsigned long long v = strtoull(arg, &end, 10);
         if (*end || errno == ERANGE)
-            return fail(CP_EINVAL, msg, cap, "--seed %s: expected a non-negative integer below 2^64",
+            return cpa_fail(CP_EINVAL, msg, cap, "--seed %s: expected a non-negative integer below 2^64",
                         arg);
         sel->seed = (uint64_t)v;
         return CP_OK;
     }
     default:
-        return fail(CP_EINVAL, msg, cap, "internal: option code %d is not a selection option",
+        return cpa_fail(CP_EINVAL, msg, cap, "internal: option code %d is not a selection option",
                     opt);
     }
 }
@@ -388,6 +377,6 @@ cp_status cph_selection_finish(cph_selection *sel, const cp_mode *default_modes,
         sel->nmodes = ndefault;
     }
     if (sel->layers.n == 0)
-        return fail(CP_EINVAL, msg, cap, "no layers selected (give --shape, --shapes or --suite)");
+        return cpa_fail(CP_EINVAL, msg, cap, "no layers selected (give --shape, --shapes or --suite)");
     return CP_OK;
 }

@@ -16,24 +16,13 @@
 #include <unistd.h>
 
 #include "select.h"
+#include "cpa.h"
 
 #define CPH_SHAPE_LINE_MAX 1024 /* characters per line, without the newline */
 /* Layers per file: far above any network, low enough that a stream of
  * generated lines (a pipe, /dev/urandom) ends in an error, not in minutes of
  * de-duplication (cph_layers_add is linear in the list). */
 #define CPH_SHAPE_FILE_MAX_LAYERS 10000
-
-static cp_status fail(cp_status st, char *msg, size_t cap, const char *fmt, ...)
-    __attribute__((format(printf, 4, 5)));
-static cp_status fail(cp_status st, char *msg, size_t cap, const char *fmt, ...) {
-    if (msg && cap) {
-        va_list ap;
-        va_start(ap, fmt);
-        vsnprintf(msg, cap, fmt, ap);
-        va_end(ap);
-    }
-    return st;
-}
 
 static char *trim(char *t) {
     while (*t && isspace((unsigned char)*t)) t++;
@@ -51,13 +40,13 @@ static cp_status split_name(char *line, const char *ctx, char **name, char **spe
     if (!colon) return CP_OK;
     *colon = '\0';
     char *nm = trim(line);
-    if (!*nm) return fail(CP_EFORMAT, msg, cap, "%s: empty layer name before ':'", ctx);
+    if (!*nm) return cpa_fail(CP_EFORMAT, msg, cap, "%s: empty layer name before ':'", ctx);
     if (strlen(nm) >= sizeof(((cph_layer *)0)->name))
-        return fail(CP_EFORMAT, msg, cap, "%s: layer name '%.20s...' is longer than %zu characters",
+        return cpa_fail(CP_EFORMAT, msg, cap, "%s: layer name '%.20s...' is longer than %zu characters",
                     ctx, nm, sizeof(((cph_layer *)0)->name) - 1);
     for (const char *c = nm; *c; c++)
         if (!isalnum((unsigned char)*c) && *c != '_' && *c != '.' && *c != '-')
-            return fail(CP_EFORMAT, msg, cap,
+            return cpa_fail(CP_EFORMAT, msg, cap,
                         "%s: layer name '%s' may hold only letters, digits, '_', '.' and '-'",
                         ctx, nm);
     *name = nm;
@@ -79,12 +68,12 @@ static cp_status load_stream(FILE *f, const char *path, cph_layer_list *out, cha
         if (len && line[len - 1] == '\n')
             line[--len] = '\0';
         else if (!feof(f)) {
-            st = fail(CP_EFORMAT, msg, cap, "%s:%ld: line longer than %d characters", path, lineno,
+            st = cpa_fail(CP_EFORMAT, msg, cap, "%s:%ld: line longer than %d characters", path, lineno,
                       CPH_SHAPE_LINE_MAX);
             break;
         }
         if (len > CPH_SHAPE_LINE_MAX) {
-            st = fail(CP_EFORMAT, msg, cap, "%s:%ld: line longer than %d characters", path, lineno,
+            st = cpa_fail(CP_EFORMAT, msg, cap, "%s:%ld: line longer than %d characters", path, lineno,
                       CPH_SHAPE_LINE_MAX);
             break;
         }
@@ -109,38 +98,38 @@ static cp_status load_stream(FILE *f, const char *path, cph_layer_list *out, cha
             name = autoname;
         }
         if (added >= CPH_SHAPE_FILE_MAX_LAYERS) {
-            st = fail(CP_EFORMAT, msg, cap, "%s:%ld: more than %d layers in one file", path,
+            st = cpa_fail(CP_EFORMAT, msg, cap, "%s:%ld: more than %d layers in one file", path,
                       lineno, CPH_SHAPE_FILE_MAX_LAYERS);
             break;
         }
         if (cph_layers_add(out, name, &s, 1) != CP_OK) {
-            st = fail(CP_ENOMEM, msg, cap, "%s:%ld: out of memory", path, lineno);
+            st = cpa_fail(CP_ENOMEM, msg, cap, "%s:%ld: out of memory", path, lineno);
             break;
         }
         added++;
     }
     if (st == CP_OK && ferror(f))
-        st = fail(CP_EIO, msg, cap, "%s: read error: %s", path, strerror(errno));
+        st = cpa_fail(CP_EIO, msg, cap, "%s: read error: %s", path, strerror(errno));
     if (st == CP_OK && added == 0)
-        st = fail(CP_EFORMAT, msg, cap, "%s: no layers in the file", path);
+        st = cpa_fail(CP_EFORMAT, msg, cap, "%s: no layers in the file", path);
     return st;
 }
 
 cp_status cph_load_shape_file(const char *path, cph_layer_list *out, char *msg, size_t cap) {
     struct stat sb;
     if (stat(path, &sb) == 0 && S_ISDIR(sb.st_mode))
-        return fail(CP_EIO, msg, cap, "%s: cannot read: is a directory", path);
+        return cpa_fail(CP_EIO, msg, cap, "%s: cannot read: is a directory", path);
     /* Opened without blocking, then switched back: a FIFO that no program
      * writes reads as empty instead of hanging in open(). */
     int fd = open(path, O_RDONLY | O_NONBLOCK | O_CLOEXEC);
-    if (fd < 0) return fail(CP_EIO, msg, cap, "%s: cannot open: %s", path, strerror(errno));
+    if (fd < 0) return cpa_fail(CP_EIO, msg, cap, "%s: cannot open: %s", path, strerror(errno));
     int fl = fcntl(fd, F_GETFL);
     if (fl != -1) (void)fcntl(fd, F_SETFL, fl & ~O_NONBLOCK);
     FILE *f = fdopen(fd, "r");
     if (!f) {
         int e = errno;
         close(fd);
-        return fail(CP_EIO, msg, cap, "%s: cannot open: %s", path, strerror(e));
+        return cpa_fail(CP_EIO, msg, cap, "%s: cannot open: %s", path, strerror(e));
     }
     cp_status st = load_stream(f, path, out, msg, cap);
     fclose(f);
@@ -150,9 +139,9 @@ cp_status cph_load_shape_file(const char *path, cph_layer_list *out, char *msg, 
 cp_status cph_load_shape_text(const char *text, size_t len, const char *name,
                               cph_layer_list *out, char *msg, size_t cap) {
     if (!name) name = "(text)";
-    if (len == 0) return fail(CP_EFORMAT, msg, cap, "%s: no layers in the file", name);
+    if (len == 0) return cpa_fail(CP_EFORMAT, msg, cap, "%s: no layers in the file", name);
     FILE *f = fmemopen((void *)(uintptr_t)text, len, "r");
-    if (!f) return fail(CP_ENOMEM, msg, cap, "%s: cannot open the text: %s", name, strerror(errno));
+    if (!f) return cpa_fail(CP_ENOMEM, msg, cap, "%s: cannot open the text: %s", name, strerror(errno));
     cp_status st = load_stream(f, name, out, msg, cap);
     fclose(f);
     return st;

@@ -3,6 +3,7 @@
  * so that nothing a newer writer added is lost. */
 #define _POSIX_C_SOURCE 200809L
 #include "table_write.h"
+#include "cpa.h"
 
 #include "rawfile.h"
 
@@ -60,18 +61,6 @@ static file_id identify(const char *path) {
 static int same_file(const file_id *a, const file_id *b) {
     return a->exists && b->exists && a->dev == b->dev && a->ino == b->ino && a->size == b->size &&
            a->mtime.tv_sec == b->mtime.tv_sec && a->mtime.tv_nsec == b->mtime.tv_nsec;
-}
-
-static cp_status fail(cp_status st, char *msg, size_t cap, const char *fmt, ...)
-    __attribute__((format(printf, 4, 5)));
-static cp_status fail(cp_status st, char *msg, size_t cap, const char *fmt, ...) {
-    if (msg && cap) {
-        va_list ap;
-        va_start(ap, fmt);
-        vsnprintf(msg, cap, fmt, ap);
-        va_end(ap);
-    }
-    return st;
 }
 
 /* json_real() refuses NaN and infinities: those are written as null. */
@@ -212,12 +201,12 @@ static json_t *entry_json(const cp_table_entry *e, const cph_entry_notes *n, con
 static cp_status doc_init(cph_table_doc **out, const cph_machine *m, const cph_table_settings *s,
                           char *msg, size_t cap) {
     *out = calloc(1, sizeof **out);
-    if (!*out) return fail(CP_ENOMEM, msg, cap, "table: out of memory");
+    if (!*out) return cpa_fail(CP_ENOMEM, msg, cap, "table: out of memory");
     (*out)->mine = json_object();
     if (!(*out)->mine) {
         free(*out);
         *out = NULL;
-        return fail(CP_ENOMEM, msg, cap, "table: out of memory");
+        return cpa_fail(CP_ENOMEM, msg, cap, "table: out of memory");
     }
     cph_table_settings_key(s, (*out)->key);
     snprintf((*out)->fingerprint, sizeof (*out)->fingerprint, "%s", m->fingerprint);
@@ -264,7 +253,7 @@ cp_status cph_table_doc_new(const cph_machine *m, const cph_table_settings *s,
     if (!root) {
         cph_table_doc_free(*out);
         *out = NULL;
-        return fail(CP_EINVAL, msg, cap, "table: cannot build the document (a string of the "
+        return cpa_fail(CP_EINVAL, msg, cap, "table: cannot build the document (a string of the "
                                          "machine description is not valid UTF-8?)");
     }
     (*out)->root = root;
@@ -284,12 +273,12 @@ cp_status cph_table_doc_open(const char *path, const cph_machine *m, const cph_t
     snprintf(fp, sizeof fp, "%s", cp_table_fingerprint(t));
     cp_table_free(t);
     if (!same)
-        return fail(CP_EDEVICE, msg, cap,
+        return cpa_fail(CP_EDEVICE, msg, cap,
                     "%s: made on device %s, this machine is %s: cannot resume it here", path, fp,
                     m->fingerprint);
     json_error_t err;
     json_t *root = json_load_file(path, JSON_REJECT_DUPLICATES, &err);
-    if (!root) return fail(CP_EFORMAT, msg, cap, "%s:%d:%d: %s", path, err.line, err.column, err.text);
+    if (!root) return cpa_fail(CP_EFORMAT, msg, cap, "%s:%d:%d: %s", path, err.line, err.column, err.text);
     if ((st = doc_init(out, m, s, msg, cap)) != CP_OK) {
         json_decref(root);
         return st;
@@ -343,20 +332,20 @@ int cph_table_doc_find(const cph_table_doc *d, const cp_shape *s, cp_mode mode, 
 
 cp_status cph_table_doc_put(cph_table_doc *d, const cp_table_entry *e, const cph_entry_notes *n,
                             char *msg, size_t cap) {
-    if (!e->algo) return fail(CP_EINVAL, msg, cap, "table entry '%s': no chosen algorithm", e->name);
+    if (!e->algo) return cpa_fail(CP_EINVAL, msg, cap, "table entry '%s': no chosen algorithm", e->name);
     json_t *ej = entry_json(e, n, d->key);
     if (!ej)
-        return fail(CP_EINVAL, msg, cap, "table entry '%s': cannot build it (name or note not "
+        return cpa_fail(CP_EINVAL, msg, cap, "table entry '%s': cannot build it (name or note not "
                                          "valid UTF-8?)", e->name);
     char k[512];
     if (!entry_key(ej, k, sizeof k) || json_object_set(d->mine, k, ej) != 0) {
         json_decref(ej);
-        return fail(CP_ENOMEM, msg, cap, "table: out of memory");
+        return cpa_fail(CP_ENOMEM, msg, cap, "table: out of memory");
     }
     long i = find_index(d, &e->shape, e->mode, e->threads);
     int rc = i >= 0 ? json_array_set_new(d->entries, (size_t)i, ej)
                     : json_array_append_new(d->entries, ej);
-    return rc == 0 ? CP_OK : fail(CP_ENOMEM, msg, cap, "table: out of memory");
+    return rc == 0 ? CP_OK : cpa_fail(CP_ENOMEM, msg, cap, "table: out of memory");
 }
 
 /* Under the lock: the table on disk was written by someone else since this
@@ -369,12 +358,12 @@ static cp_status merge_from_disk(cph_table_doc *d, const char *path, char *msg, 
     char why[512];
     cp_status st = cp_table_load(path, 0, &t, why, sizeof why);
     if (st != CP_OK)
-        return fail(st, msg, cap, "%s changed on disk during this run and cannot be merged (%s); "
+        return cpa_fail(st, msg, cap, "%s changed on disk during this run and cannot be merged (%s); "
                                   "it was left as it is", path, why);
     int same = strcmp(cp_table_fingerprint(t), d->fingerprint) == 0;
     cp_table_free(t);
     if (!same)
-        return fail(CP_EDEVICE, msg, cap, "%s was replaced during this run by a table of another "
+        return cpa_fail(CP_EDEVICE, msg, cap, "%s was replaced during this run by a table of another "
                                           "device; it was left as it is", path);
     json_error_t err;
     json_t *disk = json_load_file(path, JSON_REJECT_DUPLICATES, &err);
@@ -382,7 +371,7 @@ static cp_status merge_from_disk(cph_table_doc *d, const char *path, char *msg, 
     json_t *merged = json_array(), *seen = json_object();
     st = CP_OK;
     if (!json_is_array(dent) || !merged || !seen) {
-        st = fail(CP_EFORMAT, msg, cap, "%s changed on disk while being merged; it was left as it "
+        st = cpa_fail(CP_EFORMAT, msg, cap, "%s changed on disk while being merged; it was left as it "
                                         "is", path);
         goto out;
     }
@@ -401,7 +390,7 @@ static cp_status merge_from_disk(cph_table_doc *d, const char *path, char *msg, 
         json_object_set_new(seen, k, json_true());
     }
     if (json_object_set(d->root, "entries", merged) != 0) {
-        st = fail(CP_ENOMEM, msg, cap, "table: out of memory");
+        st = cpa_fail(CP_ENOMEM, msg, cap, "table: out of memory");
         goto out;
     }
     d->entries = merged;
@@ -419,13 +408,13 @@ static int lock_table(const char *path, char *msg, size_t cap) {
     const size_t len = strlen(path) + 6;
     char *lp = malloc(len);
     if (!lp) {
-        fail(CP_ENOMEM, msg, cap, "%s: out of memory", path);
+        cpa_fail(CP_ENOMEM, msg, cap, "%s: out of memory", path);
         return -1;
     }
     snprintf(lp, len, "%s.lock", path);
     int fd = open(lp, O_RDWR | O_CREAT | O_CLOEXEC, 0666);
     if (fd < 0) {
-        fail(CP_EIO, msg, cap, "%s: cannot open the lock file %s: %s; the table was left as it is",
+        cpa_fail(CP_EIO, msg, cap, "%s: cannot open the lock file %s: %s; the table was left as it is",
              path, lp, strerror(errno));
         free(lp);
         return -1;
@@ -434,7 +423,7 @@ static int lock_table(const char *path, char *msg, size_t cap) {
     while ((rc = flock(fd, LOCK_EX)) != 0 && errno == EINTR) {
     }
     if (rc != 0) {
-        fail(CP_EIO, msg, cap, "%s: cannot lock %s: %s; the table was left as it is", path, lp,
+        cpa_fail(CP_EIO, msg, cap, "%s: cannot lock %s: %s; the table was left as it is", path, lp,
              strerror(errno));
         close(fd);
         fd = -1;
@@ -450,12 +439,12 @@ static cp_status write_locked(cph_table_doc *d, const char *path, char *msg, siz
         if (st != CP_OK) return st;
     }
     char *text = json_dumps(d->root, JSON_INDENT(1) | JSON_REAL_PRECISION(17));
-    if (!text) return fail(CP_ENOMEM, msg, cap, "%s: cannot serialise the table", path);
+    if (!text) return cpa_fail(CP_ENOMEM, msg, cap, "%s: cannot serialise the table", path);
     size_t len = strlen(text);
     char *nl = realloc(text, len + 2);
     if (!nl) {
         free(text);
-        return fail(CP_ENOMEM, msg, cap, "%s: out of memory", path);
+        return cpa_fail(CP_ENOMEM, msg, cap, "%s: out of memory", path);
     }
     text = nl;
     text[len++] = '\n';
