@@ -138,9 +138,12 @@ static cp_status get_algo(const ctx *c, const json_t *obj, const char *where,
     return CP_OK;
 }
 
-/* "params": {name: integer} with exactly the algorithm's parameters. */
+/* "params": {name: integer}, each a parameter of the algorithm.  A parameter
+ * the object lacks takes the algorithm's default for the entry's shape and the
+ * table's cache sizes: tables written before an algorithm gained a parameter
+ * still load, and run as that default says. */
 static cp_status get_params(const ctx *c, const json_t *obj, const char *where, const cp_algo *a,
-                            cp_params *out) {
+                            const cp_shape *shape, const cp_cache_sizes *caches, cp_params *out) {
     json_t *p = NULL;
     cp_status st = field(c, obj, where, "params", JSON_OBJECT, 0, &p);
     if (st != CP_OK) return st;
@@ -154,8 +157,14 @@ static cp_status get_params(const ctx *c, const json_t *obj, const char *where, 
     }
     char sub[160];
     snprintf(sub, sizeof sub, "%s.params", where);
+    cp_params defaults;
+    cp_algo_defaults(a, shape, caches, &defaults);
     for (int i = 0; i < a->nparams; i++) {
         long long x;
+        if (!json_object_get(p, a->params[i].name)) {
+            out->v[i] = defaults.v[i];
+            continue;
+        }
         st = get_int(c, p, sub, a->params[i].name, LLONG_MIN, LLONG_MAX, &x);
         if (st != CP_OK) return st;
         out->v[i] = (int64_t)x;
@@ -214,6 +223,7 @@ static cp_status get_shape(const ctx *c, const json_t *e, const char *where, cp_
 }
 
 static cp_status get_candidate(const ctx *c, const json_t *cj, const char *where,
+                               const cp_shape *shape, const cp_cache_sizes *caches,
                                cp_candidate *out) {
     cp_status st;
     const cp_algo *a;
@@ -221,7 +231,7 @@ static cp_status get_candidate(const ctx *c, const json_t *cj, const char *where
     if (!json_is_object(cj)) return fail(c, CP_EFORMAT, "%s: expected object, found %s", where, type_name(cj));
     if ((st = get_algo(c, cj, where, &a)) != CP_OK) return st;
     snprintf(out->algo, sizeof out->algo, "%s", a->name);
-    if ((st = get_params(c, cj, where, a, &out->params)) != CP_OK) return st;
+    if ((st = get_params(c, cj, where, a, shape, caches, &out->params)) != CP_OK) return st;
     const char *status, *note;
     if ((st = get_str(c, cj, where, "status", &status)) != CP_OK) return st;
     if ((st = get_str(c, cj, where, "note", &note)) != CP_OK) return st;
@@ -271,7 +281,7 @@ static cp_status get_candidate(const ctx *c, const json_t *cj, const char *where
 }
 
 static cp_status get_entry(const ctx *c, const json_t *e, size_t idx, cp_table_entry *out,
-                           char *key, size_t keycap) {
+                           char *key, size_t keycap, const cp_cache_sizes *caches) {
     char where[48];
     snprintf(where, sizeof where, "entries[%zu]", idx);
     if (!json_is_object(e)) return fail(c, CP_EFORMAT, "%s: expected object, found %s", where, type_name(e));
@@ -298,7 +308,8 @@ static cp_status get_entry(const ctx *c, const json_t *e, size_t idx, cp_table_e
     if ((st = field(c, e, where, "choice", JSON_OBJECT, 0, &ch)) != CP_OK) return st;
     snprintf(sub, sizeof sub, "%s.choice", where);
     if ((st = get_algo(c, ch, sub, &out->algo)) != CP_OK) return st;
-    if ((st = get_params(c, ch, sub, out->algo, &out->params)) != CP_OK) return st;
+    if ((st = get_params(c, ch, sub, out->algo, &out->shape, caches, &out->params)) != CP_OK)
+        return st;
     char why[200];
     if (!out->algo->supports(&out->shape, out->mode, why, sizeof why))
         return fail(c, CP_EFORMAT, "%s.algo: %s does not support this entry's shape: %s", sub,
@@ -313,7 +324,9 @@ static cp_status get_entry(const ctx *c, const json_t *e, size_t idx, cp_table_e
     if (!json_is_null(ru)) {
         snprintf(sub, sizeof sub, "%s.runner_up", where);
         if ((st = get_algo(c, ru, sub, &out->runner_up)) != CP_OK) return st;
-        if ((st = get_params(c, ru, sub, out->runner_up, &out->runner_up_params)) != CP_OK) return st;
+        if ((st = get_params(c, ru, sub, out->runner_up, &out->shape, caches,
+                             &out->runner_up_params)) != CP_OK)
+            return st;
         if ((st = get_real(c, ru, sub, "margin", &out->margin)) != CP_OK) return st;
         if ((st = get_bool(c, ru, sub, "in_noise", &out->margin_in_noise)) != CP_OK) return st;
     }
@@ -326,7 +339,8 @@ static cp_status get_entry(const ctx *c, const json_t *e, size_t idx, cp_table_e
     }
     for (size_t i = 0; i < out->ncandidates; i++) {
         snprintf(sub, sizeof sub, "%s.candidates[%zu]", where, i);
-        if ((st = get_candidate(c, json_array_get(cands, i), sub, &out->candidates[i])) != CP_OK)
+        if ((st = get_candidate(c, json_array_get(cands, i), sub, &out->shape, caches,
+                                &out->candidates[i])) != CP_OK)
             return st;
     }
     if ((st = field(c, e, where, "tried", JSON_OBJECT, 0, &tried)) != CP_OK) return st;
@@ -423,7 +437,8 @@ static cp_status alloc_entries(const ctx *c, cp_table *t, size_t n) {
 /* Entry i from its JSON value. */
 static cp_status add_entry(const ctx *c, cp_table *t, const json_t *e, size_t i) {
     t->n = i + 1; /* so that cp_table_free releases the candidates read so far */
-    cp_status st = get_entry(c, e, i, &t->entries[i], t->settings_keys[i], CPT_KEY_MAX);
+    cp_status st =
+        get_entry(c, e, i, &t->entries[i], t->settings_keys[i], CPT_KEY_MAX, &t->caches);
     t->order[i] = i;
     return st;
 }

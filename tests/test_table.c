@@ -443,6 +443,38 @@ static void test_missing_fields(void **state) {
     expect(load_doc(r, "miss4.json", msg, sizeof msg), CP_EFORMAT, msg, "format: missing");
 }
 
+/* A table written before an algorithm gained a parameter lacks it: the entry
+ * loads, and the parameter takes the algorithm's default for the entry's shape
+ * and the table's cache sizes (the rule in docs/table-format.md). */
+static void test_missing_param_takes_default(void **state) {
+    (void)state;
+    char msg[512];
+    json_t *r = fixture();
+    json_t *choice = json_object_get(entry0(r), "choice");
+    json_object_set_new(choice, "algo", json_string("im2col_gemm"));
+    json_object_set_new(choice, "params", json_object()); /* row_block absent */
+    const char *p = tpath("oldparams.json");
+    assert_int_equal(json_dump_file(r, p, JSON_INDENT(1)), 0);
+    json_decref(r);
+    cp_table *t = NULL;
+    if (cp_table_load(p, 0, &t, msg, sizeof msg) != CP_OK) fail_msg("%s", msg);
+    const cp_table_entry *e = cp_table_entry_at(t, 0);
+    const cp_algo *a = cp_algo_find("im2col_gemm");
+    assert_ptr_equal(e->algo, a);
+    cp_cache_sizes caches = cp_table_caches(t);
+    cp_params want;
+    cp_algo_defaults(a, &e->shape, &caches, &want);
+    assert_true(want.v[0] >= 1); /* a default that zero-filling would not give */
+    assert_int_equal(e->params.v[0], want.v[0]);
+    cp_table_free(t);
+    /* A parameter the algorithm does not have is still an error. */
+    r = fixture();
+    json_object_set_new(json_object_get(json_object_get(entry0(r), "choice"), "params"), "bogus",
+                        json_integer(1));
+    expect(load_doc(r, "badparam.json", msg, sizeof msg), CP_EFORMAT, msg,
+           "entries[0].choice.params.bogus: direct has no parameter of that name");
+}
+
 static void test_huge_numbers(void **state) {
     (void)state;
     char msg[512];
@@ -729,6 +761,7 @@ int main(int argc, char **argv) {
         cmocka_unit_test(test_wrong_types),
         cmocka_unit_test(test_version_and_format),
         cmocka_unit_test(test_missing_fields),
+        cmocka_unit_test(test_missing_param_takes_default),
         cmocka_unit_test(test_huge_numbers),
         cmocka_unit_test(test_unknown_algorithm_and_duplicates),
         cmocka_unit_test(test_strict_device),
