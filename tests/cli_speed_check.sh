@@ -23,8 +23,12 @@ base="$(ls "$tmp/baselines"/*.json)"
 fp="$(basename "$base" .json)"
 grep -q "\"fingerprint\": \"$fp\"" "$base" || fail "baseline named $fp does not carry that fingerprint"
 
-# 2. A run against it passes (retries absorb a disturbance) and keeps its artefacts.
-"${check[@]}" --retries 3 --out "$tmp/art1" >"$tmp/log" || { cat "$tmp/log"; fail "a run against a fresh baseline failed"; }
+# 2. A run against it passes and keeps its artefacts.  This checks the pass
+# path, not the statistics (test_diff_stats checks their false-alarm rate on
+# seeded samples): these layers take microseconds, so on a shared machine one
+# disturbance can move them by tens of per cent.  A 60 % tolerance and retries
+# keep the step independent of the machine's noise.
+"${check[@]}" --retries 3 --tolerance 60 --alpha 0.001 --out "$tmp/art1" >"$tmp/log" || { cat "$tmp/log"; fail "a run against a fresh baseline failed"; }
 for f in results.json results.txt diff.txt junit.xml summary.md; do
   [ -s "$tmp/art1/$f" ] || fail "artefact $f missing"
 done
