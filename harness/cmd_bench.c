@@ -62,6 +62,7 @@
 #include "gemm_ref.h"
 #include "machine.h"
 #include "pool.h"
+#include "rawfile.h"
 #include "report_json.h"
 #include "select.h"
 #include "timing.h"
@@ -184,17 +185,9 @@ static int parse_double(const char *s, double lo, double hi, double *out) {
 /* 0 when the directory that will hold path exists and is writable, so that a
  * long run does not end in an unwritable path. */
 static int check_output_dir(const char *path) {
-    char dir[4096];
-    snprintf(dir, sizeof dir, "%s", path);
-    char *slash = strrchr(dir, '/');
-    if (!slash)
-        snprintf(dir, sizeof dir, ".");
-    else if (slash == dir)
-        dir[1] = '\0';
-    else
-        *slash = '\0';
-    if (access(dir, W_OK | X_OK) != 0) {
-        cph_err("bench: --json %s: directory %s is not writable: %s", path, dir, strerror(errno));
+    char msg[512];
+    if (cph_check_output_dir(path, msg, sizeof msg) != CP_OK) {
+        cph_err("bench: --json %s: %s", path, msg);
         return -1;
     }
     return 0;

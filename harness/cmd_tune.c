@@ -17,6 +17,7 @@
 #include "membudget.h"
 #include "pool.h"
 #include "progress.h"
+#include "rawfile.h"
 #include "select.h"
 #include "table_write.h"
 #include "tuner.h"
@@ -199,21 +200,10 @@ int cph_cmd_tune(int argc, char **argv) {
         cph_err("tune: --out %s is a directory", out);
         goto done;
     }
-    {
-        /* Refuse an unwritable place before measuring anything. */
-        char dir[4096];
-        snprintf(dir, sizeof dir, "%s", out);
-        char *slash = strrchr(dir, '/');
-        if (!slash)
-            snprintf(dir, sizeof dir, ".");
-        else if (slash == dir)
-            dir[1] = '\0';
-        else
-            *slash = '\0';
-        if (access(dir, W_OK | X_OK) != 0) {
-            cph_err("tune: --out %s: directory %s is not writable: %s", out, dir, strerror(errno));
-            goto done;
-        }
+    /* Refuse an unwritable place before measuring anything. */
+    if (cph_check_output_dir(out, msg, sizeof msg) != CP_OK) {
+        cph_err("tune: --out %s: %s", out, msg);
+        goto done;
     }
     if (exists && !resume && !force) {
         cph_err("tune: %s exists: use --resume to complete it or --force to replace it", out);

@@ -131,6 +131,21 @@ static int write_all(int fd, const void *data, size_t bytes) {
     return 0;
 }
 
+cp_status cph_check_output_dir(const char *path, char *msg, size_t cap) {
+    char dir[4096];
+    snprintf(dir, sizeof dir, "%s", path);
+    char *slash = strrchr(dir, '/');
+    if (!slash)
+        snprintf(dir, sizeof dir, ".");
+    else if (slash == dir)
+        dir[1] = '\0';
+    else
+        *slash = '\0';
+    if (access(dir, W_OK | X_OK) != 0)
+        return cpa_fail(CP_EIO, msg, cap, "directory %s is not writable: %s", dir, strerror(errno));
+    return CP_OK;
+}
+
 /* Shared by both writers: `fill` writes the payload into fd. */
 static cp_status write_atomic(const char *path, int (*fill)(int fd, const void *ctx),
                               const void *ctx, char *msg, size_t cap) {

@@ -34,4 +34,9 @@ cp_status cph_write_f32_atomic(const char *path, const float *v, size_t count, c
 cp_status cph_write_atomic(const char *path, const void *data, size_t bytes, char *msg,
                            size_t cap);
 
+/* CP_OK when the directory that will hold path exists and is writable, so that
+ * a long run can refuse an unwritable output before it starts; otherwise
+ * CP_EIO with "directory D is not writable: REASON". */
+cp_status cph_check_output_dir(const char *path, char *msg, size_t cap);
+
 #endif

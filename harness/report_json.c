@@ -4,16 +4,14 @@
 #include "report_json.h"
 
 #include "cpa.h"
+#include "rawfile.h"
 
 #include <errno.h>
-#include <fcntl.h>
 #include <math.h>
 #include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <sys/stat.h>
-#include <unistd.h>
 
 json_t *cph_json_number(double x) { return isfinite(x) ? json_real(x) : json_null(); }
 
@@ -189,60 +187,18 @@ cp_status cph_json_read_measurement(const json_t *obj, const char *where, cph_me
 
 /* ---- atomic write ---------------------------------------------------------- */
 
-static void fsync_dir_of(const char *path) {
-    char dir[4096];
-    snprintf(dir, sizeof dir, "%s", path);
-    char *slash = strrchr(dir, '/');
-    if (!slash)
-        snprintf(dir, sizeof dir, ".");
-    else if (slash == dir)
-        dir[1] = '\0';
-    else
-        *slash = '\0';
-    const int fd = open(dir, O_RDONLY);
-    if (fd >= 0) {
-        (void)fsync(fd); /* best effort: some file systems refuse fsync on directories */
-        close(fd);
-    }
-}
-
 cp_status cph_json_write_atomic(const json_t *root, const char *path, char *msg, size_t cap) {
-    char tmp[4096];
-    if ((size_t)snprintf(tmp, sizeof tmp, "%s.tmp.XXXXXX", path) >= sizeof tmp)
-        return cpa_fail(CP_EIO, msg, cap, "%s: path too long", path);
-    const int fd = mkstemp(tmp);
-    if (fd < 0)
-        return cpa_fail(CP_EIO, msg, cap, "%s: cannot create a temporary file beside it: %s", path,
-                    strerror(errno));
-    const mode_t um = umask(0);
-    umask(um);
-    (void)fchmod(fd, (mode_t)(0666 & ~um));
-    FILE *f = fdopen(fd, "w");
-    if (!f) {
-        const int e = errno;
-        close(fd);
-        unlink(tmp);
-        return cpa_fail(CP_EIO, msg, cap, "%s: %s", tmp, strerror(e));
+    char *text = json_dumps(root, JSON_INDENT(1) | JSON_REAL_PRECISION(17));
+    if (!text) return cpa_fail(CP_ENOMEM, msg, cap, "%s: out of memory for the JSON text", path);
+    const size_t len = strlen(text);
+    char *line = realloc(text, len + 2);
+    if (!line) {
+        free(text);
+        return cpa_fail(CP_ENOMEM, msg, cap, "%s: out of memory for the JSON text", path);
     }
-    const char *step = NULL;
-    if (json_dumpf(root, f, JSON_INDENT(1) | JSON_REAL_PRECISION(17)) != 0)
-        step = "write";
-    else if (fputc('\n', f) == EOF || fflush(f) != 0)
-        step = "write";
-    else if (fsync(fileno(f)) != 0)
-        step = "fsync";
-    const int e = errno;
-    if (fclose(f) != 0 && !step) step = "close";
-    if (step) {
-        unlink(tmp);
-        return cpa_fail(CP_EIO, msg, cap, "%s: %s failed: %s", tmp, step, strerror(e));
-    }
-    if (rename(tmp, path) != 0) {
-        const int re = errno;
-        unlink(tmp);
-        return cpa_fail(CP_EIO, msg, cap, "%s: cannot rename %s over it: %s", path, tmp,
-                    strerror(re));
-    }
-    fsync_dir_of(path);
-    return CP_OK;
+    line[len] = '\n';
+    line[len + 1] = '\0';
+    cp_status st = cph_write_atomic(path, line, len + 1, msg, cap);
+    free(line);
+    return st;
 }

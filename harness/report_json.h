@@ -54,7 +54,8 @@ cp_status cph_json_read_measurement(const json_t *obj, const char *where, cph_me
 /* Writes root to path atomically: a temporary file in the same directory,
  * fsync, rename over path, fsync of the directory.  On failure path is left
  * as it was and the temporary file is removed.  CP_EIO with a message naming
- * the file and the failing step. */
+ * the file and the failing step.  (The JSON text of cph_write_atomic in
+ * rawfile.h, which does the replacing.) */
 cp_status cph_json_write_atomic(const json_t *root, const char *path, char *msg, size_t cap);
 
 #endif

@@ -166,15 +166,11 @@ cp_status cph_tune_layer(const cph_tune_opts *o, const cph_layer *layer, cp_mode
     cp_oracle_run(s, mode, x, w, bias, ref, mag);
 
     /* Every algorithm's defaults are measured even past the budget: without
-     * them the comparison between algorithms would be meaningless. */
-    size_t nfirst = 0;
-    for (size_t i = 0; i < np; i++)
-        if (i == 0 || plan[i].algo != plan[0].algo) {
-            int seen = 0;
-            for (size_t j = 0; j < i; j++)
-                if (plan[j].algo == plan[i].algo) seen = 1;
-            if (!seen) nfirst = i + 1;
-        }
+     * them the comparison between algorithms would be meaningless.  The plan
+     * is round-robin, so they are its first entries, one per supported
+     * algorithm. */
+    size_t nfirst = nalgos - (size_t)report->unsupported;
+    if (nfirst > np) nfirst = np;
     size_t nc = 0;
     for (size_t i = 0; i < np; i++) {
         if (stop && *stop) {

@@ -48,7 +48,9 @@ static int entries_in_dir(const char *needle) {
     int count = 0;
     struct dirent *e;
     while ((e = readdir(d)))
-        if (e->d_name[0] != '.' && strstr(e->d_name, needle)) count++;
+        if (strcmp(e->d_name, ".") != 0 && strcmp(e->d_name, "..") != 0 &&
+            strstr(e->d_name, needle))
+            count++;
     closedir(d);
     return count;
 }
@@ -87,7 +89,7 @@ static void test_round_trip(void **state) {
     char msg[512] = "";
     assert_int_equal(cph_json_write_atomic(j, path, msg, sizeof msg), CP_OK);
     json_decref(j);
-    assert_int_equal(entries_in_dir(".tmp."), 0);
+    assert_int_equal(entries_in_dir(".json."), 0);
 
     json_error_t err;
     json_t *back = json_load_file(path, 0, &err);
@@ -138,7 +140,7 @@ static void test_replaces_existing_and_failure_leaves_target(void **state) {
     snprintf(bad, sizeof bad, "%s/no/such/dir/r.json", dir);
     assert_int_equal(cph_json_write_atomic(a, bad, msg, sizeof msg), CP_EIO);
     assert_non_null(strstr(msg, bad));
-    assert_int_equal(entries_in_dir(".tmp."), 0);
+    assert_int_equal(entries_in_dir(".json."), 0);
     json_decref(a);
     json_decref(b);
 }
