@@ -4,7 +4,7 @@
  * the tile kernel walks each channel's taps backwards (for the cache study).
  *
  * The loops here are portable C and never name a processor; the register
- * tile (6 output channels x 16 output pixels, blocked_ukr.h) is called
+ * tile (6 output channels x 16 output pixels, blocked_tile.h) is called
  * through a function pointer chosen at run time.
  *
  * Data movement inside run():
@@ -33,10 +33,10 @@
  * workspace is the tap table and one padded image, shared by all workers. */
 #include <string.h>
 
-#include "blocked_ukr.h"
-#include "cpa.h"
+#include "algos/kernels/blocked_tile.h"
+#include "algos/core/cpa.h"
 
-enum { P_KB = 0, P_CB, P_PB, P_UKERNEL, P_ORDER, NPARAMS };
+enum { P_KB = 0, P_CB, P_PB, P_TILE_ISA, P_ORDER, NPARAMS };
 enum { MR = CPA_BLOCKED_MR, NV = CPA_BLOCKED_NV, SLACK = 2 * CPA_BLOCKED_NV };
 
 static const cp_param_desc blocked_params[NPARAMS] = {
@@ -47,7 +47,7 @@ static const cp_param_desc blocked_params[NPARAMS] = {
      (int64_t)1 << 30},
     {"pb", "output rows per cache block; default: the block's input rows in half of L2, "
            "halved until there are 8 tasks, one more if the 8-pixel segments are odd", 1, (int64_t)1 << 30},
-    {"ukernel", "tile kernel: 0 = best the CPU supports, 1 = portable C", 0, 1},
+    {"tile_isa", "tile kernel: 0 = best the CPU supports, 1 = portable C", 0, 1},
     {"order", "inside an input-channel block: 0 = channel tiles outer (a tile's weights stay "
               "in L1), 1 = pixel pairs outer (a pair's input vectors stay in L1); default 1 "
               "for 1x1 layers, else 0", 0, 1},
@@ -164,7 +164,7 @@ static void blocked_defaults(const cp_shape *s, const cp_cache_sizes *caches, cp
     out->v[P_KB] = kb;
     out->v[P_CB] = cb;
     out->v[P_PB] = pb;
-    out->v[P_UKERNEL] = 0;
+    out->v[P_TILE_ISA] = 0;
     out->v[P_ORDER] = s->r == 1 && s->s == 1;
 }
 
@@ -205,14 +205,14 @@ static int blocked_candidates(const cp_shape *s, const cp_cache_sizes *caches, c
 
 /* --- support, sizes, packing ----------------------------------------------- */
 
-static int blocked_supports(const cp_shape *s, cp_mode mode, char *why, size_t cap) {
-    (void)s; (void)mode; (void)why; (void)cap;
+static int blocked_supports(const cp_shape *s, cp_flip flip, char *why, size_t cap) {
+    (void)s; (void)flip; (void)why; (void)cap;
     return 1;
 }
 
-static int flipidx_supports(const cp_shape *s, cp_mode mode, char *why, size_t cap) {
+static int flipidx_supports(const cp_shape *s, cp_flip flip, char *why, size_t cap) {
     (void)s;
-    if (mode != CP_CONV)
+    if (flip != CP_CONV)
         return cpa_refuse(why, cap, "computes true convolution only (flipped indexing); "
                                     "use blocked for cross-correlation");
     return 1;
@@ -222,17 +222,17 @@ static size_t tap_table_bytes(const blk_geom *g) {
     return cpa_align64((size_t)g->ntap * sizeof(int64_t));
 }
 
-static size_t blocked_workspace_size(const cp_shape *s, cp_mode mode, const cp_params *p,
+static size_t blocked_workspace_size(const cp_shape *s, cp_flip flip, const cp_params *p,
                                      int nthreads) {
-    (void)mode; (void)p; (void)nthreads; /* no per-worker scratch: tiles live in registers */
+    (void)flip; (void)p; (void)nthreads; /* no per-worker scratch: tiles live in registers */
     const blk_geom g = geom(s);
     size_t bytes = tap_table_bytes(&g);
     if (g.copy) bytes += (size_t)(s->c * g.cs + SLACK) * sizeof(float);
     return bytes;
 }
 
-static size_t blocked_prepared_size(const cp_shape *s, cp_mode mode, const cp_params *p) {
-    (void)mode; (void)p;
+static size_t blocked_prepared_size(const cp_shape *s, cp_flip flip, const cp_params *p) {
+    (void)flip; (void)p;
     const blk_geom g = geom(s);
     return (size_t)(s->groups * g.ntk * g.cg * g.ntap * MR) * sizeof(float);
 }
@@ -255,16 +255,16 @@ static void pack(const cp_shape *s, int flip, const float *w, float *out) {
         }
 }
 
-static cp_status blocked_prepare(const cp_shape *s, cp_mode mode, const cp_params *p,
+static cp_status blocked_prepare(const cp_shape *s, cp_flip flip, const cp_params *p,
                                  const float *w, void *out) {
     (void)p;
-    pack(s, mode == CP_CONV, w, out);
+    pack(s, flip == CP_CONV, w, out);
     return CP_OK;
 }
 
-static cp_status flipidx_prepare(const cp_shape *s, cp_mode mode, const cp_params *p,
+static cp_status flipidx_prepare(const cp_shape *s, cp_flip flip, const cp_params *p,
                                  const float *w, void *out) {
-    (void)p; (void)mode;
+    (void)p; (void)flip;
     pack(s, 0, w, out);
     return CP_OK;
 }
@@ -283,7 +283,7 @@ typedef struct {
     int64_t max_off;
     int flipidx;
     int order;            /* P_ORDER */
-    cpa_blocked_ukr_fn ukr;
+    cpa_blocked_tile_fn tile_fn;
     int full_reads;
 } blk_job;
 
@@ -407,9 +407,9 @@ static void call_tile(const blk_job *j, cpa_blocked_tile *t, float *yk, const se
         t->n[v] = sp->n[v];
     }
     if (j->full_reads && sp->safe)
-        j->ukr(t);
+        j->tile_fn(t);
     else
-        cpa_blocked_ukr_ref_6x16(t);
+        cpa_blocked_tile_ref_6x16(t);
 }
 
 static void compute_task(void *arg, int64_t b, int64_t e, int worker) {
@@ -462,7 +462,7 @@ static cp_status run_common(const cp_run_args *a, int flipidx) {
     j.pb = clamp64(a->params->v[P_PB], 1, g->P);
     j.nkb = (g->ntk + j.kb - 1) / j.kb;
     j.npb = pixel_blocks(g, j.pb);
-    j.ukr = cpa_blocked_ukr_select(a->params->v[P_UKERNEL], &j.full_reads);
+    j.tile_fn = cpa_blocked_tile_select(a->params->v[P_TILE_ISA], &j.full_reads);
     j.order = (int)a->params->v[P_ORDER];
 
     int64_t *taps = a->workspace;

@@ -8,12 +8,12 @@
  * renamed algorithms, by harness/cache_traced_direct.c. */
 #include <string.h>
 
-#include "cpa.h"
+#include "algos/core/cpa.h"
 
 #define CPA_DIRECT_FN direct_loops
 #define CPA_DIRECT_FLIP 0
 #define CPA_DIRECT_ORDER 0
-#include "direct_loops.h"
+#include "algos/direct_loops.h"
 #undef CPA_DIRECT_FN
 #undef CPA_DIRECT_FLIP
 #undef CPA_DIRECT_ORDER
@@ -21,7 +21,7 @@
 #define CPA_DIRECT_FN direct_loops_flipidx
 #define CPA_DIRECT_FLIP 1
 #define CPA_DIRECT_ORDER 0
-#include "direct_loops.h"
+#include "algos/direct_loops.h"
 #undef CPA_DIRECT_FN
 #undef CPA_DIRECT_FLIP
 #undef CPA_DIRECT_ORDER
@@ -29,7 +29,7 @@
 #define CPA_DIRECT_FN direct_loops_o1
 #define CPA_DIRECT_FLIP 0
 #define CPA_DIRECT_ORDER 1
-#include "direct_loops.h"
+#include "algos/direct_loops.h"
 #undef CPA_DIRECT_FN
 #undef CPA_DIRECT_FLIP
 #undef CPA_DIRECT_ORDER
@@ -37,7 +37,7 @@
 #define CPA_DIRECT_FN direct_loops_flipidx_o1
 #define CPA_DIRECT_FLIP 1
 #define CPA_DIRECT_ORDER 1
-#include "direct_loops.h"
+#include "algos/direct_loops.h"
 #undef CPA_DIRECT_FN
 #undef CPA_DIRECT_FLIP
 #undef CPA_DIRECT_ORDER
@@ -73,29 +73,29 @@ static int64_t order_of(const cp_run_args *a) {
     return a->params ? a->params->v[P_ORDER] : 0;
 }
 
-static int direct_supports(const cp_shape *s, cp_mode mode, char *why, size_t cap) {
-    (void)s; (void)mode; (void)why; (void)cap;
+static int direct_supports(const cp_shape *s, cp_flip flip, char *why, size_t cap) {
+    (void)s; (void)flip; (void)why; (void)cap;
     return 1;
 }
 
-static int flipidx_supports(const cp_shape *s, cp_mode mode, char *why, size_t cap) {
+static int flipidx_supports(const cp_shape *s, cp_flip flip, char *why, size_t cap) {
     (void)s;
-    if (mode != CP_CONV)
+    if (flip != CP_CONV)
         return cpa_refuse(why, cap, "computes true convolution only (flipped indexing); "
                                     "use direct for cross-correlation");
     return 1;
 }
 
 /* True convolution through `direct` flips the weights once, here. */
-static size_t direct_prepared_size(const cp_shape *s, cp_mode mode, const cp_params *p) {
+static size_t direct_prepared_size(const cp_shape *s, cp_flip flip, const cp_params *p) {
     (void)p;
-    return mode == CP_CONV ? cp_shape_weight_elems(s) * sizeof(float) : 0;
+    return flip == CP_CONV ? cp_shape_weight_elems(s) * sizeof(float) : 0;
 }
 
-static cp_status direct_prepare(const cp_shape *s, cp_mode mode, const cp_params *p,
+static cp_status direct_prepare(const cp_shape *s, cp_flip flip, const cp_params *p,
                                 const float *w, void *out) {
     (void)p;
-    if (mode == CP_CONV)
+    if (flip == CP_CONV)
         cp_weights_flip(s, w, out);
     else
         memcpy(out, w, cp_shape_weight_elems(s) * sizeof(float));

@@ -22,7 +22,7 @@
  *   CPA_ST(ptr, v)   how a value is stored   (default *(ptr) = (v))
  * The function computes output planes [nk_begin, nk_end) of the flattened
  * (n, k) range. */
-#include "cpa_access.h"
+#include "algos/core/cpa_access.h"
 #ifndef CPA_DIRECT_ORDER
 #define CPA_DIRECT_ORDER 0
 #endif

@@ -31,9 +31,9 @@
 #include <limits.h>
 #include <string.h>
 
-#include "cpa.h"
-#include "gemm_split.h"
-#include "im2col_lower.h"
+#include "algos/core/cpa.h"
+#include "algos/core/gemm_split.h"
+#include "algos/core/im2col_lower.h"
 
 enum { PARAM_ROW_BLOCK = 0 };
 
@@ -82,8 +82,8 @@ static int64_t rows_for_budget(const cp_shape *s, size_t budget) {
     return (P + nblocks - 1) / nblocks;
 }
 
-static int im2col_supports(const cp_shape *s, cp_mode mode, char *why, size_t cap) {
-    (void)mode;
+static int im2col_supports(const cp_shape *s, cp_flip flip, char *why, size_t cap) {
+    (void)flip;
     /* OpenBLAS here takes 32-bit int dimensions (blasint). */
     const int64_t lim = sizeof(blasint) >= 8 ? INT64_MAX : INT_MAX;
     const int64_t P = cp_shape_out_h(s), Q = cp_shape_out_w(s);
@@ -151,25 +151,25 @@ static int im2col_candidates(const cp_shape *s, const cp_cache_sizes *caches, cp
 
 /* One column buffer per worker (see "Threads" above); a single worker's is
  * also the shared buffer when the blocks are too few to go round. */
-static size_t im2col_workspace_size(const cp_shape *s, cp_mode mode, const cp_params *p,
+static size_t im2col_workspace_size(const cp_shape *s, cp_flip flip, const cp_params *p,
                                     int nthreads) {
-    (void)mode;
+    (void)flip;
     if (is_pointwise(s)) return 0;
     if (nthreads < 1) nthreads = 1;
     const int64_t rb = clamp_rows(s, p->v[PARAM_ROW_BLOCK]);
     return (size_t)nthreads * col_bytes(s, rb);
 }
 
-static size_t im2col_prepared_size(const cp_shape *s, cp_mode mode, const cp_params *p) {
+static size_t im2col_prepared_size(const cp_shape *s, cp_flip flip, const cp_params *p) {
     (void)p;
-    if (mode != CP_CONV || (s->r == 1 && s->s == 1)) return 0;
+    if (flip != CP_CONV || (s->r == 1 && s->s == 1)) return 0;
     return cp_shape_weight_elems(s) * sizeof(float);
 }
 
-static cp_status im2col_prepare(const cp_shape *s, cp_mode mode, const cp_params *p,
+static cp_status im2col_prepare(const cp_shape *s, cp_flip flip, const cp_params *p,
                                 const float *w, void *out) {
     (void)p;
-    if (mode == CP_CONV)
+    if (flip == CP_CONV)
         cp_weights_flip(s, w, out);
     else
         memcpy(out, w, cp_shape_weight_elems(s) * sizeof(float));

@@ -5,7 +5,7 @@
 
 #include <math.h>
 
-void cp_oracle_run(const cp_shape *s, cp_mode mode, const float *x, const float *w,
+void cp_oracle_run(const cp_shape *s, cp_flip flip, const float *x, const float *w,
                    const float *bias, double *ref, double *mag) {
     const int64_t P = cp_shape_out_h(s), Q = cp_shape_out_w(s);
     const int64_t cg = s->c / s->groups, kg = s->k / s->groups;
@@ -23,8 +23,8 @@ void cp_oracle_run(const cp_shape *s, cp_mode mode, const float *x, const float 
                             for (int64_t t = 0; t < s->s; t++) {
                                 const int64_t iw = q * s->stride_w - s->pad_left + t * s->dil_w;
                                 if (iw < 0 || iw >= s->w) continue;
-                                const int64_t wr = mode == CP_CONV ? s->r - 1 - r : r;
-                                const int64_t wt = mode == CP_CONV ? s->s - 1 - t : t;
+                                const int64_t wr = flip == CP_CONV ? s->r - 1 - r : r;
+                                const int64_t wt = flip == CP_CONV ? s->s - 1 - t : t;
                                 const double xv =
                                     x[((n * s->c + g * cg + c) * s->h + ih) * s->w + iw];
                                 const double wv = w[((k * cg + c) * s->r + wr) * s->s + wt];

@@ -3,7 +3,7 @@
  * line here.  Order is the order of reports. */
 #include <string.h>
 
-#include "cpa.h"
+#include "algos/core/cpa.h"
 
 static const cp_algo *const registry[] = {
     &cpa_direct,

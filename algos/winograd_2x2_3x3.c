@@ -20,10 +20,10 @@
 #include <cblas.h>
 #include <string.h>
 
-#include "blocked_ukr.h"
-#include "cpa.h"
-#include "gemm_split.h"
-#include "winograd_kernels.h"
+#include "algos/kernels/blocked_tile.h"
+#include "algos/core/cpa.h"
+#include "algos/core/gemm_split.h"
+#include "algos/kernels/winograd_kernels.h"
 
 enum { WINO_TILE_BLOCK = 0, WINO_KERNELS = 1, WINO_GEMM = 2, WINO_NPARAMS };
 enum { MR = CPA_BLOCKED_MR, NV = CPA_BLOCKED_NV };
@@ -61,8 +61,8 @@ static size_t wino_rowbuf_floats(const cp_shape *s, int64_t tb) {
     return cpa_align64((size_t)(4 * (2 * tiles + 2)) * sizeof(float)) / sizeof(float);
 }
 
-static int wino_supports(const cp_shape *s, cp_mode mode, char *why, size_t cap) {
-    (void)mode; /* CP_CONV: the weights are flipped in prepare */
+static int wino_supports(const cp_shape *s, cp_flip flip, char *why, size_t cap) {
+    (void)flip; /* CP_CONV: the weights are flipped in prepare */
     if (s->r != 3 || s->s != 3)
         return cpa_refuse(why, cap, "F(2x2,3x3) needs a 3x3 kernel (got %lldx%lld)",
                           (long long)s->r, (long long)s->s);
@@ -132,9 +132,9 @@ static int wino_candidates(const cp_shape *s, const cp_cache_sizes *caches, cp_p
     return n;
 }
 
-static size_t wino_workspace_size(const cp_shape *s, cp_mode mode, const cp_params *p,
+static size_t wino_workspace_size(const cp_shape *s, cp_flip flip, const cp_params *p,
                                   int nthreads) {
-    (void)mode;
+    (void)flip;
     const int64_t tb = p->v[WINO_TILE_BLOCK], ld = wino_ld(tb);
     if (nthreads < 1) nthreads = 1;
     size_t v = cpa_align64((size_t)(16 * s->c * ld) * sizeof(float));
@@ -146,8 +146,8 @@ static size_t wino_workspace_size(const cp_shape *s, cp_mode mode, const cp_para
 /* 6-channel panels of K (the packed GEMM's U rows, zero padded). */
 static int64_t wino_ktiles(const cp_shape *s) { return (s->k + MR - 1) / MR; }
 
-static size_t wino_prepared_size(const cp_shape *s, cp_mode mode, const cp_params *p) {
-    (void)mode;
+static size_t wino_prepared_size(const cp_shape *s, cp_flip flip, const cp_params *p) {
+    (void)flip;
     if (p->v[WINO_GEMM] == 1) return (size_t)(16 * wino_ktiles(s) * MR * s->c) * sizeof(float);
     return (size_t)(16 * s->k * s->c) * sizeof(float);
 }
@@ -155,20 +155,20 @@ static size_t wino_prepared_size(const cp_shape *s, cp_mode mode, const cp_param
 /* U = (G g G^T)[xi] for every (k, c); g is w[k,c] (flipped for CP_CONV).
  * gemm 0: U[xi][k][c], 16 row-major K x C matrices.  gemm 1: U[xi][kt][c][kk]
  * with k = 6 kt + kk, the panel order of the blocked tile kernel
- * (blocked_ukr.h), channels past K zero. */
-static cp_status wino_prepare(const cp_shape *s, cp_mode mode, const cp_params *p,
+ * (blocked_tile.h), channels past K zero. */
+static cp_status wino_prepare(const cp_shape *s, cp_flip flip, const cp_params *p,
                               const float *w, void *out) {
     const int64_t K = s->k, C = s->c, KC = K * C;
     const int packed = p->v[WINO_GEMM] == 1;
     const int64_t ntk = wino_ktiles(s), xstride = packed ? ntk * MR * C : KC;
     float *u = out;
-    if (packed) memset(u, 0, wino_prepared_size(s, mode, p));
+    if (packed) memset(u, 0, wino_prepared_size(s, flip, p));
     for (int64_t kc = 0; kc < KC; kc++) {
         const int64_t ko = kc / C, co = kc % C;
         const int64_t at = packed ? ((ko / MR) * C + co) * MR + ko % MR : kc;
         float g[9];
         const float *src = w + kc * 9;
-        for (int i = 0; i < 9; i++) g[i] = mode == CP_CONV ? src[8 - i] : src[i];
+        for (int i = 0; i < 9; i++) g[i] = flip == CP_CONV ? src[8 - i] : src[i];
         float gg[4][3]; /* G g */
         for (int j = 0; j < 3; j++) {
             const float g0 = g[j], g1 = g[3 + j], g2 = g[6 + j];
@@ -195,7 +195,7 @@ typedef struct {
     float *v, *m, *rows;
     size_t rows_per_worker;
     const cpa_wino_kernels *kern;
-    cpa_blocked_ukr_fn ukr; /* the packed GEMM's tile kernel */
+    cpa_blocked_tile_fn tile_fn; /* the packed GEMM's tile kernel */
 } wino_block;
 
 /* Runs body for each segment of the block: a run of tiles [tx0, tx1) of tile
@@ -315,7 +315,7 @@ static void wino_packed_task(void *arg, int64_t begin, int64_t end, int worker) 
     const wino_block *blk = arg;
     const cp_shape *s = blk->a->shape;
     const int64_t C = s->c, K = s->k, ntk = wino_ktiles(s), ld = blk->ld;
-    const cpa_blocked_ukr_fn ukr = blk->ukr;
+    const cpa_blocked_tile_fn tile_fn = blk->tile_fn;
     const float *u = blk->a->weights;
     for (int64_t task = begin; task < end; task++) {
         const int64_t xi = task / ntk, kt = task % ntk;
@@ -341,7 +341,7 @@ static void wino_packed_task(void *arg, int64_t begin, int64_t end, int worker) 
             t.n[1] = (int)(left - NV <= 0 ? 0 : left - NV < NV ? left - NV : NV);
             t.x[1] = t.n[1] ? vx + col + NV : t.x[0];
             t.y[1] = t.n[1] ? mx + col + NV : t.y[0];
-            ukr(&t);
+            tile_fn(&t);
         }
     }
 }
@@ -363,7 +363,7 @@ static cp_status wino_run(const cp_run_args *a) {
                                                  : cpa_wino_kernels_select(),
     };
     int full_reads = 0; /* either kernel is safe here (see wino_packed_task) */
-    blk.ukr = cpa_blocked_ukr_select(a->params->v[WINO_KERNELS], &full_reads);
+    blk.tile_fn = cpa_blocked_tile_select(a->params->v[WINO_KERNELS], &full_reads);
     blk.rows = (float *)(ws + cpa_align64((size_t)(16 * C * ld) * sizeof(float)) +
                          cpa_align64((size_t)(16 * K * ld) * sizeof(float)));
     for (int64_t t0 = 0; t0 < all; t0 += tb) {

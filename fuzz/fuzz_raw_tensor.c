@@ -10,8 +10,8 @@
 
 #include "convpick/convpick.h"
 #include "fuzz.h"
-#include "rawfile.h"
-#include "select.h"
+#include "harness/io/rawfile.h"
+#include "harness/select/select.h"
 
 /* Keeps each input fast: the direct algorithms cost ~flops. */
 #define MAX_ELEMS 8192
@@ -33,7 +33,7 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size) {
         return 0;
     const uint8_t pick = nl[1];
     const cp_algo *a = cp_algo_at((size_t)(pick & 0x7f) % cp_algo_count());
-    const cp_mode mode = (pick & 0x80) ? CP_CONV : CP_XCORR;
+    const cp_flip flip = (pick & 0x80) ? CP_CONV : CP_XCORR;
     const uint8_t *payload = nl + 2;
     const size_t plen = size - (size_t)(payload - data);
     /* Split where the input tensor would end; a short payload is a wrong size. */
@@ -48,9 +48,9 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size) {
     }
     const cph_nonfinite bad = cph_count_nonfinite(x, nx);
     cpf_require(bad.nan + bad.inf <= nx, "non-finite count bounded");
-    if (!a->supports(&s, mode, NULL, 0)) goto out;
+    if (!a->supports(&s, flip, NULL, 0)) goto out;
     const cp_cache_sizes caches = cp_cache_sizes_fallback();
-    if (cp_plan_create(a, &s, mode, NULL, &caches, 1, w, &plan, msg, sizeof msg) != CP_OK) goto out;
+    if (cp_plan_create(a, &s, flip, NULL, &caches, 1, w, &plan, msg, sizeof msg) != CP_OK) goto out;
     y = malloc(ny * sizeof *y);
     if (!y) goto out;
     cpf_require(cp_plan_run(plan, x, NULL, y, NULL) == CP_OK, "plan runs");

@@ -7,7 +7,7 @@
 #include <string.h>
 
 #include "fuzz.h"
-#include "results_read.h"
+#include "harness/io/results_read.h"
 
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size) {
     if (size > (1u << 20)) return 0;

@@ -9,7 +9,7 @@
 
 #include "convpick/convpick.h"
 #include "fuzz.h"
-#include "lib_table_impl.h"
+#include "loader/table_impl.h"
 
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size) {
     if (size > (1u << 20)) return 0;
@@ -27,7 +27,7 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size) {
         for (size_t i = 0; i < cp_table_count(t); i++) {
             const cp_table_entry *a = cp_table_entry_at(t, i), *b = cp_table_entry_at(ref, i);
             cpf_require(strcmp(a->name, b->name) == 0 && cp_shape_equal(&a->shape, &b->shape) &&
-                            a->mode == b->mode && a->threads == b->threads && a->algo == b->algo &&
+                            a->flip == b->flip && a->threads == b->threads && a->algo == b->algo &&
                             memcmp(&a->params, &b->params, sizeof a->params) == 0 &&
                             a->runner_up == b->runner_up && a->ncandidates == b->ncandidates,
                         "same entries");
@@ -47,10 +47,10 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size) {
     for (size_t i = 0; i < cp_table_count(t); i++) {
         const cp_table_entry *e = cp_table_entry_at(t, i);
         cpf_require(e->algo != NULL, "entry has an algorithm");
-        cpf_require(e->algo->supports(&e->shape, e->mode, NULL, 0), "algorithm supports entry");
-        cpf_require(cp_table_find(t, &e->shape, e->mode, e->threads) == e, "entry found exactly");
+        cpf_require(e->algo->supports(&e->shape, e->flip, NULL, 0), "algorithm supports entry");
+        cpf_require(cp_table_find(t, &e->shape, e->flip, e->threads) == e, "entry found exactly");
         cp_choice ch;
-        cpf_require(cp_table_lookup(t, &e->shape, e->mode, e->threads, &ch, msg, sizeof msg) ==
+        cpf_require(cp_table_lookup(t, &e->shape, e->flip, e->threads, &ch, msg, sizeof msg) ==
                         CP_OK && ch.match == CP_MATCH_EXACT && ch.entry == e,
                     "lookup answers exactly");
         (void)cp_table_settings_key(t, i);

@@ -60,7 +60,7 @@ int main(int argc, char **argv) {
         s.pad_top = f[9], s.pad_left = f[10], s.pad_bottom = f[11], s.pad_right = f[12];
         s.dil_h = f[13], s.dil_w = f[14], s.groups = f[15];
     }
-    cp_mode mode = argc > 3 && strcmp(argv[3], "conv") == 0 ? CP_CONV : CP_XCORR;
+    cp_flip flip = argc > 3 && strcmp(argv[3], "conv") == 0 ? CP_CONV : CP_XCORR;
     int threads = argc > 4 ? atoi(argv[4]) : 1;
 
     char msg[512];
@@ -85,7 +85,7 @@ int main(int argc, char **argv) {
     }
     fill(x, nx, 1);
     fill(w, nw, 2);
-    if (cp_table_plan(t, &s, mode, threads, w, &plan, &c, msg, sizeof msg) != CP_OK) {
+    if (cp_table_plan(t, &s, flip, threads, w, &plan, &c, msg, sizeof msg) != CP_OK) {
         fprintf(stderr, "dispatch: %s\n", msg);
         goto done;
     }

@@ -62,7 +62,7 @@ typedef struct cp_params {
 /* Everything run() gets. */
 typedef struct cp_run_args {
     const cp_shape *shape;
-    cp_mode mode;
+    cp_flip flip;
     const cp_params *params;
     const float *x;       /* N x C x H x W */
     const void *weights;  /* raw KCRS weights, or the prepared buffer (see above) */
@@ -86,7 +86,7 @@ typedef struct cp_algo {
 
     /* 1 if the algorithm computes this shape in this mode.  Otherwise 0 and a
      * one-line reason in why (why may be NULL). */
-    int (*supports)(const cp_shape *s, cp_mode mode, char *why, size_t cap);
+    int (*supports)(const cp_shape *s, cp_flip flip, char *why, size_t cap);
     /* Default parameters for this shape from the cache sizes given (never from
      * the machine).  May be NULL when nparams == 0. */
     void (*defaults)(const cp_shape *s, const cp_cache_sizes *caches, cp_params *out);
@@ -95,12 +95,12 @@ typedef struct cp_algo {
      * written.  May be NULL: then only the defaults are tried. */
     int (*candidates)(const cp_shape *s, const cp_cache_sizes *caches, cp_params *out, int max);
     /* Bytes of workspace run() needs with nthreads workers. */
-    size_t (*workspace_size)(const cp_shape *s, cp_mode mode, const cp_params *p, int nthreads);
+    size_t (*workspace_size)(const cp_shape *s, cp_flip flip, const cp_params *p, int nthreads);
     /* Bytes of prepared weights, or 0 when run() takes the raw weights. */
-    size_t (*prepared_size)(const cp_shape *s, cp_mode mode, const cp_params *p);
+    size_t (*prepared_size)(const cp_shape *s, cp_flip flip, const cp_params *p);
     /* Writes the prepared weights for raw KCRS weights w into out. NULL iff
      * prepared_size is NULL or always 0. */
-    cp_status (*prepare)(const cp_shape *s, cp_mode mode, const cp_params *p,
+    cp_status (*prepare)(const cp_shape *s, cp_flip flip, const cp_params *p,
                          const float *w, void *out);
     /* Computes the layer. */
     cp_status (*run)(const cp_run_args *a);
@@ -131,7 +131,7 @@ typedef struct cp_plan cp_plan;
 /* Validates the shape and params, checks support, allocates the workspace for
  * nthreads workers and prepares the weights (copied/transformed: w may be freed
  * afterwards).  params NULL = defaults from caches (caches NULL = fallback). */
-cp_status cp_plan_create(const cp_algo *a, const cp_shape *s, cp_mode mode,
+cp_status cp_plan_create(const cp_algo *a, const cp_shape *s, cp_flip flip,
                          const cp_params *params, const cp_cache_sizes *caches, int nthreads,
                          const float *w, cp_plan **out, char *msg, size_t cap);
 /* Runs the layer.  Not safe to call concurrently on one plan (it owns one

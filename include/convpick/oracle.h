@@ -20,7 +20,7 @@
 #include "convpick/status.h"
 
 /* ref and mag: N*K*P*Q doubles each (mag may be NULL).  bias may be NULL. */
-void cp_oracle_run(const cp_shape *s, cp_mode mode, const float *x, const float *w,
+void cp_oracle_run(const cp_shape *s, cp_flip flip, const float *x, const float *w,
                    const float *bias, double *ref, double *mag);
 
 typedef struct cp_error {

@@ -26,10 +26,10 @@
  *   x[n, g*C/groups + c, p*stride_h - pad_top + r*dil_h, q*stride_w - pad_left + s*dil_w] * w'[k,c,r,s]
  * where w' = w for CP_XCORR and w' = w flipped along both spatial axes
  * (w'[k,c,r,s] = w[k,c,R-1-r,S-1-s]) for CP_CONV. */
-typedef enum cp_mode {
+typedef enum cp_flip {
     CP_XCORR = 0, /* cross-correlation: what network convolution layers compute */
     CP_CONV = 1   /* true convolution: the kernel flipped along both spatial axes */
-} cp_mode;
+} cp_flip;
 
 /* Memory layouts.  Only the first of each is implemented today; the field
  * exists so that more layouts can be added without changing the shape type. */
@@ -95,7 +95,7 @@ cp_shape_fault cp_shape_validate(const cp_shape *s, char *msg, size_t cap);
  *          extra column to the right: top = total/2, bottom = total - top.  With
  *          stride > 1 the total may be smaller than dil*(R-1): only what is needed
  *          to reach ceil(H/stride) outputs is added.  (Common practice, no source.) */
-void cp_shape_set_padding(cp_shape *s, cp_pad_mode mode);
+void cp_shape_set_padding(cp_shape *s, cp_pad_mode flip);
 
 /* Writes a canonical one-line key=value form of the shape ("n=1,c=64,...") that
  * the CLI's --shape parser reads back to an equal shape.  Returns the length

@@ -44,7 +44,7 @@ typedef struct cp_candidate {
 typedef struct cp_table_entry {
     char name[64];          /* layer name as given to tune */
     cp_shape shape;
-    cp_mode mode;
+    cp_flip flip;
     int threads;
     const cp_algo *algo;    /* the chosen algorithm (resolved against the registry) */
     cp_params params;
@@ -93,7 +93,7 @@ cp_cache_sizes cp_table_caches(const cp_table *t);
  * measured the way it would measure it now. */
 const char *cp_table_settings_key(const cp_table *t, size_t i);
 /* The entry of exactly this shape, mode and thread count, or NULL (O(log n)). */
-const cp_table_entry *cp_table_find(const cp_table *t, const cp_shape *s, cp_mode mode,
+const cp_table_entry *cp_table_find(const cp_table *t, const cp_shape *s, cp_flip flip,
                                     int threads);
 
 /* This machine's fingerprint (16 hex digits + NUL): a hash of the cpuid
@@ -133,7 +133,7 @@ typedef struct cp_choice {
  *     supports every shape).
  * t may be NULL (no table: the default, with fallback cache sizes).
  * Fails only for an invalid shape (CP_EINVAL). */
-cp_status cp_table_lookup(const cp_table *t, const cp_shape *s, cp_mode mode, int threads,
+cp_status cp_table_lookup(const cp_table *t, const cp_shape *s, cp_flip flip, int threads,
                           cp_choice *out, char *msg, size_t cap);
 
 /* Dispatch in one call: looks the shape up and creates a plan with the chosen
@@ -142,7 +142,7 @@ cp_status cp_table_lookup(const cp_table *t, const cp_shape *s, cp_mode mode, in
  * for the default); default parameters come from cp_table_caches(t).  Run it as often as
  * needed with cp_plan_run(); free it with cp_plan_destroy().  choice may be
  * NULL. */
-cp_status cp_table_plan(const cp_table *t, const cp_shape *s, cp_mode mode, int threads,
+cp_status cp_table_plan(const cp_table *t, const cp_shape *s, cp_flip flip, int threads,
                         const float *w, cp_plan **out, cp_choice *choice, char *msg, size_t cap);
 
 #endif

@@ -1,0 +1,90 @@
+/* Helpers every algorithm may use: parameters, the weight flip, bias. */
+#include <stdarg.h>
+#include <stdio.h>
+#include <string.h>
+
+#include "algos/core/cpa.h"
+
+cp_cache_sizes cp_cache_sizes_fallback(void) {
+    cp_cache_sizes c = {32u * 1024u, 512u * 1024u, 8u * 1024u * 1024u, 64u};
+    return c;
+}
+
+int cpa_refuse(char *why, size_t cap, const char *fmt, ...) {
+    if (why && cap) {
+        va_list ap;
+        va_start(ap, fmt);
+        vsnprintf(why, cap, fmt, ap);
+        va_end(ap);
+    }
+    return 0;
+}
+
+cp_status cpa_fail(cp_status st, char *msg, size_t cap, const char *fmt, ...) {
+    if (msg && cap) {
+        va_list ap;
+        va_start(ap, fmt);
+        vsnprintf(msg, cap, fmt, ap);
+        va_end(ap);
+    }
+    return st;
+}
+
+void cpa_add_bias(float *y, const float *bias, int64_t nk, int64_t npix) {
+    if (!bias) return;
+    for (int64_t k = 0; k < nk; k++) {
+        const float b = bias[k];
+        float *row = y + k * npix;
+        for (int64_t i = 0; i < npix; i++) row[i] += b;
+    }
+}
+
+void cp_algo_defaults(const cp_algo *a, const cp_shape *s, const cp_cache_sizes *caches,
+                      cp_params *p) {
+    memset(p, 0, sizeof *p);
+    cp_cache_sizes fb = cp_cache_sizes_fallback();
+    if (a->defaults) a->defaults(s, caches ? caches : &fb, p);
+}
+
+cp_status cp_params_check(const cp_algo *a, const cp_params *p, char *msg, size_t cap) {
+    for (int i = 0; i < a->nparams; i++) {
+        const cp_param_desc *d = &a->params[i];
+        if (p->v[i] < d->min || p->v[i] > d->max) {
+            if (msg && cap)
+                snprintf(msg, cap, "%s: parameter %s=%lld is outside [%lld, %lld]", a->name,
+                         d->name, (long long)p->v[i], (long long)d->min, (long long)d->max);
+            return CP_EINVAL;
+        }
+    }
+    return CP_OK;
+}
+
+int cp_algo_param_index(const cp_algo *a, const char *name) {
+    for (int i = 0; i < a->nparams; i++)
+        if (strcmp(a->params[i].name, name) == 0) return i;
+    return -1;
+}
+
+int cp_params_format(const cp_algo *a, const cp_params *p, char *buf, size_t cap) {
+    int len = 0;
+    if (cap) buf[0] = '\0';
+    for (int i = 0; i < a->nparams; i++) {
+        size_t off = (size_t)len < cap ? (size_t)len : cap;
+        int n = snprintf(buf + off, cap - off, "%s%s=%lld", i ? "," : "", a->params[i].name,
+                         (long long)p->v[i]);
+        if (n < 0) return n;
+        len += n;
+    }
+    return len;
+}
+
+void cp_weights_flip(const cp_shape *s, const float *w, float *wf) {
+    const int64_t R = s->r, S = s->s;
+    const int64_t planes = s->k * (s->c / s->groups);
+    for (int64_t kc = 0; kc < planes; kc++) {
+        const float *src = w + kc * R * S;
+        float *dst = wf + kc * R * S;
+        for (int64_t r = 0; r < R; r++)
+            for (int64_t q = 0; q < S; q++) dst[r * S + q] = src[(R - 1 - r) * S + (S - 1 - q)];
+    }
+}

@@ -1,0 +1,65 @@
+/* convpick algos: what the registry holds, straight from each algorithm's
+ * descriptor, so the listing can never disagree with what verify and tune use. */
+#include <getopt.h>
+#include <stdio.h>
+#include <string.h>
+
+#include "harness/cli/cli.h"
+#include "convpick/convpick.h"
+
+static void usage(FILE *f) {
+    fprintf(f, "usage: convpick algos [-h]\n\n"
+               "Lists every registered algorithm: its summary, the tolerance verify applies\n"
+               "(error relative to sum|x||w| + |bias|, see convpick verify), and its tunable\n"
+               "parameters with their ranges.\n\n"
+               "options:\n"
+               "  -h, --help        this text\n");
+}
+
+int cph_cmd_algos(int argc, char **argv) {
+    static const struct option longopts[] = {
+        {"help", no_argument, NULL, 'h'},
+        {NULL, 0, NULL, 0},
+    };
+    int opt;
+    opterr = 0; /* one error line, ours */
+    while ((opt = getopt_long(argc, argv, "h", longopts, NULL)) != -1) {
+        if (opt == 'h') {
+            usage(stdout);
+            return CPH_EXIT_OK;
+        }
+        return cph_usage_error("algos");
+    }
+    if (optind < argc) {
+        cph_err("algos: unexpected argument '%s' (see convpick algos --help)", argv[optind]);
+        return CPH_EXIT_USAGE;
+    }
+    int name_w = 4;
+    for (size_t i = 0; i < cp_algo_count(); i++) {
+        int len = (int)strlen(cp_algo_at(i)->name);
+        if (len > name_w) name_w = len;
+    }
+    printf("%-*s  %-9s  %s\n", name_w, "algo", "tolerance", "summary");
+    for (size_t i = 0; i < cp_algo_count(); i++) {
+        const cp_algo *a = cp_algo_at(i);
+        printf("%-*s  %-9.1e  %s\n", name_w, a->name, a->tolerance, a->summary);
+        if (a->nparams == 0) {
+            printf("%-*s  parameters: none\n", name_w, "");
+            continue;
+        }
+        int pw = 4;
+        for (int j = 0; j < a->nparams; j++) {
+            int len = (int)strlen(a->params[j].name);
+            if (len > pw) pw = len;
+        }
+        printf("%-*s  parameters:\n", name_w, "");
+        for (int j = 0; j < a->nparams; j++) {
+            const cp_param_desc *d = &a->params[j];
+            char range[64];
+            snprintf(range, sizeof range, "[%lld, %lld]", (long long)d->min, (long long)d->max);
+            printf("%-*s    %-*s  %-16s  %s\n", name_w, "", pw, d->name, range,
+                   d->doc ? d->doc : "");
+        }
+    }
+    return CPH_EXIT_OK;
+}

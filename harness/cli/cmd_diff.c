@@ -1,0 +1,267 @@
+/* convpick diff BASE NEW: did NEW get slower than BASE?
+ *
+ * Reads two bench results files or tuning tables (any mix), pairs their
+ * measurements by shape, mode, thread count, algorithm and parameters, and
+ * gives each pair a ratio NEW/BASE with a confidence interval and a verdict
+ * (Mann-Whitney U test and Hodges-Lehmann estimate: diff_stats.h,
+ * docs/diff.md).  Exit 1 when any pair is a regression, so a CI job can gate
+ * on it; --junit and --markdown write reports for the CI's pages. */
+#define _POSIX_C_SOURCE 200809L
+#include <errno.h>
+#include <getopt.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "harness/cli/cli.h"
+#include "harness/diff/diff_report.h"
+
+static void usage(FILE *f) {
+    fprintf(f,
+            "usage: convpick diff [OPTIONS] BASE NEW\n\n"
+            "Compares two measurement files, each a bench results file (bench --json) or\n"
+            "a tuning table (tune), measured on the same device.  Measurements of the\n"
+            "same shape, mode, thread count, algorithm and parameters are paired; for\n"
+            "each pair it reports the ratio NEW/BASE of the medians, the Hodges-Lehmann\n"
+            "estimate of the ratio (from the shift of the log times) with its\n"
+            "distribution-free (1-alpha) interval, the two-sided Mann-Whitney U p-value,\n"
+            "and a verdict:\n"
+            "  slower        p < alpha and the interval lies above 1 + tolerance\n"
+            "                (a regression)\n"
+            "  faster        p < alpha and the interval lies below 1 - tolerance\n"
+            "  unchanged     the interval lies within 1 +- tolerance\n"
+            "  inconclusive  anything else: the interval straddles a tolerance bound,\n"
+            "                or too few samples for an interval\n"
+            "Rows are sorted worst first.  For two tables it also lists the layers whose\n"
+            "chosen algorithm changed, and what BASE's choice costs in NEW.\n\n"
+            "options:\n"
+            "  --alpha A             significance level, 0 < A < 0.5 (default 0.01)\n"
+            "  --tolerance PCT       changes within +-PCT %% are not regressions (default 5)\n"
+            "  --allow-other-device  compare files of different device fingerprints\n"
+            "  --junit FILE          write JUnit XML: one testcase per pair, regressions\n"
+            "                        as failures\n"
+            "  --markdown FILE       write a Markdown summary for a CI page\n"
+            "  -h, --help            this text\n\n"
+            "exit status: 0 no regression, 1 at least one regression, 2 bad usage or\n"
+            "input (unreadable or malformed file, another format version, other device,\n"
+            "nothing in common)\n");
+}
+
+enum { OPT_ALPHA = 1, OPT_TOL, OPT_OTHER, OPT_JUNIT, OPT_MD };
+
+typedef struct diff_opts {
+    double alpha, tol;
+    int allow_other;
+    const char *junit, *markdown, *base, *next;
+} diff_opts;
+
+static int parse_double(const char *s, double *out) {
+    char *end;
+    errno = 0;
+    const double v = strtod(s, &end);
+    if (errno || end == s || *end || !isfinite(v)) return -1;
+    *out = v;
+    return 0;
+}
+
+static int parse_args(int argc, char **argv, diff_opts *o) {
+    static const struct option longopts[] = {
+        {"alpha", required_argument, NULL, OPT_ALPHA},
+        {"tolerance", required_argument, NULL, OPT_TOL},
+        {"allow-other-device", no_argument, NULL, OPT_OTHER},
+        {"junit", required_argument, NULL, OPT_JUNIT},
+        {"markdown", required_argument, NULL, OPT_MD},
+        {"help", no_argument, NULL, 'h'},
+        {NULL, 0, NULL, 0},
+    };
+    int opt;
+    double v;
+    opterr = 0;
+    while ((opt = getopt_long(argc, argv, "h", longopts, NULL)) != -1) {
+        switch (opt) {
+        case 'h': usage(stdout); return CPH_EXIT_OK;
+        case OPT_ALPHA:
+            if (parse_double(optarg, &v) || !(v > 0.0 && v < 0.5)) {
+                cph_err("diff: --alpha '%s': expected a number in (0, 0.5)", optarg);
+                return CPH_EXIT_USAGE;
+            }
+            o->alpha = v;
+            break;
+        case OPT_TOL:
+            if (parse_double(optarg, &v) || !(v >= 0.0 && v < 100.0)) {
+                cph_err("diff: --tolerance '%s': expected a percentage in [0, 100)", optarg);
+                return CPH_EXIT_USAGE;
+            }
+            o->tol = v / 100.0;
+            break;
+        case OPT_OTHER: o->allow_other = 1; break;
+        case OPT_JUNIT: o->junit = optarg; break;
+        case OPT_MD: o->markdown = optarg; break;
+        default: return cph_usage_error("diff");
+        }
+    }
+    if (argc - optind != 2) {
+        cph_err("diff: expected two files, BASE and NEW, got %d (see convpick diff --help)",
+                argc - optind);
+        return CPH_EXIT_USAGE;
+    }
+    o->base = argv[optind];
+    o->next = argv[optind + 1];
+    return -1;
+}
+
+static void print_header(const cph_diff *d) {
+    const cph_results *b = d->base, *n = d->next;
+    if (d->other_device)
+        printf("WARNING: BASE and NEW were measured on different devices (%s \"%s\" and %s "
+               "\"%s\"); compared only because --allow-other-device was given.  Differences "
+               "may be the machines', not the code's.\n\n",
+               b->fingerprint, b->model, n->fingerprint, n->model);
+    printf("BASE %s: %s, %zu measurements, device %s\n", b->path, cph_results_kind_name(b->kind),
+           b->nitems, b->fingerprint);
+    printf("NEW  %s: %s, %zu measurements, device %s\n", n->path, cph_results_kind_name(n->kind),
+           n->nitems, n->fingerprint);
+    if (b->cold != n->cold)
+        printf("note: the cache settings differ (BASE %s, NEW %s)\n",
+               b->cold < 0 ? "mixed" : b->cold ? "cold" : "warm",
+               n->cold < 0 ? "mixed" : n->cold ? "cold" : "warm");
+    printf("method: two-sided Mann-Whitney U test at alpha %g; ratio NEW/BASE of the medians, "
+           "and the Hodges-Lehmann estimate of the ratio (log-time shift) with its "
+           "distribution-free %g %% interval; tolerance +-%g %%\n\n",
+           d->alpha, 100.0 * (1.0 - d->alpha), 100.0 * d->tol);
+}
+
+static void print_pairs(const cph_diff *d) {
+    int lw = 5, aw = 4, pw = 6;
+    for (size_t i = 0; i < d->npairs; i++) {
+        const cph_result_item *it = d->pairs[i].base;
+        if ((int)strlen(it->layer) > lw) lw = (int)strlen(it->layer);
+        if ((int)strlen(it->algo) > aw) aw = (int)strlen(it->algo);
+        if ((int)strlen(it->params) > pw) pw = (int)strlen(it->params);
+    }
+    printf("%-12s  %-*s  %-5s  %3s  %-*s  %-*s  %10s  %10s  %7s  %7s  %-17s  %8s  %s\n", "verdict",
+           lw, "layer", "mode", "thr", aw, "algo", pw, "params", "base_ms", "new_ms", "ratio",
+           "hl", "interval", "p", "note");
+    for (size_t i = 0; i < d->npairs; i++) {
+        const cph_diff_pair *p = &d->pairs[i];
+        const cph_shift_cmp *c = &p->cmp;
+        const cph_result_item *it = p->base;
+        char hl[16] = "-", ci[32] = "-", pv[16] = "-";
+        if (p->compared) {
+            snprintf(hl, sizeof hl, "%.4f", c->ratio);
+            snprintf(pv, sizeof pv, "%.2g", c->mwu.p);
+            if (c->bounded) snprintf(ci, sizeof ci, "[%.4f, %.4f]", c->ratio_lo, c->ratio_hi);
+            else snprintf(ci, sizeof ci, "unbounded");
+        }
+        printf("%-12s  %-*s  %-5s  %3d  %-*s  %-*s  %10.4g  %10.4g  %7.4f  %7s  %-17s  %8s  %s\n",
+               cph_verdict_name(p->verdict), lw, it->layer, it->flip == CP_CONV ? "conv" : "xcorr",
+               it->threads, aw, it->algo, pw, it->params[0] ? it->params : "-",
+               1e3 * c->base_median, 1e3 * c->new_median, c->median_ratio, hl, ci, pv, p->note);
+    }
+}
+
+static void print_rest(const cph_diff *d) {
+    char label[512];
+    if (d->nchanges) {
+        printf("\nchanged choices (%zu):\n", d->nchanges);
+        for (size_t i = 0; i < d->nchanges; i++) {
+            const cph_choice_change *ch = &d->changes[i];
+            printf("  %s %s t=%d: BASE chose %s%s%s%s, NEW chooses %s%s%s%s; ", ch->next->layer,
+                   ch->next->flip == CP_CONV ? "conv" : "xcorr", ch->next->threads, ch->base->algo,
+                   ch->base->params[0] ? " [" : "", ch->base->params,
+                   ch->base->params[0] ? "]" : "", ch->next->algo, ch->next->params[0] ? " [" : "",
+                   ch->next->params, ch->next->params[0] ? "]" : "");
+            if (ch->old_in_new && isfinite(ch->next->median) && ch->next->median > 0) {
+                const double r = ch->old_in_new->median / ch->next->median;
+                printf("BASE's choice now takes %.4g ms, %.3g times NEW's choice (%.4g ms)%s\n",
+                       1e3 * ch->old_in_new->median, r, 1e3 * ch->next->median,
+                       r < 1.0 ? ": NEW chose a slower candidate" : "");
+            } else
+                printf("NEW did not measure BASE's choice\n");
+        }
+    }
+    for (size_t i = 0; i < d->nonly_base; i++) {
+        cph_diff_item_label(d->only_base[i], label, sizeof label);
+        printf("%sonly in BASE: %s (%s)\n", i ? "" : "\n", label, d->only_base[i]->where);
+    }
+    for (size_t i = 0; i < d->nonly_next; i++) {
+        cph_diff_item_label(d->only_next[i], label, sizeof label);
+        printf("%sonly in NEW: %s (%s)\n", i || d->nonly_base ? "" : "\n", label,
+               d->only_next[i]->where);
+    }
+    if (d->base->nfailed || d->next->nfailed)
+        printf("\nnot measured (failed or disqualified): %zu in BASE, %zu in NEW\n",
+               d->base->nfailed, d->next->nfailed);
+    printf("\nsummary: %zu compared: %zu slower, %zu inconclusive, %zu unchanged, %zu faster; "
+           "%zu only in BASE, %zu only in NEW%s\n",
+           d->npairs, d->counts[CPH_VERDICT_SLOWER], d->counts[CPH_VERDICT_INCONCLUSIVE],
+           d->counts[CPH_VERDICT_UNCHANGED], d->counts[CPH_VERDICT_FASTER], d->nonly_base,
+           d->nonly_next, d->counts[CPH_VERDICT_SLOWER] ? ": REGRESSION" : "");
+}
+
+static int run_diff(const diff_opts *o) {
+    cph_results b, n;
+    char msg[1024];
+    if (cph_results_read(o->base, &b, msg, sizeof msg) != CP_OK) {
+        cph_err("diff: %s", msg);
+        return CPH_EXIT_USAGE;
+    }
+    if (cph_results_read(o->next, &n, msg, sizeof msg) != CP_OK) {
+        cph_err("diff: %s", msg);
+        cph_results_free(&b);
+        return CPH_EXIT_USAGE;
+    }
+    int rc = CPH_EXIT_OK;
+    cph_diff d;
+    memset(&d, 0, sizeof d);
+    if (strcmp(b.fingerprint, n.fingerprint) != 0 && !o->allow_other) {
+        cph_err("diff: BASE %s was measured on device %s, NEW %s on device %s; pass "
+                "--allow-other-device to compare anyway",
+                o->base, b.fingerprint, o->next, n.fingerprint);
+        rc = CPH_EXIT_USAGE;
+        goto done;
+    }
+    if (cph_diff_build(&b, &n, o->alpha, o->tol, &d)) {
+        cph_err("diff: out of memory");
+        rc = CPH_EXIT_USAGE;
+        goto done;
+    }
+    if (!d.npairs) {
+        cph_err("diff: %s and %s have no measurement in common (same shape, mode, threads, "
+                "algorithm and parameters)", o->base, o->next);
+        rc = CPH_EXIT_USAGE;
+        goto done;
+    }
+    print_header(&d);
+    print_pairs(&d);
+    print_rest(&d);
+    rc = d.counts[CPH_VERDICT_SLOWER] ? CPH_EXIT_FAIL : CPH_EXIT_OK;
+    if (o->junit) {
+        if (cph_diff_write_junit(&d, o->junit, msg, sizeof msg) != CP_OK) {
+            cph_err("diff: %s", msg);
+            rc = CPH_EXIT_USAGE;
+        } else {
+            printf("wrote %s\n", o->junit);
+        }
+    }
+    if (o->markdown) {
+        if (cph_diff_write_markdown(&d, o->markdown, msg, sizeof msg) != CP_OK) {
+            cph_err("diff: %s", msg);
+            rc = CPH_EXIT_USAGE;
+        } else {
+            printf("wrote %s\n", o->markdown);
+        }
+    }
+done:
+    cph_diff_free(&d);
+    cph_results_free(&b);
+    cph_results_free(&n);
+    return rc;
+}
+
+int cph_cmd_diff(int argc, char **argv) {
+    diff_opts o = {0.01, 0.05, 0, NULL, NULL, NULL, NULL};
+    const int rc = parse_args(argc, argv, &o);
+    return rc >= 0 ? rc : run_diff(&o);
+}

@@ -1,0 +1,172 @@
+/* convpick probe: what the tuner knows of this machine - topology, caches,
+ * ISA, BLAS, build, fingerprint - and the roofs measured on the spot. */
+#include <getopt.h>
+#include <jansson.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "harness/cli/cli.h"
+#include "harness/machine/machine.h"
+
+static void help(void) {
+    printf("usage: convpick probe [--json] [--no-roofs] [--seconds S] [--synthetic DESC]\n\n"
+           "Describes this machine (topology and caches from hwloc, ISA from cpuid, the BLAS\n"
+           "library, the compiler and flags of this build, the device fingerprint) and measures\n"
+           "its roofs: FP32 FMA peak and triad bandwidth on one core and on all physical cores.\n\n"
+           "  --json            print one JSON object instead of text\n"
+           "  --no-roofs        describe only, measure nothing\n"
+           "  --seconds S       time budget for the roofs (default 2)\n"
+           "  --synthetic DESC  describe an invented machine given in hwloc's synthetic syntax,\n"
+           "                    e.g. \"pack:2 l3:1(size=32MiB) l2:8(size=1MiB) l1d:1(size=32KiB)\n"
+           "                    core:1 pu:2\" (no roofs: there is nothing to measure)\n"
+           "  --help            this text\n\n"
+           "Bandwidth is counted as STREAM counts the triad a = b + s*c: 12 bytes per float\n"
+           "element, the write-allocate read of a not counted.\n");
+}
+
+static void print_size(char *buf, size_t cap, double bytes) {
+    static const char *unit[] = {"B", "KiB", "MiB", "GiB", "TiB"};
+    int u = 0;
+    while (bytes >= 1024.0 && u < 4) {
+        bytes /= 1024.0;
+        u++;
+    }
+    if (bytes == floor(bytes)) snprintf(buf, cap, "%.0f %s", bytes, unit[u]);
+    else snprintf(buf, cap, "%.1f %s", bytes, unit[u]);
+}
+
+static const char *plural(int n, const char *one, const char *many) { return n == 1 ? one : many; }
+
+static void print_text(const cph_machine *m, const cph_roofs *r) {
+    char sz[32];
+    printf("cpu          %s\n", m->model[0] ? m->model : "(no brand string)");
+    printf("             %s, family %d, model %d, stepping %d\n", m->vendor, m->family,
+           m->model_id, m->stepping);
+    print_size(sz, sizeof sz, (double)m->memory_bytes);
+    printf("topology     %d %s, %d NUMA %s, %d physical %s, %d %s, %s memory%s\n", m->packages,
+           plural(m->packages, "package", "packages"), m->numa_nodes,
+           plural(m->numa_nodes, "node", "nodes"), m->cores, plural(m->cores, "core", "cores"),
+           m->pus, plural(m->pus, "PU", "PUs"), sz, m->synthetic ? " (synthetic)" : "");
+    for (int i = 0; i < m->ncaches; i++) {
+        const cph_cache_level *c = &m->caches[i];
+        char assoc[24];
+        if (c->assoc > 0) snprintf(assoc, sizeof assoc, "%d-way", c->assoc);
+        else snprintf(assoc, sizeof assoc, "%s", c->assoc < 0 ? "fully assoc." : "ways unknown");
+        print_size(sz, sizeof sz, (double)c->size);
+        printf("%-12s L%d %-7s %8s, %zu B lines, %s, %d %s, %d %s each\n", i ? "" : "caches",
+               c->level, c->kind, sz, c->line, assoc, c->instances,
+               plural(c->instances, "instance", "instances"), c->cores_sharing,
+               plural(c->cores_sharing, "core", "cores"));
+    }
+    const cp_cache_sizes cs = cph_machine_caches(m);
+    printf("for algos    l1d %zu, l2 %zu, l3 %zu, line %zu bytes\n", cs.l1d, cs.l2, cs.l3, cs.line);
+    printf("isa         ");
+    const struct {
+        const char *name;
+        int on;
+    } isa[] = {{"sse4.2", m->sse42},          {"avx", m->avx},           {"avx2", m->avx2},
+               {"fma", m->fma},               {"avx512f", m->avx512f},   {"avx512bw", m->avx512bw},
+               {"avx512vl", m->avx512vl},     {"avx512dq", m->avx512dq},
+               {"avx512_vnni", m->avx512_vnni}, {"avx512_bf16", m->avx512_bf16}};
+    int any = 0;
+    for (size_t i = 0; i < sizeof isa / sizeof isa[0]; i++)
+        if (isa[i].on) {
+            printf(" %s", isa[i].name);
+            any = 1;
+        }
+    printf("%s\n", any ? "" : " (none of those convpick checks)");
+    printf("blas         %s (core %s)\n", m->blas_version, m->blas_core);
+    printf("build        %s, flags %s\n", m->compiler, m->build_flags[0] ? m->build_flags : "(none)");
+    printf("fingerprint  %s\n", m->fingerprint);
+    if (!r) return;
+    printf("peak FP32    %.1f GFLOP/s on 1 core, %.1f GFLOP/s on %d %s%s\n", r->peak_1core_gflops,
+           r->peak_all_gflops, r->cores_used, plural(r->cores_used, "core", "cores"),
+           r->portable_peak ? " (portable loop: no AVX2 FMA here)" : " (AVX2 FMA)");
+    printf("bandwidth    %.1f GB/s on 1 core, %.1f GB/s on %d %s (triad, 3 x ", r->bw_1core_gbs,
+           r->bw_all_gbs, r->cores_used, plural(r->cores_used, "core", "cores"));
+    print_size(sz, sizeof sz, (double)r->triad_bytes);
+    printf("%s arrays)\n", sz);
+    printf("ridge        %.2f FLOP/byte on 1 core, %.2f FLOP/byte on %d %s\n", r->ridge_1core,
+           r->ridge_all, r->cores_used, plural(r->cores_used, "core", "cores"));
+    printf("             measured in %.2f s, threads %s\n", r->seconds_spent,
+           r->pinned ? "pinned one per core" : "not pinned");
+}
+
+static int parse_seconds(const char *s, double *out) {
+    char *end;
+    const double v = strtod(s, &end);
+    if (end == s || *end || !(v > 0.0) || !isfinite(v) || v > 600.0) return -1;
+    *out = v;
+    return 0;
+}
+
+int cph_cmd_probe(int argc, char **argv) {
+    static const struct option opts[] = {{"json", no_argument, NULL, 'j'},
+                                         {"no-roofs", no_argument, NULL, 'n'},
+                                         {"seconds", required_argument, NULL, 's'},
+                                         {"synthetic", required_argument, NULL, 'y'},
+                                         {"help", no_argument, NULL, 'h'},
+                                         {NULL, 0, NULL, 0}};
+    int json = 0, roofs = 1;
+    double seconds = 2.0;
+    const char *synthetic = NULL;
+    int c;
+    opterr = 0; /* one line of our own instead of getopt's */
+    while ((c = getopt_long(argc, argv, "", opts, NULL)) != -1) {
+        switch (c) {
+        case 'j': json = 1; break;
+        case 'n': roofs = 0; break;
+        case 's':
+            if (parse_seconds(optarg, &seconds) != 0) {
+                cph_err("probe: --seconds '%s': give a number of seconds in (0, 600]", optarg);
+                return CPH_EXIT_USAGE;
+            }
+            break;
+        case 'y': synthetic = optarg; break;
+        case 'h': help(); return CPH_EXIT_OK;
+        default: return cph_usage_error("probe");
+        }
+    }
+    if (optind < argc) {
+        cph_err("probe: unexpected argument '%s' (see convpick probe --help)", argv[optind]);
+        return CPH_EXIT_USAGE;
+    }
+    char msg[512];
+    cph_machine m;
+    cp_status st = cph_machine_detect(&m, synthetic, msg, sizeof msg);
+    if (st != CP_OK) {
+        cph_err("probe: %s", msg);
+        return CPH_EXIT_USAGE;
+    }
+    cph_roofs r;
+    int have_roofs = 0;
+    if (roofs && !m.synthetic) {
+        st = cph_roofs_measure(&m, seconds, &r, msg, sizeof msg);
+        if (st != CP_OK) {
+            cph_err("probe: %s", msg);
+            cph_machine_free(&m);
+            return CPH_EXIT_FAIL;
+        }
+        if (msg[0]) cph_warn("probe: %s", msg);
+        have_roofs = 1;
+    }
+    int rc = CPH_EXIT_OK;
+    if (json) {
+        json_t *o = cph_machine_to_json(&m, have_roofs ? &r : NULL);
+        char *text = o ? json_dumps(o, JSON_INDENT(2) | JSON_PRESERVE_ORDER) : NULL;
+        if (text) {
+            printf("%s\n", text);
+            free(text);
+        } else {
+            cph_err("probe: cannot build the JSON description");
+            rc = CPH_EXIT_FAIL;
+        }
+        json_decref(o);
+    } else {
+        print_text(&m, have_roofs ? &r : NULL);
+    }
+    cph_machine_free(&m);
+    return rc;
+}

@@ -1,0 +1,210 @@
+/* convpick verify: every selected algorithm against the fp64 oracle, per layer
+ * and mode, judged by each algorithm's own tolerance.
+ *
+ * The oracle is plain double loops and by far the slowest part, so it runs
+ * once per layer x mode and its reference is shared by every algorithm.  The
+ * tensors are random in [-1, 1) from the seed, the layer index and the mode,
+ * so a FAIL can be reproduced with the same --seed. */
+#include <getopt.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "harness/cli/cli.h"
+#include "harness/measure/data.h"
+#include "harness/machine/membudget.h"
+#include "harness/select/select.h"
+
+static void usage(FILE *f) {
+    fprintf(f,
+            "usage: convpick verify [OPTIONS]\n\n"
+            "Runs every selected algorithm on random tensors for each layer and mode and\n"
+            "compares it with the fp64 oracle; PASS when the error relative to sum|x||w|\n"
+            "is within the algorithm's tolerance (see convpick algos).\n\n"
+            "options:\n%s"
+            "                    (verify's default mode: both)\n%s"
+            "  -h, --help        this text\n\n"
+            "exit status: 0 all applicable checks passed, 1 a check failed, 2 bad usage or input\n",
+            cph_selection_help, cph_membudget_help);
+}
+
+/* Derives independent seeds per layer, mode and tensor. */
+static uint64_t tensor_seed(uint64_t seed, size_t layer, int flip, int tensor) {
+    uint64_t st = seed ^ ((uint64_t)layer << 20) ^ ((uint64_t)flip << 8) ^ (uint64_t)tensor;
+    return cph_rng_next(&st);
+}
+
+typedef struct {
+    int passed, failed, na;
+    int name_w, algo_w;
+} tally;
+
+static void row(const tally *t, const char *layer, cp_flip flip, const cp_algo *a,
+                const char *rest) {
+    printf("%-*s  %-5s  %-*s  %s\n", t->name_w, layer, flip == CP_XCORR ? "xcorr" : "conv",
+           t->algo_w, a->name, rest);
+}
+
+/* Checks one algorithm on one layer x mode against the shared reference. */
+static void check_algo(tally *t, const cph_layer *L, cp_flip flip, const cp_algo *a,
+                       const float *x, const float *w, const float *bias, const double *ref,
+                       const double *mag, float *y) {
+    char why[256] = "", line[512];
+    if (!a->supports(&L->shape, flip, why, sizeof why)) {
+        snprintf(line, sizeof line, "%-10s %-10s %-9s n/a     %s", "-", "-", "-", why);
+        row(t, L->name, flip, a, line);
+        t->na++;
+        return;
+    }
+    cp_plan *plan = NULL;
+    const cp_cache_sizes caches = cp_cache_sizes_fallback();
+    cp_status st = cp_plan_create(a, &L->shape, flip, NULL, &caches, 1, w, &plan, why, sizeof why);
+    if (st == CP_OK) {
+        const size_t ny = cp_shape_output_elems(&L->shape);
+        /* Poison the output so that an algorithm that skips elements fails. */
+        for (size_t i = 0; i < ny; i++) y[i] = (float)NAN;
+        st = cp_plan_run(plan, x, bias, y, NULL);
+        if (st != CP_OK) snprintf(why, sizeof why, "run failed: %s", cp_status_str(st));
+        cp_plan_destroy(plan);
+        if (st == CP_OK) {
+            const cp_error e = cp_error_measure(y, ref, mag, ny);
+            const int ok = e.nonfinite == 0 && e.rel_err <= a->tolerance;
+            char extra[64] = "";
+            if (e.nonfinite)
+                snprintf(extra, sizeof extra, "  (%zu non-finite outputs)", e.nonfinite);
+            snprintf(line, sizeof line, "%-10.3e %-10.3e %-9.1e %s%s", e.abs_err, e.rel_err,
+                     a->tolerance, ok ? "PASS" : "FAIL", extra);
+            row(t, L->name, flip, a, line);
+            if (ok)
+                t->passed++;
+            else
+                t->failed++;
+            return;
+        }
+    }
+    snprintf(line, sizeof line, "%-10s %-10s %-9.1e %-7s %s", "-", "-", a->tolerance, "FAIL", why);
+    row(t, L->name, flip, a, line);
+    t->failed++;
+}
+
+/* One layer: tensors and the oracle per mode, then every algorithm. */
+static int verify_layer(tally *t, const cph_selection *sel, size_t li) {
+    const cph_layer *L = &sel->layers.v[li];
+    const size_t nx = cp_shape_input_elems(&L->shape), nw = cp_shape_weight_elems(&L->shape),
+                 ny = cp_shape_output_elems(&L->shape), nb = (size_t)L->shape.k;
+    float *x = malloc(nx * sizeof *x), *w = malloc(nw * sizeof *w), *b = malloc(nb * sizeof *b);
+    float *y = malloc(ny * sizeof *y);
+    double *ref = malloc(ny * sizeof *ref), *mag = malloc(ny * sizeof *mag);
+    int rc = 0;
+    if (!x || !w || !b || !y || !ref || !mag) {
+        cph_err("verify: %s: cannot allocate the tensors", L->name);
+        rc = -1;
+        goto out;
+    }
+    for (int mi = 0; mi < sel->nflips; mi++) {
+        const cp_flip flip = sel->flips[mi];
+        int any = 0;
+        for (size_t ai = 0; ai < sel->nalgos; ai++)
+            any |= sel->algos[ai]->supports(&L->shape, flip, NULL, 0);
+        cph_fill_uniform(x, nx, tensor_seed(sel->seed, li, (int)flip, 0));
+        cph_fill_uniform(w, nw, tensor_seed(sel->seed, li, (int)flip, 1));
+        cph_fill_uniform(b, nb, tensor_seed(sel->seed, li, (int)flip, 2));
+        /* No algorithm applies: skip the (slow) oracle. */
+        if (any) cp_oracle_run(&L->shape, flip, x, w, b, ref, mag);
+        for (size_t ai = 0; ai < sel->nalgos; ai++)
+            check_algo(t, L, flip, sel->algos[ai], x, w, b, ref, mag, y);
+    }
+out:
+    free(x);
+    free(w);
+    free(b);
+    free(y);
+    free(ref);
+    free(mag);
+    return rc;
+}
+
+int cph_cmd_verify(int argc, char **argv) {
+    static const struct option longopts[] = {
+        CPH_SELECTION_LONGOPTS,
+        CPH_MEMBUDGET_LONGOPT,
+        {"help", no_argument, NULL, 'h'},
+        {NULL, 0, NULL, 0},
+    };
+    cph_selection sel;
+    cph_selection_init(&sel);
+    char msg[512];
+    int rc = CPH_EXIT_OK;
+    uint64_t budget = 0; /* 0: the default, found only when needed */
+    int opt;
+    opterr = 0; /* one error line, ours */
+    while ((opt = getopt_long(argc, argv, "h", longopts, NULL)) != -1) {
+        if (opt == 'h') {
+            usage(stdout);
+            cph_selection_free(&sel);
+            return CPH_EXIT_OK;
+        }
+        if (opt < CPH_OPT_SHAPE) {
+            cph_selection_free(&sel);
+            return cph_usage_error("verify");
+        }
+        if (opt == CPH_OPT_MAX_MEMORY) {
+            if (cph_mem_parse(optarg, strchr(optarg, '%') ? cph_mem_machine_bytes() : 0, &budget,
+                              msg, sizeof msg) != CP_OK) {
+                cph_err("verify: %s", msg);
+                cph_selection_free(&sel);
+                return CPH_EXIT_USAGE;
+            }
+            continue;
+        }
+        if (cph_selection_option(&sel, opt, optarg, msg, sizeof msg) != CP_OK) {
+            cph_err("%s", msg);
+            cph_selection_free(&sel);
+            return CPH_EXIT_USAGE;
+        }
+    }
+    if (optind < argc) {
+        cph_err("verify: unexpected argument '%s' (see convpick verify --help)", argv[optind]);
+        cph_selection_free(&sel);
+        return CPH_EXIT_USAGE;
+    }
+    static const cp_flip both[] = {CP_XCORR, CP_CONV};
+    if (cph_selection_finish(&sel, both, 2, msg, sizeof msg) != CP_OK) {
+        cph_err("verify: %s", msg);
+        cph_selection_free(&sel);
+        return CPH_EXIT_USAGE;
+    }
+
+    if (cph_mem_check_selection("verify", &sel, 1, 1, budget ? budget : cph_mem_default()) != 0) {
+        cph_selection_free(&sel);
+        return CPH_EXIT_USAGE;
+    }
+
+    tally t = {0, 0, 0, 5, 4};
+    for (size_t i = 0; i < sel.layers.n; i++) {
+        int len = (int)strlen(sel.layers.v[i].name);
+        if (len > t.name_w) t.name_w = len;
+    }
+    for (size_t i = 0; i < sel.nalgos; i++) {
+        int len = (int)strlen(sel.algos[i]->name);
+        if (len > t.algo_w) t.algo_w = len;
+    }
+    printf("verify: %zu layer(s), %zu algorithm(s), seed %llu\n", sel.layers.n, sel.nalgos,
+           (unsigned long long)sel.seed);
+    for (size_t i = 0; i < sel.layers.n; i++) {
+        char spec[320];
+        cph_shape_format_short(&sel.layers.v[i].shape, spec, sizeof spec);
+        printf("  %-*s  x%-3d %s\n", t.name_w, sel.layers.v[i].name, sel.layers.v[i].count, spec);
+    }
+    printf("\n%-*s  %-5s  %-*s  %-10s %-10s %-9s %s\n", t.name_w, "layer", "mode", t.algo_w,
+           "algo", "max_abs", "max_rel", "tolerance", "result");
+    for (size_t i = 0; i < sel.layers.n && rc == CPH_EXIT_OK; i++) {
+        if (verify_layer(&t, &sel, i) != 0) rc = CPH_EXIT_FAIL;
+        fflush(stdout);
+    }
+    printf("\nverify: %d passed, %d failed, %d not applicable\n", t.passed, t.failed, t.na);
+    if (t.failed) rc = CPH_EXIT_FAIL;
+    cph_selection_free(&sel);
+    return rc;
+}

@@ -1,0 +1,169 @@
+/* Pairing the items of two results files and comparing each pair
+ * (diff_report.h). */
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "harness/diff/diff_report.h"
+
+/* occ[i] = how many earlier items of r are the same point as item i. */
+static size_t *occurrences(const cph_results *r) {
+    size_t *occ = calloc(r->nitems ? r->nitems : 1, sizeof *occ);
+    if (!occ) return NULL;
+    for (size_t i = 0; i < r->nitems; i++)
+        for (size_t j = 0; j < i; j++)
+            if (cph_result_same_point(&r->items[i], &r->items[j])) occ[i]++;
+    return occ;
+}
+
+static double sort_ratio(const cph_diff_pair *p) {
+    if (p->compared) return p->cmp.ratio;
+    return isfinite(p->cmp.median_ratio) ? p->cmp.median_ratio : 0.0;
+}
+
+static int cmp_pairs(const void *a, const void *b) {
+    const cph_diff_pair *x = a, *y = b;
+    if (x->verdict != y->verdict) return (int)x->verdict - (int)y->verdict;
+    const double rx = sort_ratio(x), ry = sort_ratio(y);
+    if (rx != ry) return rx < ry ? 1 : -1;
+    return strcmp(x->base->layer, y->base->layer);
+}
+
+static void compare_pair(const cph_diff *d, cph_diff_pair *p) {
+    const cph_result_item *b = p->base, *n = p->next;
+    p->cmp.base_median = b->median;
+    p->cmp.new_median = n->median;
+    p->cmp.median_ratio = b->median > 0 ? n->median / b->median : NAN;
+    p->cmp.m = b->nsamples;
+    p->cmp.n = n->nsamples;
+    p->verdict = CPH_VERDICT_INCONCLUSIVE;
+    if (!b->nsamples || !n->nsamples) {
+        snprintf(p->note, sizeof p->note, "no samples recorded in %s",
+                 !b->nsamples && !n->nsamples ? "BASE and NEW" : !b->nsamples ? "BASE" : "NEW");
+        return;
+    }
+    cph_shift_cmp c;
+    if (cph_compare_samples(b->samples, b->nsamples, n->samples, n->nsamples, d->alpha, &c)) {
+        snprintf(p->note, sizeof p->note, "not compared: a sample of 0 s (or out of memory)");
+        return;
+    }
+    p->cmp = c;
+    p->compared = 1;
+    p->verdict = cph_verdict_of(&c, d->alpha, d->tol);
+    if (!c.bounded)
+        snprintf(p->note, sizeof p->note, "too few samples for a %.0f %% interval",
+                 100.0 * (1.0 - d->alpha));
+}
+
+static void choice_changes(cph_diff *d) {
+    const cph_results *b = d->base, *n = d->next;
+    for (size_t i = 0; i < b->nchoices; i++) {
+        const cph_result_choice *cb = &b->choices[i];
+        for (size_t j = 0; j < n->nchoices; j++) {
+            const cph_result_choice *cn = &n->choices[j];
+            if (cb->flip != cn->flip || cb->threads != cn->threads ||
+                !cp_shape_equal(&cb->shape, &cn->shape))
+                continue;
+            if (strcmp(cb->algo, cn->algo) || strcmp(cb->params, cn->params)) {
+                cph_choice_change *ch = &d->changes[d->nchanges++];
+                ch->base = cb;
+                ch->next = cn;
+                ch->old_in_new = NULL;
+                for (size_t k = 0; k < n->nitems; k++) {
+                    const cph_result_item *it = &n->items[k];
+                    if (it->entry == j && strcmp(it->algo, cb->algo) == 0 &&
+                        strcmp(it->params, cb->params) == 0) {
+                        ch->old_in_new = it;
+                        break;
+                    }
+                }
+            }
+            break;
+        }
+    }
+}
+
+int cph_diff_build(const cph_results *base, const cph_results *next, double alpha, double tol,
+                   cph_diff *out) {
+    memset(out, 0, sizeof *out);
+    out->base = base;
+    out->next = next;
+    out->alpha = alpha;
+    out->tol = tol;
+    out->other_device = strcmp(base->fingerprint, next->fingerprint) != 0;
+    size_t *ob = occurrences(base), *on = occurrences(next);
+    char *used = calloc(next->nitems ? next->nitems : 1, 1);
+    const size_t nb = base->nitems ? base->nitems : 1, nn = next->nitems ? next->nitems : 1;
+    out->pairs = calloc(nb, sizeof *out->pairs);
+    out->only_base = calloc(nb, sizeof *out->only_base);
+    out->only_next = calloc(nn, sizeof *out->only_next);
+    out->changes = calloc(base->nchoices ? base->nchoices : 1, sizeof *out->changes);
+    if (!ob || !on || !used || !out->pairs || !out->only_base || !out->only_next ||
+        !out->changes) {
+        free(ob);
+        free(on);
+        free(used);
+        cph_diff_free(out);
+        return -1;
+    }
+    for (size_t i = 0; i < base->nitems; i++) {
+        size_t match = next->nitems;
+        for (size_t j = 0; j < next->nitems && match == next->nitems; j++)
+            if (!used[j] && on[j] == ob[i] && cph_result_same_point(&base->items[i], &next->items[j]))
+                match = j;
+        if (match == next->nitems) {
+            out->only_base[out->nonly_base++] = &base->items[i];
+            continue;
+        }
+        used[match] = 1;
+        cph_diff_pair *p = &out->pairs[out->npairs++];
+        p->base = &base->items[i];
+        p->next = &next->items[match];
+        compare_pair(out, p);
+        out->counts[p->verdict]++;
+    }
+    for (size_t j = 0; j < next->nitems; j++)
+        if (!used[j]) out->only_next[out->nonly_next++] = &next->items[j];
+    free(ob);
+    free(on);
+    free(used);
+    choice_changes(out);
+    qsort(out->pairs, out->npairs, sizeof *out->pairs, cmp_pairs);
+    return 0;
+}
+
+void cph_diff_free(cph_diff *d) {
+    free(d->pairs);
+    free(d->only_base);
+    free(d->only_next);
+    free(d->changes);
+    memset(d, 0, sizeof *d);
+}
+
+void cph_diff_item_label(const cph_result_item *it, char *buf, size_t cap) {
+    snprintf(buf, cap, "%s %s t=%d %s%s%s%s", it->layer, it->flip == CP_CONV ? "conv" : "xcorr",
+             it->threads, it->algo, it->params[0] ? " [" : "", it->params,
+             it->params[0] ? "]" : "");
+}
+
+void cph_diff_pair_figures(const cph_diff *d, const cph_diff_pair *p, char *buf, size_t cap) {
+    const cph_shift_cmp *c = &p->cmp;
+    if (!p->compared) {
+        snprintf(buf, cap, "ratio of medians %.4f, base %.6g ms, new %.6g ms: %s",
+                 c->median_ratio, 1e3 * c->base_median, 1e3 * c->new_median, p->note);
+        return;
+    }
+    char ci[96];
+    if (c->bounded)
+        snprintf(ci, sizeof ci, "%.1f %% CI %.4f..%.4f", 100.0 * c->coverage, c->ratio_lo,
+                 c->ratio_hi);
+    else
+        snprintf(ci, sizeof ci, "no %.0f %% CI: too few samples", 100.0 * (1.0 - d->alpha));
+    snprintf(buf, cap,
+             "ratio %.4f (Hodges-Lehmann %.4f, %s), Mann-Whitney p = %.3g (U = %.1f, %s), "
+             "base %.6g ms (n=%zu), new %.6g ms (n=%zu), tolerance %.3g %%, alpha %.3g",
+             c->median_ratio, c->ratio, ci, c->mwu.p, c->mwu.u1,
+             c->mwu.exact ? "exact" : "normal approx.", 1e3 * c->base_median, c->m,
+             1e3 * c->new_median, c->n, 100.0 * d->tol, d->alpha);
+}

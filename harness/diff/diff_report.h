@@ -1,0 +1,64 @@
+/* The outcome of comparing two results files, and its reports for CI: a
+ * JUnit XML file (one testcase per compared pair, regressions as <failure>)
+ * and a Markdown summary.  Both are written atomically (rawfile.h). */
+#ifndef CONVPICK_DIFF_REPORT_H
+#define CONVPICK_DIFF_REPORT_H
+
+#include <stddef.h>
+#include <stdio.h>
+
+#include "harness/diff/diff_stats.h"
+#include "harness/io/results_read.h"
+
+/* One item measured on both sides. */
+typedef struct cph_diff_pair {
+    const cph_result_item *base, *next; /* BASE's and NEW's measurement */
+    int compared;          /* 0: a side has no samples (then verdict is inconclusive) */
+    cph_shift_cmp cmp;
+    cph_verdict verdict;
+    char note[96];         /* why not compared, or "" */
+} cph_diff_pair;
+
+/* Tables on both sides: an entry whose choice changed. */
+typedef struct cph_choice_change {
+    const cph_result_choice *base, *next;
+    const cph_result_item *old_in_new; /* BASE's choice as a candidate in NEW, or NULL */
+} cph_choice_change;
+
+typedef struct cph_diff {
+    const cph_results *base, *next;
+    double alpha, tol;     /* tol a fraction */
+    int other_device;      /* fingerprints differ (and --allow-other-device was given) */
+    cph_diff_pair *pairs;  /* worst first (cph_diff_sort) */
+    size_t npairs;
+    const cph_result_item **only_base, **only_next;
+    size_t nonly_base, nonly_next;
+    cph_choice_change *changes;
+    size_t nchanges;
+    size_t counts[4];      /* pairs per cph_verdict */
+} cph_diff;
+
+/* Matches the items of base and next (same shape, mode, threads, algorithm
+ * and parameters; the k-th occurrence of a point in one file with its k-th
+ * in the other), compares every pair, lists the unmatched, the changed
+ * choices, and sorts.  Returns 0, or -1 when out of memory. */
+int cph_diff_build(const cph_results *base, const cph_results *next, double alpha, double tol,
+                   cph_diff *out);
+void cph_diff_free(cph_diff *d);
+
+/* "conv1 xcorr t=1 direct [kb=64]" */
+void cph_diff_item_label(const cph_result_item *it, char *buf, size_t cap);
+
+/* One line of figures for a pair: "ratio 1.104 (HL 1.102, 99.0 % CI 1.09..1.11),
+ * p = 3.2e-12 (U = 12, exact), base 1.234 ms (n=40), new 1.362 ms (n=40)". */
+void cph_diff_pair_figures(const cph_diff *d, const cph_diff_pair *p, char *buf, size_t cap);
+
+/* Text with &, <, >, " and ' escaped and characters XML 1.0 forbids
+ * (control characters other than tab, newline, return) replaced by '?'. */
+void cph_xml_escape(FILE *f, const char *s);
+
+/* Reports; CP_EIO with a message naming the file on failure. */
+cp_status cph_diff_write_junit(const cph_diff *d, const char *path, char *msg, size_t cap);
+cp_status cph_diff_write_markdown(const cph_diff *d, const char *path, char *msg, size_t cap);
+
+#endif

@@ -1,0 +1,148 @@
+/* The shape-file reader: one layer a line, optional "name:" first, '#'
+ * comments, blank lines ignored (syntax in select.h).
+ *
+ * Lines are read into a fixed buffer; a line that does not fit is reported as
+ * an error rather than split, so a corrupt or binary file cannot turn into a
+ * stream of bogus layers. */
+#define _POSIX_C_SOURCE 200809L /* fmemopen */
+#include <ctype.h>
+#include <errno.h>
+#include <fcntl.h>
+#include <stdarg.h>
+#include <stdio.h>
+#include <stdint.h>
+#include <string.h>
+#include <sys/stat.h>
+#include <unistd.h>
+
+#include "harness/select/select.h"
+#include "algos/core/cpa.h"
+
+#define CPH_SHAPE_LINE_MAX 1024 /* characters per line, without the newline */
+/* Layers per file: far above any network, low enough that a stream of
+ * generated lines (a pipe, /dev/urandom) ends in an error, not in minutes of
+ * de-duplication (cph_layers_add is linear in the list). */
+#define CPH_SHAPE_FILE_MAX_LAYERS 10000
+
+static char *trim(char *t) {
+    while (*t && isspace((unsigned char)*t)) t++;
+    size_t len = strlen(t);
+    while (len && isspace((unsigned char)t[len - 1])) t[--len] = '\0';
+    return t;
+}
+
+/* Splits "name: spec" off; a name is [A-Za-z0-9_.-], 1..63 characters. */
+static cp_status split_name(char *line, const char *ctx, char **name, char **spec, char *msg,
+                            size_t cap) {
+    char *colon = strchr(line, ':');
+    *name = NULL;
+    *spec = line;
+    if (!colon) return CP_OK;
+    *colon = '\0';
+    char *nm = trim(line);
+    if (!*nm) return cpa_fail(CP_EFORMAT, msg, cap, "%s: empty layer name before ':'", ctx);
+    if (strlen(nm) >= sizeof(((cph_layer *)0)->name))
+        return cpa_fail(CP_EFORMAT, msg, cap, "%s: layer name '%.20s...' is longer than %zu characters",
+                    ctx, nm, sizeof(((cph_layer *)0)->name) - 1);
+    for (const char *c = nm; *c; c++)
+        if (!isalnum((unsigned char)*c) && *c != '_' && *c != '.' && *c != '-')
+            return cpa_fail(CP_EFORMAT, msg, cap,
+                        "%s: layer name '%s' may hold only letters, digits, '_', '.' and '-'",
+                        ctx, nm);
+    *name = nm;
+    *spec = colon + 1;
+    return CP_OK;
+}
+
+/* Reads the lines of f (a file, a pipe or a memory stream); path names it in
+ * messages.  Does not close f. */
+static cp_status load_stream(FILE *f, const char *path, cph_layer_list *out, char *msg,
+                             size_t cap) {
+    char line[CPH_SHAPE_LINE_MAX + 2];
+    long lineno = 0;
+    size_t added = 0;
+    cp_status st = CP_OK;
+    while (fgets(line, sizeof line, f)) {
+        lineno++;
+        size_t len = strlen(line);
+        if (len && line[len - 1] == '\n')
+            line[--len] = '\0';
+        else if (!feof(f)) {
+            st = cpa_fail(CP_EFORMAT, msg, cap, "%s:%ld: line longer than %d characters", path, lineno,
+                      CPH_SHAPE_LINE_MAX);
+            break;
+        }
+        if (len > CPH_SHAPE_LINE_MAX) {
+            st = cpa_fail(CP_EFORMAT, msg, cap, "%s:%ld: line longer than %d characters", path, lineno,
+                      CPH_SHAPE_LINE_MAX);
+            break;
+        }
+        char *hash = strchr(line, '#');
+        if (hash) *hash = '\0';
+        char *text = trim(line);
+        if (!*text) continue;
+        char ctx[CPH_SHAPE_LINE_MAX / 2];
+        snprintf(ctx, sizeof ctx, "%.400s:%ld", path, lineno);
+        char *name = NULL, *spec = NULL;
+        st = split_name(text, ctx, &name, &spec, msg, cap);
+        if (st != CP_OK) break;
+        cp_shape s;
+        st = cph_parse_shape(spec, ctx, &s, msg, cap);
+        if (st != CP_OK) {
+            st = CP_EFORMAT;
+            break;
+        }
+        char autoname[32];
+        if (!name) {
+            snprintf(autoname, sizeof autoname, "layer%zu", added + 1);
+            name = autoname;
+        }
+        if (added >= CPH_SHAPE_FILE_MAX_LAYERS) {
+            st = cpa_fail(CP_EFORMAT, msg, cap, "%s:%ld: more than %d layers in one file", path,
+                      lineno, CPH_SHAPE_FILE_MAX_LAYERS);
+            break;
+        }
+        if (cph_layers_add(out, name, &s, 1) != CP_OK) {
+            st = cpa_fail(CP_ENOMEM, msg, cap, "%s:%ld: out of memory", path, lineno);
+            break;
+        }
+        added++;
+    }
+    if (st == CP_OK && ferror(f))
+        st = cpa_fail(CP_EIO, msg, cap, "%s: read error: %s", path, strerror(errno));
+    if (st == CP_OK && added == 0)
+        st = cpa_fail(CP_EFORMAT, msg, cap, "%s: no layers in the file", path);
+    return st;
+}
+
+cp_status cph_load_shape_file(const char *path, cph_layer_list *out, char *msg, size_t cap) {
+    struct stat sb;
+    if (stat(path, &sb) == 0 && S_ISDIR(sb.st_mode))
+        return cpa_fail(CP_EIO, msg, cap, "%s: cannot read: is a directory", path);
+    /* Opened without blocking, then switched back: a FIFO that no program
+     * writes reads as empty instead of hanging in open(). */
+    int fd = open(path, O_RDONLY | O_NONBLOCK | O_CLOEXEC);
+    if (fd < 0) return cpa_fail(CP_EIO, msg, cap, "%s: cannot open: %s", path, strerror(errno));
+    int fl = fcntl(fd, F_GETFL);
+    if (fl != -1) (void)fcntl(fd, F_SETFL, fl & ~O_NONBLOCK);
+    FILE *f = fdopen(fd, "r");
+    if (!f) {
+        int e = errno;
+        close(fd);
+        return cpa_fail(CP_EIO, msg, cap, "%s: cannot open: %s", path, strerror(e));
+    }
+    cp_status st = load_stream(f, path, out, msg, cap);
+    fclose(f);
+    return st;
+}
+
+cp_status cph_load_shape_text(const char *text, size_t len, const char *name,
+                              cph_layer_list *out, char *msg, size_t cap) {
+    if (!name) name = "(text)";
+    if (len == 0) return cpa_fail(CP_EFORMAT, msg, cap, "%s: no layers in the file", name);
+    FILE *f = fmemopen((void *)(uintptr_t)text, len, "r");
+    if (!f) return cpa_fail(CP_ENOMEM, msg, cap, "%s: cannot open the text: %s", name, strerror(errno));
+    cp_status st = load_stream(f, name, out, msg, cap);
+    fclose(f);
+    return st;
+}

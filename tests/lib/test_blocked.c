@@ -1,0 +1,358 @@
+/* Tests of the blocked direct convolution (blocked, blocked_flipidx): both
+ * tile kernels (best available and forced portable) in both modes against the
+ * fp64 oracle over a grid of awkward shapes, every tuner candidate, flipped
+ * indexing against flipped packing, a multi-threaded run against the serial
+ * one, and a worked example whose values come from SciPy. */
+#include <math.h>
+#include <pthread.h>
+#include <setjmp.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <stdint.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <cmocka.h>
+
+#include "algos/kernels/blocked_tile.h"
+#include "convpick/algo.h"
+#include "convpick/oracle.h"
+
+typedef struct {
+    int64_t n, c, h, w, k, r, s, sh, sw, pt, pl, pb, pr, dh, dw, groups;
+} geo;
+
+static cp_shape mk(geo g) {
+    cp_shape s = cp_shape_init();
+    s.n = g.n; s.c = g.c; s.h = g.h; s.w = g.w; s.k = g.k; s.r = g.r; s.s = g.s;
+    s.stride_h = g.sh; s.stride_w = g.sw;
+    s.pad_top = g.pt; s.pad_left = g.pl; s.pad_bottom = g.pb; s.pad_right = g.pr;
+    s.dil_h = g.dh; s.dil_w = g.dw; s.groups = g.groups;
+    return s;
+}
+
+/* The grid: n c h w k r s sh sw pt pl pb pr dh dw groups. */
+static const geo grid[] = {
+    {1, 3, 1, 1, 5, 1, 1, 1, 1, 0, 0, 0, 0, 1, 1, 1},      /* 1x1 image, 1x1 kernel */
+    {1, 4, 1, 1, 7, 3, 3, 1, 1, 1, 1, 1, 1, 1, 1, 1},      /* 1x1 image, 3x3 pad 1 */
+    {1, 2, 2, 3, 5, 5, 5, 1, 1, 2, 2, 2, 2, 1, 1, 1},      /* image smaller than kernel */
+    {1, 5, 7, 7, 13, 3, 3, 1, 1, 1, 1, 1, 1, 1, 1, 1},     /* odd 7, K=13 */
+    {1, 3, 13, 13, 8, 3, 3, 1, 1, 1, 1, 1, 1, 1, 1, 1},    /* odd 13 */
+    {1, 6, 17, 17, 6, 5, 5, 1, 1, 2, 2, 2, 2, 1, 1, 1},    /* odd 17, 5x5 */
+    {1, 1, 9, 11, 4, 3, 3, 1, 1, 0, 0, 0, 0, 1, 1, 1},     /* C=1 */
+    {1, 7, 10, 9, 1, 3, 3, 1, 1, 1, 1, 1, 1, 1, 1, 1},     /* K=1 */
+    {1, 8, 12, 12, 8, 3, 3, 1, 1, 1, 1, 1, 1, 1, 1, 8},    /* depthwise */
+    {1, 8, 13, 12, 16, 3, 3, 2, 2, 1, 1, 1, 1, 1, 1, 8},   /* depthwise x2, stride 2 */
+    {1, 6, 9, 9, 10, 3, 3, 1, 1, 1, 1, 1, 1, 1, 1, 2},     /* groups=2, K/g=5 */
+    {1, 4, 15, 13, 6, 3, 3, 1, 1, 2, 2, 2, 2, 2, 2, 1},    /* dilation 2 */
+    {1, 5, 14, 15, 7, 3, 3, 2, 2, 1, 1, 1, 1, 1, 1, 1},    /* stride 2 */
+    {1, 3, 16, 17, 9, 3, 3, 3, 3, 1, 1, 1, 1, 1, 1, 1},    /* stride 3 */
+    {1, 4, 10, 11, 5, 3, 3, 2, 1, 0, 2, 1, 0, 1, 1, 1},    /* asymmetric pads, strides */
+    {3, 6, 9, 10, 11, 3, 3, 1, 1, 1, 1, 1, 1, 1, 1, 1},    /* batch 3 */
+    {1, 16, 14, 14, 13, 1, 1, 2, 2, 0, 0, 0, 0, 1, 1, 1},  /* 1x1 stride 2 */
+    {1, 8, 15, 15, 12, 3, 3, 2, 2, 1, 1, 1, 1, 1, 1, 1},   /* 3x3 stride 2 */
+    {1, 4, 19, 19, 7, 5, 5, 2, 2, 2, 2, 2, 2, 1, 1, 1},    /* 5x5 stride 2 */
+    {1, 3, 23, 23, 8, 7, 7, 2, 2, 3, 3, 3, 3, 1, 1, 1},    /* 7x7 stride 2 */
+    {2, 9, 7, 13, 14, 1, 1, 1, 1, 0, 0, 0, 0, 1, 1, 1},    /* x read in place, tail reads */
+    {1, 12, 14, 14, 10, 1, 1, 1, 1, 0, 0, 0, 0, 1, 1, 1},  /* 1x1 flat runs across rows */
+    {1, 3, 8, 9, 5, 3, 2, 1, 1, 0, 0, 0, 0, 1, 2, 1},      /* R != S, no pad, dilation w */
+    {1, 160, 9, 9, 20, 3, 3, 1, 1, 1, 1, 1, 1, 1, 1, 1},   /* several input-channel blocks */
+};
+#define NGRID (sizeof grid / sizeof grid[0])
+
+static uint32_t rng_state = 12345u;
+static float frand(void) { /* xorshift32, uniform in [-1, 1) */
+    rng_state ^= rng_state << 13;
+    rng_state ^= rng_state >> 17;
+    rng_state ^= rng_state << 5;
+    return (float)(rng_state >> 8) / 8388608.0f - 1.0f;
+}
+
+typedef struct {
+    cp_shape s;
+    float *x, *w, *b;
+    double *ref, *mag;
+    size_t ny;
+} layer;
+
+static void layer_make(layer *L, const cp_shape *s, cp_flip flip, int with_bias) {
+    char msg[256];
+    assert_int_equal(cp_shape_validate(s, msg, sizeof msg), CP_SHAPE_OK);
+    L->s = *s;
+    size_t nx = cp_shape_input_elems(s), nw = cp_shape_weight_elems(s);
+    L->ny = cp_shape_output_elems(s);
+    L->x = malloc(nx * sizeof(float));
+    L->w = malloc(nw * sizeof(float));
+    L->b = with_bias ? malloc((size_t)s->k * sizeof(float)) : NULL;
+    L->ref = malloc(L->ny * sizeof(double));
+    L->mag = malloc(L->ny * sizeof(double));
+    assert_non_null(L->x); assert_non_null(L->w); assert_non_null(L->ref); assert_non_null(L->mag);
+    for (size_t i = 0; i < nx; i++) L->x[i] = frand();
+    for (size_t i = 0; i < nw; i++) L->w[i] = frand();
+    if (L->b)
+        for (int64_t i = 0; i < s->k; i++) L->b[i] = frand();
+    cp_oracle_run(s, flip, L->x, L->w, L->b, L->ref, L->mag);
+}
+
+static void layer_free(layer *L) {
+    free(L->x); free(L->w); free(L->b); free(L->ref); free(L->mag);
+}
+
+/* Runs algo on L with params p (NULL: defaults) on exec with nthreads; y is
+ * pre-filled with NaN so that an output never written shows up. */
+static float *run_algo(const cp_algo *a, layer *L, cp_flip flip, const cp_params *p,
+                       const cp_exec *exec, int nthreads) {
+    char msg[256] = "";
+    cp_plan *plan = NULL;
+    cp_status st = cp_plan_create(a, &L->s, flip, p, NULL, nthreads, L->w, &plan, msg, sizeof msg);
+    if (st != CP_OK) fail_msg("plan_create: %s", msg);
+    float *y = malloc(L->ny * sizeof(float));
+    assert_non_null(y);
+    for (size_t i = 0; i < L->ny; i++) y[i] = NAN;
+    assert_int_equal(cp_plan_run(plan, L->x, L->b, y, exec), CP_OK);
+    cp_plan_destroy(plan);
+    return y;
+}
+
+static void expect_accurate(const cp_algo *a, const layer *L, const float *y, const char *what) {
+    cp_error e = cp_error_measure(y, L->ref, L->mag, L->ny);
+    if (e.nonfinite != 0 || !(e.rel_err <= a->tolerance)) {
+        char sh[256];
+        cp_shape_format(&L->s, sh, sizeof sh);
+        fail_msg("%s %s [%s]: rel_err %.3g (tolerance %.3g), %zu non-finite", a->name, what, sh,
+                 e.rel_err, a->tolerance, e.nonfinite);
+    }
+}
+
+static cp_params defaults_with_tile_isa(const cp_algo *a, const cp_shape *s, int64_t uk) {
+    cp_params p;
+    cp_algo_defaults(a, s, NULL, &p);
+    p.v[cp_algo_param_index(a, "tile_isa")] = uk;
+    return p;
+}
+
+/* Every grid shape x {best, portable} kernel x {xcorr, conv} (blocked) and
+ * conv (blocked_flipidx), bias on every other shape. */
+static void test_grid_vs_oracle(void **state) {
+    (void)state;
+    const cp_algo *blk = cp_algo_find("blocked"), *flp = cp_algo_find("blocked_flipidx");
+    assert_non_null(blk); assert_non_null(flp);
+    for (size_t i = 0; i < NGRID; i++) {
+        const cp_shape s = mk(grid[i]);
+        for (int m = 0; m < 2; m++) {
+            const cp_flip flip = m ? CP_CONV : CP_XCORR;
+            layer L;
+            layer_make(&L, &s, flip, (int)(i % 2));
+            for (int64_t e = 0; e <= 3; e++) { /* bit 0: portable kernel; bit 1: other order */
+                const int64_t uk = e & 1;
+                cp_params p = defaults_with_tile_isa(blk, &s, uk);
+                const int oi = cp_algo_param_index(blk, "order");
+                if (e & 2) p.v[oi] = !p.v[oi];
+                float *y = run_algo(blk, &L, flip, &p, NULL, 1);
+                expect_accurate(blk, &L, y, uk ? "portable" : "best");
+                free(y);
+                if (flip == CP_CONV) {
+                    y = run_algo(flp, &L, flip, &p, NULL, 1);
+                    expect_accurate(flp, &L, y, uk ? "portable" : "best");
+                    free(y);
+                }
+            }
+            layer_free(&L);
+        }
+    }
+}
+
+/* The tuner's whole search space must compute the same layer correctly. */
+static void test_candidates_all_correct(void **state) {
+    (void)state;
+    const cp_algo *blk = cp_algo_find("blocked");
+    const size_t picks[] = {NGRID - 1, 15, 12, 9, 20, 21};
+    for (size_t pi = 0; pi < sizeof picks / sizeof picks[0]; pi++) {
+        const cp_shape s = mk(grid[picks[pi]]);
+        cp_cache_sizes cs = cp_cache_sizes_fallback();
+        cp_params cand[16];
+        int nc = blk->candidates(&s, &cs, cand, 16);
+        assert_true(nc >= 1);
+        if (pi == 0) assert_true(nc >= 4); /* 160 channels: several distinct cb, kb, pb */
+        for (int m = 0; m < 2; m++) {
+            const cp_flip flip = m ? CP_CONV : CP_XCORR;
+            layer L;
+            layer_make(&L, &s, flip, 1);
+            for (int i = 0; i < nc; i++) {
+                char msg[128];
+                assert_int_equal(cp_params_check(blk, &cand[i], msg, sizeof msg), CP_OK);
+                for (int64_t uk = 0; uk <= 1; uk++) {
+                    cp_params p = cand[i];
+                    p.v[cp_algo_param_index(blk, "tile_isa")] = uk;
+                    float *y = run_algo(blk, &L, flip, &p, NULL, 1);
+                    expect_accurate(blk, &L, y, "candidate");
+                    free(y);
+                }
+            }
+            layer_free(&L);
+        }
+    }
+}
+
+/* Explicit small blocks: one input channel, one channel tile, one row per block. */
+static void test_smallest_blocks(void **state) {
+    (void)state;
+    const cp_algo *blk = cp_algo_find("blocked");
+    const cp_shape s = mk(grid[NGRID - 1]);
+    layer L;
+    layer_make(&L, &s, CP_XCORR, 1);
+    for (int64_t uk = 0; uk <= 1; uk++) {
+        cp_params p = {{1, 1, 1, uk, 0, 0}};
+        float *y = run_algo(blk, &L, CP_XCORR, &p, NULL, 1);
+        expect_accurate(blk, &L, y, "kb=cb=pb=1");
+        free(y);
+    }
+    layer_free(&L);
+}
+
+/* Flipped indexing (unflipped packing) equals flipped packing up to tolerance. */
+static void test_flipidx_equals_blocked_conv(void **state) {
+    (void)state;
+    const cp_algo *blk = cp_algo_find("blocked"), *flp = cp_algo_find("blocked_flipidx");
+    for (size_t i = 0; i < NGRID; i++) {
+        const cp_shape s = mk(grid[i]);
+        layer L;
+        layer_make(&L, &s, CP_CONV, 1);
+        float *y1 = run_algo(blk, &L, CP_CONV, NULL, NULL, 1);
+        float *y2 = run_algo(flp, &L, CP_CONV, NULL, NULL, 1);
+        for (size_t e = 0; e < L.ny; e++) {
+            const double d = fabs((double)y1[e] - (double)y2[e]);
+            if (!(d <= 2.0 * blk->tolerance * L.mag[e]))
+                fail_msg("shape %zu element %zu: blocked %g, blocked_flipidx %g", i, e,
+                         (double)y1[e], (double)y2[e]);
+        }
+        free(y1); free(y2);
+        layer_free(&L);
+    }
+}
+
+static void test_flipidx_refuses_xcorr(void **state) {
+    (void)state;
+    const cp_algo *flp = cp_algo_find("blocked_flipidx"), *blk = cp_algo_find("blocked");
+    const cp_shape s = mk(grid[3]);
+    char why[256] = "";
+    assert_int_equal(flp->supports(&s, CP_XCORR, why, sizeof why), 0);
+    assert_true(strlen(why) > 0);
+    assert_int_equal(flp->supports(&s, CP_CONV, why, sizeof why), 1);
+    assert_int_equal(blk->supports(&s, CP_XCORR, why, sizeof why), 1);
+    assert_int_equal(blk->supports(&s, CP_CONV, why, sizeof why), 1);
+}
+
+/* tile_isa=1 must give the portable kernel whatever the CPU. */
+static void test_select_portable(void **state) {
+    (void)state;
+    int full = -1;
+    assert_ptr_equal(cpa_blocked_tile_select(1, &full), cpa_blocked_tile_ref_6x16);
+    assert_int_equal(full, 0);
+    cpa_blocked_tile_fn best = cpa_blocked_tile_select(0, &full);
+    assert_true(best == cpa_blocked_tile_ref_6x16 ? full == 0 : full == 1);
+}
+
+/* --- a tiny pthread executor: [0, count) in nthreads contiguous ranges ---- */
+
+typedef struct {
+    cp_task_fn fn;
+    void *arg;
+    int64_t b, e;
+    int worker;
+} slice;
+
+static void *slice_main(void *p) {
+    slice *s = p;
+    s->fn(s->arg, s->b, s->e, s->worker);
+    return NULL;
+}
+
+static void pthread_for(void *pool, int64_t count, cp_task_fn fn, void *arg) {
+    const int nt = *(const int *)pool;
+    pthread_t th[8];
+    slice sl[8];
+    int used = 0;
+    for (int t = 0; t < nt; t++) {
+        const int64_t b = count * t / nt, e = count * (t + 1) / nt;
+        if (b == e) continue;
+        sl[used] = (slice){fn, arg, b, e, t};
+        assert_int_equal(pthread_create(&th[used], NULL, slice_main, &sl[used]), 0);
+        used++;
+    }
+    for (int t = 0; t < used; t++) pthread_join(th[t], NULL);
+}
+
+static void test_threads_equal_serial(void **state) {
+    (void)state;
+    static int nthreads = 3;
+    const cp_exec ex = {nthreads, pthread_for, &nthreads};
+    const cp_algo *blk = cp_algo_find("blocked");
+    const size_t picks[] = {15, 9, 20, 21, NGRID - 1};
+    for (size_t pi = 0; pi < sizeof picks / sizeof picks[0]; pi++) {
+        const cp_shape s = mk(grid[picks[pi]]);
+        layer L;
+        layer_make(&L, &s, CP_XCORR, 1);
+        float *ys = run_algo(blk, &L, CP_XCORR, NULL, NULL, 1);
+        float *yp = run_algo(blk, &L, CP_XCORR, NULL, &ex, nthreads);
+        /* Same blocks, same summation order: bitwise equal. */
+        assert_memory_equal(ys, yp, L.ny * sizeof(float));
+        expect_accurate(blk, &L, yp, "threads");
+        free(ys); free(yp);
+        layer_free(&L);
+    }
+}
+
+/* Worked example from SciPy 1.x (Debian python3-scipy):
+ *   x = [[(3i+5j) % 7 - 3 for j in 0..5] for i in 0..4], w = [[1,-2,0],[3,1,-1],[0,2,1]]
+ *   scipy.signal.correlate2d(x, w, 'valid') and convolve2d(x, w, 'valid'),
+ *   correlate2d(x, w, 'same') (zero padding 1). */
+static void test_scipy_worked_example(void **state) {
+    (void)state;
+    static const float wv[9] = {1, -2, 0, 3, 1, -1, 0, 2, 1};
+    static const float xcorr_valid[12] = {-11, -7, 11, 1, 11, 1, -9, -5, -9, -5, 20, -11};
+    static const float conv_valid[12] = {5, 9, -1, -11, -1, -11, 7, 11, 7, 11, -20, 5};
+    static const float xcorr_same[30] = {-7, -8, 15, -4, -9, 4,  15, -11, -7, 11, 1,   -5,
+                                         -3, 11, 1,  -9, -5, 17, 0,  -9,  -5, 20, -11, -3,
+                                         4,  13, -12, -2, 15, -6};
+    float x[30];
+    for (int i = 0; i < 5; i++)
+        for (int j = 0; j < 6; j++) x[i * 6 + j] = (float)((3 * i + 5 * j) % 7 - 3);
+    const cp_algo *algos[2] = {cp_algo_find("blocked"), cp_algo_find("blocked_flipidx")};
+    for (int pad = 0; pad <= 1; pad++) {
+        cp_shape s = mk((geo){1, 1, 5, 6, 1, 3, 3, 1, 1, pad, pad, pad, pad, 1, 1, 1});
+        for (int ai = 0; ai < 2; ai++)
+            for (int m = 0; m < 2; m++) {
+                const cp_flip flip = m ? CP_CONV : CP_XCORR;
+                if (!algos[ai]->supports(&s, flip, NULL, 0)) continue;
+                if (pad && flip == CP_CONV) continue;
+                const float *want = pad ? xcorr_same : m ? conv_valid : xcorr_valid;
+                for (int64_t uk = 0; uk <= 1; uk++) {
+                    cp_params p = defaults_with_tile_isa(algos[ai], &s, uk);
+                    cp_plan *plan = NULL;
+                    assert_int_equal(cp_plan_create(algos[ai], &s, flip, &p, NULL, 1, wv, &plan,
+                                                    NULL, 0), CP_OK);
+                    float y[30];
+                    const size_t ny = cp_shape_output_elems(&s);
+                    for (size_t e = 0; e < ny; e++) y[e] = NAN;
+                    assert_int_equal(cp_plan_run(plan, x, NULL, y, NULL), CP_OK);
+                    cp_plan_destroy(plan);
+                    for (size_t e = 0; e < ny; e++) assert_true(y[e] == want[e]); /* small ints: exact */
+                }
+            }
+    }
+}
+
+int main(void) {
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_scipy_worked_example),
+        cmocka_unit_test(test_grid_vs_oracle),
+        cmocka_unit_test(test_candidates_all_correct),
+        cmocka_unit_test(test_smallest_blocks),
+        cmocka_unit_test(test_flipidx_equals_blocked_conv),
+        cmocka_unit_test(test_flipidx_refuses_xcorr),
+        cmocka_unit_test(test_select_portable),
+        cmocka_unit_test(test_threads_equal_serial),
+    };
+    return cmocka_run_group_tests(tests, NULL, NULL);
+}
