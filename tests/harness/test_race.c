@@ -1,0 +1,173 @@
+/* Racing on paired trials (harness/tune/race.c) on an invented machine: trial
+ * times come from a model with a known truth, a common drift and per-round
+ * neighbour noise that hits every candidate of a round alike, and a bimodal
+ * candidate.  The checks: the truly fastest candidate is chosen, the clearly
+ * slower ones are dropped, the margin's interval brackets the true ratio.
+ * The truths are ours (the model below); the statistics under the race are
+ * checked against SciPy in test_paired. */
+#include <math.h>
+#include <setjmp.h>
+#include <signal.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <stdint.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <cmocka.h>
+
+#include "harness/tune/race.h"
+
+typedef struct {
+    uint64_t s;
+    size_t round_seen;
+    double round_factor; /* drift x neighbour noise of the current round */
+    double truth[4];
+    int bimodal;         /* index of the bimodal candidate, -1 none */
+    int fail_at;         /* candidate that fails in round 2, -1 none */
+    double wall;         /* wall seconds per trial */
+} model;
+
+static double uniform(uint64_t *s) {
+    uint64_t z = (*s += 0x9e3779b97f4a7c15ull);
+    z = (z ^ (z >> 30)) * 0xbf58476d1ce4e5b9ull;
+    z = (z ^ (z >> 27)) * 0x94d049bb133111ebull;
+    z ^= z >> 31;
+    return ((double)(z >> 11) + 0.5) / 9007199254740992.0;
+}
+
+static double gauss(uint64_t *s) {
+    return sqrt(-2.0 * log(uniform(s))) * cos(6.283185307179586 * uniform(s));
+}
+
+static int trial(void *arg, size_t cand, size_t round, double *median, double *wall) {
+    model *m = arg;
+    if (round + 1 != m->round_seen) {
+        /* A new round: drift of 1 % per round and a neighbour's load that
+         * slows the whole round by a lognormal factor (sigma 10 %). */
+        m->round_seen = round + 1;
+        m->round_factor = (1.0 + 0.01 * (double)round) * exp(0.10 * gauss(&m->s));
+    }
+    *wall = m->wall;
+    if ((int)cand == m->fail_at && round == 2) return -1;
+    double t = m->truth[cand];
+    /* Bimodal: a fast placement one trial in three, a slow one otherwise, so
+     * its typical (median) trial is the slow one. */
+    if ((int)cand == m->bimodal) t = uniform(&m->s) < 1.0 / 3.0 ? 0.90 : 1.30;
+    *median = t * m->round_factor * exp(0.01 * gauss(&m->s));
+    return 0;
+}
+
+static model make_model(uint64_t seed) {
+    model m = {.s = seed * 7919u + 1u, .truth = {1.00, 1.04, 0.0, 1.5}, .bimodal = 2,
+               .fail_at = -1, .wall = 0.01};
+    return m;
+}
+
+/* Twenty seeds: A (truth 1.00) wins every race over B (1.04), the bimodal C
+ * (median 1.30) and D (1.5); D and C are dropped; the A-B margin's interval
+ * contains the true ratio 1.04 in nearly every race (95 % intervals). */
+static void test_picks_truly_fastest_under_drift(void **state) {
+    (void)state;
+    int covered = 0, confident = 0;
+    for (uint64_t seed = 1; seed <= 20; seed++) {
+        model m = make_model(seed);
+        cph_race_opts o;
+        cph_race_defaults(&o);
+        o.seed = seed;
+        o.budget_seconds = 1e9;
+        cph_race_result r;
+        assert_int_equal(cph_race_run(&o, 4, trial, &m, &r), 0);
+        if (r.chosen != 0) fail_msg("seed %lu: chose %d", (unsigned long)seed, r.chosen);
+        assert_int_equal(r.cand[3].state, CPH_RACE_DROPPED);
+        assert_int_equal(r.cand[2].state, CPH_RACE_DROPPED);
+        assert_true(r.cand[3].left_round >= o.min_rounds);
+        cph_paired_cmp c;
+        assert_int_equal(cph_race_compare(&r, 0, 1, 0.05, &c), 0);
+        covered += c.bounded && c.ratio_lo <= 1.04 && 1.04 <= c.ratio_hi;
+        confident += c.bounded && c.ratio_lo > 1.0;
+        cph_race_free(&r);
+    }
+    assert_true(covered >= 17);
+    assert_true(confident >= 17);
+}
+
+/* Without pairing, the same model's pooled trial medians mislead: the
+ * neighbour noise (10 %) swamps the 4 % difference in some races.  This
+ * checks that the model is hard enough for the test above to mean something. */
+static void test_model_defeats_unpaired_choice(void **state) {
+    (void)state;
+    int wrong = 0;
+    for (uint64_t seed = 1; seed <= 20; seed++) {
+        model m = make_model(seed);
+        /* Unpaired: six trials of A, then six of B, as back-to-back runs do. */
+        double a = 0, b = 0, med, wall;
+        for (size_t r = 0; r < 6; r++) {
+            trial(&m, 0, r, &med, &wall);
+            a += log(med);
+        }
+        for (size_t r = 6; r < 12; r++) {
+            trial(&m, 1, r, &med, &wall);
+            b += log(med);
+        }
+        wrong += b < a;
+    }
+    assert_true(wrong >= 1);
+}
+
+static void test_budget_stops_between_rounds(void **state) {
+    (void)state;
+    model m = make_model(3);
+    m.wall = 1.0;
+    cph_race_opts o;
+    cph_race_defaults(&o);
+    o.budget_seconds = 10.0; /* 4 candidates x 1 s: 3 rounds reach 12 s */
+    cph_race_result r;
+    assert_int_equal(cph_race_run(&o, 4, trial, &m, &r), 0);
+    assert_string_equal(r.ended_by, "budget");
+    assert_int_equal(r.rounds, 3);
+    for (size_t i = 0; i < 4; i++) assert_int_equal(r.cand[i].ntrials, 3);
+    assert_true(r.chosen >= 0);
+    cph_race_free(&r);
+}
+
+static void test_failed_candidate_leaves(void **state) {
+    (void)state;
+    model m = make_model(5);
+    m.fail_at = 0; /* the fastest fails in round 3 */
+    cph_race_opts o;
+    cph_race_defaults(&o);
+    o.budget_seconds = 1e9;
+    cph_race_result r;
+    assert_int_equal(cph_race_run(&o, 4, trial, &m, &r), 0);
+    assert_int_equal(r.cand[0].state, CPH_RACE_FAILED);
+    assert_int_equal(r.cand[0].ntrials, 2);
+    assert_int_equal(r.chosen, 1);
+    cph_race_free(&r);
+}
+
+static void test_stop_flag(void **state) {
+    (void)state;
+    model m = make_model(9);
+    volatile sig_atomic_t stop = 1;
+    cph_race_opts o;
+    cph_race_defaults(&o);
+    o.stop = &stop;
+    cph_race_result r;
+    assert_int_equal(cph_race_run(&o, 4, trial, &m, &r), 0);
+    assert_string_equal(r.ended_by, "stopped");
+    assert_int_equal(r.rounds, 0);
+    assert_int_equal(r.chosen, -1);
+    cph_race_free(&r);
+}
+
+int main(void) {
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_picks_truly_fastest_under_drift),
+        cmocka_unit_test(test_model_defeats_unpaired_choice),
+        cmocka_unit_test(test_budget_stops_between_rounds),
+        cmocka_unit_test(test_failed_candidate_leaves),
+        cmocka_unit_test(test_stop_flag),
+    };
+    return cmocka_run_group_tests(tests, NULL, NULL);
+}
