@@ -55,7 +55,7 @@ cp_status cph_diff_write_junit(const cph_diff *d, const char *path, char *msg, s
         snprintf(msg, cap, "%s: out of memory building the report", path);
         return CP_ENOMEM;
     }
-    const size_t fails = d->counts[CPH_VERDICT_SLOWER];
+    const size_t fails = d->counts[CPH_SHIFT_SLOWER];
     char line[1024], label[512];
     fprintf(f, "<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n");
     fprintf(f, "<testsuites name=\"convpick diff\" tests=\"%zu\" failures=\"%zu\" errors=\"0\">\n",
@@ -80,7 +80,7 @@ cp_status cph_diff_write_junit(const cph_diff *d, const char *path, char *msg, s
         fprintf(f, "\" name=\"");
         cph_xml_escape(f, label);
         fprintf(f, "\" time=\"%.9f\">\n", isfinite(p->cmp.new_median) ? p->cmp.new_median : 0.0);
-        if (p->verdict == CPH_VERDICT_SLOWER) {
+        if (p->verdict == CPH_SHIFT_SLOWER) {
             fprintf(f, "      <failure type=\"regression\" message=\"slower: ");
             cph_xml_escape(f, line);
             fprintf(f, "\">");
@@ -89,7 +89,7 @@ cp_status cph_diff_write_junit(const cph_diff *d, const char *path, char *msg, s
             cph_xml_escape(f, line);
             fprintf(f, "</failure>\n");
         }
-        fprintf(f, "      <system-out>%s: ", cph_verdict_name(p->verdict));
+        fprintf(f, "      <system-out>%s: ", cph_shift_verdict_name(p->verdict));
         cph_xml_escape(f, line);
         fprintf(f, "</system-out>\n    </testcase>\n");
     }
@@ -117,7 +117,7 @@ cp_status cph_diff_write_markdown(const cph_diff *d, const char *path, char *msg
         snprintf(msg, cap, "%s: out of memory building the report", path);
         return CP_ENOMEM;
     }
-    const size_t fails = d->counts[CPH_VERDICT_SLOWER];
+    const size_t fails = d->counts[CPH_SHIFT_SLOWER];
     fprintf(f, "## convpick speed check: %s\n\n",
             fails ? "regression" : "no regression");
     if (d->other_device)
@@ -131,8 +131,8 @@ cp_status cph_diff_write_markdown(const cph_diff *d, const char *path, char *msg
     fprintf(f, "` (%s).  %zu compared: **%zu slower**, %zu inconclusive, %zu unchanged, "
                "%zu faster; %zu only in BASE, %zu only in NEW.\n\n",
             cph_results_kind_name(d->next->kind), d->npairs, fails,
-            d->counts[CPH_VERDICT_INCONCLUSIVE], d->counts[CPH_VERDICT_UNCHANGED],
-            d->counts[CPH_VERDICT_FASTER], d->nonly_base, d->nonly_next);
+            d->counts[CPH_SHIFT_INCONCLUSIVE], d->counts[CPH_SHIFT_UNCHANGED],
+            d->counts[CPH_SHIFT_FASTER], d->nonly_base, d->nonly_next);
     fprintf(f, "Verdicts: Mann-Whitney U test at alpha %g, Hodges-Lehmann ratio with its "
                "%g %% interval, tolerance +-%g %% (docs/diff.md).\n\n",
             d->alpha, 100.0 * (1.0 - d->alpha), 100.0 * d->tol);
@@ -141,8 +141,8 @@ cp_status cph_diff_write_markdown(const cph_diff *d, const char *path, char *msg
     for (size_t i = 0; i < d->npairs; i++) {
         const cph_diff_pair *p = &d->pairs[i];
         const cph_shift_cmp *c = &p->cmp;
-        fprintf(f, "| %s%s%s | ", p->verdict == CPH_VERDICT_SLOWER ? "**" : "",
-                cph_verdict_name(p->verdict), p->verdict == CPH_VERDICT_SLOWER ? "**" : "");
+        fprintf(f, "| %s%s%s | ", p->verdict == CPH_SHIFT_SLOWER ? "**" : "",
+                cph_shift_verdict_name(p->verdict), p->verdict == CPH_SHIFT_SLOWER ? "**" : "");
         md_cell(f, p->base->layer);
         fprintf(f, " | %s | %d | ", p->base->flip == CP_CONV ? "conv" : "xcorr", p->base->threads);
         md_cell(f, p->base->algo);
