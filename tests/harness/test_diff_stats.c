@@ -340,11 +340,18 @@ static void self_diff(const char *path, size_t min_items) {
     assert_int_equal(d.counts[CPH_SHIFT_SLOWER], 0);
     assert_int_equal(d.counts[CPH_SHIFT_FASTER], 0);
     assert_int_equal(d.nchanges, 0);
+    /* Both fixtures record every sample, so every pair must be compared (a
+     * pair without samples would be skipped silently and prove nothing). */
+    size_t with_samples = 0, compared = 0;
+    for (size_t i = 0; i < a.nitems; i++) with_samples += a.items[i].nsamples > 0;
+    assert_int_equal(with_samples, a.nitems);
     for (size_t i = 0; i < d.npairs; i++)
         if (d.pairs[i].compared) {
             assert_true(d.pairs[i].cmp.ratio == 1.0);
             assert_true(d.pairs[i].cmp.mwu.p == 1.0);
+            compared++;
         }
+    assert_int_equal(compared, a.nitems);
     cph_diff_free(&d);
     cph_results_free(&a);
     cph_results_free(&b);
