@@ -5,7 +5,7 @@
  * output in a register, 1 sweeps whole output planes once per kernel tap.
  *
  * This file is also compiled a second time, with traced loads and stores and
- * renamed algorithms, by harness/cache_traced_direct.c. */
+ * renamed algorithms, by harness/cache/cache_traced_direct.c. */
 
 #include "algos/core/cpa.h"
 

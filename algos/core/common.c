@@ -1,4 +1,5 @@
-/* Helpers every algorithm may use: parameters, the weight flip, bias. */
+/* Helpers every algorithm may use: messages, parameters, the weight flip and
+ * the pre-flip prepare. */
 #include <stdarg.h>
 #include <stdio.h>
 #include <string.h>
@@ -43,15 +44,6 @@ cp_status cpa_preflip_prepare(const cp_shape *s, cp_flip flip, const cp_params *
     else
         memcpy(out, w, cp_shape_weight_elems(s) * sizeof(float));
     return CP_OK;
-}
-
-void cpa_add_bias(float *y, const float *bias, int64_t nk, int64_t npix) {
-    if (!bias) return;
-    for (int64_t k = 0; k < nk; k++) {
-        const float b = bias[k];
-        float *row = y + k * npix;
-        for (int64_t i = 0; i < npix; i++) row[i] += b;
-    }
 }
 
 void cp_algo_defaults(const cp_algo *a, const cp_shape *s, const cp_cache_sizes *caches,

@@ -27,9 +27,6 @@ cp_status cpa_fail(cp_status st, char *msg, size_t cap, const char *fmt, ...)
 /* Rounds n up to a multiple of 64 (workspace sub-buffers stay aligned). */
 static inline size_t cpa_align64(size_t n) { return (n + 63u) & ~(size_t)63u; }
 
-/* Adds bias[k] to each of the npix outputs of channel k, for nk channels. */
-void cpa_add_bias(float *y, const float *bias, int64_t nk, int64_t npix);
-
 /* prepared_size/prepare of an algorithm whose run() reads cross-correlation
  * weights: true convolution pre-flips them once (cp_weights_flip); the size
  * is 0 (raw weights) for cross-correlation, and also for a 1x1 kernel when

@@ -7,7 +7,7 @@
  * probability computed exactly from that binomial.  Le Boudec, "Performance
  * Evaluation of Computer and Communication Systems", EPFL Press 2010,
  * derives it and tabulates the ranks (from memory: n = 10 at 95 % gives the
- * 2nd and 9th values); tests/test_stats.c checks our ranks against SciPy. */
+ * 2nd and 9th values); tests/harness/test_stats.c checks our ranks against SciPy. */
 #include "harness/measure/stats.h"
 
 #include <math.h>

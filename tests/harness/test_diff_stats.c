@@ -1,5 +1,5 @@
-/* The statistics of convpick diff (harness/diff_stats.h) and its pairing of
- * results files (harness/diff_report.h).
+/* The statistics of convpick diff (harness/diff/diff_stats.h) and its pairing of
+ * results files (harness/diff/diff_report.h).
  *
  * Outside references:
  *  - SciPy 1.10.1 scipy.stats.mannwhitneyu (two-sided; methods asymptotic,

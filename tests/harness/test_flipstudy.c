@@ -1,4 +1,4 @@
-/* The variants of the cache study (harness/cache_study.h) compute what they
+/* The variants of the cache study (harness/cache/cache_study.h) compute what they
  * claim: true convolution by flipped indexing equals true convolution with
  * pre-flipped weights, the pre-flipped weights are the originals flipped
  * along both spatial axes, both loop orders of direct agree, and the traced
