@@ -194,51 +194,59 @@ static void tune_invented(double budget_ticks, volatile sig_atomic_t *stop, tune
     cph_timing_set_clock(NULL);
 }
 
-static void test_tune_layer_invented_clock(void **state) {
-    (void)state;
+/* What one tuning of the invented layer must give: candidates measured and
+ * skipped by the budget; the choice, quick with `ticks` (each of its samples
+ * exactly that long, 10 of them: constant samples converge at min_samples);
+ * the runner-up, steady, at `margin`, clearly apart (point intervals); and
+ * the invented time the layer took.  Always: 5 planned, sloppy disqualified,
+ * absent unsupported, nothing failed. */
+typedef struct {
+    int measured, skipped;
+    int64_t ticks;
+    double margin, spent_ticks;
+} expected;
+
+static void tune_and_check(double budget_ticks, const expected *x) {
     tuned t;
-    tune_invented(1e6, NULL, &t);
+    tune_invented(budget_ticks, NULL, &t);
     if (t.st != CP_OK) fail_msg("%s", t.msg);
-    /* Every candidate is timed: constant samples have a zero-width interval,
-     * so each measurement converges at min_samples = 10. */
     assert_int_equal(t.rep.planned, 5);
-    assert_int_equal(t.rep.measured, 4);
+    assert_int_equal(t.rep.measured, x->measured);
+    assert_int_equal(t.rep.skipped, x->skipped);
     assert_int_equal(t.rep.disqualified, 1);
     assert_int_equal(t.rep.unsupported, 1);
-    assert_int_equal(t.rep.skipped, 0);
     assert_int_equal(t.rep.failed, 0);
-    assert_int_equal(t.e.ncandidates, 5);
-    /* The fastest accurate candidate is quick with 2 ticks; sloppy (1 tick)
-     * is disqualified; the runner-up is the fastest other algorithm, steady
-     * (5 ticks), not quick's own 3: margin 5 / 2 - 1. */
+    assert_int_equal(t.e.ncandidates, (size_t)x->measured + 1);
     assert_ptr_equal(t.e.algo, &quick);
-    assert_int_equal(t.e.params.v[0], 2);
-    assert_true(t.e.timing.median == 2 * TICK);
+    assert_int_equal(t.e.params.v[0], x->ticks);
+    assert_true(t.e.timing.median == (double)x->ticks * TICK);
     assert_int_equal(t.e.timing.samples, 10);
     assert_ptr_equal(t.e.runner_up, &steady);
-    assert_true(t.e.margin == 1.5);
+    assert_true(t.e.margin == x->margin);
     assert_int_equal(t.e.margin_in_noise, 0);
-    /* Time spent: each measured candidate runs 1 (oracle check) + 2 (warm-up)
-     * + 10 times, sloppy once: 13 * (4 + 5 + 3 + 2) + 1 = 183 ticks. */
-    assert_true(t.rep.seconds == 183 * TICK);
+    assert_true(t.rep.seconds == x->spent_ticks * TICK);
     cph_tune_entry_free(&t.e);
+}
+
+static void test_tune_layer_invented_clock(void **state) {
+    (void)state;
+    /* A budget that never runs out: all 4 accurate candidates are measured.
+     * The fastest is quick with 2 ticks (sloppy, 1 tick, is disqualified);
+     * the runner-up is the fastest other algorithm, steady (5 ticks), not
+     * quick's own 3: margin 5 / 2 - 1.  Time: each measured candidate runs
+     * 1 (oracle check) + 2 (warm-up) + 10 times, sloppy once:
+     * 13 * (4 + 5 + 3 + 2) + 1 = 183 ticks. */
+    const expected x = {4, 0, 2, 1.5, 183};
+    tune_and_check(1e6, &x);
 }
 
 static void test_tune_layer_budget_spent_on_defaults(void **state) {
     (void)state;
-    tuned t;
     /* The defaults take 13 * 4 + 13 * 5 + 1 = 118 ticks, past a budget of
-     * 100: they are all measured anyway, the other two candidates skipped. */
-    tune_invented(100, NULL, &t);
-    if (t.st != CP_OK) fail_msg("%s", t.msg);
-    assert_int_equal(t.rep.measured, 2);
-    assert_int_equal(t.rep.skipped, 2);
-    assert_ptr_equal(t.e.algo, &quick);
-    assert_int_equal(t.e.params.v[0], 4);
-    assert_ptr_equal(t.e.runner_up, &steady);
-    assert_true(t.e.margin == 0.25); /* 5 / 4 - 1 */
-    assert_true(t.rep.seconds == 118 * TICK);
-    cph_tune_entry_free(&t.e);
+     * 100: they are all measured anyway, the other two candidates skipped;
+     * quick's defaults (4 ticks) win, margin 5 / 4 - 1. */
+    const expected x = {2, 2, 4, 0.25, 118};
+    tune_and_check(100, &x);
 }
 
 static void test_tune_layer_stop(void **state) {
