@@ -60,7 +60,8 @@ int64_t cph_study_sample_k(const cph_study_opts *o, const cp_shape *s) {
 const cph_variant_result *cph_study_baseline(const cph_layer_result *r,
                                              const cph_variant_result *v) {
     for (size_t i = 0; i < r->nres; i++)
-        if (r->res[i].v->kind == CPH_FLIP_KIND_XCORR && strcmp(r->res[i].v->family, v->v->family) == 0)
+        if (r->res[i].v->kind == CPH_FLIP_KIND_XCORR &&
+            strcmp(r->res[i].v->family, v->v->family) == 0)
             return &r->res[i];
     return NULL;
 }

@@ -155,7 +155,8 @@ static void print_pairs(const cph_diff *d) {
             else snprintf(ci, sizeof ci, "unbounded");
         }
         printf("%-12s  %-*s  %-5s  %3d  %-*s  %-*s  %10.4g  %10.4g  %7.4f  %7s  %-17s  %8s  %s\n",
-               cph_shift_verdict_name(p->verdict), lw, it->layer, it->flip == CP_CONV ? "conv" : "xcorr",
+               cph_shift_verdict_name(p->verdict), lw, it->layer,
+               it->flip == CP_CONV ? "conv" : "xcorr",
                it->threads, aw, it->algo, pw, it->params[0] ? it->params : "-",
                1e3 * c->base_median, 1e3 * c->new_median, c->median_ratio, hl, ci, pv, p->note);
     }

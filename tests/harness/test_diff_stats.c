@@ -271,7 +271,8 @@ static void test_known_shifts(void **state) {
             if (v != cases[ci].want)
                 fail_msg("shift %+.0f %% seed %llu: %s (ratio %.4f [%.4f, %.4f], p %.3g), want %s",
                          100 * cases[ci].shift, (unsigned long long)seed, cph_shift_verdict_name(v),
-                         c.ratio, c.ratio_lo, c.ratio_hi, c.mwu.p, cph_shift_verdict_name(cases[ci].want));
+                         c.ratio, c.ratio_lo, c.ratio_hi, c.mwu.p,
+                         cph_shift_verdict_name(cases[ci].want));
             /* the estimate lands near the true ratio: within 4 interval half-widths */
             assert_true(fabs(c.ratio - (1.0 + cases[ci].shift)) < 0.012);
         }
