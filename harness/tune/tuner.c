@@ -223,8 +223,9 @@ cp_status cph_tune_layer(const cph_tune_request *rq, cp_table_entry *entry,
         st = cpa_fail(CP_ENOMEM, msg, cap, "%s: out of memory for test tensors", layer->name);
         goto out;
     }
-    np = build_plan(o, s, rq->flip, rq->algos, rq->nalgos, rq->caches, plan, MAXPLAN,
-                    &report->unsupported);
+    const cp_cache_sizes fallback = cp_cache_sizes_fallback();
+    np = build_plan(o, s, rq->flip, rq->algos, rq->nalgos, rq->caches ? rq->caches : &fallback,
+                    plan, MAXPLAN, &report->unsupported);
     report->planned = (int)np;
     if (np == 0) {
         st = cpa_fail(CP_EUNSUPPORTED, msg, cap, "%s: no selected algorithm supports this layer",
