@@ -6,6 +6,8 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "harness/measure/stats.h"
+
 typedef struct {
     double abs;
     int sign; /* +1 or -1 */
@@ -13,11 +15,6 @@ typedef struct {
 
 static int cmp_abs(const void *a, const void *b) {
     const double x = ((const signed_abs *)a)->abs, y = ((const signed_abs *)b)->abs;
-    return (x > y) - (x < y);
-}
-
-static int cmp_dbl(const void *a, const void *b) {
-    const double x = *(const double *)a, y = *(const double *)b;
     return (x > y) - (x < y);
 }
 
@@ -145,7 +142,7 @@ int cph_compare_paired(const double *a, const double *b, size_t n, double alpha,
     size_t w = 0;
     for (size_t i = 0; i < n; i++)
         for (size_t j = i; j < n; j++) walsh[w++] = 0.5 * (d[i] + d[j]);
-    qsort(walsh, top, sizeof *walsh, cmp_dbl);
+    cph_sort_doubles(walsh, top);
     memset(out, 0, sizeof *out);
     out->n = n;
     /* The median of the Walsh averages (mean of the middle two when even). */

@@ -24,18 +24,13 @@ void cph_race_free(cph_race_result *r) {
     r->cand = NULL;
 }
 
-static int cmp_dbl(const void *a, const void *b) {
-    const double x = *(const double *)a, y = *(const double *)b;
-    return (x > y) - (x < y);
-}
-
 double cph_race_median(const cph_race_result *r, size_t c) {
     const cph_race_cand *k = &r->cand[c];
     if (k->ntrials == 0) return NAN;
     double *s = malloc(k->ntrials * sizeof *s);
     if (!s) return NAN;
     memcpy(s, k->trials, k->ntrials * sizeof *s);
-    qsort(s, k->ntrials, sizeof *s, cmp_dbl);
+    cph_sort_doubles(s, k->ntrials);
     const double m = cph_median_sorted(s, k->ntrials);
     free(s);
     return m;
