@@ -8,15 +8,23 @@
 
 #include "algos/core/cpa.h"
 #include "harness/measure/data.h"
+#include "harness/measure/stats.h"
+#include "harness/tune/candidates.h"
+#include "harness/tune/trial.h"
 
 void cph_tune_defaults(cph_tune_opts *o) {
     memset(o, 0, sizeof *o);
     cph_timing_defaults(&o->timing);
+    /* A trial is a short batch: one warm-up run, five samples. */
+    o->timing.warmup = 1;
+    o->timing.min_samples = o->timing.max_samples = 5;
     o->timing.max_seconds = 1.0;
     o->budget_seconds = 10.0;
     o->max_rel_err = 1e-4;
     o->seed = 1;
     o->max_candidates = 16;
+    cph_race_defaults(&o->race);
+    o->place = 1;
 }
 
 void cph_tune_entry_free(cp_table_entry *e) {
@@ -25,105 +33,6 @@ void cph_tune_entry_free(cp_table_entry *e) {
     free(e->candidates);
     e->candidates = NULL;
     e->ncandidates = 0;
-}
-
-static int cis_overlap(const cp_timing *a, const cp_timing *b) {
-    return a->ci_lo <= b->ci_hi && b->ci_lo <= a->ci_hi;
-}
-
-int cph_tune_choose(const cp_candidate *c, size_t n, int *runner_up, double *margin,
-                    int *in_noise) {
-    int best = -1;
-    for (size_t i = 0; i < n; i++) {
-        if (c[i].disqualified || c[i].timing.samples == 0) continue;
-        if (best < 0 || c[i].timing.median < c[best].timing.median) best = (int)i;
-    }
-    *runner_up = -1;
-    *margin = 0.0;
-    *in_noise = 0;
-    if (best < 0) return -1;
-    int other = -1, same = -1;
-    for (size_t i = 0; i < n; i++) {
-        if ((int)i == best || c[i].disqualified || c[i].timing.samples == 0) continue;
-        int *slot = strcmp(c[i].algo, c[best].algo) != 0 ? &other : &same;
-        if (*slot < 0 || c[i].timing.median < c[*slot].timing.median) *slot = (int)i;
-    }
-    int ru = other >= 0 ? other : same;
-    if (ru >= 0) {
-        *runner_up = ru;
-        *margin = c[ru].timing.median / c[best].timing.median - 1.0;
-        *in_noise = cis_overlap(&c[ru].timing, &c[best].timing);
-    }
-    return best;
-}
-
-typedef struct {
-    const cp_algo *algo;
-    cp_params params;
-} planned;
-
-static int same_params(const cp_algo *a, const cp_params *x, const cp_params *y) {
-    for (int i = 0; i < a->nparams; i++)
-        if (x->v[i] != y->v[i]) return 0;
-    return 1;
-}
-
-/* Round-robin over algorithms: every algorithm's defaults first, then each
- * one's next candidate in turn, so a short budget still compares algorithms. */
-static size_t build_plan(const cph_tune_opts *o, const cp_shape *s, cp_flip flip,
-                         const cp_algo *const *algos, size_t nalgos, const cp_cache_sizes *caches,
-                         planned *out, size_t max, int *unsupported) {
-    enum { PER = 64 };
-    cp_params *lists = calloc(nalgos * PER, sizeof *lists);
-    int *counts = calloc(nalgos, sizeof *counts);
-    size_t n = 0;
-    *unsupported = 0;
-    if (!lists || !counts) goto done;
-    int per = o->max_candidates < 1 ? 1 : (o->max_candidates > PER ? PER : o->max_candidates);
-    for (size_t a = 0; a < nalgos; a++) {
-        if (!algos[a]->supports(s, flip, NULL, 0)) {
-            (*unsupported)++;
-            continue;
-        }
-        cp_params *l = lists + a * PER;
-        cp_algo_defaults(algos[a], s, caches, &l[0]);
-        counts[a] = 1;
-        if (algos[a]->candidates) {
-            cp_params tmp[PER];
-            memset(tmp, 0, sizeof tmp);
-            int got = algos[a]->candidates(s, caches, tmp, PER);
-            for (int i = 0; i < got && counts[a] < per; i++) {
-                int dup = 0;
-                if (cp_params_check(algos[a], &tmp[i], NULL, 0) != CP_OK) continue;
-                for (int j = 0; j < counts[a]; j++)
-                    if (same_params(algos[a], &tmp[i], &l[j])) dup = 1;
-                if (!dup) l[counts[a]++] = tmp[i];
-            }
-        }
-    }
-    for (int round = 0; round < PER; round++)
-        for (size_t a = 0; a < nalgos; a++)
-            if (round < counts[a] && n < max) {
-                out[n].algo = algos[a];
-                out[n].params = lists[a * PER + (size_t)round];
-                n++;
-            }
-done:
-    free(lists);
-    free(counts);
-    return n;
-}
-
-typedef struct {
-    cp_plan *plan;
-    const float *x, *bias;
-    float *y;
-    const cp_exec *exec;
-} run_ctx;
-
-static int run_once(void *arg) {
-    run_ctx *r = arg;
-    return cp_plan_run(r->plan, r->x, r->bias, r->y, r->exec) == CP_OK ? 0 : 1;
 }
 
 /* The layer's seeded test tensors and the oracle's answer for them. */
@@ -159,49 +68,83 @@ static int tensors_make(tensors *t, const cp_shape *s, cp_flip flip, uint64_t se
     return 0;
 }
 
-typedef enum { TRY_FAILED, TRY_DISQUALIFIED, TRY_MEASURED } try_outcome;
+typedef enum { TRY_FAILED, TRY_DISQUALIFIED, TRY_QUALIFIED } try_outcome;
 
-/* Checks one planned candidate against the oracle and, if accurate enough,
- * times it with at most max_seconds; fills *c. */
-static try_outcome try_candidate(const cph_tune_request *rq, const planned *pl, tensors *t,
-                                 double max_seconds, cp_candidate *c) {
-    const cp_shape *s = &rq->layer->shape;
+/* Checks one planned candidate against the oracle: a plan and one run. */
+static try_outcome qualify(const cph_tune_request *rq, const cph_planned *pl, tensors *t,
+                           cp_candidate *c) {
     cp_plan *plan = NULL;
     char why[256];
-    if (cp_plan_create(pl->algo, s, rq->flip, &pl->params, rq->caches, rq->threads, t->w, &plan,
-                       why, sizeof why) != CP_OK)
+    if (cp_plan_create(pl->algo, &rq->layer->shape, rq->flip, &pl->params, rq->caches,
+                       rq->threads, t->w, &plan, why, sizeof why) != CP_OK)
         return TRY_FAILED;
     snprintf(c->algo, sizeof c->algo, "%s", pl->algo->name);
     c->params = pl->params;
     for (size_t k = 0; k < t->ny; k++) t->y[k] = NAN;
-    run_ctx rc = {plan, t->x, t->bias, t->y, rq->exec};
-    if (run_once(&rc) != 0) {
-        cp_plan_destroy(plan);
-        return TRY_FAILED;
-    }
+    const cp_status st = cp_plan_run(plan, t->x, t->bias, t->y, rq->exec);
+    cp_plan_destroy(plan);
+    if (st != CP_OK) return TRY_FAILED;
     c->rel_err = cp_error_measure(t->y, t->ref, t->mag, t->ny).rel_err;
     if (!(c->rel_err <= rq->opts->max_rel_err)) {
         c->disqualified = 1;
-        cp_plan_destroy(plan);
         return TRY_DISQUALIFIED;
     }
-    cph_timing_opts to = rq->opts->timing;
-    to.max_seconds = max_seconds;
-    cph_measurement m;
-    const int rcode = cph_measure(&to, run_once, &rc, &m);
-    cp_plan_destroy(plan);
-    if (rcode != 0) {
-        cph_measurement_free(&m);
-        return TRY_FAILED;
+    return TRY_QUALIFIED;
+}
+
+/* The race's view of the qualified candidates. */
+typedef struct {
+    const cph_tune_request *rq;
+    cph_trial_setup setup;
+    const cph_planned **who; /* qualified candidates, by race index */
+    uint64_t rng;            /* buffer placement */
+} race_ctx;
+
+static int race_trial(void *arg, size_t cand, size_t round, double *median, double *wall) {
+    race_ctx *r = arg;
+    (void)round;
+    char why[256];
+    return cph_trial_run(&r->setup, r->who[cand]->algo, &r->who[cand]->params, &r->rng, median,
+                         wall, why, sizeof why);
+}
+
+/* A candidate's timing from its trial medians; the samples it keeps are
+ * those medians. */
+static int timing_from_trials(const cph_race_cand *k, cp_candidate *c) {
+    if (k->ntrials == 0) return 0;
+    cph_stats st;
+    cph_stats_compute(k->trials, k->ntrials, 0.95, &st);
+    c->timing.median = st.median;
+    c->timing.ci_lo = st.ci_lo;
+    c->timing.ci_hi = st.ci_hi;
+    c->timing.samples = (uint32_t)k->ntrials;
+    c->timing.noisy = st.noisy;
+    c->samples = malloc(k->ntrials * sizeof *c->samples);
+    if (!c->samples) return -1;
+    memcpy(c->samples, k->trials, k->ntrials * sizeof *c->samples);
+    c->nsamples = k->ntrials;
+    return 0;
+}
+
+/* The runner-up among the raced candidates: smallest paired ratio to the
+ * chosen one, another algorithm preferred.  Returns its race index or -1. */
+static int runner_up(const cph_race_result *r, const cph_planned *const *who, double alpha,
+                     cph_paired_cmp *margin) {
+    int best[2] = {-1, -1}; /* [0] other algorithm, [1] same algorithm */
+    cph_paired_cmp cmp[2] = {{0}, {0}};
+    for (size_t i = 0; i < r->ncand; i++) {
+        if ((int)i == r->chosen || r->cand[i].ntrials == 0) continue;
+        cph_paired_cmp c;
+        if (cph_race_compare(r, (size_t)r->chosen, i, alpha, &c) != 0) continue;
+        const int slot = who[i]->algo == who[r->chosen]->algo;
+        if (best[slot] < 0 || c.ratio < cmp[slot].ratio) {
+            best[slot] = (int)i;
+            cmp[slot] = c;
+        }
     }
-    c->timing.median = m.stats.median;
-    c->timing.ci_lo = m.stats.ci_lo;
-    c->timing.ci_hi = m.stats.ci_hi;
-    c->timing.samples = (uint32_t)m.n;
-    c->timing.noisy = m.stats.noisy;
-    c->samples = m.samples; /* ownership moves to the candidate */
-    c->nsamples = m.n;
-    return TRY_MEASURED;
+    const int slot = best[0] >= 0 ? 0 : 1;
+    if (best[slot] >= 0) *margin = cmp[slot];
+    return best[slot];
 }
 
 cp_status cph_tune_layer(const cph_tune_request *rq, cp_table_entry *entry,
@@ -213,19 +156,22 @@ cp_status cph_tune_layer(const cph_tune_request *rq, cp_table_entry *entry,
     memset(report, 0, sizeof *report);
     const double t0 = cph_now();
     enum { MAXPLAN = 256 };
-    planned *plan = calloc(MAXPLAN, sizeof *plan);
+    cph_planned *plan = calloc(MAXPLAN, sizeof *plan);
     tensors t = {0};
     cp_candidate *cands = NULL;
-    const cp_algo **calgo = NULL; /* the algorithm of each recorded candidate */
-    size_t np = 0, nc = 0;
+    const cph_planned **who = NULL; /* qualified candidates' plans, by race index */
+    size_t *slot_of = NULL;         /* their slot in cands */
+    cph_race_result race = {0};
+    size_t np = 0, nc = 0, nq = 0;
     cp_status st = CP_OK;
     if (!plan || tensors_make(&t, s, rq->flip, o->seed) != 0) {
         st = cpa_fail(CP_ENOMEM, msg, cap, "%s: out of memory for test tensors", layer->name);
         goto out;
     }
     const cp_cache_sizes fallback = cp_cache_sizes_fallback();
-    np = build_plan(o, s, rq->flip, rq->algos, rq->nalgos, rq->caches ? rq->caches : &fallback,
-                    plan, MAXPLAN, &report->unsupported);
+    const cp_cache_sizes *caches = rq->caches ? rq->caches : &fallback;
+    np = cph_tune_candidates(o->max_candidates, s, rq->flip, rq->algos, rq->nalgos, caches, plan,
+                             MAXPLAN, &report->unsupported);
     report->planned = (int)np;
     if (np == 0) {
         st = cpa_fail(CP_EUNSUPPORTED, msg, cap, "%s: no selected algorithm supports this layer",
@@ -233,16 +179,15 @@ cp_status cph_tune_layer(const cph_tune_request *rq, cp_table_entry *entry,
         goto out;
     }
     cands = calloc(np, sizeof *cands);
-    calgo = calloc(np, sizeof *calgo);
-    if (!cands || !calgo) {
+    who = calloc(np, sizeof *who);
+    slot_of = calloc(np, sizeof *slot_of);
+    if (!cands || !who || !slot_of) {
         st = cpa_fail(CP_ENOMEM, msg, cap, "%s: out of memory for candidates", layer->name);
         goto out;
     }
 
-    /* Every algorithm's defaults are measured even past the budget: without
-     * them the comparison between algorithms would be meaningless.  The plan
-     * is round-robin, so they are its first entries, one per supported
-     * algorithm. */
+    /* 1. Qualification.  The plan is round-robin, so every algorithm's
+     * defaults are its first entries: they are checked whatever the budget. */
     size_t nfirst = rq->nalgos - (size_t)report->unsupported;
     if (nfirst > np) nfirst = np;
     for (size_t i = 0; i < np; i++) {
@@ -251,8 +196,7 @@ cp_status cph_tune_layer(const cph_tune_request *rq, cp_table_entry *entry,
             goto out;
         }
         const double spent = cph_now() - t0;
-        const double left = o->budget_seconds - spent;
-        if (i >= nfirst && left <= 0.0) {
+        if (i >= nfirst && spent >= o->budget_seconds / 4.0) {
             report->skipped = (int)(np - i);
             break;
         }
@@ -263,43 +207,81 @@ cp_status cph_tune_layer(const cph_tune_request *rq, cp_table_entry *entry,
                                     spent};
             rq->progress(rq->progress_arg, &pr);
         }
-        double cap_s = o->timing.max_seconds;
-        if (i >= nfirst && left < cap_s) cap_s = left > 0.05 ? left : 0.05;
         memset(&cands[nc], 0, sizeof cands[nc]);
-        switch (try_candidate(rq, &plan[i], &t, cap_s, &cands[nc])) {
+        switch (qualify(rq, &plan[i], &t, &cands[nc])) {
         case TRY_FAILED:
             report->failed++;
             break;
         case TRY_DISQUALIFIED:
             report->disqualified++;
-            calgo[nc++] = plan[i].algo;
+            nc++;
             break;
-        case TRY_MEASURED:
-            report->measured++;
-            calgo[nc++] = plan[i].algo;
+        case TRY_QUALIFIED:
+            who[nq] = &plan[i];
+            slot_of[nq++] = nc++;
             break;
         }
     }
-    int ru, in_noise;
-    double margin;
-    const int best = cph_tune_choose(cands, nc, &ru, &margin, &in_noise);
-    if (best < 0) {
+    if (nq == 0) {
         st = cpa_fail(CP_ENOTFOUND, msg, cap,
                       "%s: no candidate qualified (%d disqualified, %d failed)", layer->name,
                       report->disqualified, report->failed);
         goto out;
     }
+
+    /* 2. The race, on what the budget has left. */
+    race_ctx rc = {rq,
+                   {s, rq->flip, rq->threads, caches, rq->exec, t.x, t.w, t.bias, o->timing,
+                    o->place},
+                   who, o->seed ^ 0x5eed};
+    cph_race_opts ro = o->race;
+    ro.budget_seconds = o->budget_seconds - (cph_now() - t0);
+    ro.seed = o->seed;
+    ro.stop = rq->stop;
+    if (cph_race_run(&ro, nq, race_trial, &rc, &race) != 0) {
+        st = cpa_fail(CP_ENOMEM, msg, cap, "%s: out of memory for the race", layer->name);
+        goto out;
+    }
+    if (rq->stop && *rq->stop) {
+        report->interrupted = 1;
+        goto out;
+    }
+    report->rounds = race.rounds;
+    report->ended_by = race.ended_by;
+    for (size_t q = 0; q < nq; q++) {
+        const cph_race_cand *k = &race.cand[q];
+        if (k->state == CPH_RACE_FAILED && k->ntrials == 0) report->failed++;
+        if (k->state == CPH_RACE_DROPPED) report->dropped++;
+        if (k->ntrials > 0) report->measured++;
+        if (timing_from_trials(k, &cands[slot_of[q]]) != 0) {
+            st = cpa_fail(CP_ENOMEM, msg, cap, "%s: out of memory", layer->name);
+            goto out;
+        }
+    }
+    if (race.chosen < 0) {
+        st = cpa_fail(CP_ENOTFOUND, msg, cap, "%s: every accurate candidate failed its trials",
+                      layer->name);
+        goto out;
+    }
+
+    /* 3. The choice, the runner-up and the margin. */
+    const cph_planned *const *cwho = who;
+    const cp_candidate *best = &cands[slot_of[race.chosen]];
+    cph_paired_cmp m = {0};
+    const int ru = runner_up(&race, cwho, ro.alpha, &m);
     snprintf(entry->name, sizeof entry->name, "%s", layer->name);
     entry->shape = *s;
     entry->flip = rq->flip;
     entry->threads = rq->threads;
-    entry->algo = calgo[best];
-    entry->params = cands[best].params;
-    entry->timing = cands[best].timing;
-    entry->runner_up = ru >= 0 ? calgo[ru] : NULL;
-    if (ru >= 0) entry->runner_up_params = cands[ru].params;
-    entry->margin = margin;
-    entry->margin_in_noise = in_noise;
+    entry->algo = who[race.chosen]->algo;
+    entry->params = best->params;
+    entry->timing = best->timing;
+    if (ru >= 0) {
+        entry->runner_up = who[ru]->algo;
+        entry->runner_up_params = who[ru]->params;
+        entry->margin = m.ratio - 1.0;
+        entry->margin_in_noise = !(m.bounded && m.ratio_lo > 1.0);
+    }
     entry->ncandidates = nc;
     entry->candidates = cands;
     cands = NULL;
@@ -309,7 +291,9 @@ out:
         for (size_t i = 0; i < np; i++) free(cands[i].samples);
         free(cands);
     }
-    free(calgo);
+    cph_race_free(&race);
+    free(who);
+    free(slot_of);
     free(plan);
     tensors_free(&t);
     return st;

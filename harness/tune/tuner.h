@@ -1,6 +1,25 @@
-/* The tuner: for one layer shape x mode x thread count, time every applicable
- * algorithm and a budgeted set of its parameter candidates, check each against
- * the oracle once, and choose the fastest that is accurate enough.
+/* The tuner: for one layer shape x flip x thread count, check every
+ * applicable algorithm and a budgeted set of its parameter candidates against
+ * the oracle once, then race the accurate ones on paired, interleaved trials
+ * (race.h, trial.h) and choose the fastest.
+ *
+ * Steps and budget (all from cph_now(), so a test can drive it on an invented
+ * clock):
+ *  1. Qualification: each planned candidate gets a plan and one run, judged
+ *     against the fp64 oracle (max_rel_err).  Every algorithm's defaults are
+ *     qualified whatever the budget; further candidates only while less than
+ *     a quarter of the budget is spent (the rest are reported skipped).
+ *  2. The race: what the budget has left goes to rounds of trials of the
+ *     accurate candidates (race.h: at least one round; dropped candidates
+ *     stop costing time).
+ *  3. The choice: the race's leader.  The runner-up is the best other
+ *     candidate by the paired ratio over shared rounds, preferring another
+ *     algorithm; margin = that ratio - 1 with its 1 - alpha interval, and the
+ *     margin is in noise unless the whole interval lies above 0.
+ *  A candidate's timing is taken over its trial medians (median, the
+ *  distribution-free interval of the median, noisy) and its samples ARE its
+ *  trial medians: trials, not pooled samples, are the evidence the table
+ *  keeps.
  *
  * It computes no convolution itself: candidates run through cp_plan_run, the
  * reference through cp_oracle_run. */
@@ -12,13 +31,17 @@
 #include "convpick/convpick.h"
 #include "harness/select/select.h"
 #include "harness/measure/timing.h"
+#include "harness/tune/race.h"
 
 typedef struct cph_tune_opts {
-    cph_timing_opts timing;  /* per candidate measurement (max_seconds is a cap) */
+    cph_timing_opts timing;  /* per TRIAL: warm-up runs, the batch (min_samples = max_samples),
+                                max_seconds a cap on one trial */
     double budget_seconds;   /* per layer x mode x threads, all candidates together */
     double max_rel_err;      /* candidates above it are disqualified */
     uint64_t seed;           /* test data */
     int max_candidates;      /* per algorithm, including its defaults */
+    cph_race_opts race;      /* rounds and drop level; its budget and seed are set per layer */
+    int place;               /* 1: trial buffers at random offsets (default); 0: aligned */
 } cph_tune_opts;
 
 void cph_tune_defaults(cph_tune_opts *o);
@@ -36,13 +59,16 @@ typedef void (*cph_progress_fn)(void *arg, const cph_tune_progress *p);
 /* What tune did for one layer, beyond the chosen entry. */
 typedef struct cph_tune_report {
     int planned;       /* candidates in the plan (all algorithms) */
-    int measured;      /* measured within the budget */
+    int measured;      /* raced (accurate candidates that ran at least one trial) */
     int skipped;       /* left unmeasured when the budget ran out */
     int disqualified;  /* above max_rel_err */
     int failed;        /* plan creation or run failed */
     int unsupported;   /* algorithms that do not support the shape */
     double seconds;    /* wall time for the layer */
     int interrupted;   /* *stop was set: the entry is not complete */
+    size_t rounds;     /* rounds of trials raced */
+    int dropped;       /* candidates dropped by the race */
+    const char *ended_by; /* why the race ended (race.h) */
 } cph_tune_report;
 
 /* One layer to tune and everything the tuner may use for it. */
@@ -72,13 +98,5 @@ cp_status cph_tune_layer(const cph_tune_request *rq, cp_table_entry *entry,
                          cph_tune_report *report, char *msg, size_t cap);
 
 void cph_tune_entry_free(cp_table_entry *e);
-
-/* The choice among measured candidates (exposed for tests): the fastest by
- * median among those not disqualified; the runner-up is the fastest
- * qualified candidate of another algorithm (or, if none, the second fastest
- * of the same); margin = runner-up median / chosen median - 1; in noise when
- * the two confidence intervals overlap.  Returns the chosen index or -1. */
-int cph_tune_choose(const cp_candidate *c, size_t n, int *runner_up, double *margin,
-                    int *in_noise);
 
 #endif

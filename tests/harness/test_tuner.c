@@ -1,11 +1,11 @@
-/* The tuner's choice rule on invented candidate lists (tuner.h documents the
- * rule; the figures here are chosen so each branch of it decides the result),
- * and cph_tune_layer as a whole on invented algorithms timed by an invented
+/* cph_tune_layer as a whole (qualification, the race on trials, the choice,
+ * the runner-up and the margin) on invented algorithms timed by an invented
  * clock (timing.h's test seam): each invented algorithm computes the layer
  * through the registry's `direct` and then advances the clock by its own cost,
  * so every measured time, the choice, the runner-up and the margin are known
  * exactly in advance.  Expectations are worked by hand from the rules in
  * tuner.h and timing.h (common practice, no outside source). */
+#include <math.h>
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>
@@ -18,81 +18,6 @@
 
 #include "harness/measure/timing.h"
 #include "harness/tune/tuner.h"
-
-static cp_candidate cand(const char *algo, double med, double lo, double hi, int disq) {
-    cp_candidate c;
-    memset(&c, 0, sizeof c);
-    strncpy(c.algo, algo, sizeof c.algo - 1);
-    c.timing.median = med;
-    c.timing.ci_lo = lo;
-    c.timing.ci_hi = hi;
-    c.timing.samples = disq ? 0 : 20;
-    c.disqualified = disq;
-    return c;
-}
-
-static void test_fastest_wins_runner_up_other_algo(void **state) {
-    (void)state;
-    cp_candidate c[4] = {
-        cand("direct", 10.0, 9.9, 10.1, 0),
-        cand("blocked", 2.0, 1.98, 2.02, 0),
-        cand("blocked", 2.2, 2.18, 2.22, 0),   /* same algorithm: not the runner-up */
-        cand("im2col_gemm", 3.0, 2.9, 3.1, 0),
-    };
-    int ru, noise;
-    double margin;
-    int best = cph_tune_choose(c, 4, &ru, &margin, &noise);
-    assert_int_equal(best, 1);
-    assert_int_equal(ru, 3);
-    assert_true(margin > 0.499 && margin < 0.501); /* 3.0 / 2.0 - 1 */
-    assert_int_equal(noise, 0);
-}
-
-static void test_disqualified_never_chosen(void **state) {
-    (void)state;
-    cp_candidate c[2] = {
-        cand("winograd_2x2_3x3", 1.0, 0.9, 1.1, 1), /* fastest but inaccurate */
-        cand("direct", 5.0, 4.9, 5.1, 0),
-    };
-    int ru, noise;
-    double margin;
-    assert_int_equal(cph_tune_choose(c, 2, &ru, &margin, &noise), 1);
-    assert_int_equal(ru, -1);
-    assert_true(margin == 0.0);
-}
-
-static void test_overlapping_intervals_are_in_noise(void **state) {
-    (void)state;
-    cp_candidate c[2] = {
-        cand("im2col_gemm", 1.00, 0.95, 1.05, 0),
-        cand("blocked", 1.02, 0.99, 1.06, 0),
-    };
-    int ru, noise;
-    double margin;
-    assert_int_equal(cph_tune_choose(c, 2, &ru, &margin, &noise), 0);
-    assert_int_equal(ru, 1);
-    assert_int_equal(noise, 1);
-}
-
-static void test_same_algo_runner_up_when_alone(void **state) {
-    (void)state;
-    cp_candidate c[2] = {
-        cand("blocked", 2.0, 1.9, 2.1, 0),
-        cand("blocked", 1.5, 1.4, 1.6, 0),
-    };
-    int ru, noise;
-    double margin;
-    assert_int_equal(cph_tune_choose(c, 2, &ru, &margin, &noise), 1);
-    assert_int_equal(ru, 0);
-}
-
-static void test_nothing_qualified(void **state) {
-    (void)state;
-    cp_candidate c[1] = {cand("direct", 1.0, 1.0, 1.0, 1)};
-    int ru, noise;
-    double margin;
-    assert_int_equal(cph_tune_choose(c, 1, &ru, &margin, &noise), -1);
-}
 
 /* --- cph_tune_layer on an invented clock ----------------------------------- */
 
@@ -140,7 +65,14 @@ static int quick_candidates(const cp_shape *s, const cp_cache_sizes *c, cp_param
     for (; n < 3 && n < max; n++) out[n].v[0] = v[n];
     return n;
 }
+/* The input buffers' offsets within a page that quick's runs saw. */
+static uintptr_t seen_offsets[64];
+static size_t nseen;
 static cp_status quick_run(const cp_run_args *a) {
+    const uintptr_t off = (uintptr_t)a->x % 4096;
+    int known = 0;
+    for (size_t i = 0; i < nseen; i++) known |= seen_offsets[i] == off;
+    if (!known && nseen < 64) seen_offsets[nseen++] = off;
     return compute_and_spend(a, (double)a->params->v[0]);
 }
 /* "steady": 5 ticks, no parameters. */
@@ -171,14 +103,18 @@ typedef struct {
 } tuned;
 
 /* Tunes a small layer over the four invented algorithms with the default
- * settings (2 warm-up runs, at least 10 samples, 2 % CI target) and the
- * budget given in ticks.  The plan is round-robin (tuner.c): quick(4),
- * steady, sloppy, then quick(3), quick(2); absent is unsupported. */
-static void tune_invented(double budget_ticks, volatile sig_atomic_t *stop, tuned *t) {
+ * settings (trials of 1 warm-up run and 5 samples; the race drops from round
+ * 6 at alpha 0.05 split over the candidates left) and the budget given in
+ * ticks.  The plan is round-robin (candidates.c): quick(4), steady, sloppy,
+ * then quick(3), quick(2); absent is unsupported.  Every trial of a candidate
+ * is exactly its cost, so its trial medians are equal. */
+static void tune_invented(double budget_ticks, int place, volatile sig_atomic_t *stop, tuned *t) {
     static const cp_algo *const algos[] = {&quick, &steady, &sloppy, &absent};
     cph_tune_opts o;
     cph_tune_defaults(&o);
     o.budget_seconds = budget_ticks * TICK;
+    o.place = place;
+    nseen = 0;
     cph_layer layer;
     memset(&layer, 0, sizeof layer);
     snprintf(layer.name, sizeof layer.name, "invented");
@@ -194,25 +130,31 @@ static void tune_invented(double budget_ticks, volatile sig_atomic_t *stop, tune
     cph_timing_set_clock(NULL);
 }
 
-/* What one tuning of the invented layer must give: candidates measured and
- * skipped by the budget; the choice, quick with `ticks` (each of its samples
- * exactly that long, 10 of them: constant samples converge at min_samples);
- * the runner-up, steady, at `margin`, clearly apart (point intervals); and
- * the invented time the layer took.  Always: 5 planned, sloppy disqualified,
+/* What one tuning of the invented layer must give: candidates raced and
+ * skipped by the budget, rounds, the choice (quick with `ticks`), the
+ * runner-up (steady) at `margin`, whether the margin is in noise, and the
+ * invented time the layer took.  Always: 5 planned, sloppy disqualified,
  * absent unsupported, nothing failed. */
 typedef struct {
-    int measured, skipped;
+    int measured, skipped, dropped;
+    size_t rounds;
+    const char *ended_by;
     int64_t ticks;
-    double margin, spent_ticks;
+    double margin;
+    int in_noise;
+    double spent_ticks;
 } expected;
 
 static void tune_and_check(double budget_ticks, const expected *x) {
     tuned t;
-    tune_invented(budget_ticks, NULL, &t);
+    tune_invented(budget_ticks, 1, NULL, &t);
     if (t.st != CP_OK) fail_msg("%s", t.msg);
     assert_int_equal(t.rep.planned, 5);
     assert_int_equal(t.rep.measured, x->measured);
     assert_int_equal(t.rep.skipped, x->skipped);
+    assert_int_equal(t.rep.dropped, x->dropped);
+    assert_int_equal(t.rep.rounds, x->rounds);
+    assert_string_equal(t.rep.ended_by, x->ended_by);
     assert_int_equal(t.rep.disqualified, 1);
     assert_int_equal(t.rep.unsupported, 1);
     assert_int_equal(t.rep.failed, 0);
@@ -220,40 +162,76 @@ static void tune_and_check(double budget_ticks, const expected *x) {
     assert_ptr_equal(t.e.algo, &quick);
     assert_int_equal(t.e.params.v[0], x->ticks);
     assert_true(t.e.timing.median == (double)x->ticks * TICK);
-    assert_int_equal(t.e.timing.samples, 10);
+    assert_int_equal(t.e.timing.samples, x->rounds); /* one trial median per round */
     assert_ptr_equal(t.e.runner_up, &steady);
-    assert_true(t.e.margin == x->margin);
-    assert_int_equal(t.e.margin_in_noise, 0);
+    /* exp(log(b) - log(a)) may differ from b / a in the last bits. */
+    assert_true(fabs(t.e.margin - x->margin) < 1e-12);
+    assert_int_equal(t.e.margin_in_noise, x->in_noise);
     assert_true(t.rep.seconds == x->spent_ticks * TICK);
     cph_tune_entry_free(&t.e);
 }
 
 static void test_tune_layer_invented_clock(void **state) {
     (void)state;
-    /* A budget that never runs out: all 4 accurate candidates are measured.
-     * The fastest is quick with 2 ticks (sloppy, 1 tick, is disqualified);
-     * the runner-up is the fastest other algorithm, steady (5 ticks), not
-     * quick's own 3: margin 5 / 2 - 1.  Time: each measured candidate runs
-     * 1 (oracle check) + 2 (warm-up) + 10 times, sloppy once:
-     * 13 * (4 + 5 + 3 + 2) + 1 = 183 ticks. */
-    const expected x = {4, 0, 2, 1.5, 183};
+    /* A budget that never runs out.  Qualification runs each candidate once:
+     * 4 + 5 + 1 + 3 + 2 = 15 ticks (sloppy is disqualified).  The race:
+     * every trial is 6 runs (1 warm-up + 5 samples), a round 6 * (4+5+3+2) =
+     * 84 ticks.  After round 6, each other candidate's 6 paired log-ratios to
+     * quick(2) are equal and positive: the exact one-sided signed-rank p is
+     * 2^-6 = 0.0156 < 0.05 / 3, so all three are dropped at once and the race
+     * ends with one left: 15 + 6 * 84 = 519 ticks.  Runner-up: steady, the
+     * fastest other algorithm (not quick's own 3), ratio 5 / 2: margin 1.5;
+     * at n = 6 the 95 % interval's rank is k = 1 (P(T+ <= 0) = 1/64 <=
+     * 0.025 < P(T+ <= 1) = 2/64), all Walsh averages equal: [2.5, 2.5], so
+     * the margin is confident. */
+    const expected x = {4, 0, 3, 6, "one left", 2, 1.5, 0, 519};
     tune_and_check(1e6, &x);
+}
+
+static void test_tune_layer_budget_ends_race(void **state) {
+    (void)state;
+    /* Budget 100: qualification takes 15 (all candidates: the 4th starts at
+     * 10 < 100 / 4), the race gets 85: round 1 (84) leaves budget, round 2
+     * spends it: 2 rounds, nothing dropped (min 6 rounds), quick(2) leads;
+     * the margin 1.5 has no 95 % interval with 2 pairs: in noise.
+     * 15 + 2 * 84 = 183 ticks. */
+    const expected x = {4, 0, 0, 2, "budget", 2, 1.5, 1, 183};
+    tune_and_check(100, &x);
 }
 
 static void test_tune_layer_budget_spent_on_defaults(void **state) {
     (void)state;
-    /* The defaults take 13 * 4 + 13 * 5 + 1 = 118 ticks, past a budget of
-     * 100: they are all measured anyway, the other two candidates skipped;
-     * quick's defaults (4 ticks) win, margin 5 / 4 - 1. */
-    const expected x = {2, 2, 4, 0.25, 118};
-    tune_and_check(100, &x);
+    /* Budget 30: the defaults (4 + 5 + 1 = 10 ticks) are qualified whatever
+     * the budget; quick(3) would start at 10 >= 30 / 4: it and quick(2) are
+     * skipped.  The race gets 20: one round (6 * (4 + 5) = 54).  quick(4)
+     * wins, margin 5 / 4 - 1, in noise.  10 + 54 = 64 ticks. */
+    const expected x = {2, 2, 0, 1, "budget", 4, 0.25, 1, 64};
+    tune_and_check(30, &x);
+}
+
+/* Layout randomisation: with placement on, quick's trials see its input at
+ * several offsets within a page, all multiples of 64; with it off, at one. */
+static void test_trial_buffers_placed(void **state) {
+    (void)state;
+    tuned t;
+    tune_invented(1e6, 1, NULL, &t);
+    assert_int_equal(t.st, CP_OK);
+    cph_tune_entry_free(&t.e);
+    assert_true(nseen >= 4);
+    for (size_t i = 0; i < nseen; i++) assert_int_equal(seen_offsets[i] % 64, 0);
+    tune_invented(1e6, 0, NULL, &t);
+    assert_int_equal(t.st, CP_OK);
+    cph_tune_entry_free(&t.e);
+    /* Qualification runs on the tuner's own tensors (malloc); every trial on
+     * a page-aligned buffer: at most those two offsets. */
+    assert_true(nseen <= 2);
 }
 
 static void test_tune_layer_stop(void **state) {
     (void)state;
     tuned t;
     volatile sig_atomic_t stop = 1;
-    tune_invented(1e6, &stop, &t);
+    tune_invented(1e6, 1, &stop, &t);
     assert_int_equal(t.st, CP_OK);
     assert_int_equal(t.rep.interrupted, 1);
     assert_int_equal(t.rep.measured, 0);
@@ -262,13 +240,10 @@ static void test_tune_layer_stop(void **state) {
 
 int main(void) {
     const struct CMUnitTest tests[] = {
-        cmocka_unit_test(test_fastest_wins_runner_up_other_algo),
-        cmocka_unit_test(test_disqualified_never_chosen),
-        cmocka_unit_test(test_overlapping_intervals_are_in_noise),
-        cmocka_unit_test(test_same_algo_runner_up_when_alone),
-        cmocka_unit_test(test_nothing_qualified),
         cmocka_unit_test(test_tune_layer_invented_clock),
+        cmocka_unit_test(test_tune_layer_budget_ends_race),
         cmocka_unit_test(test_tune_layer_budget_spent_on_defaults),
+        cmocka_unit_test(test_trial_buffers_placed),
         cmocka_unit_test(test_tune_layer_stop),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
