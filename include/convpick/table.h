@@ -1,10 +1,11 @@
 /* Tuning tables: what `convpick tune` measured and chose, loaded by a
  * deploying program to dispatch each layer to its chosen algorithm.
  *
- * A table is a JSON file of format "convpick-tuning-table", version 1
- * (docs/table-format.md, docs/table.schema.json).  It records the device
+ * A table is a JSON file of format "convpick-tuning-table", version 2
+ * (docs/table-format.md, docs/table.schema.json); version-1 tables still load
+ * (migrated as the document describes).  It records the device
  * (description and fingerprint), the measurement settings, and one entry per
- * layer shape x mode x thread count with the chosen algorithm, its parameters
+ * layer shape x flip x thread count with the chosen algorithm, its parameters
  * and statistics, the runner-up and the margin, and every candidate tried.
  *
  * Only the loader and lookup are here: writing tables is the harness's job. */
@@ -19,7 +20,7 @@
 #include "convpick/status.h"
 
 #define CP_TABLE_FORMAT "convpick-tuning-table"
-#define CP_TABLE_VERSION 1
+#define CP_TABLE_VERSION 2 /* the version written; 1 is still read */
 
 /* Timing statistics as recorded (seconds). */
 typedef struct cp_timing {
@@ -71,7 +72,7 @@ enum {
  * entries[2].choice.algo: unknown algorithm 'x'"), CP_EDEVICE (with
  * CP_TABLE_STRICT_DEVICE) for another device.  Without the flag a device
  * mismatch loads and is reported by cp_table_device_matches().  Two entries of
- * the same shape, mode and threads are a CP_EFORMAT error. */
+ * the same shape, flip and threads are a CP_EFORMAT error. */
 cp_status cp_table_load(const char *path, unsigned flags, cp_table **out, char *msg, size_t cap);
 /* The same from a document already in memory (len bytes, not necessarily
  * NUL-terminated); name stands for the file in messages.  cp_table_load
