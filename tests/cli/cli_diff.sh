@@ -59,7 +59,7 @@ base["results"], new["results"] = bres, nres
 json.dump(base, open(out + "/base.json", "w"))
 json.dump(new, open(out + "/new.json", "w"))
 # the same file with another device, another format name, a mistyped sample
-other = copy.deepcopy(new); other["fingerprint"] = "0123456789abcdef"
+other = copy.deepcopy(new); other["device"]["fingerprint"] = "0123456789abcdef"
 json.dump(other, open(out + "/other_device.json", "w"))
 wrong = copy.deepcopy(base); wrong["format"] = "some-other-format"
 json.dump(wrong, open(out + "/wrong_format.json", "w"))
