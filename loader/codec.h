@@ -46,6 +46,11 @@ cp_status cpl_decode_params(const cpl_jctx *c, const json_t *obj, const char *wh
  * with samples != NULL also its "samples" array when present. */
 cp_status cpl_decode_timing(const cpl_jctx *c, const json_t *t, const char *where, cp_timing *out,
                             double **samples, size_t *nsamples);
+/* What identifies a table entry (table_entry.c): entries[idx] must be an
+ * object; its name, shape, flipped and threads.  where gets "entries[idx]". */
+cp_status cpl_decode_entry_head(const cpl_jctx *c, const json_t *e, size_t idx, char where[48],
+                                char *name, size_t namecap, cp_shape *shape, cp_flip *flip,
+                                int *threads);
 /* root.device -> its fingerprint and the cache sizes algorithms' defaults use. */
 cp_status cpl_decode_device(const cpl_jctx *c, const json_t *root, char fingerprint[17],
                             cp_cache_sizes *caches);

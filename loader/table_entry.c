@@ -91,21 +91,30 @@ static cp_status decode_choice(const cpl_jctx *c, const json_t *e, const char *w
     return cpl_jbool(c, ru, sub, "in_noise", &out->margin_in_noise);
 }
 
-cp_status cpl_decode_entry(const cpl_jctx *c, const json_t *e, size_t idx, cp_table_entry *out,
-                           char *key, size_t keycap, const cp_cache_sizes *caches) {
-    char where[48];
-    snprintf(where, sizeof where, "entries[%zu]", idx);
+cp_status cpl_decode_entry_head(const cpl_jctx *c, const json_t *e, size_t idx, char where[48],
+                                char *name, size_t namecap, cp_shape *shape, cp_flip *flip,
+                                int *threads) {
+    snprintf(where, 48, "entries[%zu]", idx);
     if (!json_is_object(e))
         return cpl_jfail(c, CP_EFORMAT, "%s: expected object, found %s", where,
                          cpl_json_type_name(e));
     cp_status st;
     long long th;
-    if ((st = cpl_jtext(c, e, where, "name", out->name, sizeof out->name)) != CP_OK ||
-        (st = cpl_decode_shape(c, e, where, &out->shape)) != CP_OK ||
-        (st = cpl_decode_flipped(c, e, where, &out->flip)) != CP_OK ||
+    if ((st = cpl_jtext(c, e, where, "name", name, namecap)) != CP_OK ||
+        (st = cpl_decode_shape(c, e, where, shape)) != CP_OK ||
+        (st = cpl_decode_flipped(c, e, where, flip)) != CP_OK ||
         (st = cpl_jint(c, e, where, "threads", 1, 65536, &th)) != CP_OK)
         return st;
-    out->threads = (int)th;
+    *threads = (int)th;
+    return CP_OK;
+}
+
+cp_status cpl_decode_entry(const cpl_jctx *c, const json_t *e, size_t idx, cp_table_entry *out,
+                           char *key, size_t keycap, const cp_cache_sizes *caches) {
+    char where[48];
+    cp_status st = cpl_decode_entry_head(c, e, idx, where, out->name, sizeof out->name,
+                                         &out->shape, &out->flip, &out->threads);
+    if (st != CP_OK) return st;
     if ((st = decode_choice(c, e, where, caches, out)) != CP_OK) return st;
 
     json_t *cands = NULL, *tried = NULL;

@@ -47,27 +47,20 @@ static cp_status read_entry(cph_rctx *c, const json_t *e, size_t i, int *first_c
     const cpl_jctx *j = &c->j;
     cph_results *r = c->r;
     char where[48];
-    snprintf(where, sizeof where, "entries[%zu]", i);
-    if (!json_is_object(e))
-        return cpl_jfail(j, CP_EFORMAT, "%s: expected an object, found %s", where,
-                         cpl_json_type_name(e));
     cph_result_choice ch;
     memset(&ch, 0, sizeof ch);
-    long long thr = 0;
     json_t *choice, *cands;
     char sub[96];
     cp_status st;
+    if ((st = cpl_decode_entry_head(j, e, i, where, ch.layer, sizeof ch.layer, &ch.shape, &ch.flip,
+                                    &ch.threads)))
+        return st;
     snprintf(sub, sizeof sub, "%s.choice", where);
-    if ((st = cpl_jtext(j, e, where, "name", ch.layer, sizeof ch.layer)) ||
-        (st = cpl_decode_shape(j, e, where, &ch.shape)) ||
-        (st = cpl_decode_flipped(j, e, where, &ch.flip)) ||
-        (st = cpl_jint(j, e, where, "threads", 1, 65536, &thr)) ||
-        (st = cpl_jfield(j, e, where, "choice", JSON_OBJECT, 0, &choice)) ||
+    if ((st = cpl_jfield(j, e, where, "choice", JSON_OBJECT, 0, &choice)) ||
         (st = cpl_jtext(j, choice, sub, "algo", ch.algo, sizeof ch.algo)) ||
         (st = cph_results_params_text(j, choice, sub, ch.params, sizeof ch.params)) ||
         (st = cpl_jfield(j, e, where, "candidates", JSON_ARRAY, 0, &cands)))
         return st;
-    ch.threads = (int)thr;
     ch.median = NAN;
     for (size_t k = 0; k < json_array_size(cands); k++) {
         cph_result_item it;
