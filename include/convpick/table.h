@@ -93,7 +93,7 @@ cp_cache_sizes cp_table_caches(const cp_table *t);
  * measurement settings, so that a resumed tune can tell whether an entry was
  * measured the way it would measure it now. */
 const char *cp_table_settings_key(const cp_table *t, size_t i);
-/* The entry of exactly this shape, mode and thread count, or NULL (O(log n)). */
+/* The entry of exactly this shape, flip and thread count, or NULL (O(log n)). */
 const cp_table_entry *cp_table_find(const cp_table *t, const cp_shape *s, cp_flip flip,
                                     int threads);
 
@@ -104,7 +104,7 @@ void cp_device_fingerprint(char out[17]);
 
 /* How a lookup was answered. */
 typedef enum cp_match {
-    CP_MATCH_EXACT = 0,   /* an entry of exactly this shape, mode and thread count */
+    CP_MATCH_EXACT = 0,   /* an entry of exactly this shape, flip and thread count */
     CP_MATCH_NEAREST,     /* a compatible entry (rules below), reported as approximate */
     CP_MATCH_DEFAULT      /* no compatible entry: the documented default choice */
 } cp_match;
@@ -121,10 +121,10 @@ typedef struct cp_choice {
 } cp_choice;
 
 /* Lookup rules.
- *  1. Exact: same shape (every field), mode and threads.  threads <= 0 means
+ *  1. Exact: same shape (every field), flip and threads.  threads <= 0 means
  *     "any": the entry with the most threads <= the machine's is not guessed;
  *     the smallest thread count recorded is used.
- *  2. Nearest: entries with the same mode, kernel size r x s, stride,
+ *  2. Nearest: entries with the same flip, kernel size r x s, stride,
  *     dilation and groups class (1, depthwise = groups == c, or other), whose
  *     chosen algorithm supports the asked shape; the one nearest in
  *     |log(FLOPs)| wins (then the nearer thread count, then the earlier entry).
