@@ -74,8 +74,15 @@ static cp_status doc_init(cph_table_doc **out, const cph_machine *m, const cph_t
 static cp_status set_header(cph_table_doc *d, json_t *root, const cph_machine *m,
                             const cph_table_settings *s, char *msg, size_t cap) {
     json_t *settings = cph_table_settings_json(s, m), *dev = cph_device_json(m);
-    if (!settings || !dev || json_object_set_new(root, "settings", settings) != 0 ||
-        json_object_set_new(root, "device", dev) != 0) {
+    int bad = !settings || !dev;
+    if (bad) {
+        json_decref(settings);
+        json_decref(dev);
+    } else {
+        bad = json_object_set_new(root, "settings", settings) != 0; /* steals settings */
+        bad = json_object_set_new(root, "device", dev) != 0 || bad;  /* steals dev */
+    }
+    if (bad) {
         json_decref(root);
         return cpa_fail(CP_EINVAL, msg, cap, "table: cannot build the document (a string of the "
                                              "machine description is not valid UTF-8?)");
