@@ -295,9 +295,9 @@ int cph_cmd_tune(int argc, char **argv) {
                 snprintf(lname, sizeof lname, "%s %s t=%d", L->name, flip == CP_CONV ? "conv" : "xcorr",
                          counts[ti]);
                 cph_layer named = *L;
-                st = cph_tune_layer(&o, &named, flip, counts[ti], sel.algos, sel.nalgos, &caches,
-                                    &exec, &stop_requested, on_candidate, &pc, &e, &rep, msg,
-                                    sizeof msg);
+                const cph_tune_request rq = {&o, &named, flip, counts[ti], sel.algos, sel.nalgos,
+                                             &caches, &exec, &stop_requested, on_candidate, &pc};
+                st = cph_tune_layer(&rq, &e, &rep, msg, sizeof msg);
                 if (rep.interrupted) break;
                 measured_work++;
                 measured_seconds += rep.seconds;
