@@ -49,7 +49,7 @@ import json, sys
 for e in json.load(open(sys.argv[1]))["entries"]:
     s = e["shape"]
     keys = "n c h w k r s stride_h stride_w pad_top pad_left pad_bottom pad_right dilation_h dilation_w groups"
-    print(e["name"], ",".join(str(s[k]) for k in keys.split()), e["mode"], e["threads"])
+    print(e["name"], ",".join(str(s[k]) for k in keys.split()), "conv" if e["flipped"] else "xcorr", e["threads"])
 ' "$table" > "$tmp/layers.txt"
   while read -r name spec mode threads; do
     want="$(awk -v n="$name" '$1 == n { print $2, $3 }' "$tmp/py.txt")"
