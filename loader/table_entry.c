@@ -62,6 +62,26 @@ static cp_status decode_candidate(const cpl_jctx *c, const json_t *cj, const cha
     return CP_OK;
 }
 
+/* "margin_interval": [lo, hi] (finite, lo <= hi; lo may be negative), null
+ * when unbounded, absent in tables written before the race: NaN then. */
+static cp_status decode_margin_interval(const cpl_jctx *c, const json_t *ru, const char *where,
+                                        cp_table_entry *out) {
+    out->margin_lo = out->margin_hi = NAN;
+    const json_t *mi = json_object_get(ru, "margin_interval");
+    if (!mi || json_is_null(mi)) return CP_OK;
+    if (!json_is_array(mi) || json_array_size(mi) != 2 ||
+        !json_is_number(json_array_get(mi, 0)) || !json_is_number(json_array_get(mi, 1)))
+        return cpl_jfail(c, CP_EFORMAT, "%s.margin_interval: expected [low, high], found %s",
+                         where, cpl_json_type_name(mi));
+    const double lo = json_number_value(json_array_get(mi, 0));
+    const double hi = json_number_value(json_array_get(mi, 1));
+    if (!isfinite(lo) || !isfinite(hi) || lo > hi)
+        return cpl_jfail(c, CP_EFORMAT, "%s.margin_interval: expected finite low <= high", where);
+    out->margin_lo = lo;
+    out->margin_hi = hi;
+    return CP_OK;
+}
+
 static cp_status decode_choice(const cpl_jctx *c, const json_t *e, const char *where,
                                const cp_cache_sizes *caches, cp_table_entry *out) {
     char sub[96];
@@ -86,7 +106,8 @@ static cp_status decode_choice(const cpl_jctx *c, const json_t *e, const char *w
     if ((st = cpl_decode_algo(c, ru, sub, &out->runner_up)) != CP_OK ||
         (st = cpl_decode_params(c, ru, sub, out->runner_up, &out->shape, caches,
                                 &out->runner_up_params)) != CP_OK ||
-        (st = cpl_jreal(c, ru, sub, "margin", &out->margin)) != CP_OK)
+        (st = cpl_jreal(c, ru, sub, "margin", &out->margin)) != CP_OK ||
+        (st = decode_margin_interval(c, ru, sub, out)) != CP_OK)
         return st;
     return cpl_jbool(c, ru, sub, "in_noise", &out->margin_in_noise);
 }

@@ -1,5 +1,6 @@
 /* A tuning table's settings and entries as JSON (docs/table-format.md), built
  * from the shared encoders (codec_encode.h), and the settings key. */
+#include <math.h>
 #include <stdio.h>
 #include <string.h>
 
@@ -71,10 +72,14 @@ json_t *cph_table_entry_json(const cp_table_entry *e, const cph_entry_notes *n, 
         json_array_append_new(cands, candidate_json(&e->candidates[i], note));
     }
     json_t *ru = json_null();
-    if (e->runner_up)
-        ru = json_pack("{s:s, s:o, s:o, s:b}", "algo", e->runner_up->name, "params",
+    if (e->runner_up) {
+        const int bounded = isfinite(e->margin_lo) && isfinite(e->margin_hi);
+        ru = json_pack("{s:s, s:o, s:o, s:o, s:b}", "algo", e->runner_up->name, "params",
                        cph_json_params(e->runner_up, &e->runner_up_params), "margin",
-                       cph_json_number(e->margin), "in_noise", e->margin_in_noise ? 1 : 0);
+                       cph_json_number(e->margin), "margin_interval",
+                       bounded ? json_pack("[f, f]", e->margin_lo, e->margin_hi) : json_null(),
+                       "in_noise", e->margin_in_noise ? 1 : 0);
+    }
     return json_pack("{s:s, s:o, s:o, s:i, s:{s:s, s:o}, s:o, s:o, s:o, s:o, s:s}", "name",
                      e->name, "shape", cph_json_shape(&e->shape), "flipped",
                      cph_json_flipped(e->flip), "threads", e->threads, "choice", "algo",

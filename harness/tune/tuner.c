@@ -127,16 +127,17 @@ static int timing_from_trials(const cph_race_cand *k, cp_candidate *c) {
 }
 
 /* The runner-up among the raced candidates: smallest paired ratio to the
- * chosen one, another algorithm preferred.  Returns its race index or -1. */
-static int runner_up(const cph_race_result *r, const cph_planned *const *who, double alpha,
-                     cph_paired_cmp *margin) {
+ * chosen one over their shared rounds, another algorithm preferred.
+ * Returns its race index or -1. */
+static int runner_up(const cph_race_result *r, int chosen, const cph_planned *const *who,
+                     double alpha, cph_paired_cmp *margin) {
     int best[2] = {-1, -1}; /* [0] other algorithm, [1] same algorithm */
     cph_paired_cmp cmp[2] = {{0}, {0}};
     for (size_t i = 0; i < r->ncand; i++) {
-        if ((int)i == r->chosen || r->cand[i].ntrials == 0) continue;
+        if ((int)i == chosen || r->cand[i].ntrials == 0) continue;
         cph_paired_cmp c;
-        if (cph_race_compare(r, (size_t)r->chosen, i, alpha, &c) != 0) continue;
-        const int slot = who[i]->algo == who[r->chosen]->algo;
+        if (cph_race_compare(r, (size_t)chosen, i, alpha, &c) != 0) continue;
+        const int slot = who[i]->algo == who[chosen]->algo;
         if (best[slot] < 0 || c.ratio < cmp[slot].ratio) {
             best[slot] = (int)i;
             cmp[slot] = c;
@@ -264,22 +265,34 @@ cp_status cph_tune_layer(const cph_tune_request *rq, cp_table_entry *entry,
         goto out;
     }
 
-    /* 3. The choice, the runner-up and the margin. */
-    const cph_planned *const *cwho = who;
-    const cp_candidate *best = &cands[slot_of[race.chosen]];
+    /* 3. The choice, the runner-up and the margin.  The leader is the
+     * lowest median of trial medians; should the paired ratio say its
+     * runner-up is faster after all (possible within the noise), the
+     * runner-up is chosen instead, once. */
+    int chosen = race.chosen;
     cph_paired_cmp m = {0};
-    const int ru = runner_up(&race, cwho, ro.alpha, &m);
+    int ru = runner_up(&race, chosen, who, ro.alpha, &m);
+    if (ru >= 0 && m.ratio < 1.0) {
+        chosen = ru;
+        ru = runner_up(&race, chosen, who, ro.alpha, &m);
+    }
+    const cp_candidate *best = &cands[slot_of[chosen]];
     snprintf(entry->name, sizeof entry->name, "%s", layer->name);
     entry->shape = *s;
     entry->flip = rq->flip;
     entry->threads = rq->threads;
-    entry->algo = who[race.chosen]->algo;
+    entry->algo = who[chosen]->algo;
     entry->params = best->params;
     entry->timing = best->timing;
+    entry->margin_lo = entry->margin_hi = NAN;
     if (ru >= 0) {
         entry->runner_up = who[ru]->algo;
         entry->runner_up_params = who[ru]->params;
-        entry->margin = m.ratio - 1.0;
+        entry->margin = m.ratio > 1.0 ? m.ratio - 1.0 : 0.0;
+        if (m.bounded) {
+            entry->margin_lo = m.ratio_lo - 1.0;
+            entry->margin_hi = m.ratio_hi - 1.0;
+        }
         entry->margin_in_noise = !(m.bounded && m.ratio_lo > 1.0);
     }
     entry->ncandidates = nc;

@@ -52,8 +52,10 @@ typedef struct cp_table_entry {
     cp_timing timing;
     const cp_algo *runner_up; /* NULL when only one candidate qualified */
     cp_params runner_up_params;
-    double margin;          /* runner-up median / chosen median - 1 */
-    int margin_in_noise;    /* the two confidence intervals overlap */
+    double margin;          /* runner-up / chosen - 1 (paired ratio of trials, >= 0) */
+    double margin_lo, margin_hi; /* its interval (level in the table's settings); NaN when
+                                    unbounded or not recorded (tables before the race) */
+    int margin_in_noise;    /* the interval does not lie wholly above 0 */
     size_t ncandidates;
     cp_candidate *candidates;
 } cp_table_entry;

@@ -143,6 +143,8 @@ static void fill_entry(cp_table_entry *e, cp_candidate *cands, double *samples, 
     e->timing = (cp_timing){1.25e-4, 1.2e-4, 1.3e-4, 33, 0};
     e->runner_up = cp_algo_find("direct_flipidx");
     e->margin = 0.0625;
+    e->margin_lo = -0.03125; /* a paired interval reaching below 0: in noise */
+    e->margin_hi = 0.125;
     e->margin_in_noise = 1;
     memset(cands, 0, 3 * sizeof *cands);
     snprintf(cands[0].algo, sizeof cands[0].algo, "direct");
@@ -218,6 +220,7 @@ static void round_trip(int with_params) {
             assert_memory_equal(&g->runner_up_params, &e[i].runner_up_params,
                                 sizeof g->runner_up_params);
             assert_true(g->margin == e[i].margin);
+            assert_true(g->margin_lo == e[i].margin_lo && g->margin_hi == e[i].margin_hi);
             assert_int_equal(g->margin_in_noise, 1);
         }
         assert_string_equal(cp_table_settings_key(t, i), key);

@@ -167,6 +167,14 @@ static void tune_and_check(double budget_ticks, const expected *x) {
     /* exp(log(b) - log(a)) may differ from b / a in the last bits. */
     assert_true(fabs(t.e.margin - x->margin) < 1e-12);
     assert_int_equal(t.e.margin_in_noise, x->in_noise);
+    if (x->in_noise) {
+        /* Too few rounds for an interval: recorded as unknown. */
+        assert_true(isnan(t.e.margin_lo) && isnan(t.e.margin_hi));
+    } else {
+        /* Equal trials: the interval is the point itself. */
+        assert_true(fabs(t.e.margin_lo - x->margin) < 1e-12 &&
+                    fabs(t.e.margin_hi - x->margin) < 1e-12);
+    }
     assert_true(t.rep.seconds == x->spent_ticks * TICK);
     cph_tune_entry_free(&t.e);
 }
