@@ -140,13 +140,17 @@ static cp_status get_shape(const ctx *c, const json_t *obj, const char *where, i
     return CP_OK;
 }
 
-static int cmp_str(const void *a, const void *b) {
-    return strcmp(*(const char *const *)a, *(const char *const *)b);
+/* Where a parameter name sorts: its index in the algorithm's declaration,
+ * names the algorithm does not declare after all of them. */
+static int param_rank(const cp_algo *a, const char *name) {
+    const int i = a ? cp_algo_param_index(a, name) : -1;
+    return i >= 0 ? i : 64;
 }
 
-/* {"kb": 64, "kt": 4} -> "kb=64,kt=4" (names sorted). */
-static cp_status get_params(const ctx *c, const json_t *obj, const char *where, char *out,
-                            size_t cap) {
+/* {"kt": 4, "kb": 64} -> "kb=64,kt=4": the algorithm's declaration order
+ * (as everywhere parameters are printed), undeclared names after, sorted. */
+static cp_status get_params(const ctx *c, const json_t *obj, const char *where, const char *algo,
+                            char *out, size_t cap) {
     json_t *p;
     cp_status st = get(c, obj, where, "params", JSON_OBJECT, &p);
     if (st) return st;
@@ -161,7 +165,15 @@ static cp_status get_params(const ctx *c, const json_t *obj, const char *where, 
         if (n == 64) return fail(c, CP_EFORMAT, "%s.params: more than 64 parameters", where);
         names[n++] = key;
     }
-    qsort(names, n, sizeof *names, cmp_str);
+    const cp_algo *a = cp_algo_find(algo);
+    for (size_t i = 1; i < n; i++) /* insertion sort: at most a few names */
+        for (size_t j = i; j > 0; j--) {
+            const int rj = param_rank(a, names[j]), rp = param_rank(a, names[j - 1]);
+            if (rp < rj || (rp == rj && strcmp(names[j - 1], names[j]) <= 0)) break;
+            const char *t = names[j];
+            names[j] = names[j - 1];
+            names[j - 1] = t;
+        }
     size_t len = 0;
     out[0] = '\0';
     for (size_t i = 0; i < n; i++) {
@@ -285,7 +297,7 @@ static cp_status read_bench(ctx *c, const json_t *root) {
             (st = get_mode(c, e, it.where, &it.flip)) ||
             (st = get_int(c, e, it.where, "threads", 1, 65536, &thr)) ||
             (st = get_text(c, e, it.where, "algo", it.algo, sizeof it.algo)) ||
-            (st = get_params(c, e, it.where, it.params, sizeof it.params)))
+            (st = get_params(c, e, it.where, it.algo, it.params, sizeof it.params)))
             return st;
         it.threads = (int)thr;
         char sub[128];
@@ -324,7 +336,7 @@ static cp_status read_candidate(ctx *c, const json_t *cand, const char *where,
     if (!json_is_object(cand))
         return fail(c, CP_EFORMAT, "%s: expected an object, found %s", where, type_name(cand));
     if ((st = get_text(c, cand, where, "algo", it->algo, sizeof it->algo)) ||
-        (st = get_params(c, cand, where, it->params, sizeof it->params)))
+        (st = get_params(c, cand, where, it->algo, it->params, sizeof it->params)))
         return st;
     if (get_text(c, cand, where, "status", status, sizeof status))
         return fail(c, CP_EFORMAT, "%s.status: expected \"ok\", \"disqualified\" or \"failed\"",
@@ -377,7 +389,7 @@ static cp_status read_entry(ctx *c, const json_t *e, size_t i, int *first_cold, 
         (st = get_int(c, e, where, "threads", 1, 65536, &thr)) ||
         (st = get(c, e, where, "choice", JSON_OBJECT, &choice)) ||
         (st = get_text(c, choice, sub, "algo", ch.algo, sizeof ch.algo)) ||
-        (st = get_params(c, choice, sub, ch.params, sizeof ch.params)) ||
+        (st = get_params(c, choice, sub, ch.algo, ch.params, sizeof ch.params)) ||
         (st = get(c, e, where, "candidates", JSON_ARRAY, &cands)))
         return st;
     ch.threads = (int)thr;

@@ -14,10 +14,6 @@
 
 #include "harness/cli/cli.h"
 
-const char cph_membudget_help[] =
-    "  --max-memory B|P% refuse a layer whose buffers and workspace need more than B bytes\n"
-    "                    (suffix K, M or G) or P % of the machine's memory (default 50%)\n";
-
 static cp_status fail(char *msg, size_t cap, const char *fmt, ...)
     __attribute__((format(printf, 3, 4)));
 static cp_status fail(char *msg, size_t cap, const char *fmt, ...) {
