@@ -11,6 +11,7 @@
 
 #include "harness/bench/bench_state.h"
 #include "harness/cli/cli.h"
+#include "harness/cli/options.h"
 #include "harness/io/rawfile.h"
 #include "harness/io/report_json.h"
 #include "harness/machine/membudget.h"
@@ -24,13 +25,10 @@ static int setup(cph_bench_state *r, cph_bench_cfg *c) {
         cph_err("bench: cannot describe this machine: %s", msg);
         return CPH_EXIT_FAIL;
     }
-    r->nthreads = c->threads ? cph_parse_threads(c->threads, r->m.cores, r->threads,
-                                                 CPH_BENCH_MAX_THREADS, msg, sizeof msg)
+    r->nthreads = c->threads ? cph_opt_threads_read("bench", c->threads, r->m.cores, r->threads,
+                                                    CPH_BENCH_MAX_THREADS)
                              : (r->threads[0] = 1, 1);
-    if (r->nthreads < 1) {
-        cph_err("bench: --threads '%s': %s", c->threads, msg);
-        return CPH_EXIT_USAGE;
-    }
+    if (r->nthreads < 1) return CPH_EXIT_USAGE;
     int most = 1;
     for (int i = 0; i < r->nthreads; i++)
         if (r->threads[i] > most) most = r->threads[i];

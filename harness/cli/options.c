@@ -113,9 +113,13 @@ int cph_opt_threads_read(const char *cmd, const char *arg, int cores, int *out, 
 }
 
 int cph_opt_threads(const char *cmd, const char *arg) {
-    /* The syntax now, with room for any core count; the range later. */
+    /* The syntax now; the range once the core count is known. */
     int counts[256];
-    return cph_opt_threads_read(cmd, arg, 1 << 16, counts, 256) < 0 ? CPH_EXIT_USAGE : 0;
+    char msg[256];
+    if (cph_parse_threads(arg, 1 << 16, counts, 256, msg, sizeof msg) < 1 &&
+        !strstr(msg, "is outside"))
+        return cph_opt_error(cmd, "--threads", "%s", unprefixed(msg, "threads: "));
+    return 0;
 }
 
 int cph_opt_max_memory(const char *cmd, const char *arg, uint64_t *out) {

@@ -9,6 +9,7 @@
 #include <sys/stat.h>
 
 #include "harness/cli/cli.h"
+#include "harness/cli/options.h"
 #include "harness/io/rawfile.h"
 #include "harness/io/table_write.h"
 #include "harness/machine/machine.h"
@@ -93,11 +94,8 @@ int cph_tune_run(const cph_tune_job *job) {
     }
     have_machine = 1;
     int counts[CPH_TABLE_MAX_THREADS];
-    int nt = cph_parse_threads(job->threads, m.cores, counts, CPH_TABLE_MAX_THREADS, msg, sizeof msg);
-    if (nt < 1) {
-        cph_err("tune: --threads: %s", msg);
-        goto done;
-    }
+    const int nt = cph_opt_threads_read("tune", job->threads, m.cores, counts, CPH_TABLE_MAX_THREADS);
+    if (nt < 1) goto done;
     int most = 1;
     for (int i = 0; i < nt; i++)
         if (counts[i] > most) most = counts[i];

@@ -77,8 +77,8 @@ grep -q "^faster .* im2col_gemm " "$tmp/out" || fail "stem/im2col_gemm should be
 grep -q "^unchanged .*mix .* direct " "$tmp/out" || fail "mix/direct should be unchanged"
 head -n 20 "$tmp/out" | grep -m1 -E '^(slower|faster|unchanged|inconclusive) ' | grep -q '^slower' \
   || fail "the worst row (slower) should come first"
-grep -q "only in BASE: mix xcorr t=1 im2col_gemm" "$tmp/out" || fail "unmatched BASE item not reported"
-grep -q "only in NEW: mix xcorr t=1 direct_renamed" "$tmp/out" || fail "unmatched NEW item not reported"
+grep -q "only in BASE: mix flip=no t=1 im2col_gemm" "$tmp/out" || fail "unmatched BASE item not reported"
+grep -q "only in NEW: mix flip=no t=1 direct_renamed" "$tmp/out" || fail "unmatched NEW item not reported"
 grep -q "summary: 3 compared: 1 slower, 0 inconclusive, 1 unchanged, 1 faster; 1 only in BASE, 1 only in NEW: REGRESSION" "$tmp/out" \
   || { cat "$tmp/out"; fail "summary line"; }
 
@@ -92,9 +92,9 @@ msg="$(xmllint --xpath 'string(//failure/@message)' "$tmp/junit.xml")"
 echo "$msg" | grep -qE '^slower: ratio 1\.(0[6-9]|1[0-4])[0-9]* \(Hodges-Lehmann [0-9.]+, 99\.0 % CI [0-9.]+\.\.[0-9.]+\), Mann-Whitney p = [0-9.e+-]+ ' \
   || fail "failure message lacks the figures: $msg"
 name="$(xmllint --xpath 'string(//testcase[failure]/@name)' "$tmp/junit.xml")"
-[ "$name" = "stem <&\"'> xcorr t=1 direct" ] || fail "testcase name not escaped and read back: '$name'"
+[ "$name" = "stem <&\"'> flip=no t=1 direct" ] || fail "testcase name not escaped and read back: '$name'"
 ls "$tmp" | grep -q '\.tmp' && fail "temporary report file left behind"
-grep -q '^| \*\*slower\*\* | stem <&"'"'"'> | xcorr | 1 | direct |' "$tmp/summary.md" || { cat "$tmp/summary.md"; fail "markdown row"; }
+grep -q '^| \*\*slower\*\* | stem <&"'"'"'> | no | 1 | direct |' "$tmp/summary.md" || { cat "$tmp/summary.md"; fail "markdown row"; }
 grep -q "1 only in BASE, 1 only in NEW" "$tmp/summary.md" || fail "markdown summary"
 
 # A file against itself: no regression, every pair unchanged or inconclusive.
