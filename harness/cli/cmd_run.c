@@ -37,7 +37,9 @@ static void usage(FILE *f) {
 enum { OPT_INPUT = 1, OPT_WEIGHTS, OPT_BIAS, OPT_OUTPUT };
 
 typedef struct {
-    const char *spec, *algo, *input, *weights, *bias, *output, *flip, *max_memory;
+    const char *spec, *algo, *input, *weights, *bias, *output, *flip_arg, *max_memory;
+    cp_flip flip;
+    uint64_t budget; /* 0: the default */
 } run_opts;
 
 /* One warning per tensor that holds NaN or Inf: they propagate, never crash. */
@@ -57,18 +59,14 @@ static int run_layer(const run_opts *o) {
     if (!a)
         return cph_opt_error("run", "--algo", "unknown algorithm '%s' (see convpick algos)",
                              o->algo);
-    cp_flip flip = CP_XCORR;
-    int nflip = 1;
-    if (o->flip && cph_opt_flip("run", o->flip, 0, &flip, &nflip)) return CPH_EXIT_USAGE;
+    cp_flip flip = o->flip;
     char why[256] = "";
     if (!a->supports(&s, flip, why, sizeof why)) {
         cph_err("run: %s does not support this layer with --flip %s: %s", a->name,
                 cph_flip_word(flip), why);
         return CPH_EXIT_USAGE;
     }
-    uint64_t budget = 0;
-    if (o->max_memory && cph_opt_max_memory("run", o->max_memory, &budget))
-        return CPH_EXIT_USAGE;
+    const uint64_t budget = o->budget;
     const cp_cache_sizes caches = cp_cache_sizes_fallback();
     const cph_mem_need need = cph_mem_layer_need(&s, &flip, 1, &a, 1, 1, 0, &caches);
     if (cph_mem_check("the layer", &need, budget ? budget : cph_mem_default(), msg, sizeof msg) !=
@@ -148,7 +146,7 @@ static int parse(int argc, char **argv, run_opts *o) {
         case 'h': usage(stdout); return CPH_EXIT_OK;
         case CPH_OPT_SHAPE: slot = &o->spec; break;
         case CPH_OPT_ALGO: slot = &o->algo; break;
-        case CPH_OPT_FLIP: slot = &o->flip; break;
+        case CPH_OPT_FLIP: slot = &o->flip_arg; break;
         case OPT_INPUT: slot = &o->input; break;
         case OPT_WEIGHTS: slot = &o->weights; break;
         case OPT_BIAS: slot = &o->bias; break;
@@ -162,6 +160,10 @@ static int parse(int argc, char **argv, run_opts *o) {
                                  "given twice");
         }
         *slot = optarg;
+        int n, rc = 0;
+        if (opt == CPH_OPT_FLIP) rc = cph_opt_flip("run", optarg, 0, &o->flip, &n);
+        if (opt == CPH_OPT_MAX_MEMORY) rc = cph_opt_max_memory("run", optarg, &o->budget);
+        if (rc) return rc;
     }
     if (cph_opt_no_operands("run", argc, argv)) return CPH_EXIT_USAGE;
     const struct { const char *name, *v; } need[] = {
