@@ -92,7 +92,7 @@ static void print_text(const cph_machine *m, const cph_roofs *r) {
     printf("%s arrays)\n", sz);
     printf("ridge        %.2f FLOP/byte on 1 core, %.2f FLOP/byte on %d %s\n", r->ridge_1core,
            r->ridge_all, r->cores_used, plural(r->cores_used, "core", "cores"));
-    printf("             measured in %.2f s, threads %s\n", r->seconds_spent,
+    printf("             measured in %.0f ms, threads %s\n", 1e3 * r->seconds_spent,
            r->pinned ? "pinned one per core" : "not pinned");
 }
 
