@@ -49,7 +49,7 @@ static void list(void) {
 }
 
 int cph_cmd_algos(int argc, char **argv) {
-    static const struct option longopts[] = {CPH_OPT_HELP_ENTRY, CPH_OPTS_END};
+    static const struct option longopts[] = {CPH_OPTS_HELP_END};
     int opt;
     while ((opt = cph_opt_next("algos", argc, argv, longopts)) != -1) {
         if (opt != 'h') return CPH_EXIT_USAGE;

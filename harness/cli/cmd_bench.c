@@ -58,30 +58,20 @@ static int parse(int argc, char **argv, cph_bench_cfg *c) {
         {"no-sgemm", no_argument, NULL, OPT_NOSGEMM},
         {"targets", no_argument, NULL, OPT_TARGETS},
         CPH_OPT_MAX_MEMORY_ENTRY,
-        CPH_OPT_HELP_ENTRY,
-        CPH_OPTS_END,
+        CPH_OPTS_HELP_END,
     };
+    const cph_opt_dest dest = {"bench", &c->sel, &c->timing, &c->threads, &c->max_memory};
     int opt;
     while ((opt = cph_opt_next("bench", argc, argv, longopts)) != -1) {
         int rc = 0;
         switch (opt) {
         case 'h': usage(stdout); return CPH_EXIT_OK;
-        case CPH_OPT_BAD: return CPH_EXIT_USAGE;
         case OPT_NOROOFS: c->roofs = 0; break;
         case OPT_JSON: c->json_path = optarg; break;
         case OPT_TABLE: c->table_path = optarg; break;
         case OPT_NOSGEMM: c->sgemm = 0; break;
         case OPT_TARGETS: c->targets = 1; break;
-        case CPH_OPT_THREADS:
-            rc = cph_opt_threads("bench", optarg);
-            c->threads = optarg;
-            break;
-        case CPH_OPT_MAX_MEMORY: rc = cph_opt_max_memory("bench", optarg, &c->max_memory); break;
-        case CPH_OPT_TARGET_CI: case CPH_OPT_MAX_SECONDS: case CPH_OPT_MAX_SAMPLES:
-        case CPH_OPT_COLD:
-            rc = cph_opt_timing("bench", &c->timing, opt, optarg);
-            break;
-        default: rc = cph_opt_selection("bench", &c->sel, opt, optarg);
+        default: rc = cph_opt_shared(&dest, opt, optarg);
         }
         if (rc) return rc;
     }

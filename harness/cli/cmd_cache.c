@@ -373,9 +373,9 @@ static int parse(int argc, char **argv, cache_opts *co) {
         {"skip-kernel", no_argument, NULL, OPT_SKIP},
         {"family", required_argument, NULL, OPT_FAMILY},
         {"rounds", required_argument, NULL, OPT_ROUNDS},
-        CPH_OPT_HELP_ENTRY,
-        CPH_OPTS_END,
+        CPH_OPTS_HELP_END,
     };
+    const cph_opt_dest dest = {"cache", &co->sel, NULL, NULL, NULL};
     cache_cli *c = &co->c;
     cph_study_opts *o = &co->o;
     int opt, rc;
@@ -410,13 +410,12 @@ static int parse(int argc, char **argv, cache_opts *co) {
         case OPT_PLAIN: c->plain = 1; break;
         case OPT_SKIP: c->skip = 1; break;
         case OPT_FAMILY: c->family = optarg; break;
-        case CPH_OPT_BAD: return CPH_EXIT_USAGE;
         case CPH_OPT_FLIP:
             return cph_opt_error("cache", "--flip",
                                  "not taken: each variant has its own orientation (see --help)");
         default:
             if (opt == CPH_OPT_ALGO) c->algo_given = 1;
-            rc = cph_opt_selection("cache", &co->sel, opt, optarg);
+            rc = cph_opt_shared(&dest, opt, optarg);
         }
         if (rc) return rc;
     }

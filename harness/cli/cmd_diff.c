@@ -63,8 +63,7 @@ static int parse(int argc, char **argv, diff_opts *o) {
         {"allow-other-device", no_argument, NULL, OPT_OTHER},
         {"junit", required_argument, NULL, OPT_JUNIT},
         {"markdown", required_argument, NULL, OPT_MD},
-        CPH_OPT_HELP_ENTRY,
-        CPH_OPTS_END,
+        CPH_OPTS_HELP_END,
     };
     int opt;
     double v;

@@ -76,8 +76,7 @@ static int parse(int argc, char **argv, lookup_opts *o) {
         {"threads", required_argument, NULL, OPT_THREADS},
         {"strict-device", no_argument, NULL, OPT_STRICT},
         {"json", no_argument, NULL, OPT_JSON},
-        CPH_OPT_HELP_ENTRY,
-        CPH_OPTS_END,
+        CPH_OPTS_HELP_END,
     };
     int opt, nflip;
     long long v;

@@ -110,8 +110,7 @@ static int parse(int argc, char **argv, probe_opts *o) {
         {"no-roofs", no_argument, NULL, OPT_NOROOFS},
         {"seconds", required_argument, NULL, OPT_SECONDS},
         {"synthetic", required_argument, NULL, OPT_SYNTHETIC},
-        CPH_OPT_HELP_ENTRY,
-        CPH_OPTS_END,
+        CPH_OPTS_HELP_END,
     };
     int opt;
     while ((opt = cph_opt_next("probe", argc, argv, longopts)) != -1) {

@@ -136,8 +136,7 @@ static int parse(int argc, char **argv, run_opts *o) {
         {"bias", required_argument, NULL, OPT_BIAS},
         {"output", required_argument, NULL, OPT_OUTPUT},
         CPH_OPT_MAX_MEMORY_ENTRY,
-        CPH_OPT_HELP_ENTRY,
-        CPH_OPTS_END,
+        CPH_OPTS_HELP_END,
     };
     int opt;
     while ((opt = cph_opt_next("run", argc, argv, longopts)) != -1) {

@@ -51,18 +51,17 @@ static int parse(int argc, char **argv, tune_cli *t) {
         {"max-candidates", required_argument, NULL, OPT_MAXC},
         {"quiet", no_argument, NULL, OPT_QUIET},
         CPH_OPT_MAX_MEMORY_ENTRY,
-        CPH_OPT_HELP_ENTRY,
-        CPH_OPTS_END,
+        CPH_OPTS_HELP_END,
     };
     cph_tune_job *j = &t->job;
     cph_tune_opts *o = &j->opts;
+    const cph_opt_dest dest = {"tune", &t->sel, &o->timing, &j->threads, &j->max_memory};
     int opt;
     long long n;
     while ((opt = cph_opt_next("tune", argc, argv, longopts)) != -1) {
         int rc = 0;
         switch (opt) {
         case 'h': usage(stdout); return CPH_EXIT_OK;
-        case CPH_OPT_BAD: return CPH_EXIT_USAGE;
         case OPT_OUT: j->out = optarg; break;
         case OPT_RESUME: j->resume = 1; break;
         case OPT_FORCE: j->force = 1; break;
@@ -79,16 +78,7 @@ static int parse(int argc, char **argv, tune_cli *t) {
             rc = cph_opt_int("tune", "--max-candidates", optarg, 1, 64, "an integer in [1, 64]", &n);
             o->max_candidates = (int)n;
             break;
-        case CPH_OPT_THREADS:
-            rc = cph_opt_threads("tune", optarg);
-            j->threads = optarg;
-            break;
-        case CPH_OPT_MAX_MEMORY: rc = cph_opt_max_memory("tune", optarg, &j->max_memory); break;
-        case CPH_OPT_TARGET_CI: case CPH_OPT_MAX_SECONDS: case CPH_OPT_MAX_SAMPLES:
-        case CPH_OPT_COLD:
-            rc = cph_opt_timing("tune", &o->timing, opt, optarg);
-            break;
-        default: rc = cph_opt_selection("tune", &t->sel, opt, optarg);
+        default: rc = cph_opt_shared(&dest, opt, optarg);
         }
         if (rc) return rc;
     }

@@ -133,20 +133,16 @@ typedef struct verify_opts {
 /* Returns -1 to go on, else the exit code (the error already reported). */
 static int parse(int argc, char **argv, verify_opts *o) {
     static const struct option longopts[] = {
-        CPH_OPTS_SELECTION, CPH_OPT_MAX_MEMORY_ENTRY, CPH_OPT_HELP_ENTRY, CPH_OPTS_END,
+        CPH_OPTS_SELECTION, CPH_OPT_MAX_MEMORY_ENTRY, CPH_OPTS_HELP_END,
     };
+    const cph_opt_dest dest = {"verify", &o->sel, NULL, NULL, &o->budget};
     int opt;
     while ((opt = cph_opt_next("verify", argc, argv, longopts)) != -1) {
-        int rc = 0;
-        if (opt == CPH_OPT_BAD) return CPH_EXIT_USAGE;
         if (opt == 'h') {
             usage(stdout);
             return CPH_EXIT_OK;
         }
-        if (opt == CPH_OPT_MAX_MEMORY)
-            rc = cph_opt_max_memory("verify", optarg, &o->budget);
-        else
-            rc = cph_opt_selection("verify", &o->sel, opt, optarg);
+        const int rc = cph_opt_shared(&dest, opt, optarg);
         if (rc) return rc;
     }
     static const cp_flip both[] = {CP_XCORR, CP_CONV};

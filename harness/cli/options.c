@@ -205,7 +205,7 @@ int cph_opt_selection(const char *cmd, cph_selection *sel, int opt, const char *
     }
 }
 
-int cph_opt_timing(const char *cmd, cph_timing_opts *t, int opt, const char *arg) {
+static int timing_option(const char *cmd, cph_timing_opts *t, int opt, const char *arg) {
     double v = 0;
     long long n = 0;
     switch (opt) {
@@ -230,6 +230,20 @@ int cph_opt_timing(const char *cmd, cph_timing_opts *t, int opt, const char *arg
     default:
         return cph_opt_error(cmd, NULL, "internal: option code %d is not a timing option", opt);
     }
+}
+
+int cph_opt_shared(const cph_opt_dest *d, int opt, const char *arg) {
+    if (opt == CPH_OPT_BAD) return CPH_EXIT_USAGE;
+    if (opt >= CPH_OPT_SHAPE && opt <= CPH_OPT_SEED && d->sel)
+        return cph_opt_selection(d->cmd, d->sel, opt, arg);
+    if (opt >= CPH_OPT_TARGET_CI && opt <= CPH_OPT_COLD && d->timing)
+        return timing_option(d->cmd, d->timing, opt, arg);
+    if (opt == CPH_OPT_THREADS && d->threads) {
+        *d->threads = arg;
+        return cph_opt_threads(d->cmd, arg);
+    }
+    if (opt == CPH_OPT_MAX_MEMORY && d->max_memory) return cph_opt_max_memory(d->cmd, arg, d->max_memory);
+    return cph_opt_error(d->cmd, NULL, "internal: option code %d has no destination", opt);
 }
 
 int cph_opt_selection_finish(const char *cmd, cph_selection *sel, const cp_flip *default_flips,

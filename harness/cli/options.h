@@ -55,8 +55,8 @@ enum {
         {"max-samples", required_argument, NULL, CPH_OPT_MAX_SAMPLES},                      \
         {"cold", no_argument, NULL, CPH_OPT_COLD}
 #define CPH_OPT_MAX_MEMORY_ENTRY {"max-memory", required_argument, NULL, CPH_OPT_MAX_MEMORY}
-#define CPH_OPT_HELP_ENTRY {"help", no_argument, NULL, 'h'}
-#define CPH_OPTS_END {NULL, 0, NULL, 0}
+/* Last in every table: --help and the end marker. */
+#define CPH_OPTS_HELP_END {"help", no_argument, NULL, 'h'}, {NULL, 0, NULL, 0}
 
 /* The one error line for options: "convpick CMD: OPT: MESSAGE" (without
  * "OPT: " when opt is NULL).  Returns CPH_EXIT_USAGE. */
@@ -89,10 +89,20 @@ int cph_opt_threads_read(const char *cmd, const char *arg, int cores, int *out, 
 /* --max-memory: bytes (K, M, G) or a percentage of the machine's memory. */
 int cph_opt_max_memory(const char *cmd, const char *arg, uint64_t *out);
 
+/* Where the shared options of a command go; NULL for a group it does not take. */
+typedef struct cph_opt_dest {
+    const char *cmd;
+    cph_selection *sel;      /* CPH_OPTS_SELECTION */
+    cph_timing_opts *timing; /* CPH_OPTS_TIMING except --threads */
+    const char **threads;    /* --threads: the list, its syntax checked */
+    uint64_t *max_memory;    /* --max-memory */
+} cph_opt_dest;
+
+/* Any shared option (or CPH_OPT_BAD, already reported) into d: 0, or
+ * CPH_EXIT_USAGE after the error line. */
+int cph_opt_shared(const cph_opt_dest *d, int opt, const char *arg);
 /* One of the CPH_OPTS_SELECTION options into sel. */
 int cph_opt_selection(const char *cmd, cph_selection *sel, int opt, const char *arg);
-/* One of the CPH_OPTS_TIMING options except --threads into t. */
-int cph_opt_timing(const char *cmd, cph_timing_opts *t, int opt, const char *arg);
 /* Finishes a selection (defaults, at least one layer). */
 int cph_opt_selection_finish(const char *cmd, cph_selection *sel, const cp_flip *default_flips,
                              int ndefault);
