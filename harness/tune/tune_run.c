@@ -5,6 +5,7 @@
 
 #include <signal.h>
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
 
@@ -60,157 +61,191 @@ static cph_table_settings settings(const cph_tune_opts *o, const int *counts, in
     return ts;
 }
 
-int cph_tune_run(const cph_tune_job *job) {
-    const cph_selection sel = *job->sel;
-    cph_tune_opts o = job->opts;
-    const char *out = job->out;
-    const int resume = job->resume, force = job->force, quiet = job->quiet;
-    const uint64_t budget = job->max_memory;
-    int rc = CPH_EXIT_USAGE;
-    char msg[512];
+/* One run's state. */
+typedef struct tune_state {
+    const cph_tune_job *job;
+    cph_tune_opts o;      /* job->opts with the seed and the flush size filled in */
     cph_machine m;
-    int have_machine = 0;
-    cph_table_doc *doc = NULL;
-    stop_requested = 0;
-    o.seed = sel.seed;
+    int have_machine;
+    cph_table_doc *doc;
+    int exists;           /* job->out existed before the run */
+    int counts[CPH_TABLE_MAX_THREADS];
+    int nt;
+    cp_cache_sizes caches;
+    cph_progress pr;
+    int nwork, done_work, measured_work, failures;
+    double measured_seconds;
+} tune_state;
+
+/* The output checked, the machine, the thread counts, the memory check and
+ * the table document; the exit code of a failure (reported), or -1. */
+static int prepare(tune_state *t) {
+    const cph_tune_job *job = t->job;
+    const char *out = job->out;
+    char msg[512];
     struct stat sb;
-    const int exists = stat(out, &sb) == 0;
-    if (exists && S_ISDIR(sb.st_mode)) {
+    t->exists = stat(out, &sb) == 0;
+    if (t->exists && S_ISDIR(sb.st_mode)) {
         cph_err("tune: --out %s is a directory", out);
-        goto done;
+        return CPH_EXIT_USAGE;
     }
     /* Refuse an unwritable place before measuring anything. */
     if (cph_check_output_dir(out, msg, sizeof msg) != CP_OK) {
         cph_err("tune: --out %s: %s", out, msg);
-        goto done;
+        return CPH_EXIT_USAGE;
     }
-    if (exists && !resume && !force) {
+    if (t->exists && !job->resume && !job->force) {
         cph_err("tune: %s exists: use --resume to complete it or --force to replace it", out);
-        goto done;
+        return CPH_EXIT_USAGE;
     }
-    if (cph_machine_detect(&m, NULL, msg, sizeof msg) != CP_OK) {
+    if (cph_machine_detect(&t->m, NULL, msg, sizeof msg) != CP_OK) {
         cph_err("tune: %s", msg);
-        goto done;
+        return CPH_EXIT_USAGE;
     }
-    have_machine = 1;
-    int counts[CPH_TABLE_MAX_THREADS];
-    const int nt = cph_opt_threads_read("tune", job->threads, m.cores, counts, CPH_TABLE_MAX_THREADS);
-    if (nt < 1) goto done;
+    t->have_machine = 1;
+    t->nt = cph_opt_threads_read("tune", job->threads, t->m.cores, t->counts, CPH_TABLE_MAX_THREADS);
+    if (t->nt < 1) return CPH_EXIT_USAGE;
     int most = 1;
-    for (int i = 0; i < nt; i++)
-        if (counts[i] > most) most = counts[i];
-    if (cph_mem_check_selection("tune", &sel, most, 1,
-                                budget ? budget : (uint64_t)m.memory_bytes / 100 *
-                                                      CPH_MEM_DEFAULT_PERCENT) != 0)
-        goto done;
-    const cph_table_settings ts = settings(&o, counts, nt);
-    cp_status st = (exists && resume) ? cph_table_doc_open(out, &m, &ts, &doc, msg, sizeof msg)
-                                      : cph_table_doc_new(&m, &ts, &doc, msg, sizeof msg);
+    for (int i = 0; i < t->nt; i++)
+        if (t->counts[i] > most) most = t->counts[i];
+    const uint64_t budget = job->max_memory ? job->max_memory
+                                            : (uint64_t)t->m.memory_bytes / 100 *
+                                                  CPH_MEM_DEFAULT_PERCENT;
+    if (cph_mem_check_selection("tune", job->sel, most, 1, budget) != 0) return CPH_EXIT_USAGE;
+    const cph_table_settings ts = settings(&t->o, t->counts, t->nt);
+    const cp_status st = (t->exists && job->resume)
+                             ? cph_table_doc_open(out, &t->m, &ts, &t->doc, msg, sizeof msg)
+                             : cph_table_doc_new(&t->m, &ts, &t->doc, msg, sizeof msg);
     if (st != CP_OK) {
         cph_err("tune: %s", msg);
-        goto done;
+        return CPH_EXIT_USAGE;
     }
-    if (exists && !resume) cph_table_doc_replaces(doc, out);
-    if (o.timing.cold && o.timing.flush_bytes == 0) o.timing.flush_bytes = 2 * cph_machine_llc_total(&m);
-    const cp_cache_sizes caches = cph_machine_caches(&m);
+    if (t->exists && !job->resume) cph_table_doc_replaces(t->doc, out);
+    if (t->o.timing.cold && t->o.timing.flush_bytes == 0)
+        t->o.timing.flush_bytes = 2 * cph_machine_llc_total(&t->m);
+    t->caches = cph_machine_caches(&t->m);
+    return -1;
+}
 
-    struct sigaction sa;
-    memset(&sa, 0, sizeof sa);
-    sa.sa_handler = on_signal;
-    sigemptyset(&sa.sa_mask);
-    sigaction(SIGINT, &sa, NULL);
-    sigaction(SIGTERM, &sa, NULL);
+/* One layer x flip at one thread count: tuned, put in the table, the table
+ * written.  Returns 0 to go on, 1 when interrupted, or the exit code of a
+ * failed write (reported). */
+static int tune_one(tune_state *t, const cph_layer *L, cp_flip flip, int threads,
+                    const cp_exec *exec) {
+    const cph_selection *sel = t->job->sel;
+    char msg[512];
+    t->done_work++;
+    if (t->job->resume && cph_table_doc_find(t->doc, &L->shape, flip, threads) == CPH_TABLE_SAME) {
+        cph_progress_note(&t->pr, "[layer %d/%d] %s flip=%s threads=%d: already measured, kept",
+                          t->done_work, t->nwork, L->name, cph_flip_word(flip), threads);
+        return 0;
+    }
+    progress_ctx pc = {&t->pr, t->done_work, t->nwork,
+                       t->measured_work ? t->measured_seconds / t->measured_work : -1.0,
+                       t->nwork - t->done_work + 1};
+    cp_table_entry e;
+    cph_tune_report rep;
+    char lname[96];
+    snprintf(lname, sizeof lname, "%s flip=%s t=%d", L->name, cph_flip_word(flip), threads);
+    cp_status st = cph_tune_layer(&t->o, L, flip, threads, sel->algos, sel->nalgos, &t->caches,
+                                  exec, &stop_requested, on_candidate, &pc, &e, &rep, msg,
+                                  sizeof msg);
+    if (rep.interrupted) return 1;
+    t->measured_work++;
+    t->measured_seconds += rep.seconds;
+    if (st != CP_OK) {
+        cph_progress_note(&t->pr, "[layer %d/%d] %s: %s", t->done_work, t->nwork, lname, msg);
+        t->failures++;
+        return 0;
+    }
+    char note[160];
+    snprintf(note, sizeof note,
+             "tried %d of %d planned candidates in %.1f s: %d measured, %d skipped by "
+             "the budget, %d disqualified, %d failed, %d algorithms not applicable",
+             rep.measured + rep.disqualified, rep.planned, rep.seconds, rep.measured,
+             rep.skipped, rep.disqualified, rep.failed, rep.unsupported);
+    const char *notes[1] = {note};
+    cph_entry_notes en = {NULL, rep.planned, rep.measured, rep.skipped, rep.disqualified,
+                          rep.failed, rep.unsupported, rep.seconds, notes, 1};
+    st = cph_table_doc_put(t->doc, &e, &en, msg, sizeof msg);
+    if (st == CP_OK) st = cph_table_doc_write(t->doc, t->job->out, msg, sizeof msg);
+    char pbuf[128];
+    cp_params_format(e.algo, &e.params, pbuf, sizeof pbuf);
+    if (st == CP_OK)
+        cph_progress_note(&t->pr, "[layer %d/%d] %s: %s%s%s%s %.3f ms, runner-up %s %+.1f %%%s",
+                          t->done_work, t->nwork, lname, e.algo->name, pbuf[0] ? " (" : "", pbuf,
+                          pbuf[0] ? ")" : "", e.timing.median * 1e3,
+                          e.runner_up ? e.runner_up->name : "none", e.margin * 100.0,
+                          e.margin_in_noise ? " (in the noise)" : "");
+    cph_tune_entry_free(&e);
+    if (st != CP_OK) {
+        cph_progress_done(&t->pr);
+        cph_err("tune: %s", msg);
+        return CPH_EXIT_USAGE;
+    }
+    return 0;
+}
 
-    cph_progress pr;
-    cph_progress_init(&pr, stderr, quiet);
-    const int nwork = (int)sel.layers.n * sel.nflips * nt;
-    int done_work = 0, measured_work = 0, failures = 0;
-    double measured_seconds = 0.0;
-    rc = CPH_EXIT_OK;
-    for (int ti = 0; ti < nt && !stop_requested; ti++) {
-        cph_pool *pool = NULL;
-        int pinned = 0;
-        if (cph_pool_create(&m, counts[ti], &pool, &pinned, msg, sizeof msg) != CP_OK) {
-            cph_err("tune: %s", msg);
-            rc = CPH_EXIT_USAGE;
-            break;
+/* Every layer x flip at the ti-th thread count, on its own pinned pool; the
+ * exit code of a failure (reported), or 0. */
+static int tune_threads(tune_state *t, int ti) {
+    const cph_selection *sel = t->job->sel;
+    char msg[512] = "";
+    cph_pool *pool = NULL;
+    int pinned = 0;
+    if (cph_pool_create(&t->m, t->counts[ti], &pool, &pinned, msg, sizeof msg) != CP_OK) {
+        cph_err("tune: %s", msg);
+        return CPH_EXIT_USAGE;
+    }
+    if (!pinned) cph_progress_note(&t->pr, "warning: threads not pinned: %s", msg);
+    const cp_exec exec = cph_pool_exec(pool);
+    int rc = 0;
+    for (size_t li = 0; li < sel->layers.n && !stop_requested && !rc; li++)
+        for (int mi = 0; mi < sel->nflips && !stop_requested && !rc; mi++) {
+            rc = tune_one(t, &sel->layers.v[li], sel->flips[mi], t->counts[ti], &exec);
+            if (rc == 1) rc = 0; /* interrupted: stop_requested is set */
         }
-        if (!pinned) cph_progress_note(&pr, "warning: threads not pinned: %s", msg);
-        cp_exec exec = cph_pool_exec(pool);
-        for (size_t li = 0; li < sel.layers.n && !stop_requested; li++)
-            for (int mi = 0; mi < sel.nflips && !stop_requested; mi++) {
-                const cph_layer *L = &sel.layers.v[li];
-                const cp_flip flip = sel.flips[mi];
-                done_work++;
-                if (resume && cph_table_doc_find(doc, &L->shape, flip, counts[ti]) == CPH_TABLE_SAME) {
-                    cph_progress_note(&pr, "[layer %d/%d] %s flip=%s threads=%d: already measured, kept",
-                                      done_work, nwork, L->name, cph_flip_word(flip),
-                                      counts[ti]);
-                    continue;
-                }
-                progress_ctx pc = {&pr, done_work, nwork,
-                                   measured_work ? measured_seconds / measured_work : -1.0,
-                                   nwork - done_work + 1};
-                cp_table_entry e;
-                cph_tune_report rep;
-                char lname[96];
-                snprintf(lname, sizeof lname, "%s flip=%s t=%d", L->name, cph_flip_word(flip),
-                         counts[ti]);
-                cph_layer named = *L;
-                st = cph_tune_layer(&o, &named, flip, counts[ti], sel.algos, sel.nalgos, &caches,
-                                    &exec, &stop_requested, on_candidate, &pc, &e, &rep, msg,
-                                    sizeof msg);
-                if (rep.interrupted) break;
-                measured_work++;
-                measured_seconds += rep.seconds;
-                if (st != CP_OK) {
-                    cph_progress_note(&pr, "[layer %d/%d] %s: %s", done_work, nwork, lname, msg);
-                    failures++;
-                    continue;
-                }
-                char note[160];
-                snprintf(note, sizeof note,
-                         "tried %d of %d planned candidates in %.1f s: %d measured, %d skipped by "
-                         "the budget, %d disqualified, %d failed, %d algorithms not applicable",
-                         rep.measured + rep.disqualified, rep.planned, rep.seconds, rep.measured,
-                         rep.skipped, rep.disqualified, rep.failed, rep.unsupported);
-                const char *notes[1] = {note};
-                cph_entry_notes en = {NULL, rep.planned, rep.measured, rep.skipped,
-                                      rep.disqualified, rep.failed, rep.unsupported, rep.seconds,
-                                      notes, 1};
-                st = cph_table_doc_put(doc, &e, &en, msg, sizeof msg);
-                if (st == CP_OK) st = cph_table_doc_write(doc, out, msg, sizeof msg);
-                char pbuf[128];
-                cp_params_format(e.algo, &e.params, pbuf, sizeof pbuf);
-                if (st == CP_OK)
-                    cph_progress_note(&pr,
-                                      "[layer %d/%d] %s: %s%s%s%s %.3f ms, runner-up %s %+.1f %%%s",
-                                      done_work, nwork, lname, e.algo->name, pbuf[0] ? " (" : "",
-                                      pbuf, pbuf[0] ? ")" : "", e.timing.median * 1e3,
-                                      e.runner_up ? e.runner_up->name : "none", e.margin * 100.0,
-                                      e.margin_in_noise ? " (in the noise)" : "");
-                cph_tune_entry_free(&e);
-                if (st != CP_OK) {
-                    cph_progress_done(&pr);
-                    cph_err("tune: %s", msg);
-                    rc = CPH_EXIT_USAGE;
-                    stop_requested = 1;
-                }
-            }
-        cph_pool_destroy(pool);
+    cph_pool_destroy(pool);
+    return rc;
+}
+
+int cph_tune_run(const cph_tune_job *job) {
+    tune_state *t = calloc(1, sizeof *t);
+    if (!t) {
+        cph_err("tune: out of memory");
+        return CPH_EXIT_FAIL;
     }
-    cph_progress_done(&pr);
-    if (rc == CPH_EXIT_OK && stop_requested) {
-        fprintf(stderr, "convpick tune: interrupted; %s holds %zu finished entries (--resume "
-                        "completes it)\n", out, cph_table_doc_count(doc));
-        rc = 130;
-    } else if (rc == CPH_EXIT_OK) {
-        if (!quiet)
-            fprintf(stderr, "convpick tune: wrote %s (%zu entries)\n", out, cph_table_doc_count(doc));
-        if (failures) rc = CPH_EXIT_FAIL;
+    t->job = job;
+    t->o = job->opts;
+    t->o.seed = job->sel->seed;
+    stop_requested = 0;
+    int rc = prepare(t);
+    if (rc < 0) {
+        struct sigaction sa;
+        memset(&sa, 0, sizeof sa);
+        sa.sa_handler = on_signal;
+        sigemptyset(&sa.sa_mask);
+        sigaction(SIGINT, &sa, NULL);
+        sigaction(SIGTERM, &sa, NULL);
+        cph_progress_init(&t->pr, stderr, job->quiet);
+        t->nwork = (int)job->sel->layers.n * job->sel->nflips * t->nt;
+        rc = CPH_EXIT_OK;
+        for (int ti = 0; ti < t->nt && !stop_requested && rc == CPH_EXIT_OK; ti++)
+            rc = tune_threads(t, ti);
+        cph_progress_done(&t->pr);
+        if (rc == CPH_EXIT_OK && stop_requested) {
+            fprintf(stderr, "convpick tune: interrupted; %s holds %zu finished entries (--resume "
+                            "completes it)\n", job->out, cph_table_doc_count(t->doc));
+            rc = 130;
+        } else if (rc == CPH_EXIT_OK) {
+            if (!job->quiet)
+                fprintf(stderr, "convpick tune: wrote %s (%zu entries)\n", job->out,
+                        cph_table_doc_count(t->doc));
+            if (t->failures) rc = CPH_EXIT_FAIL;
+        }
     }
-done:
-    if (doc) cph_table_doc_free(doc);
-    if (have_machine) cph_machine_free(&m);
+    if (t->doc) cph_table_doc_free(t->doc);
+    if (t->have_machine) cph_machine_free(&t->m);
+    free(t);
     return rc;
 }
