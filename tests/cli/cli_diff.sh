@@ -105,6 +105,23 @@ for f in diff_base.bench.json diff_base.table.json; do
   expect 0 "" -- "$CLI" diff "$DATA/$f" "$DATA/$f"
 done
 
+# Parameters are printed in the algorithm's declaration order (the order
+# `convpick algos` lists them; ours, no outside source), whatever the order of
+# the keys in the file: here a result whose params object is written backwards.
+$PY - "$tmp/base.json" "$tmp/params.json" <<'PY'
+import json, sys
+d = json.load(open(sys.argv[1]))
+r = next(r for r in d["results"] if r["status"] == "ok")
+r["algo"] = "blocked"
+r["params"] = {"order": 0, "tile_isa": 1, "pb": 3, "cb": 4, "kb": 2}
+json.dump(d, open(sys.argv[2], "w"))
+PY
+want="$("$CLI" algos | awk '/^blocked /{b=1; next} b && /^[a-z]/{exit} b && NF > 2 && $1 != "parameters:" {printf "%s%s", s, $1; s=","}')"
+[ "$want" = "kb,cb,pb,tile_isa,order" ] || fail "blocked's declared parameters read as '$want'"
+expect 0 "" -- "$CLI" diff "$tmp/params.json" "$tmp/params.json"
+grep -qE " blocked +kb=2,cb=4,pb=3,tile_isa=1,order=0 " "$tmp/out" ||
+  { cat "$tmp/out"; fail "params not in declaration order"; }
+
 # A wider tolerance turns the +10 % into no regression; alpha is validated.
 expect 0 "" -- "$CLI" diff --tolerance 15 "$tmp/base.json" "$tmp/new.json"
 expect 2 "--alpha" -- "$CLI" diff --alpha 0.7 "$tmp/base.json" "$tmp/new.json"
