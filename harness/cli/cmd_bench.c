@@ -14,7 +14,13 @@ static void usage(FILE *f) {
           "on each layer, flip and thread count, and prints the median time with its\n"
           "distribution-free confidence interval, GFLOP/s (direct-equivalent FLOPs) and\n"
           "the fraction of the measured FMA peak.  Nothing is chosen or written unless\n"
-          "--json is given.\n\n",
+          "--json is given.  Times are in milliseconds.\n\n"
+          "The peak for t threads is the all-core peak when t is the number of cores\n"
+          "measured together, else the one-core peak times t.  FLOPs are those of the\n"
+          "direct method, so an algorithm that does less arithmetic (Winograd) can\n"
+          "exceed 100 %.  'noisy' marks a measurement whose interquartile range exceeds\n"
+          "10 % of the median or whose CI missed the target; 'cap' one that --max-seconds\n"
+          "stopped.\n\n",
           f);
     cph_help_selection(f, "no");
     fputs("options:\n", f);
@@ -34,13 +40,6 @@ static void usage(FILE *f) {
           "                      default: off)\n",
           f);
     cph_help_max_memory(f);
-    fputs("\nThe peak for t threads is the all-core peak when t is the number of cores\n"
-          "measured together, else the one-core peak times t.  FLOPs are those of the\n"
-          "direct method, so an algorithm that does less arithmetic (Winograd) can\n"
-          "exceed 100 %.  'noisy' marks a measurement whose interquartile range exceeds\n"
-          "10 % of the median or whose CI missed the target; 'cap' one that --max-seconds\n"
-          "stopped.  Times are in milliseconds.\n\n",
-          f);
     cph_help_end(f, "0 done, 1 an algorithm failed to plan or run (or the results\n"
                     "could not be written), 2 bad usage or input (an unwritable --json\n"
                     "directory is found before anything runs)");
