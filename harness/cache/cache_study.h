@@ -25,7 +25,7 @@
 
 #include "harness/cache/cachesim.h"
 #include "harness/machine/counters.h"
-#include "harness/select/layers.h"
+#include "harness/select/select.h"
 #include "harness/measure/stats.h"
 
 typedef enum cph_flip_kind { CPH_VK_XCORR = 0, CPH_VK_FLIPIDX, CPH_VK_PREFLIP } cph_flip_kind;
