@@ -48,7 +48,8 @@ static void print_row(const cph_bench_state *r, const cph_bench_row *x, const ch
 }
 
 /* A row that was not measured: printed, and in the JSON with its reason. */
-static void row_not_timed(cph_bench_state *r, const cph_bench_row *x, const char *status, const char *why) {
+static void row_not_timed(cph_bench_state *r, const cph_bench_row *x, const char *status,
+                          const char *why) {
     char line[512];
     snprintf(line, sizeof line, "%s%s", strcmp(status, "unsupported") == 0 ? "n/a: " : "ERROR ",
              why);
@@ -133,8 +134,9 @@ static double time_row(cph_bench_state *r, const cph_timing_opts *to, const cph_
 }
 
 /* Times an existing plan as one row. */
-static void time_plan(cph_bench_state *r, const cph_timing_opts *to, const cph_bench_row *x, cp_plan *plan,
-                      const float *xin, const float *bias, float *y, const cp_exec *exec) {
+static void time_plan(cph_bench_state *r, const cph_timing_opts *to, const cph_bench_row *x,
+                      cp_plan *plan, const float *xin, const float *bias, float *y,
+                      const cp_exec *exec) {
     const cp_algo *a = cp_plan_algo(plan);
     char ptext[128] = "", shown[192];
     cp_params_format(a, cp_plan_params(plan), ptext, sizeof ptext);
@@ -146,11 +148,11 @@ static void time_plan(cph_bench_state *r, const cph_timing_opts *to, const cph_b
     time_row(r, to, x, run_plan, &wa, &wa.st, shown, cph_json_params(a, cp_plan_params(plan)), 0);
 }
 
-/* Plans and times one algorithm on one layer x mode x thread count; the
+/* Plans and times one algorithm on one layer x flip x thread count; the
  * tile_block of a Winograd plan goes to *wino_tb (for its SGEMM reference). */
-static void bench_algo(cph_bench_state *r, const cph_timing_opts *to, cph_bench_row *x, const cp_exec *exec,
-                       const cp_algo *a, const float *xin, const float *w, const float *bias,
-                       float *y, int64_t *wino_tb) {
+static void bench_algo(cph_bench_state *r, const cph_timing_opts *to, cph_bench_row *x,
+                       const cp_exec *exec, const cp_algo *a, const float *xin, const float *w,
+                       const float *bias, float *y, int64_t *wino_tb) {
     char why[256] = "";
     x->kind = CPH_ROW_ALGO;
     x->name = x->algo = a->name;
@@ -174,8 +176,8 @@ static void bench_algo(cph_bench_state *r, const cph_timing_opts *to, cph_bench_
 
 /* The bare SGEMM of the im2col products (kind CPH_ROW_SGEMM) or of Winograd's
  * GEMM stage with tile_block tb (CPH_ROW_SGEMM_WINO). */
-static void bench_sgemm(cph_bench_state *r, const cph_timing_opts *to, cph_bench_row *x, cph_row_kind kind,
-                        int64_t tb, uint64_t seed) {
+static void bench_sgemm(cph_bench_state *r, const cph_timing_opts *to, cph_bench_row *x,
+                        cph_row_kind kind, int64_t tb, uint64_t seed) {
     cph_gemm_ref g;
     x->kind = kind;
     x->name = kind == CPH_ROW_SGEMM ? "sgemm" : "sgemm_wino";
@@ -206,8 +208,9 @@ static void bench_sgemm(cph_bench_state *r, const cph_timing_opts *to, cph_bench
 }
 
 /* What the tuning table chooses for the layer, planned through cp_table_plan. */
-static void bench_chosen(cph_bench_state *r, const cph_timing_opts *to, cph_bench_row *x, const cp_exec *exec,
-                         const float *xin, const float *w, const float *bias, float *y) {
+static void bench_chosen(cph_bench_state *r, const cph_timing_opts *to, cph_bench_row *x,
+                         const cp_exec *exec, const float *xin, const float *w, const float *bias,
+                         float *y) {
     char why[256] = "";
     cp_choice choice;
     cp_plan *plan = NULL;

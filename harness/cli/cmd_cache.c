@@ -445,9 +445,9 @@ static int cache_run(cache_opts *co) {
     o->caches = cph_machine_caches(&m);
     char ctx[96];
     snprintf(ctx, sizeof ctx, "'%.80s'", co->c.geom ? co->c.geom : "");
-    const cp_status st = co->c.geom
-                             ? cph_geom_parse(co->c.geom, ctx, o->geom, &o->nlevels, msg, sizeof msg)
-                             : geom_from_machine(&m, o->geom, &o->nlevels, msg, sizeof msg);
+    const cp_status st =
+        co->c.geom ? cph_geom_parse(co->c.geom, ctx, o->geom, &o->nlevels, msg, sizeof msg)
+                   : geom_from_machine(&m, o->geom, &o->nlevels, msg, sizeof msg);
     int rc;
     if (st != CP_OK) {
         if (co->c.geom) {

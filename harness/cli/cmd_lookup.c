@@ -87,7 +87,8 @@ static int parse(int argc, char **argv, lookup_opts *o) {
             if (cph_opt_flip("lookup", optarg, 0, &o->flip, &nflip)) return CPH_EXIT_USAGE;
             break;
         case OPT_THREADS:
-            if (cph_opt_int("lookup", "--threads", optarg, 1, 65536, "an integer in [1, 65536]", &v))
+            if (cph_opt_int("lookup", "--threads", optarg, 1, 65536, "an integer in [1, 65536]",
+                            &v))
                 return CPH_EXIT_USAGE;
             o->threads = (int)v;
             break;
@@ -98,9 +99,11 @@ static int parse(int argc, char **argv, lookup_opts *o) {
         }
     }
     if (optind != argc - 1)
-        return cph_opt_error("lookup", NULL, "expected one TABLE, got %d (see convpick lookup --help)",
+        return cph_opt_error("lookup", NULL,
+                             "expected one TABLE, got %d (see convpick lookup --help)",
                              argc - optind);
-    if (!o->spec) return cph_opt_error("lookup", "--shape", "required (see convpick lookup --help)");
+    if (!o->spec)
+        return cph_opt_error("lookup", "--shape", "required (see convpick lookup --help)");
     o->path = argv[optind];
     return -1;
 }

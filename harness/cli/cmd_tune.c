@@ -75,7 +75,8 @@ static int parse(int argc, char **argv, tune_cli *t) {
                                 &o->max_rel_err);
             break;
         case OPT_MAXC:
-            rc = cph_opt_int("tune", "--max-candidates", optarg, 1, 64, "an integer in [1, 64]", &n);
+            rc = cph_opt_int("tune", "--max-candidates", optarg, 1, 64, "an integer in [1, 64]",
+                             &n);
             o->max_candidates = (int)n;
             break;
         default: rc = cph_opt_shared(&dest, opt, optarg);

@@ -215,7 +215,8 @@ static int timing_option(const char *cmd, cph_timing_opts *t, int opt, const cha
         t->target_rel_ci = v / 100.0;
         return 0;
     case CPH_OPT_MAX_SECONDS:
-        if (cph_opt_double(cmd, "--max-seconds", arg, 1e-6, 1e6, "a number of seconds > 0", &t->max_seconds))
+        if (cph_opt_double(cmd, "--max-seconds", arg, 1e-6, 1e6, "a number of seconds > 0",
+                           &t->max_seconds))
             return CPH_EXIT_USAGE;
         return 0;
     case CPH_OPT_MAX_SAMPLES:
@@ -242,7 +243,8 @@ int cph_opt_shared(const cph_opt_dest *d, int opt, const char *arg) {
         *d->threads = arg;
         return cph_opt_threads(d->cmd, arg);
     }
-    if (opt == CPH_OPT_MAX_MEMORY && d->max_memory) return cph_opt_max_memory(d->cmd, arg, d->max_memory);
+    if (opt == CPH_OPT_MAX_MEMORY && d->max_memory)
+        return cph_opt_max_memory(d->cmd, arg, d->max_memory);
     return cph_opt_error(d->cmd, NULL, "internal: option code %d has no destination", opt);
 }
 

@@ -25,7 +25,8 @@ cp_status cph_selection_finish(cph_selection *sel, const cp_flip *default_flips,
         sel->nflips = ndefault;
     }
     if (sel->layers.n == 0)
-        return cpa_fail(CP_EINVAL, msg, cap, "no layers selected (give --shape, --shapes or --suite)");
+        return cpa_fail(CP_EINVAL, msg, cap,
+                        "no layers selected (give --shape, --shapes or --suite)");
     return CP_OK;
 }
 

@@ -103,7 +103,8 @@ static int prepare(tune_state *t) {
         return CPH_EXIT_USAGE;
     }
     t->have_machine = 1;
-    t->nt = cph_opt_threads_read("tune", job->threads, t->m.cores, t->counts, CPH_TABLE_MAX_THREADS);
+    t->nt =
+        cph_opt_threads_read("tune", job->threads, t->m.cores, t->counts, CPH_TABLE_MAX_THREADS);
     if (t->nt < 1) return CPH_EXIT_USAGE;
     int most = 1;
     for (int i = 0; i < t->nt; i++)
