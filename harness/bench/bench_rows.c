@@ -237,7 +237,7 @@ static uint64_t tensor_seed(uint64_t seed, size_t layer, int tensor) {
     return cph_rng_next(&st);
 }
 
-/* One layer at one thread count: tensors once, then every mode x algorithm. */
+/* One layer at one thread count: tensors once, then every flip x algorithm. */
 int cph_bench_layer(cph_bench_state *r, const cph_bench_cfg *c, size_t li, int threads, int pinned,
                        const cp_exec *exec) {
     const cph_layer *L = &c->sel.layers.v[li];

@@ -1,7 +1,7 @@
 /* convpick diff BASE NEW: did NEW get slower than BASE?
  *
  * Reads two bench results files or tuning tables (any mix), pairs their
- * measurements by shape, mode, thread count, algorithm and parameters, and
+ * measurements by shape, flip, thread count, algorithm and parameters, and
  * gives each pair a ratio NEW/BASE with a confidence interval and a verdict
  * (Mann-Whitney U test and Hodges-Lehmann estimate: diff_stats.h,
  * docs/diff.md).  Exit 1 when any pair is a regression, so a CI job can gate
@@ -213,7 +213,7 @@ static int run_diff(const diff_opts *o) {
         goto done;
     }
     if (!d.npairs) {
-        cph_err("diff: %s and %s have no measurement in common (same shape, mode, threads, "
+        cph_err("diff: %s and %s have no measurement in common (same shape, flip, threads, "
                 "algorithm and parameters)", o->base, o->next);
         rc = CPH_EXIT_USAGE;
         goto done;

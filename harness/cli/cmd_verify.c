@@ -1,5 +1,5 @@
 /* convpick verify: every selected algorithm against the fp64 oracle, per layer
- * and mode, judged by each algorithm's own tolerance.
+ * and flip, judged by each algorithm's own tolerance.
  *
  * The oracle is plain double loops and by far the slowest part, so it runs
  * once per layer x mode and its reference is shared by every algorithm.  The
