@@ -2,7 +2,7 @@
  * and flip, judged by each algorithm's own tolerance.
  *
  * The oracle is plain double loops and by far the slowest part, so it runs
- * once per layer x mode and its reference is shared by every algorithm.  The
+ * once per layer x flip and its reference is shared by every algorithm.  The
  * tensors are random in [-1, 1) from the seed, the layer index and the mode,
  * so a FAIL can be reproduced with the same --seed. */
 #include <getopt.h>
@@ -29,7 +29,7 @@ static void usage(FILE *f) {
     cph_help_end(f, "0 all applicable checks passed, 1 a check failed, 2 bad usage or input");
 }
 
-/* Derives independent seeds per layer, mode and tensor. */
+/* Derives independent seeds per layer, flip and tensor. */
 static uint64_t tensor_seed(uint64_t seed, size_t layer, int flip, int tensor) {
     uint64_t st = seed ^ ((uint64_t)layer << 20) ^ ((uint64_t)flip << 8) ^ (uint64_t)tensor;
     return cph_rng_next(&st);
@@ -46,7 +46,7 @@ static void row(const tally *t, const char *layer, cp_flip flip, const cp_algo *
            t->algo_w, a->name, rest);
 }
 
-/* Checks one algorithm on one layer x mode against the shared reference. */
+/* Checks one algorithm on one layer x flip against the shared reference. */
 static void check_algo(tally *t, const cph_layer *L, cp_flip flip, const cp_algo *a,
                        const float *x, const float *w, const float *bias, const double *ref,
                        const double *mag, float *y) {
