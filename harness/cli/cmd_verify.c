@@ -3,7 +3,7 @@
  *
  * The oracle is plain double loops and by far the slowest part, so it runs
  * once per layer x flip and its reference is shared by every algorithm.  The
- * tensors are random in [-1, 1) from the seed, the layer index and the mode,
+ * tensors are random in [-1, 1) from the seed, the layer index and the flip,
  * so a FAIL can be reproduced with the same --seed. */
 #include <getopt.h>
 #include <math.h>
@@ -88,7 +88,7 @@ static void check_algo(tally *t, const cph_layer *L, cp_flip flip, const cp_algo
     t->failed++;
 }
 
-/* One layer: tensors and the oracle per mode, then every algorithm. */
+/* One layer: tensors and the oracle per flip, then every algorithm. */
 static int verify_layer(tally *t, const cph_selection *sel, size_t li) {
     const cph_layer *L = &sel->layers.v[li];
     const size_t nx = cp_shape_input_elems(&L->shape), nw = cp_shape_weight_elems(&L->shape),
