@@ -5,8 +5,7 @@
  * output in a register, 1 sweeps whole output planes once per kernel tap.
  *
  * This file is also compiled a second time, with traced loads and stores and
- * renamed algorithms, by harness/cache_traced_direct.c. */
-#include <string.h>
+ * renamed algorithms, by harness/cache/cache_traced_direct.c. */
 
 #include "algos/core/cpa.h"
 
@@ -86,20 +85,10 @@ static int flipidx_supports(const cp_shape *s, cp_flip flip, char *why, size_t c
     return 1;
 }
 
-/* True convolution through `direct` flips the weights once, here. */
+/* True convolution through `direct` flips the weights once, in prepare. */
 static size_t direct_prepared_size(const cp_shape *s, cp_flip flip, const cp_params *p) {
     (void)p;
-    return flip == CP_CONV ? cp_shape_weight_elems(s) * sizeof(float) : 0;
-}
-
-static cp_status direct_prepare(const cp_shape *s, cp_flip flip, const cp_params *p,
-                                const float *w, void *out) {
-    (void)p;
-    if (flip == CP_CONV)
-        cp_weights_flip(s, w, out);
-    else
-        memcpy(out, w, cp_shape_weight_elems(s) * sizeof(float));
-    return CP_OK;
+    return cpa_preflip_size(s, flip, 0);
 }
 
 static cp_status direct_run(const cp_run_args *a) {
@@ -126,7 +115,7 @@ const cp_algo cpa_direct = {
     .supports = direct_supports,
     .defaults = direct_defaults,
     .prepared_size = direct_prepared_size,
-    .prepare = direct_prepare,
+    .prepare = cpa_preflip_prepare,
     .run = direct_run,
 };
 

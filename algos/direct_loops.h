@@ -1,6 +1,6 @@
 /* The seven nested loops of a direct convolution, as a template.
  *
- * Included by direct.c (and by harness/cache_traced_direct.c, the build traced for
+ * Included by direct.c (and by harness/cache/cache_traced_direct.c, the build traced for
  * the cache study) with:
  *   CPA_DIRECT_FN    name of the function to define
  *   CPA_DIRECT_FLIP  0: read w[k,c,r,s]; 1: read w[k,c,R-1-r,S-1-s] (true

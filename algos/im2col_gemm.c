@@ -162,18 +162,7 @@ static size_t im2col_workspace_size(const cp_shape *s, cp_flip flip, const cp_pa
 
 static size_t im2col_prepared_size(const cp_shape *s, cp_flip flip, const cp_params *p) {
     (void)p;
-    if (flip != CP_CONV || (s->r == 1 && s->s == 1)) return 0;
-    return cp_shape_weight_elems(s) * sizeof(float);
-}
-
-static cp_status im2col_prepare(const cp_shape *s, cp_flip flip, const cp_params *p,
-                                const float *w, void *out) {
-    (void)p;
-    if (flip == CP_CONV)
-        cp_weights_flip(s, w, out);
-    else
-        memcpy(out, w, cp_shape_weight_elems(s) * sizeof(float));
-    return CP_OK;
+    return cpa_preflip_size(s, flip, 1);
 }
 
 /* Adds bias[k] to the first `cols` entries of each of nk rows ld apart. */
@@ -297,6 +286,6 @@ const cp_algo cpa_im2col_gemm = {
     .candidates = im2col_candidates,
     .workspace_size = im2col_workspace_size,
     .prepared_size = im2col_prepared_size,
-    .prepare = im2col_prepare,
+    .prepare = cpa_preflip_prepare,
     .run = im2col_run,
 };

@@ -1,18 +1,26 @@
-/* The registry: one static table of every algorithm.  Adding an algorithm is a
- * new file in algos/ that defines a cp_algo, one extern line in cpa.h and one
- * line here.  Order is the order of reports. */
+/* The registry: one static table of every algorithm, in the order of reports.
+ * Adding an algorithm is a new file in algos/ that defines
+ * `const cp_algo cpa_NAME = {...}` and one X(cpa_NAME) line in CPA_ALGOS
+ * below: the list both declares the variables and fills the table, so no
+ * header needs to know them. */
 #include <string.h>
 
 #include "algos/core/cpa.h"
 
-static const cp_algo *const registry[] = {
-    &cpa_direct,
-    &cpa_direct_flipidx,
-    &cpa_im2col_gemm,
-    &cpa_winograd_2x2_3x3,
-    &cpa_blocked,
-    &cpa_blocked_flipidx,
-};
+#define CPA_ALGOS(X)          \
+    X(cpa_direct)             \
+    X(cpa_direct_flipidx)     \
+    X(cpa_im2col_gemm)        \
+    X(cpa_winograd_2x2_3x3)   \
+    X(cpa_blocked)            \
+    X(cpa_blocked_flipidx)
+
+#define CPA_DECLARE(v) extern const cp_algo v;
+#define CPA_ENTRY(v) &v,
+CPA_ALGOS(CPA_DECLARE)
+static const cp_algo *const registry[] = {CPA_ALGOS(CPA_ENTRY)};
+#undef CPA_DECLARE
+#undef CPA_ENTRY
 
 size_t cp_algo_count(void) { return sizeof registry / sizeof registry[0]; }
 

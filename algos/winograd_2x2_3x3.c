@@ -6,7 +6,7 @@
  *   A^T = [1 1 1 0; 0 1 -1 -1]
  * G appears unrolled in prepare below, B^T and A^T in the transform loops of
  * winograd_kernels_body.h (built portable and AVX2, chosen at run time);
- * algos/winograd_tile.c keeps all three as matrices for the tests.
+ * tests/support/winograd_tile.c keeps all three as matrices for the tests.
  *
  * Data flow for one block of `tile_block` 2x2 output tiles (4x4 input tiles
  * overlapping by 2):

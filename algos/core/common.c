@@ -1,4 +1,5 @@
-/* Helpers every algorithm may use: parameters, the weight flip, bias. */
+/* Helpers every algorithm may use: messages, parameters, the weight flip and
+ * the pre-flip prepare. */
 #include <stdarg.h>
 #include <stdio.h>
 #include <string.h>
@@ -10,33 +11,39 @@ cp_cache_sizes cp_cache_sizes_fallback(void) {
     return c;
 }
 
+void cpa_vmessage(char *msg, size_t cap, const char *fmt, va_list ap) {
+    if (msg && cap) vsnprintf(msg, cap, fmt, ap);
+}
+
 int cpa_refuse(char *why, size_t cap, const char *fmt, ...) {
-    if (why && cap) {
-        va_list ap;
-        va_start(ap, fmt);
-        vsnprintf(why, cap, fmt, ap);
-        va_end(ap);
-    }
+    va_list ap;
+    va_start(ap, fmt);
+    cpa_vmessage(why, cap, fmt, ap);
+    va_end(ap);
     return 0;
 }
 
 cp_status cpa_fail(cp_status st, char *msg, size_t cap, const char *fmt, ...) {
-    if (msg && cap) {
-        va_list ap;
-        va_start(ap, fmt);
-        vsnprintf(msg, cap, fmt, ap);
-        va_end(ap);
-    }
+    va_list ap;
+    va_start(ap, fmt);
+    cpa_vmessage(msg, cap, fmt, ap);
+    va_end(ap);
     return st;
 }
 
-void cpa_add_bias(float *y, const float *bias, int64_t nk, int64_t npix) {
-    if (!bias) return;
-    for (int64_t k = 0; k < nk; k++) {
-        const float b = bias[k];
-        float *row = y + k * npix;
-        for (int64_t i = 0; i < npix; i++) row[i] += b;
-    }
+size_t cpa_preflip_size(const cp_shape *s, cp_flip flip, int skip_1x1) {
+    if (flip != CP_CONV || (skip_1x1 && s->r == 1 && s->s == 1)) return 0;
+    return cp_shape_weight_elems(s) * sizeof(float);
+}
+
+cp_status cpa_preflip_prepare(const cp_shape *s, cp_flip flip, const cp_params *p,
+                              const float *w, void *out) {
+    (void)p;
+    if (flip == CP_CONV)
+        cp_weights_flip(s, w, out);
+    else
+        memcpy(out, w, cp_shape_weight_elems(s) * sizeof(float));
+    return CP_OK;
 }
 
 void cp_algo_defaults(const cp_algo *a, const cp_shape *s, const cp_cache_sizes *caches,
@@ -49,12 +56,10 @@ void cp_algo_defaults(const cp_algo *a, const cp_shape *s, const cp_cache_sizes 
 cp_status cp_params_check(const cp_algo *a, const cp_params *p, char *msg, size_t cap) {
     for (int i = 0; i < a->nparams; i++) {
         const cp_param_desc *d = &a->params[i];
-        if (p->v[i] < d->min || p->v[i] > d->max) {
-            if (msg && cap)
-                snprintf(msg, cap, "%s: parameter %s=%lld is outside [%lld, %lld]", a->name,
-                         d->name, (long long)p->v[i], (long long)d->min, (long long)d->max);
-            return CP_EINVAL;
-        }
+        if (p->v[i] < d->min || p->v[i] > d->max)
+            return cpa_fail(CP_EINVAL, msg, cap, "%s: parameter %s=%lld is outside [%lld, %lld]",
+                            a->name, d->name, (long long)p->v[i], (long long)d->min,
+                            (long long)d->max);
     }
     return CP_OK;
 }

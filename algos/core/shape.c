@@ -5,6 +5,8 @@
 #include <stdio.h>
 #include <string.h>
 
+#include "algos/core/cpa.h"
+
 cp_shape cp_shape_init(void) {
     cp_shape s;
     memset(&s, 0, sizeof s);
@@ -48,13 +50,14 @@ size_t cp_shape_output_elems(const cp_shape *s) {
     return (size_t)s->n * (size_t)s->k * (size_t)cp_shape_out_h(s) * (size_t)cp_shape_out_w(s);
 }
 
+static cp_shape_fault fault(cp_shape_fault f, char *msg, size_t cap, const char *fmt, ...)
+    __attribute__((format(printf, 4, 5)));
+/* cpa_fail with the shape's own return type (which fault class). */
 static cp_shape_fault fault(cp_shape_fault f, char *msg, size_t cap, const char *fmt, ...) {
-    if (msg && cap) {
-        va_list ap;
-        va_start(ap, fmt);
-        vsnprintf(msg, cap, fmt, ap);
-        va_end(ap);
-    }
+    va_list ap;
+    va_start(ap, fmt);
+    cpa_vmessage(msg, cap, fmt, ap);
+    va_end(ap);
     return f;
 }
 

@@ -3,7 +3,7 @@
  * whose full-vector reads would leave the input buffer.
  *
  * Every load and store goes through CPA_LD / CPA_ST (plain accesses unless
- * defined before inclusion): harness/cache_traced_blocked.c compiles this file a
+ * defined before inclusion): harness/cache/cache_traced_blocked.c compiles this file a
  * second time with hooks that feed each access to the cache simulator. */
 #include "algos/kernels/blocked_tile.h"
 

@@ -7,7 +7,7 @@
 #include <string.h>
 
 static const char *kind_name(cph_flip_kind k) {
-    return k == CPH_VK_XCORR ? "xcorr" : k == CPH_VK_FLIPIDX ? "flipidx" : "preflip";
+    return k == CPH_FLIP_KIND_XCORR ? "xcorr" : k == CPH_FLIP_KIND_FLIPIDX ? "flipidx" : "preflip";
 }
 
 static double per_out(const cph_layer_result *L, uint64_t v) {
@@ -272,7 +272,9 @@ __attribute__((format(printf, 2, 3))) static void sb_printf(sbuf *b, const char 
 }
 
 static const char *kind_color(cph_flip_kind k) {
-    return k == CPH_VK_XCORR ? "#4477aa" : k == CPH_VK_FLIPIDX ? "#ee6677" : "#228833";
+    return k == CPH_FLIP_KIND_XCORR     ? "#4477aa"
+           : k == CPH_FLIP_KIND_FLIPIDX ? "#ee6677"
+                                        : "#228833";
 }
 
 char *cph_cache_report_svg(const cph_cache_report *r) {

@@ -16,21 +16,22 @@
 #include "harness/measure/data.h"
 #include "harness/measure/timing.h"
 
-/* preflip before flipidx in each family: flipidx is compared with it. */
+/* Each family in three variants, preflip before flipidx (flipidx is compared
+ * with it): cross-correlation and pre-flipped weights run the plain
+ * algorithm, flipped indexing its _flipidx twin. */
+#define FAMILY(fam, plain, traced, traced_flipidx, param, value)                                   \
+    {fam ".xcorr", plain, traced, CP_XCORR, CPH_FLIP_KIND_XCORR, fam, param, value},               \
+    {fam ".preflip", plain, traced, CP_CONV, CPH_FLIP_KIND_PREFLIP, fam, param, value},            \
+    {fam ".flipidx", plain "_flipidx", traced_flipidx, CP_CONV, CPH_FLIP_KIND_FLIPIDX, fam,        \
+     param, value}
 static const cph_variant variants[] = {
-    {"direct.o0.xcorr", "direct", &cph_traced_direct, CP_XCORR, CPH_VK_XCORR, "direct.o0", "order", 0},
-    {"direct.o0.preflip", "direct", &cph_traced_direct, CP_CONV, CPH_VK_PREFLIP, "direct.o0", "order", 0},
-    {"direct.o0.flipidx", "direct_flipidx", &cph_traced_direct_flipidx, CP_CONV, CPH_VK_FLIPIDX, "direct.o0", "order", 0},
-    {"direct.o1.xcorr", "direct", &cph_traced_direct, CP_XCORR, CPH_VK_XCORR, "direct.o1", "order", 1},
-    {"direct.o1.preflip", "direct", &cph_traced_direct, CP_CONV, CPH_VK_PREFLIP, "direct.o1", "order", 1},
-    {"direct.o1.flipidx", "direct_flipidx", &cph_traced_direct_flipidx, CP_CONV, CPH_VK_FLIPIDX, "direct.o1", "order", 1},
-    {"blocked.ref.xcorr", "blocked", &cph_traced_blocked, CP_XCORR, CPH_VK_XCORR, "blocked.ref", "tile_isa", 1},
-    {"blocked.ref.preflip", "blocked", &cph_traced_blocked, CP_CONV, CPH_VK_PREFLIP, "blocked.ref", "tile_isa", 1},
-    {"blocked.ref.flipidx", "blocked_flipidx", &cph_traced_blocked_flipidx, CP_CONV, CPH_VK_FLIPIDX, "blocked.ref", "tile_isa", 1},
-    {"blocked.avx2.xcorr", "blocked", NULL, CP_XCORR, CPH_VK_XCORR, "blocked.avx2", "tile_isa", 0},
-    {"blocked.avx2.preflip", "blocked", NULL, CP_CONV, CPH_VK_PREFLIP, "blocked.avx2", "tile_isa", 0},
-    {"blocked.avx2.flipidx", "blocked_flipidx", NULL, CP_CONV, CPH_VK_FLIPIDX, "blocked.avx2", "tile_isa", 0},
+    FAMILY("direct.o0", "direct", &cph_traced_direct, &cph_traced_direct_flipidx, "order", 0),
+    FAMILY("direct.o1", "direct", &cph_traced_direct, &cph_traced_direct_flipidx, "order", 1),
+    FAMILY("blocked.ref", "blocked", &cph_traced_blocked, &cph_traced_blocked_flipidx, "tile_isa",
+           1),
+    FAMILY("blocked.avx2", "blocked", NULL, NULL, "tile_isa", 0), /* AVX2: not traceable */
 };
+#undef FAMILY
 
 size_t cph_variant_count(void) { return sizeof variants / sizeof variants[0]; }
 
@@ -59,7 +60,8 @@ int64_t cph_study_sample_k(const cph_study_opts *o, const cp_shape *s) {
 const cph_variant_result *cph_study_baseline(const cph_layer_result *r,
                                              const cph_variant_result *v) {
     for (size_t i = 0; i < r->nres; i++)
-        if (r->res[i].v->kind == CPH_VK_XCORR && strcmp(r->res[i].v->family, v->v->family) == 0)
+        if (r->res[i].v->kind == CPH_FLIP_KIND_XCORR &&
+            strcmp(r->res[i].v->family, v->v->family) == 0)
             return &r->res[i];
     return NULL;
 }
@@ -185,10 +187,10 @@ static void check_variant(const cph_study_opts *o, const cph_variant *v, const c
     } else {
         r->rel_err = INFINITY;
     }
-    if (v->kind == CPH_VK_PREFLIP) {
+    if (v->kind == CPH_FLIP_KIND_PREFLIP) {
         memcpy(ypre, y, ny * sizeof *y);
         *have_pre = 1;
-    } else if (v->kind == CPH_VK_FLIPIDX && *have_pre) {
+    } else if (v->kind == CPH_FLIP_KIND_FLIPIDX && *have_pre) {
         r->diff_vs_preflip = pair_rel_diff(y, ypre, mag[CP_CONV], ny);
     }
 }

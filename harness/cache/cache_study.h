@@ -28,7 +28,13 @@
 #include "harness/select/select.h"
 #include "harness/measure/stats.h"
 
-typedef enum cph_flip_kind { CPH_VK_XCORR = 0, CPH_VK_FLIPIDX, CPH_VK_PREFLIP } cph_flip_kind;
+/* How a variant computes: cross-correlation, true convolution by reversed
+ * indexing, or true convolution on pre-flipped weights. */
+typedef enum cph_flip_kind {
+    CPH_FLIP_KIND_XCORR = 0,
+    CPH_FLIP_KIND_FLIPIDX,
+    CPH_FLIP_KIND_PREFLIP
+} cph_flip_kind;
 
 typedef struct cph_variant {
     const char *id;        /* "direct.o0.flipidx" */

@@ -4,7 +4,7 @@
  * cache_traced_direct.c includes algos/direct.c (the loop template
  * algos/direct_loops.h, both loop orders, flipped and not) and
  * cache_traced_blocked.c includes algos/blocked.c with its portable tile
- * kernel algos/blocked_tile_ref.c, each with CPA_LD / CPA_ST defined to call
+ * kernel algos/kernels/blocked_tile_ref.c, each with CPA_LD / CPA_ST defined to call
  * cph_sim_access() and the algorithm symbols renamed, so the trace is the
  * one those sources produce, not a model of them.  The blocked copy always
  * runs the portable tile kernel (whatever its tile_isa parameter says): the

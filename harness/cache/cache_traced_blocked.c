@@ -1,4 +1,4 @@
-/* algos/blocked.c with its portable tile kernel algos/blocked_tile_ref.c,
+/* algos/blocked.c with its portable tile kernel algos/kernels/blocked_tile_ref.c,
  * compiled with traced loads and stores (see cache_traced.h).  The kernel
  * selector is replaced by one that always returns the traced portable
  * kernel, so run() traces every tile. */

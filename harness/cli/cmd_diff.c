@@ -140,7 +140,7 @@ static void print_pairs(const cph_diff *d) {
             else snprintf(ci, sizeof ci, "unbounded");
         }
         printf("%-12s  %-*s  %-4s  %3d  %-*s  %-*s  %10.4g  %10.4g  %7.4f  %7s  %-17s  %8s  %s\n",
-               cph_verdict_name(p->verdict), lw, it->layer, cph_flip_word(it->flip),
+               cph_shift_verdict_name(p->verdict), lw, it->layer, cph_flip_word(it->flip),
                it->threads, aw, it->algo, pw, it->params[0] ? it->params : "-",
                1e3 * c->base_median, 1e3 * c->new_median, c->median_ratio, hl, ci, pv, p->note);
     }
@@ -180,9 +180,9 @@ static void print_rest(const cph_diff *d) {
                d->base->nfailed, d->next->nfailed);
     printf("\nsummary: %zu compared: %zu slower, %zu inconclusive, %zu unchanged, %zu faster; "
            "%zu only in BASE, %zu only in NEW%s\n",
-           d->npairs, d->counts[CPH_VERDICT_SLOWER], d->counts[CPH_VERDICT_INCONCLUSIVE],
-           d->counts[CPH_VERDICT_UNCHANGED], d->counts[CPH_VERDICT_FASTER], d->nonly_base,
-           d->nonly_next, d->counts[CPH_VERDICT_SLOWER] ? ": REGRESSION" : "");
+           d->npairs, d->counts[CPH_SHIFT_SLOWER], d->counts[CPH_SHIFT_INCONCLUSIVE],
+           d->counts[CPH_SHIFT_UNCHANGED], d->counts[CPH_SHIFT_FASTER], d->nonly_base,
+           d->nonly_next, d->counts[CPH_SHIFT_SLOWER] ? ": REGRESSION" : "");
 }
 
 static int run_diff(const diff_opts *o) {
@@ -221,7 +221,7 @@ static int run_diff(const diff_opts *o) {
     print_header(&d);
     print_pairs(&d);
     print_rest(&d);
-    rc = d.counts[CPH_VERDICT_SLOWER] ? CPH_EXIT_FAIL : CPH_EXIT_OK;
+    rc = d.counts[CPH_SHIFT_SLOWER] ? CPH_EXIT_FAIL : CPH_EXIT_OK;
     if (o->junit) {
         if (cph_diff_write_junit(&d, o->junit, msg, sizeof msg) != CP_OK) {
             cph_err("diff: %s", msg);

@@ -38,7 +38,7 @@ static void compare_pair(const cph_diff *d, cph_diff_pair *p) {
     p->cmp.median_ratio = b->median > 0 ? n->median / b->median : NAN;
     p->cmp.m = b->nsamples;
     p->cmp.n = n->nsamples;
-    p->verdict = CPH_VERDICT_INCONCLUSIVE;
+    p->verdict = CPH_SHIFT_INCONCLUSIVE;
     if (!b->nsamples || !n->nsamples) {
         snprintf(p->note, sizeof p->note, "no samples recorded in %s",
                  !b->nsamples && !n->nsamples ? "BASE and NEW" : !b->nsamples ? "BASE" : "NEW");
@@ -51,7 +51,7 @@ static void compare_pair(const cph_diff *d, cph_diff_pair *p) {
     }
     p->cmp = c;
     p->compared = 1;
-    p->verdict = cph_verdict_of(&c, d->alpha, d->tol);
+    p->verdict = cph_shift_verdict_of(&c, d->alpha, d->tol);
     if (!c.bounded)
         snprintf(p->note, sizeof p->note, "too few samples for a %.0f %% interval",
                  100.0 * (1.0 - d->alpha));

@@ -7,6 +7,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "algos/core/cpa.h"
 #include "harness/diff/diff_report.h"
 #include "harness/select/selection.h"
 #include "harness/io/rawfile.h"
@@ -28,19 +29,30 @@ void cph_xml_escape(FILE *f, const char *s) {
     }
 }
 
-/* Closes the memory stream (which sets *buf and *len) and writes it out. */
-static cp_status finish(FILE *f, char **bufp, size_t *lenp, const char *path, char *msg,
-                        size_t cap) {
-    const int bad = fclose(f) != 0;
-    char *buf = *bufp;
-    const size_t len = *lenp;
-    if (bad || !buf) {
-        free(buf);
-        snprintf(msg, cap, "%s: out of memory building the report", path);
-        return CP_ENOMEM;
+/* A report being built in memory. */
+typedef struct report {
+    FILE *f;
+    char *buf; /* set by the memory stream on close */
+    size_t len;
+} report;
+
+static int report_open(report *r, const char *path, char *msg, size_t cap) {
+    r->buf = NULL;
+    r->len = 0;
+    r->f = open_memstream(&r->buf, &r->len);
+    if (!r->f) cpa_fail(CP_ENOMEM, msg, cap, "%s: out of memory building the report", path);
+    return r->f != NULL;
+}
+
+/* Closes the memory stream and writes the report out atomically. */
+static cp_status report_finish(report *r, const char *path, char *msg, size_t cap) {
+    const int bad = fclose(r->f) != 0;
+    if (bad || !r->buf) {
+        free(r->buf);
+        return cpa_fail(CP_ENOMEM, msg, cap, "%s: out of memory building the report", path);
     }
-    const cp_status st = cph_write_atomic(path, buf, len, msg, cap);
-    free(buf);
+    const cp_status st = cph_write_atomic(path, r->buf, r->len, msg, cap);
+    free(r->buf);
     return st;
 }
 
@@ -49,14 +61,10 @@ static const char *kind_of(const cph_diff *d) {
 }
 
 cp_status cph_diff_write_junit(const cph_diff *d, const char *path, char *msg, size_t cap) {
-    char *buf = NULL;
-    size_t len = 0;
-    FILE *f = open_memstream(&buf, &len);
-    if (!f) {
-        snprintf(msg, cap, "%s: out of memory building the report", path);
-        return CP_ENOMEM;
-    }
-    const size_t fails = d->counts[CPH_VERDICT_SLOWER];
+    report rep;
+    if (!report_open(&rep, path, msg, cap)) return CP_ENOMEM;
+    FILE *f = rep.f;
+    const size_t fails = d->counts[CPH_SHIFT_SLOWER];
     char line[1024], label[512];
     fprintf(f, "<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n");
     fprintf(f, "<testsuites name=\"convpick diff\" tests=\"%zu\" failures=\"%zu\" errors=\"0\">\n",
@@ -81,7 +89,7 @@ cp_status cph_diff_write_junit(const cph_diff *d, const char *path, char *msg, s
         fprintf(f, "\" name=\"");
         cph_xml_escape(f, label);
         fprintf(f, "\" time=\"%.9f\">\n", isfinite(p->cmp.new_median) ? p->cmp.new_median : 0.0);
-        if (p->verdict == CPH_VERDICT_SLOWER) {
+        if (p->verdict == CPH_SHIFT_SLOWER) {
             fprintf(f, "      <failure type=\"regression\" message=\"slower: ");
             cph_xml_escape(f, line);
             fprintf(f, "\">");
@@ -90,12 +98,12 @@ cp_status cph_diff_write_junit(const cph_diff *d, const char *path, char *msg, s
             cph_xml_escape(f, line);
             fprintf(f, "</failure>\n");
         }
-        fprintf(f, "      <system-out>%s: ", cph_verdict_name(p->verdict));
+        fprintf(f, "      <system-out>%s: ", cph_shift_verdict_name(p->verdict));
         cph_xml_escape(f, line);
         fprintf(f, "</system-out>\n    </testcase>\n");
     }
     fprintf(f, "  </testsuite>\n</testsuites>\n");
-    return finish(f, &buf, &len, path, msg, cap);
+    return report_finish(&rep, path, msg, cap);
 }
 
 /* A Markdown table cell: '|' escaped, newlines flattened. */
@@ -111,14 +119,10 @@ static void md_cell(FILE *f, const char *s) {
 }
 
 cp_status cph_diff_write_markdown(const cph_diff *d, const char *path, char *msg, size_t cap) {
-    char *buf = NULL;
-    size_t len = 0;
-    FILE *f = open_memstream(&buf, &len);
-    if (!f) {
-        snprintf(msg, cap, "%s: out of memory building the report", path);
-        return CP_ENOMEM;
-    }
-    const size_t fails = d->counts[CPH_VERDICT_SLOWER];
+    report rep;
+    if (!report_open(&rep, path, msg, cap)) return CP_ENOMEM;
+    FILE *f = rep.f;
+    const size_t fails = d->counts[CPH_SHIFT_SLOWER];
     fprintf(f, "## convpick speed check: %s\n\n",
             fails ? "regression" : "no regression");
     if (d->other_device)
@@ -132,8 +136,8 @@ cp_status cph_diff_write_markdown(const cph_diff *d, const char *path, char *msg
     fprintf(f, "` (%s).  %zu compared: **%zu slower**, %zu inconclusive, %zu unchanged, "
                "%zu faster; %zu only in BASE, %zu only in NEW.\n\n",
             cph_results_kind_name(d->next->kind), d->npairs, fails,
-            d->counts[CPH_VERDICT_INCONCLUSIVE], d->counts[CPH_VERDICT_UNCHANGED],
-            d->counts[CPH_VERDICT_FASTER], d->nonly_base, d->nonly_next);
+            d->counts[CPH_SHIFT_INCONCLUSIVE], d->counts[CPH_SHIFT_UNCHANGED],
+            d->counts[CPH_SHIFT_FASTER], d->nonly_base, d->nonly_next);
     fprintf(f, "Verdicts: Mann-Whitney U test at alpha %g, Hodges-Lehmann ratio with its "
                "%g %% interval, tolerance +-%g %% (docs/diff.md).\n\n",
             d->alpha, 100.0 * (1.0 - d->alpha), 100.0 * d->tol);
@@ -142,8 +146,8 @@ cp_status cph_diff_write_markdown(const cph_diff *d, const char *path, char *msg
     for (size_t i = 0; i < d->npairs; i++) {
         const cph_diff_pair *p = &d->pairs[i];
         const cph_shift_cmp *c = &p->cmp;
-        fprintf(f, "| %s%s%s | ", p->verdict == CPH_VERDICT_SLOWER ? "**" : "",
-                cph_verdict_name(p->verdict), p->verdict == CPH_VERDICT_SLOWER ? "**" : "");
+        fprintf(f, "| %s%s%s | ", p->verdict == CPH_SHIFT_SLOWER ? "**" : "",
+                cph_shift_verdict_name(p->verdict), p->verdict == CPH_SHIFT_SLOWER ? "**" : "");
         md_cell(f, p->base->layer);
         fprintf(f, " | %s | %d | ", cph_flip_word(p->base->flip), p->base->threads);
         md_cell(f, p->base->algo);
@@ -202,5 +206,5 @@ cp_status cph_diff_write_markdown(const cph_diff *d, const char *path, char *msg
             fprintf(f, "`\n");
         }
     }
-    return finish(f, &buf, &len, path, msg, cap);
+    return report_finish(&rep, path, msg, cap);
 }

@@ -15,7 +15,7 @@ typedef struct cph_diff_pair {
     const cph_result_item *base, *next; /* BASE's and NEW's measurement */
     int compared;          /* 0: a side has no samples (then verdict is inconclusive) */
     cph_shift_cmp cmp;
-    cph_verdict verdict;
+    cph_shift_verdict verdict;
     char note[96];         /* why not compared, or "" */
 } cph_diff_pair;
 
@@ -35,7 +35,7 @@ typedef struct cph_diff {
     size_t nonly_base, nonly_next;
     cph_choice_change *changes;
     size_t nchanges;
-    size_t counts[4];      /* pairs per cph_verdict */
+    size_t counts[4];      /* pairs per cph_shift_verdict */
 } cph_diff;
 
 /* Matches the items of base and next (same shape, mode, threads, algorithm

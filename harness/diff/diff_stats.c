@@ -6,6 +6,8 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "harness/measure/stats.h"
+
 typedef struct tagged {
     double v;
     int from_x;
@@ -13,11 +15,6 @@ typedef struct tagged {
 
 static int cmp_tagged(const void *a, const void *b) {
     const double x = ((const tagged *)a)->v, y = ((const tagged *)b)->v;
-    return (x > y) - (x < y);
-}
-
-static int cmp_double(const void *a, const void *b) {
-    const double x = *(const double *)a, y = *(const double *)b;
     return (x > y) - (x < y);
 }
 
@@ -212,8 +209,8 @@ static int sorted_logs(const double *v, size_t n, double **out, double *median) 
         }
         l[i] = v[i];
     }
-    qsort(l, n, sizeof *l, cmp_double);
-    *median = n % 2 ? l[n / 2] : 0.5 * (l[n / 2 - 1] + l[n / 2]);
+    cph_sort_doubles(l, n);
+    *median = cph_median_sorted(l, n);
     for (size_t i = 0; i < n; i++) l[i] = log(l[i]);
     *out = l;
     return 0;
@@ -249,21 +246,21 @@ int cph_compare_samples(const double *base, size_t m, const double *new_samples,
     return 0;
 }
 
-cph_verdict cph_verdict_of(const cph_shift_cmp *c, double alpha, double tol) {
+cph_shift_verdict cph_shift_verdict_of(const cph_shift_cmp *c, double alpha, double tol) {
     const int significant = c->mwu.p < alpha;
-    if (significant && c->bounded && c->ratio_lo > 1.0 + tol) return CPH_VERDICT_SLOWER;
-    if (significant && c->bounded && c->ratio_hi < 1.0 - tol) return CPH_VERDICT_FASTER;
+    if (significant && c->bounded && c->ratio_lo > 1.0 + tol) return CPH_SHIFT_SLOWER;
+    if (significant && c->bounded && c->ratio_hi < 1.0 - tol) return CPH_SHIFT_FASTER;
     if (c->bounded && c->ratio_lo >= 1.0 - tol && c->ratio_hi <= 1.0 + tol)
-        return CPH_VERDICT_UNCHANGED;
-    return CPH_VERDICT_INCONCLUSIVE;
+        return CPH_SHIFT_UNCHANGED;
+    return CPH_SHIFT_INCONCLUSIVE;
 }
 
-const char *cph_verdict_name(cph_verdict v) {
+const char *cph_shift_verdict_name(cph_shift_verdict v) {
     switch (v) {
-    case CPH_VERDICT_SLOWER: return "slower";
-    case CPH_VERDICT_INCONCLUSIVE: return "inconclusive";
-    case CPH_VERDICT_UNCHANGED: return "unchanged";
-    case CPH_VERDICT_FASTER: return "faster";
+    case CPH_SHIFT_SLOWER: return "slower";
+    case CPH_SHIFT_INCONCLUSIVE: return "inconclusive";
+    case CPH_SHIFT_UNCHANGED: return "unchanged";
+    case CPH_SHIFT_FASTER: return "faster";
     }
     return "?";
 }

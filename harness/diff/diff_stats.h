@@ -100,12 +100,14 @@ typedef struct cph_shift_cmp {
 int cph_compare_samples(const double *base, size_t m, const double *new_samples, size_t n,
                         double alpha, cph_shift_cmp *out);
 
-typedef enum cph_verdict {
-    CPH_VERDICT_SLOWER = 0,    /* a regression */
-    CPH_VERDICT_INCONCLUSIVE,
-    CPH_VERDICT_UNCHANGED,
-    CPH_VERDICT_FASTER
-} cph_verdict;
+/* What the ratio of two timing distributions says (not to be confused with a
+ * performance target's PASS / MISS in harness/bench/bench_summary.h). */
+typedef enum cph_shift_verdict {
+    CPH_SHIFT_SLOWER = 0,    /* a regression */
+    CPH_SHIFT_INCONCLUSIVE,
+    CPH_SHIFT_UNCHANGED,
+    CPH_SHIFT_FASTER
+} cph_shift_verdict;
 
 /* The verdict rules (docs/diff.md), tol a fraction (0.05 = 5 %):
  *   slower:       p < alpha and the whole interval lies above 1 + tol
@@ -114,7 +116,7 @@ typedef enum cph_verdict {
  *   inconclusive: everything else: the interval straddles 1 + tol or 1 - tol
  *                 (whether or not the test rejects), or there is no bounded
  *                 interval (too few samples). */
-cph_verdict cph_verdict_of(const cph_shift_cmp *c, double alpha, double tol);
-const char *cph_verdict_name(cph_verdict v);
+cph_shift_verdict cph_shift_verdict_of(const cph_shift_cmp *c, double alpha, double tol);
+const char *cph_shift_verdict_name(cph_shift_verdict v);
 
 #endif

@@ -57,6 +57,7 @@ static void event_attr(int i, struct perf_event_attr *a) {
         a->type = PERF_TYPE_HW_CACHE;
         a->config = cache_cfg(PERF_COUNT_HW_CACHE_LL, rd, PERF_COUNT_HW_CACHE_RESULT_MISS);
         break;
+    case CPH_CTR_DTLB_READ_MISS:
     default:
         a->type = PERF_TYPE_HW_CACHE;
         a->config = cache_cfg(PERF_COUNT_HW_CACHE_DTLB, rd, PERF_COUNT_HW_CACHE_RESULT_MISS);

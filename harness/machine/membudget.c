@@ -7,24 +7,13 @@
 #include <ctype.h>
 #include <errno.h>
 #include <hwloc.h>
-#include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
+#include "algos/core/cpa.h"
 #include "harness/cli/cli.h"
 
-static cp_status fail(char *msg, size_t cap, const char *fmt, ...)
-    __attribute__((format(printf, 3, 4)));
-static cp_status fail(char *msg, size_t cap, const char *fmt, ...) {
-    if (msg && cap) {
-        va_list ap;
-        va_start(ap, fmt);
-        vsnprintf(msg, cap, fmt, ap);
-        va_end(ap);
-    }
-    return CP_EINVAL;
-}
 
 static uint64_t add_sat(uint64_t a, uint64_t b) { return a > UINT64_MAX - b ? UINT64_MAX : a + b; }
 static uint64_t mul_sat(uint64_t a, uint64_t b) {
@@ -55,22 +44,23 @@ uint64_t cph_mem_default(void) {
 
 cp_status cph_mem_parse(const char *arg, uint64_t machine_bytes, uint64_t *out, char *msg,
                         size_t cap) {
+    static const char expected[] = "expected BYTES (suffix K, M or G) or PERCENT%";
     const char *p = arg;
     if (!isdigit((unsigned char)*p))
-        return fail(msg, cap, "--max-memory '%s': expected BYTES (suffix K, M or G) or PERCENT%%",
-                    arg);
+        return cpa_fail(CP_EINVAL, msg, cap, "--max-memory '%s': %s", arg, expected);
     errno = 0;
     char *end;
     unsigned long long v = strtoull(p, &end, 10);
     if (errno == ERANGE)
-        return fail(msg, cap, "--max-memory '%s': number out of range", arg);
+        return cpa_fail(CP_EINVAL, msg, cap, "--max-memory '%s': number out of range", arg);
     uint64_t bytes;
     if (strcmp(end, "%") == 0) {
         if (v < 1 || v > 100)
-            return fail(msg, cap, "--max-memory '%s': a percentage must be 1..100", arg);
+            return cpa_fail(CP_EINVAL, msg, cap, "--max-memory '%s': a percentage must be 1..100",
+                            arg);
         if (!machine_bytes)
-            return fail(msg, cap, "--max-memory '%s': the machine's memory is unknown: give bytes",
-                        arg);
+            return cpa_fail(CP_EINVAL, msg, cap,
+                            "--max-memory '%s': the machine's memory is unknown: give bytes", arg);
         bytes = machine_bytes / 100 * v;
     } else {
         uint64_t unit = 1;
@@ -78,16 +68,16 @@ cp_status cph_mem_parse(const char *arg, uint64_t machine_bytes, uint64_t *out, 
         else if (*end == 'M' || *end == 'm') unit = 1ull << 20;
         else if (*end == 'G' || *end == 'g') unit = 1ull << 30;
         else if (*end)
-            return fail(msg, cap, "--max-memory '%s': expected BYTES (suffix K, M or G) or "
-                                  "PERCENT%%", arg);
+            return cpa_fail(CP_EINVAL, msg, cap, "--max-memory '%s': %s", arg, expected);
         if (*end && end[1])
-            return fail(msg, cap, "--max-memory '%s': unexpected '%s' after the unit", arg,
-                        end + 1);
+            return cpa_fail(CP_EINVAL, msg, cap,
+                            "--max-memory '%s': unexpected '%s' after the unit", arg, end + 1);
         bytes = mul_sat(v, unit);
         if (bytes == UINT64_MAX)
-            return fail(msg, cap, "--max-memory '%s': number out of range", arg);
+            return cpa_fail(CP_EINVAL, msg, cap, "--max-memory '%s': number out of range", arg);
     }
-    if (bytes == 0) return fail(msg, cap, "--max-memory '%s': must be more than 0 bytes", arg);
+    if (bytes == 0)
+        return cpa_fail(CP_EINVAL, msg, cap, "--max-memory '%s': must be more than 0 bytes", arg);
     *out = bytes;
     return CP_OK;
 }

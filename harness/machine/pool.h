@@ -1,7 +1,7 @@
 /* A pool of worker threads pinned one per physical core (hwloc), exposed to
  * the algorithms as a cp_exec.  Also owns OpenBLAS's thread count: while a
  * pool is in use, OpenBLAS is set to one thread, because the GEMM-based
- * algorithms split their products over the pool's workers (algos/gemm_split.h)
+ * algorithms split their products over the pool's workers (algos/core/gemm_split.h)
  * and OpenBLAS threads of its own would land, unpinned and spinning after each
  * call, on the cores the workers are pinned to.  The previous count is
  * restored when the pool is destroyed. */

@@ -1,5 +1,5 @@
-/* The roof kernels (harness/roofs_avx2.c is compiled with -mavx2 -mfma; the
- * portable ones live in harness/roofs.c).  Each returns a value derived from
+/* The roof kernels (harness/machine/roofs_avx2.c is compiled with -mavx2 -mfma; the
+ * portable ones live in harness/machine/roofs.c).  Each returns a value derived from
  * its accumulators so that the work cannot be optimised away. */
 #ifndef CONVPICK_ROOFS_H
 #define CONVPICK_ROOFS_H

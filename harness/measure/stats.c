@@ -7,7 +7,7 @@
  * probability computed exactly from that binomial.  Le Boudec, "Performance
  * Evaluation of Computer and Communication Systems", EPFL Press 2010,
  * derives it and tabulates the ranks (from memory: n = 10 at 95 % gives the
- * 2nd and 9th values); tests/test_stats.c checks our ranks against SciPy. */
+ * 2nd and 9th values); tests/harness/test_stats.c checks our ranks against SciPy. */
 #include "harness/measure/stats.h"
 
 #include <math.h>
@@ -84,6 +84,8 @@ static int cmp_double(const void *a, const void *b) {
     return (x > y) - (x < y);
 }
 
+void cph_sort_doubles(double *v, size_t n) { qsort(v, n, sizeof *v, cmp_double); }
+
 static double rel_halfwidth(double median, double lo, double hi) {
     const double h = fmax(median - lo, hi - median);
     if (median > 0.0) return h / median;
@@ -106,7 +108,7 @@ void cph_stats_compute(const double *t, size_t n, double confidence, cph_stats *
         return;
     }
     memcpy(s, t, n * sizeof *s);
-    qsort(s, n, sizeof *s, cmp_double);
+    cph_sort_doubles(s, n);
 
     st->min = s[0];
     st->max = s[n - 1];

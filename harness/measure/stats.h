@@ -54,6 +54,9 @@ int cph_median_ci_ranks(size_t n, double confidence, size_t *lo, size_t *hi);
  * (safe for n in the hundreds of thousands).  -inf never occurs for k >= 0. */
 double cph_binom_half_logcdf(size_t n, size_t k);
 
+/* Sorts v[0..n) ascending in place (NaNs are the caller's business). */
+void cph_sort_doubles(double *v, size_t n);
+
 /* Median of sorted values (mean of the two middle ones for even n; 0 for n = 0). */
 double cph_median_sorted(const double *sorted, size_t n);
 

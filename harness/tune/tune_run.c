@@ -148,9 +148,9 @@ static int tune_one(tune_state *t, const cph_layer *L, cp_flip flip, int threads
     cph_tune_report rep;
     char lname[96];
     snprintf(lname, sizeof lname, "%s flip=%s t=%d", L->name, cph_flip_word(flip), threads);
-    cp_status st = cph_tune_layer(&t->o, L, flip, threads, sel->algos, sel->nalgos, &t->caches,
-                                  exec, &stop_requested, on_candidate, &pc, &e, &rep, msg,
-                                  sizeof msg);
+    const cph_tune_request rq = {&t->o, L, flip, threads, sel->algos, sel->nalgos,
+                                 &t->caches, exec, &stop_requested, on_candidate, &pc};
+    cp_status st = cph_tune_layer(&rq, &e, &rep, msg, sizeof msg);
     if (rep.interrupted) return 1;
     t->measured_work++;
     t->measured_seconds += rep.seconds;

@@ -6,6 +6,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "algos/core/cpa.h"
 #include "harness/measure/data.h"
 
 void cph_tune_defaults(cph_tune_opts *o) {
@@ -125,55 +126,127 @@ static int run_once(void *arg) {
     return cp_plan_run(r->plan, r->x, r->bias, r->y, r->exec) == CP_OK ? 0 : 1;
 }
 
-cp_status cph_tune_layer(const cph_tune_opts *o, const cph_layer *layer, cp_flip flip, int threads,
-                         const cp_algo *const *algos, size_t nalgos, const cp_cache_sizes *caches,
-                         const cp_exec *exec, volatile sig_atomic_t *stop, cph_progress_fn progress,
-                         void *progress_arg, cp_table_entry *entry, cph_tune_report *report,
-                         char *msg, size_t cap) {
+/* The layer's seeded test tensors and the oracle's answer for them. */
+typedef struct {
+    float *x, *w, *bias, *y;
+    double *ref, *mag;
+    size_t ny;
+} tensors;
+
+static void tensors_free(tensors *t) {
+    free(t->x);
+    free(t->w);
+    free(t->bias);
+    free(t->y);
+    free(t->ref);
+    free(t->mag);
+}
+
+static int tensors_make(tensors *t, const cp_shape *s, cp_flip flip, uint64_t seed) {
+    const size_t nx = cp_shape_input_elems(s), nw = cp_shape_weight_elems(s);
+    t->ny = cp_shape_output_elems(s);
+    t->x = malloc(nx * sizeof *t->x);
+    t->w = malloc(nw * sizeof *t->w);
+    t->bias = malloc((size_t)s->k * sizeof *t->bias);
+    t->y = malloc(t->ny * sizeof *t->y);
+    t->ref = malloc(t->ny * sizeof *t->ref);
+    t->mag = malloc(t->ny * sizeof *t->mag);
+    if (!t->x || !t->w || !t->bias || !t->y || !t->ref || !t->mag) return -1;
+    cph_fill_uniform(t->x, nx, seed);
+    cph_fill_uniform(t->w, nw, seed + 1);
+    cph_fill_uniform(t->bias, (size_t)s->k, seed + 2);
+    cp_oracle_run(s, flip, t->x, t->w, t->bias, t->ref, t->mag);
+    return 0;
+}
+
+typedef enum { TRY_FAILED, TRY_DISQUALIFIED, TRY_MEASURED } try_outcome;
+
+/* Checks one planned candidate against the oracle and, if accurate enough,
+ * times it with at most max_seconds; fills *c. */
+static try_outcome try_candidate(const cph_tune_request *rq, const planned *pl, tensors *t,
+                                 double max_seconds, cp_candidate *c) {
+    const cp_shape *s = &rq->layer->shape;
+    cp_plan *plan = NULL;
+    char why[256];
+    if (cp_plan_create(pl->algo, s, rq->flip, &pl->params, rq->caches, rq->threads, t->w, &plan,
+                       why, sizeof why) != CP_OK)
+        return TRY_FAILED;
+    snprintf(c->algo, sizeof c->algo, "%s", pl->algo->name);
+    c->params = pl->params;
+    for (size_t k = 0; k < t->ny; k++) t->y[k] = NAN;
+    run_ctx rc = {plan, t->x, t->bias, t->y, rq->exec};
+    if (run_once(&rc) != 0) {
+        cp_plan_destroy(plan);
+        return TRY_FAILED;
+    }
+    c->rel_err = cp_error_measure(t->y, t->ref, t->mag, t->ny).rel_err;
+    if (!(c->rel_err <= rq->opts->max_rel_err)) {
+        c->disqualified = 1;
+        cp_plan_destroy(plan);
+        return TRY_DISQUALIFIED;
+    }
+    cph_timing_opts to = rq->opts->timing;
+    to.max_seconds = max_seconds;
+    cph_measurement m;
+    const int rcode = cph_measure(&to, run_once, &rc, &m);
+    cp_plan_destroy(plan);
+    if (rcode != 0) {
+        cph_measurement_free(&m);
+        return TRY_FAILED;
+    }
+    c->timing.median = m.stats.median;
+    c->timing.ci_lo = m.stats.ci_lo;
+    c->timing.ci_hi = m.stats.ci_hi;
+    c->timing.samples = (uint32_t)m.n;
+    c->timing.noisy = m.stats.noisy;
+    c->samples = m.samples; /* ownership moves to the candidate */
+    c->nsamples = m.n;
+    return TRY_MEASURED;
+}
+
+cp_status cph_tune_layer(const cph_tune_request *rq, cp_table_entry *entry,
+                         cph_tune_report *report, char *msg, size_t cap) {
+    const cph_tune_opts *o = rq->opts;
+    const cph_layer *layer = rq->layer;
     const cp_shape *s = &layer->shape;
     memset(entry, 0, sizeof *entry);
     memset(report, 0, sizeof *report);
     const double t0 = cph_now();
-    const size_t nx = cp_shape_input_elems(s), nw = cp_shape_weight_elems(s);
-    const size_t ny = cp_shape_output_elems(s);
     enum { MAXPLAN = 256 };
     planned *plan = calloc(MAXPLAN, sizeof *plan);
-    float *x = malloc(nx * sizeof *x), *w = malloc(nw * sizeof *w);
-    float *bias = malloc((size_t)s->k * sizeof *bias), *y = malloc(ny * sizeof *y);
-    double *ref = malloc(ny * sizeof *ref), *mag = malloc(ny * sizeof *mag);
+    tensors t = {0};
     cp_candidate *cands = NULL;
+    const cp_algo **calgo = NULL; /* the algorithm of each recorded candidate */
+    size_t np = 0, nc = 0;
     cp_status st = CP_OK;
-    if (!plan || !x || !w || !bias || !y || !ref || !mag) {
-        snprintf(msg, cap, "%s: out of memory for test tensors", layer->name);
-        st = CP_ENOMEM;
+    if (!plan || tensors_make(&t, s, rq->flip, o->seed) != 0) {
+        st = cpa_fail(CP_ENOMEM, msg, cap, "%s: out of memory for test tensors", layer->name);
         goto out;
     }
-    size_t np = build_plan(o, s, flip, algos, nalgos, caches, plan, MAXPLAN, &report->unsupported);
+    const cp_cache_sizes fallback = cp_cache_sizes_fallback();
+    np = build_plan(o, s, rq->flip, rq->algos, rq->nalgos, rq->caches ? rq->caches : &fallback,
+                    plan, MAXPLAN, &report->unsupported);
     report->planned = (int)np;
     if (np == 0) {
-        snprintf(msg, cap, "%s: no selected algorithm supports this layer", layer->name);
-        st = CP_EUNSUPPORTED;
+        st = cpa_fail(CP_EUNSUPPORTED, msg, cap, "%s: no selected algorithm supports this layer",
+                      layer->name);
         goto out;
     }
     cands = calloc(np, sizeof *cands);
-    if (!cands) {
-        st = CP_ENOMEM;
+    calgo = calloc(np, sizeof *calgo);
+    if (!cands || !calgo) {
+        st = cpa_fail(CP_ENOMEM, msg, cap, "%s: out of memory for candidates", layer->name);
         goto out;
     }
-    cph_fill_uniform(x, nx, o->seed);
-    cph_fill_uniform(w, nw, o->seed + 1);
-    cph_fill_uniform(bias, (size_t)s->k, o->seed + 2);
-    cp_oracle_run(s, flip, x, w, bias, ref, mag);
 
     /* Every algorithm's defaults are measured even past the budget: without
      * them the comparison between algorithms would be meaningless.  The plan
      * is round-robin, so they are its first entries, one per supported
      * algorithm. */
-    size_t nfirst = nalgos - (size_t)report->unsupported;
+    size_t nfirst = rq->nalgos - (size_t)report->unsupported;
     if (nfirst > np) nfirst = np;
-    size_t nc = 0;
     for (size_t i = 0; i < np; i++) {
-        if (stop && *stop) {
+        if (rq->stop && *rq->stop) {
             report->interrupted = 1;
             goto out;
         }
@@ -183,79 +256,47 @@ cp_status cph_tune_layer(const cph_tune_opts *o, const cph_layer *layer, cp_flip
             report->skipped = (int)(np - i);
             break;
         }
-        char pbuf[128];
-        cp_params_format(plan[i].algo, &plan[i].params, pbuf, sizeof pbuf);
-        if (progress) {
+        if (rq->progress) {
+            char pbuf[128];
+            cp_params_format(plan[i].algo, &plan[i].params, pbuf, sizeof pbuf);
             cph_tune_progress pr = {layer->name, plan[i].algo->name, pbuf, (int)i + 1, (int)np,
                                     spent};
-            progress(progress_arg, &pr);
+            rq->progress(rq->progress_arg, &pr);
         }
-        cp_plan *pl = NULL;
-        char why[256];
-        if (cp_plan_create(plan[i].algo, s, flip, &plan[i].params, caches, threads, w, &pl, why,
-                           sizeof why) != CP_OK) {
+        double cap_s = o->timing.max_seconds;
+        if (i >= nfirst && left < cap_s) cap_s = left > 0.05 ? left : 0.05;
+        memset(&cands[nc], 0, sizeof cands[nc]);
+        switch (try_candidate(rq, &plan[i], &t, cap_s, &cands[nc])) {
+        case TRY_FAILED:
             report->failed++;
-            continue;
-        }
-        cp_candidate *c = &cands[nc];
-        snprintf(c->algo, sizeof c->algo, "%s", plan[i].algo->name);
-        c->params = plan[i].params;
-        for (size_t k = 0; k < ny; k++) y[k] = NAN;
-        run_ctx rc = {pl, x, bias, y, exec};
-        if (run_once(&rc) != 0) {
-            cp_plan_destroy(pl);
-            report->failed++;
-            continue;
-        }
-        cp_error e = cp_error_measure(y, ref, mag, ny);
-        c->rel_err = e.rel_err;
-        nc++;
-        if (!(e.rel_err <= o->max_rel_err)) {
-            c->disqualified = 1;
+            break;
+        case TRY_DISQUALIFIED:
             report->disqualified++;
-            cp_plan_destroy(pl);
-            continue;
+            calgo[nc++] = plan[i].algo;
+            break;
+        case TRY_MEASURED:
+            report->measured++;
+            calgo[nc++] = plan[i].algo;
+            break;
         }
-        cph_timing_opts to = o->timing;
-        if (i >= nfirst && left < to.max_seconds) to.max_seconds = left > 0.05 ? left : 0.05;
-        cph_measurement m;
-        int rcode = cph_measure(&to, run_once, &rc, &m);
-        cp_plan_destroy(pl);
-        if (rcode != 0) {
-            cph_measurement_free(&m);
-            nc--;
-            report->failed++;
-            continue;
-        }
-        report->measured++;
-        c->timing.median = m.stats.median;
-        c->timing.ci_lo = m.stats.ci_lo;
-        c->timing.ci_hi = m.stats.ci_hi;
-        c->timing.samples = (uint32_t)m.n;
-        c->timing.noisy = m.stats.noisy;
-        c->samples = m.samples; /* ownership moves to the candidate */
-        c->nsamples = m.n;
-        m.samples = NULL;
-        cph_measurement_free(&m);
     }
-    int ru;
+    int ru, in_noise;
     double margin;
-    int in_noise;
-    int best = cph_tune_choose(cands, nc, &ru, &margin, &in_noise);
+    const int best = cph_tune_choose(cands, nc, &ru, &margin, &in_noise);
     if (best < 0) {
-        snprintf(msg, cap, "%s: no candidate qualified (%d disqualified, %d failed)", layer->name,
-                 report->disqualified, report->failed);
-        st = CP_ENOTFOUND;
+        st = cpa_fail(CP_ENOTFOUND, msg, cap,
+                      "%s: no candidate qualified (%d disqualified, %d failed)", layer->name,
+                      report->disqualified, report->failed);
         goto out;
     }
     snprintf(entry->name, sizeof entry->name, "%s", layer->name);
     entry->shape = *s;
-    entry->flip = flip;
-    entry->threads = threads;
-    entry->algo = cp_algo_find(cands[best].algo);
+    entry->flip = rq->flip;
+    entry->threads = rq->threads;
+    entry->algo = calgo[best];
     entry->params = cands[best].params;
     entry->timing = cands[best].timing;
-    entry->runner_up = ru >= 0 ? cp_algo_find(cands[ru].algo) : NULL;
+    entry->runner_up = ru >= 0 ? calgo[ru] : NULL;
     if (ru >= 0) entry->runner_up_params = cands[ru].params;
     entry->margin = margin;
     entry->margin_in_noise = in_noise;
@@ -268,12 +309,8 @@ out:
         for (size_t i = 0; i < np; i++) free(cands[i].samples);
         free(cands);
     }
+    free(calgo);
     free(plan);
-    free(x);
-    free(w);
-    free(bias);
-    free(y);
-    free(ref);
-    free(mag);
+    tensors_free(&t);
     return st;
 }

@@ -45,17 +45,31 @@ typedef struct cph_tune_report {
     int interrupted;   /* *stop was set: the entry is not complete */
 } cph_tune_report;
 
-/* Tunes one layer.  algos/nalgos: the algorithms to consider.  exec: the
- * pinned pool's executor for `threads` workers.  stop: checked between
- * candidates (set by a signal handler); when set, returns CP_OK with
- * report->interrupted = 1 and the entry unfilled.
- * On success fills *entry (candidates allocated: free with
- * cph_tune_entry_free).  Fails (CP_ENOTFOUND) if no candidate qualified. */
-cp_status cph_tune_layer(const cph_tune_opts *o, const cph_layer *layer, cp_flip flip, int threads,
-                         const cp_algo *const *algos, size_t nalgos, const cp_cache_sizes *caches,
-                         const cp_exec *exec, volatile sig_atomic_t *stop, cph_progress_fn progress,
-                         void *progress_arg, cp_table_entry *entry, cph_tune_report *report,
-                         char *msg, size_t cap);
+/* One layer to tune and everything the tuner may use for it. */
+typedef struct cph_tune_request {
+    const cph_tune_opts *opts;
+    const cph_layer *layer;
+    cp_flip flip;
+    int threads;                  /* workers of exec: plans are sized for them */
+    const cp_algo *const *algos;  /* the algorithms to consider (need not be registered) */
+    size_t nalgos;
+    const cp_cache_sizes *caches; /* for defaults and candidates; NULL = fallback sizes */
+    const cp_exec *exec;          /* the pinned pool's executor; NULL = serial */
+    volatile sig_atomic_t *stop;  /* checked between candidates (a signal handler sets it);
+                                     may be NULL */
+    cph_progress_fn progress;     /* called before each candidate; may be NULL */
+    void *progress_arg;
+} cph_tune_request;
+
+/* Tunes one layer.  When *rq->stop is set, returns CP_OK with
+ * report->interrupted = 1 and the entry unfilled.  On success fills *entry
+ * (candidates allocated: free with cph_tune_entry_free; entry->algo and
+ * runner_up point into rq->algos).  Fails (CP_ENOTFOUND) if no candidate
+ * qualified, CP_EUNSUPPORTED if no algorithm supports the layer.  Every time
+ * it reads comes from cph_now(), so a test can drive it on an invented clock
+ * (cph_timing_set_clock). */
+cp_status cph_tune_layer(const cph_tune_request *rq, cp_table_entry *entry,
+                         cph_tune_report *report, char *msg, size_t cap);
 
 void cph_tune_entry_free(cp_table_entry *e);
 

@@ -162,29 +162,18 @@ grep -q "### Changed choices" "$tmp/table.md" || fail "markdown changed choices"
 expect 0 "" -- "$CLI" diff --tolerance 99 "$DATA/diff_base.bench.json" "$DATA/diff_base.table.json"
 grep -qE "^summary: [1-9][0-9]* compared" "$tmp/out" || fail "no pair across formats"
 
-# 4. Two bench runs of this build back to back: never a regression.  The
-#    samples of one run cannot see what changes between runs on a shared
-#    machine (a neighbour's load once made every entry of one run 13-55 %
-#    slower here), so a pair that shows a regression is measured again, up to
-#    three pairs: a build compared with itself must not regress in all three.
-if "$CLI" bench --help >/dev/null 2>&1; then
-  shapes=(--shape n=1,c=4,h=10,w=10,k=8,r=3,pad=1 --shape n=1,c=8,h=8,w=8,k=8,r=1)
-  ok=0
-  for attempt in 1 2 3; do
-    for run in a b; do
-      "$CLI" bench "${shapes[@]}" --algo direct,im2col_gemm --max-seconds 0.1 --no-roofs \
-        --json "$tmp/run_$run.json" >/dev/null
-    done
-    set +e; "$CLI" diff "$tmp/run_a.json" "$tmp/run_b.json" --junit "$tmp/runs.xml" >"$tmp/out"; rc=$?; set -e
-    [ "$rc" = 0 ] || [ "$rc" = 1 ] || { cat "$tmp/out"; fail "diff of two runs exited $rc"; }
-    nf="$(xmllint --xpath 'count(//testcase/failure)' "$tmp/runs.xml")"
-    [ "$(( rc == 1 ))" = "$(( nf > 0 ))" ] || fail "exit $rc disagrees with $nf JUnit failures"
-    grep "^summary:" "$tmp/out"
-    if [ "$rc" = 0 ]; then ok=1; break; fi
-    echo "cli_diff: attempt $attempt: two runs of one build differ beyond the tolerance; measuring again"
-  done
-  [ "$ok" = 1 ] || { cat "$tmp/out"; fail "three back-to-back pairs of one build all reported a regression"; }
-else
-  echo "cli_diff: SKIP the back-to-back bench runs: 'convpick bench' is not built in this tree"
-fi
+# 4. Two real bench runs of this build: diff reads what bench wrote, and its
+#    exit code agrees with the JUnit report.  Whether two runs of one build
+#    agree is a property of the machine's noise, not of this code: it is
+#    measured by the repeatability benchmark, never asserted by a test.
+shapes=(--shape n=1,c=4,h=10,w=10,k=8,r=3,pad=1 --shape n=1,c=8,h=8,w=8,k=8,r=1)
+for run in a b; do
+  "$CLI" bench "${shapes[@]}" --algo direct,im2col_gemm --max-seconds 0.05 --no-roofs \
+    --json "$tmp/run_$run.json" >/dev/null
+done
+set +e; "$CLI" diff "$tmp/run_a.json" "$tmp/run_b.json" --junit "$tmp/runs.xml" >"$tmp/out"; rc=$?; set -e
+[ "$rc" = 0 ] || [ "$rc" = 1 ] || { cat "$tmp/out"; fail "diff of two runs exited $rc"; }
+nf="$(xmllint --xpath 'count(//testcase/failure)' "$tmp/runs.xml")"
+[ "$(( rc == 1 ))" = "$(( nf > 0 ))" ] || fail "exit $rc disagrees with $nf JUnit failures"
+grep -qE "^summary: [1-9][0-9]* compared" "$tmp/out" || { cat "$tmp/out"; fail "two runs: nothing compared"; }
 echo "cli_diff: all checks passed"

@@ -1,11 +1,11 @@
-/* The cache simulator (harness/cachesim.c) on cases whose miss counts are
+/* The cache simulator (harness/cache/cachesim.c) on cases whose miss counts are
  * worked out by hand below, the geometry syntax, the access counts of the
- * traced kernels (harness/cache_traced.h) and the hardware-counter probe.
+ * traced kernels (harness/cache/cache_traced.h) and the hardware-counter probe.
  *
  * Sources: set-associative LRU behaviour and compulsory misses are facts of
  * the trade (common practice, no source); every expected count is derived in
  * the comment beside it.  The comparison against an outside simulator
- * (valgrind's cachegrind) is tests/cli_cachegrind.sh. */
+ * (valgrind's cachegrind) is tests/cli/cli_cachegrind.sh. */
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>

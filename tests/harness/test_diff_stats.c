@@ -1,5 +1,5 @@
-/* The statistics of convpick diff (harness/diff_stats.h) and its pairing of
- * results files (harness/diff_report.h).
+/* The statistics of convpick diff (harness/diff/diff_stats.h) and its pairing of
+ * results files (harness/diff/diff_report.h).
  *
  * Outside references:
  *  - SciPy 1.10.1 scipy.stats.mannwhitneyu (two-sided; methods asymptotic,
@@ -240,14 +240,14 @@ static void synth(double *v, size_t n, double med, double sd) {
     for (size_t i = 0; i < n; i++) v[i] = med * exp(sd * gauss());
 }
 
-static cph_verdict verdict_for(double shift, double sd, size_t m, size_t n, uint64_t seed,
+static cph_shift_verdict verdict_for(double shift, double sd, size_t m, size_t n, uint64_t seed,
                                cph_shift_cmp *c) {
     double base[400], next[400];
     rng_state = seed;
     synth(base, m, 1e-3, sd);
     synth(next, n, 1e-3 * (1.0 + shift), sd);
     assert_int_equal(cph_compare_samples(base, m, next, n, 0.01, c), 0);
-    return cph_verdict_of(c, 0.01, 0.05);
+    return cph_shift_verdict_of(c, 0.01, 0.05);
 }
 
 /* Default alpha 0.01 and tolerance 5 %, 40 samples a side, 1 % log-spread:
@@ -257,21 +257,22 @@ static void test_known_shifts(void **state) {
     (void)state;
     static const struct {
         double shift;
-        cph_verdict want;
+        cph_shift_verdict want;
     } cases[] = {
-        {0.00, CPH_VERDICT_UNCHANGED},
-        {0.03, CPH_VERDICT_UNCHANGED},
-        {0.10, CPH_VERDICT_SLOWER},
-        {-0.10, CPH_VERDICT_FASTER},
+        {0.00, CPH_SHIFT_UNCHANGED},
+        {0.03, CPH_SHIFT_UNCHANGED},
+        {0.10, CPH_SHIFT_SLOWER},
+        {-0.10, CPH_SHIFT_FASTER},
     };
     for (size_t ci = 0; ci < sizeof cases / sizeof cases[0]; ci++)
         for (uint64_t seed = 1; seed <= 20; seed++) {
             cph_shift_cmp c;
-            const cph_verdict v = verdict_for(cases[ci].shift, 0.01, 40, 40, seed, &c);
+            const cph_shift_verdict v = verdict_for(cases[ci].shift, 0.01, 40, 40, seed, &c);
             if (v != cases[ci].want)
                 fail_msg("shift %+.0f %% seed %llu: %s (ratio %.4f [%.4f, %.4f], p %.3g), want %s",
-                         100 * cases[ci].shift, (unsigned long long)seed, cph_verdict_name(v),
-                         c.ratio, c.ratio_lo, c.ratio_hi, c.mwu.p, cph_verdict_name(cases[ci].want));
+                         100 * cases[ci].shift, (unsigned long long)seed, cph_shift_verdict_name(v),
+                         c.ratio, c.ratio_lo, c.ratio_hi, c.mwu.p,
+                         cph_shift_verdict_name(cases[ci].want));
             /* the estimate lands near the true ratio: within 4 interval half-widths */
             assert_true(fabs(c.ratio - (1.0 + cases[ci].shift)) < 0.012);
         }
@@ -284,7 +285,7 @@ static void test_too_few_samples(void **state) {
     (void)state;
     for (uint64_t seed = 1; seed <= 20; seed++) {
         cph_shift_cmp c;
-        assert_int_equal(verdict_for(0.5, 0.01, 4, 4, seed, &c), CPH_VERDICT_INCONCLUSIVE);
+        assert_int_equal(verdict_for(0.5, 0.01, 4, 4, seed, &c), CPH_SHIFT_INCONCLUSIVE);
         assert_true(c.mwu.exact);
         assert_true(fabs(c.mwu.p - 2.0 / 70.0) < 1e-12); /* complete separation */
         assert_int_equal(c.bounded, 0);
@@ -298,10 +299,10 @@ static void test_noisy_is_inconclusive(void **state) {
     int inconclusive = 0;
     for (uint64_t seed = 1; seed <= 20; seed++) {
         cph_shift_cmp c;
-        const cph_verdict v = verdict_for(0.03, 0.2, 30, 30, seed, &c);
-        assert_int_not_equal(v, CPH_VERDICT_FASTER);
-        assert_int_not_equal(v, CPH_VERDICT_UNCHANGED);
-        inconclusive += v == CPH_VERDICT_INCONCLUSIVE;
+        const cph_shift_verdict v = verdict_for(0.03, 0.2, 30, 30, seed, &c);
+        assert_int_not_equal(v, CPH_SHIFT_FASTER);
+        assert_int_not_equal(v, CPH_SHIFT_UNCHANGED);
+        inconclusive += v == CPH_SHIFT_INCONCLUSIVE;
     }
     assert_true(inconclusive >= 18);
 }
@@ -314,9 +315,9 @@ static void test_error_rates(void **state) {
     int rejected = 0, slower = 0, covered = 0;
     for (uint64_t seed = 1000; seed < 2000; seed++) {
         cph_shift_cmp c;
-        const cph_verdict v = verdict_for(0.0, 0.05, 20, 20, seed, &c);
+        const cph_shift_verdict v = verdict_for(0.0, 0.05, 20, 20, seed, &c);
         rejected += c.mwu.p < 0.01;
-        slower += v == CPH_VERDICT_SLOWER;
+        slower += v == CPH_SHIFT_SLOWER;
         covered += c.bounded && c.ratio_lo <= 1.0 && c.ratio_hi >= 1.0;
     }
     print_message("false alarms %d / 1000, regressions %d, covered %d\n", rejected, slower, covered);
@@ -337,14 +338,21 @@ static void self_diff(const char *path, size_t min_items) {
     assert_int_equal(cph_diff_build(&a, &b, 0.01, 0.05, &d), 0);
     assert_int_equal(d.npairs, a.nitems);
     assert_int_equal(d.nonly_base + d.nonly_next, 0);
-    assert_int_equal(d.counts[CPH_VERDICT_SLOWER], 0);
-    assert_int_equal(d.counts[CPH_VERDICT_FASTER], 0);
+    assert_int_equal(d.counts[CPH_SHIFT_SLOWER], 0);
+    assert_int_equal(d.counts[CPH_SHIFT_FASTER], 0);
     assert_int_equal(d.nchanges, 0);
+    /* Both fixtures record every sample, so every pair must be compared (a
+     * pair without samples would be skipped silently and prove nothing). */
+    size_t with_samples = 0, compared = 0;
+    for (size_t i = 0; i < a.nitems; i++) with_samples += a.items[i].nsamples > 0;
+    assert_int_equal(with_samples, a.nitems);
     for (size_t i = 0; i < d.npairs; i++)
         if (d.pairs[i].compared) {
             assert_true(d.pairs[i].cmp.ratio == 1.0);
             assert_true(d.pairs[i].cmp.mwu.p == 1.0);
+            compared++;
         }
+    assert_int_equal(compared, a.nitems);
     cph_diff_free(&d);
     cph_results_free(&a);
     cph_results_free(&b);

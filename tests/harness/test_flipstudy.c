@@ -1,4 +1,4 @@
-/* The variants of the cache study (harness/cache_study.h) compute what they
+/* The variants of the cache study (harness/cache/cache_study.h) compute what they
  * claim: true convolution by flipped indexing equals true convolution with
  * pre-flipped weights, the pre-flipped weights are the originals flipped
  * along both spatial axes, both loop orders of direct agree, and the traced
@@ -149,7 +149,7 @@ static void test_flipped_equals_preflipped(void **st) {
             const cp_error e = cp_error_measure(y, ref, mag, ny);
             if (e.nonfinite || e.rel_err > a->tolerance)
                 fail_msg("shape %d %s: rel_err %.3e > %.1e", si, v->id, e.rel_err, a->tolerance);
-            if (v->kind == CPH_VK_PREFLIP) {
+            if (v->kind == CPH_FLIP_KIND_PREFLIP) {
                 memcpy(ypre, y, ny * sizeof *y);
             } else {
                 double worst = 0.0;
@@ -161,7 +161,7 @@ static void test_flipped_equals_preflipped(void **st) {
                     fail_msg("shape %d %s: differs from preflip by %.3e", si, v->id, worst);
             }
             if (strncmp(v->family, "direct", 6) == 0) {
-                const int fl = v->kind == CPH_VK_FLIPIDX;
+                const int fl = v->kind == CPH_FLIP_KIND_FLIPIDX;
                 if (v->param_value == 0)
                     memcpy(yo0[fl], y, ny * sizeof *y);
                 else
@@ -187,10 +187,10 @@ static void test_variant_table(void **st) {
         assert_non_null(a);
         assert_true(cp_algo_param_index(a, v->param) >= 0);
         assert_ptr_equal(cph_variant_find(v->id), v);
-        if (v->kind == CPH_VK_FLIPIDX) {
+        if (v->kind == CPH_FLIP_KIND_FLIPIDX) {
             assert_true(i > 0);
             const cph_variant *pre = cph_variant_at(i - 1);
-            assert_int_equal(pre->kind, CPH_VK_PREFLIP);
+            assert_int_equal(pre->kind, CPH_FLIP_KIND_PREFLIP);
             assert_string_equal(pre->family, v->family);
         }
     }

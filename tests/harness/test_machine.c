@@ -17,6 +17,8 @@
 
 #include <cmocka.h>
 
+#include "tests/support/suite.h"
+
 #include "convpick/convpick.h"
 #include "loader/cpuid.h"
 #include "loader/device.h"
@@ -186,7 +188,7 @@ static int has_flag(const char *flags, const char *flag) {
 static void test_cpuid_matches_proc_cpuinfo(void **state) {
     (void)state;
     char v[4096];
-    if (cpuinfo("vendor_id", v, sizeof v) != 0) skip();
+    if (cpuinfo("vendor_id", v, sizeof v) != 0) cpt_skip();
     cpl_cpu_id id;
     cpl_cpuid_read(&id);
     assert_string_equal(id.vendor, v);
@@ -230,7 +232,7 @@ static void test_cpuid_caches_match_sysfs(void **state) {
     (void)state;
     cpl_cpuid_cache c[16];
     const int n = cpl_cpuid_caches(c, 16);
-    if (sysfs_long("/sys/devices/system/cpu/cpu0/cache/index0/level") < 0) skip();
+    if (sysfs_long("/sys/devices/system/cpu/cpu0/cache/index0/level") < 0) cpt_skip();
     assert_true(n > 0);
     int matched = 0;
     for (int i = 0; i < 16; i++) {
@@ -351,5 +353,6 @@ int main(void) {
         cmocka_unit_test(test_fingerprint_stable),
         cmocka_unit_test(test_fingerprint_inputs),
     };
-    return cmocka_run_group_tests(tests, NULL, NULL);
+    return cpt_suite_status(cmocka_run_group_tests(tests, NULL, NULL),
+                            sizeof tests / sizeof tests[0]);
 }

@@ -17,6 +17,8 @@
 
 #include <cmocka.h>
 
+#include "tests/support/suite.h"
+
 #include "harness/machine/machine.h"
 #include "harness/machine/pool.h"
 
@@ -64,7 +66,7 @@ static void coverage_with(int nthreads) {
     assert_int_equal(cph_machine_detect(&m, NULL, msg, sizeof msg), CP_OK);
     if (m.cores < nthreads) {
         cph_machine_free(&m);
-        skip();
+        cpt_skip();
     }
     cph_pool *p = NULL;
     int pinned = -1;
@@ -109,7 +111,7 @@ static void test_pinning_real(void **state) {
         cph_machine_free(&m);
         hwloc_bitmap_free(before);
         hwloc_bitmap_free(after);
-        skip(); /* a restricted cpuset: nothing to check */
+        cpt_skip(); /* a restricted cpuset: nothing to check */
     }
     assert_int_equal(openblas_get_num_threads(), 1); /* the workers split GEMMs (pool.h) */
     int cores[8], pus[8];
@@ -227,5 +229,6 @@ int main(void) {
         cmocka_unit_test(test_choose_cores_synthetic),
         cmocka_unit_test(test_parse_threads),
     };
-    return cmocka_run_group_tests(tests, NULL, NULL);
+    return cpt_suite_status(cmocka_run_group_tests(tests, NULL, NULL),
+                            sizeof tests / sizeof tests[0]);
 }

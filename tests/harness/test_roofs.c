@@ -11,6 +11,8 @@
 
 #include <cmocka.h>
 
+#include "tests/support/suite.h"
+
 #include "loader/cpuid.h"
 #include "harness/machine/machine.h"
 #include "harness/machine/roofs.h"
@@ -50,7 +52,7 @@ static void test_peak_kernels_compute(void **state) {
      * the fixed point b / (1 - a) = 0.1; float rounding of x*a + b (fused or
      * not) moves where it sticks by a few per cent. */
     assert_float_equal(cph_roof_fma_portable(20000000), 16 * 0.1f, 0.08f);
-    if (!(id.avx2 && id.fma)) skip();
+    if (!(id.avx2 && id.fma)) cpt_skip();
     assert_float_equal(cph_roof_fma_avx2(20000000), 96 * 0.1f, 0.48f);
 }
 
@@ -59,5 +61,6 @@ int main(void) {
         cmocka_unit_test(test_roofs_sane),
         cmocka_unit_test(test_peak_kernels_compute),
     };
-    return cmocka_run_group_tests(tests, NULL, NULL);
+    return cpt_suite_status(cmocka_run_group_tests(tests, NULL, NULL),
+                            sizeof tests / sizeof tests[0]);
 }

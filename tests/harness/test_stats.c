@@ -1,4 +1,4 @@
-/* Statistics of timing samples (harness/stats.c) against outside values:
+/* Statistics of timing samples (harness/measure/stats.c) against outside values:
  * SciPy / NumPy reference values in tests/data/stats_fixtures.txt (written by
  * scripts/gen_stats_fixtures.py) and a worked example checkable by hand. */
 #include <math.h>

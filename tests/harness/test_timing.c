@@ -1,4 +1,4 @@
-/* The timing loop (harness/timing.c).  Most checks run on a test clock that
+/* The timing loop (harness/measure/timing.c).  Most checks run on a test clock that
  * the work itself advances, so counts and stop reasons are exact; a few run
  * on the real clock with nanosleep, asserting only lower bounds POSIX
  * guarantees ("nanosleep suspends for at least the time requested") and

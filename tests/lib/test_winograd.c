@@ -1,4 +1,4 @@
-/* Tests of winograd_2x2_3x3 and its single-tile reference (algos/winograd_tile.h).
+/* Tests of winograd_2x2_3x3 and its single-tile reference (tests/support/winograd_tile.h).
  *
  * Outside references:
  *  - Lavin & Gray, "Fast Algorithms for Convolutional Neural Networks", CVPR
@@ -42,7 +42,7 @@ static void test_f2_3_worked(void **state) {
     assert_true(direct[0] == 14.0f && direct[1] == 20.0f);
     float y[2];
     long mults = 0;
-    cpa_wino_f2_3(d, g, y, &mults);
+    cpt_wino_f2_3(d, g, y, &mults);
     assert_true(y[0] == 14.0f);
     assert_true(y[1] == 20.0f);
     /* Lavin & Gray 2016: F(m, r) needs m + r - 1 = 4 multiplies, direct m*r = 6. */
@@ -81,13 +81,13 @@ static void test_f2x2_3x3_worked(void **state) {
             direct[i * 2 + j] = acc;
         }
     float u[16], v[16], y[4];
-    cpa_wino_filter_tx(ex_g, u);
-    cpa_wino_input_tx(ex_d, v);
+    cpt_wino_filter_tx(ex_g, u);
+    cpt_wino_input_tx(ex_d, v);
     for (int i = 0; i < 16; i++) {
         assert_true(u[i] == ex_u[i]);
         assert_true(v[i] == ex_v[i]);
     }
-    cpa_wino_f2x2_3x3_tile(ex_d, ex_g, y, NULL);
+    cpt_wino_f2x2_3x3_tile(ex_d, ex_g, y, NULL);
     for (int i = 0; i < 4; i++) {
         assert_true(direct[i] == ex_y[i]);
         assert_true(y[i] == ex_y[i]);
@@ -158,13 +158,13 @@ static void test_mult_count(void **state) {
     assert_int_equal(direct, 36);
     long mults = 0;
     float y[4];
-    cpa_wino_f2x2_3x3_tile(ex_d, ex_g, y, &mults);
+    cpt_wino_f2x2_3x3_tile(ex_d, ex_g, y, &mults);
     assert_int_equal(mults, (m + r - 1) * (m + r - 1));
     assert_int_equal(mults, 16);
     for (int i = 0; i < 4; i++) assert_true(y[i] == ydirect[i]);
     /* Counts add up over tiles: 10 tiles, 160 multiplies. */
     mults = 0;
-    for (int t = 0; t < 10; t++) cpa_wino_f2x2_3x3_tile(ex_d, ex_g, y, &mults);
+    for (int t = 0; t < 10; t++) cpt_wino_f2x2_3x3_tile(ex_d, ex_g, y, &mults);
     assert_int_equal(mults, 160);
 }
 
@@ -192,12 +192,12 @@ static void check_kernel_set(const cpa_wino_kernels *kern) {
         float d[16], vr[16], mt[16], yr[4];
         for (int i = 0; i < 4; i++)
             for (int j = 0; j < 4; j++) d[i * 4 + j] = img[i][2 * t + j];
-        cpa_wino_input_tx(d, vr);
+        cpt_wino_input_tx(d, vr);
         for (int xi = 0; xi < 16; xi++) {
             assert_true(v[xi][t] == vr[xi]);
             mt[xi] = m[xi][t];
         }
-        cpa_wino_output_tx(mt, yr);
+        cpt_wino_output_tx(mt, yr);
         for (int i = 0; i < 2; i++)
             for (int j = 0; j < 2; j++) assert_true(o[i][2 * t + j] == yr[i * 2 + j] + bias);
         assert_true(o1[2 * t] == o[0][2 * t] && o1[2 * t + 1] == o[0][2 * t + 1]);

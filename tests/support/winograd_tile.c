@@ -19,7 +19,7 @@ static const float wino_at[2][4] = {
     {0.0f, 1.0f, -1.0f, -1.0f},
 };
 
-void cpa_wino_filter_tx(const float g[9], float u[16]) {
+void cpt_wino_filter_tx(const float g[9], float u[16]) {
     float gg[4][3]; /* G g */
     for (int i = 0; i < 4; i++)
         for (int j = 0; j < 3; j++) {
@@ -35,7 +35,7 @@ void cpa_wino_filter_tx(const float g[9], float u[16]) {
         }
 }
 
-void cpa_wino_input_tx(const float d[16], float v[16]) {
+void cpt_wino_input_tx(const float d[16], float v[16]) {
     float bd[4][4]; /* B^T d */
     for (int i = 0; i < 4; i++)
         for (int j = 0; j < 4; j++) {
@@ -51,7 +51,7 @@ void cpa_wino_input_tx(const float d[16], float v[16]) {
         }
 }
 
-void cpa_wino_output_tx(const float m[16], float y[4]) {
+void cpt_wino_output_tx(const float m[16], float y[4]) {
     float am[2][4]; /* A^T m */
     for (int i = 0; i < 2; i++)
         for (int j = 0; j < 4; j++) {
@@ -67,20 +67,20 @@ void cpa_wino_output_tx(const float m[16], float y[4]) {
         }
 }
 
-void cpa_wino_f2x2_3x3_tile(const float d[16], const float g[9], float y[4], long *mults) {
+void cpt_wino_f2x2_3x3_tile(const float d[16], const float g[9], float y[4], long *mults) {
     float u[16], v[16], m[16];
-    cpa_wino_filter_tx(g, u);
-    cpa_wino_input_tx(d, v);
+    cpt_wino_filter_tx(g, u);
+    cpt_wino_input_tx(d, v);
     long count = 0;
     for (int i = 0; i < 16; i++) {
         m[i] = u[i] * v[i];
         count++;
     }
-    cpa_wino_output_tx(m, y);
+    cpt_wino_output_tx(m, y);
     if (mults) *mults += count;
 }
 
-void cpa_wino_f2_3(const float d[4], const float g[3], float y[2], long *mults) {
+void cpt_wino_f2_3(const float d[4], const float g[3], float y[2], long *mults) {
     float u[4], v[4], m[4];
     for (int i = 0; i < 4; i++) {
         u[i] = wino_g[i][0] * g[0] + wino_g[i][1] * g[1] + wino_g[i][2] * g[2];

@@ -11,22 +11,22 @@
  * code (winograd_2x2_3x3.c) hard-codes the same matrices as additions; this
  * file exists so that tests can check the arithmetic one tile at a time and
  * count the general multiplications of the element-wise stage. */
-#ifndef CPA_WINOGRAD_TILE_H
-#define CPA_WINOGRAD_TILE_H
+#ifndef CPT_WINOGRAD_TILE_H
+#define CPT_WINOGRAD_TILE_H
 
 /* U = G g G^T for a 3x3 filter g (row-major); U is 4x4 row-major. */
-void cpa_wino_filter_tx(const float g[9], float u[16]);
+void cpt_wino_filter_tx(const float g[9], float u[16]);
 /* V = B^T d B for a 4x4 input tile d (row-major). */
-void cpa_wino_input_tx(const float d[16], float v[16]);
+void cpt_wino_input_tx(const float d[16], float v[16]);
 /* Y = A^T m A for a 4x4 element-wise product m; Y is 2x2 row-major. */
-void cpa_wino_output_tx(const float m[16], float y[4]);
+void cpt_wino_output_tx(const float m[16], float y[4]);
 
 /* F(2x2,3x3) on one tile: y (2x2) from d (4x4) and g (3x3).  When mults is
  * not NULL it is increased by the number of general multiplications of the
  * element-wise stage (the transforms' multiplications by constants are not
  * counted, as in Lavin & Gray 2016). */
-void cpa_wino_f2x2_3x3_tile(const float d[16], const float g[9], float y[4], long *mults);
+void cpt_wino_f2x2_3x3_tile(const float d[16], const float g[9], float y[4], long *mults);
 /* F(2,3) on one row: y (2) from d (4) and g (3); mults as above. */
-void cpa_wino_f2_3(const float d[4], const float g[3], float y[2], long *mults);
+void cpt_wino_f2_3(const float d[4], const float g[3], float y[2], long *mults);
 
 #endif
