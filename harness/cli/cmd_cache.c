@@ -56,9 +56,10 @@ static void usage(FILE *f) {
           "  --svg FILE          write a bar chart of misses per output, replaced atomically\n"
           "                      (default: none)\n"
           "  --trace-only V      one variant (e.g. direct.o1.flipidx) on one layer: print the\n"
-          "                      simulator's counts for its traced build\n"
+          "                      simulator's counts for its traced build (default: the study)\n"
           "  --plain             with --trace-only: flush the caches, run the plain kernel once\n"
-          "  --skip-kernel       with --plain: everything except the kernel call\n",
+          "                      (default: off)\n"
+          "  --skip-kernel       with --plain: everything except the kernel call (default: off)\n",
           f);
     cph_help_end(f, "0 done, 1 a variant failed its oracle check, 2 bad usage or input");
 }

@@ -19,16 +19,16 @@ static void usage(FILE *f) {
           "bias K values; writes the output N x K x P x Q (NCHW), replacing Y.f32 atomically.\n"
           "Non-finite inputs (NaN, Inf) are computed with and reported in a warning.\n\n"
           "the layer:\n"
-          "  --shape SPEC        the layer (syntax as in convpick verify --help)\n"
-          "  --algo A            the algorithm (see convpick algos)\n"
+          "  --shape SPEC        the layer (syntax as in convpick verify --help; required)\n"
+          "  --algo A            the algorithm (see convpick algos; required)\n"
           "  --flip F            the kernel orientation: no (cross-correlation, what a\n"
           "                      network layer computes) or yes (true convolution, the\n"
           "                      kernel read flipped) (default: no)\n\n"
           "options:\n"
-          "  --input FILE        input activations\n"
-          "  --weights FILE      weights\n"
+          "  --input FILE        input activations (required)\n"
+          "  --weights FILE      weights (required)\n"
           "  --bias FILE         bias (default: none)\n"
-          "  --output FILE       where to write the output\n",
+          "  --output FILE       where to write the output (required)\n",
           f);
     cph_help_max_memory(f);
     cph_help_end(f, "0 written, 1 the computation or the write failed, 2 bad usage or input");
