@@ -23,7 +23,8 @@ static void usage(FILE *f) {
           "  --seconds S         time budget for the roofs (default: 2)\n"
           "  --synthetic DESC    describe an invented machine given in hwloc's synthetic\n"
           "                      syntax, e.g. \"pack:2 l3:1(size=32MiB) l2:8(size=1MiB)\n"
-          "                      l1d:1(size=32KiB) core:1 pu:2\" (no roofs: nothing to measure)\n",
+          "                      l1d:1(size=32KiB) core:1 pu:2\" (no roofs: nothing to measure;\n"
+          "                      default: this machine)\n",
           f);
     cph_help_end(f, "0 done, 1 the roofs could not be measured, 2 bad usage or input");
 }

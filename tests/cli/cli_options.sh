@@ -46,6 +46,15 @@ for cmd in verify run algos probe bench tune lookup cache diff; do
     grep -qE -- "$want" help || { echo "FAIL: $cmd --help lacks /$want/"; fails=$((fails+1)); }
   done
   [ ! -s err ] || { echo "FAIL: $cmd --help wrote to stderr"; fails=$((fails+1)); }
+  # Every option states its default or that it is required (the layer
+  # options --shape, --shapes, --suite: "give at least one" above them).
+  awk '
+    function check() { if (opt != "" && opt !~ /^(-h,|--shape|--shapes|--suite)$/ && txt !~ /default|required/) print opt }
+    /^  -/ { check(); opt = $1; txt = $0; next }
+    /^                      / { txt = txt $0; next }
+    { check(); opt = "" }
+    END { check() }' help > nodefault
+  [ ! -s nodefault ] || { echo "FAIL: $cmd --help: no default stated for $(tr '\n' ' ' < nodefault)"; fails=$((fails+1)); }
 done
 
 # The shared options, one bad value each, in every command that takes them.
