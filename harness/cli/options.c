@@ -53,7 +53,21 @@ int cph_opt_next(const char *cmd, int argc, char **argv, const struct option *lo
         cph_opt_error(cmd, NULL, "unknown option '-%c'", isprint(optopt) ? optopt : '?');
     } else {
         const size_t len = strcspn(given, "=");
-        cph_opt_error(cmd, NULL, "unknown option '%.*s'", (int)(len < 60 ? len : 60), given);
+        /* getopt_long takes any unambiguous prefix; say when it was one of several. */
+        char names[256] = "";
+        size_t off = 0, n = 0;
+        for (const struct option *o = longopts; len > 2 && o->name && off < sizeof names; o++)
+            if (strncmp(given, "--", 2) == 0 && strncmp(o->name, given + 2, len - 2) == 0) {
+                const int w = snprintf(names + off, sizeof names - off, "%s--%s", n ? ", " : "",
+                                       o->name);
+                off += w > 0 ? (size_t)w : 0;
+                n++;
+            }
+        if (n > 1)
+            cph_opt_error(cmd, NULL, "ambiguous option '%.*s' (%s)", (int)(len < 60 ? len : 60),
+                          given, names);
+        else
+            cph_opt_error(cmd, NULL, "unknown option '%.*s'", (int)(len < 60 ? len : 60), given);
     }
     return CPH_OPT_BAD;
 }

@@ -65,7 +65,7 @@ int cph_opt_error(const char *cmd, const char *opt, const char *fmt, ...)
 
 /* getopt_long under the convention: returns the next option's code, -1 after
  * the last option, or CPH_OPT_BAD after printing the line for an unknown
- * option, a missing value or a value given to a flag.  "-h" is accepted
+ * or ambiguous option, a missing value or a value given to a flag.  "-h" is accepted
  * everywhere as --help. */
 enum { CPH_OPT_BAD = -2 };
 int cph_opt_next(const char *cmd, int argc, char **argv, const struct option *longopts);
@@ -85,6 +85,8 @@ int cph_opt_flip(const char *cmd, const char *arg, int allow_both, cp_flip *flip
 /* --threads: the list's syntax is checked now; the counts are read once the
  * machine's core count is known (cph_opt_threads_read). */
 int cph_opt_threads(const char *cmd, const char *arg);
+/* Writes at most max counts, each in [1, cores]; returns how many, or < 1
+ * after the error line. */
 int cph_opt_threads_read(const char *cmd, const char *arg, int cores, int *out, int max);
 /* --max-memory: bytes (K, M, G) or a percentage of the machine's memory. */
 int cph_opt_max_memory(const char *cmd, const char *arg, uint64_t *out);
