@@ -90,6 +90,7 @@ one_line "convpick bench: unknown option '--out'" bench --shape $S --out t.json
 # An ambiguous prefix names the options it could be (getopt_long accepts any
 # unambiguous prefix, so "--max" alone is neither; common practice, no source).
 one_line "convpick tune: ambiguous option '--max-s' (--max-seconds, --max-samples)" tune --shape $S --max-s 1
+one_line "convpick bench: --cold: takes no value" bench --shape $S --cold=1
 # The old name of --flip is gone.
 one_line "convpick verify: unknown option '--mode'" verify --shape $S --mode xcorr
 [ ! -e t.json ] || { echo "FAIL: a refused command wrote t.json"; fails=$((fails+1)); }
