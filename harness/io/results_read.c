@@ -148,7 +148,8 @@ static int param_rank(const cp_algo *a, const char *name) {
 }
 
 /* {"kt": 4, "kb": 64} -> "kb=64,kt=4": the algorithm's declaration order
- * (as everywhere parameters are printed), undeclared names after, sorted. */
+ * (as everywhere parameters are printed); names it does not declare (the
+ * SGEMM reference rows' m, k, n, ...) after, in the order the writer wrote them. */
 static cp_status get_params(const ctx *c, const json_t *obj, const char *where, const char *algo,
                             char *out, size_t cap) {
     json_t *p;
@@ -169,7 +170,7 @@ static cp_status get_params(const ctx *c, const json_t *obj, const char *where, 
     for (size_t i = 1; i < n; i++) /* insertion sort: at most a few names */
         for (size_t j = i; j > 0; j--) {
             const int rj = param_rank(a, names[j]), rp = param_rank(a, names[j - 1]);
-            if (rp < rj || (rp == rj && strcmp(names[j - 1], names[j]) <= 0)) break;
+            if (rp <= rj) break; /* equal: undeclared names keep the file's order */
             const char *t = names[j];
             names[j] = names[j - 1];
             names[j - 1] = t;
