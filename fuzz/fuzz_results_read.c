@@ -1,6 +1,7 @@
 /* Fuzz target: the results reader of `convpick diff` (cph_results_read_buffer,
- * the in-memory form of cph_results_read; harness/results_read.c), on bench
- * results and tuning tables alike.  Properties: no crash, no leak; every
+ * the in-memory form of cph_results_read; harness/io/results_read.c), on bench
+ * results and tuning tables alike, version 2 and the version 1 they migrate
+ * from.  Properties: no crash, no leak; every
  * item read has its samples when it claims some, a finite median >= 0, and
  * NUL-terminated texts; a refusal has a message. */
 #include <math.h>

@@ -1,5 +1,6 @@
 /* Fuzz target: the tuning-table loader (cp_table_load_buffer, the in-memory
- * form of cp_table_load; harness/lib_table_load.c) and the lookups a
+ * form of cp_table_load; loader/table_load.c, version 1 migrated as it
+ * loads) and the lookups a
  * deploying program makes on what it loaded.  Properties: no crash, no leak;
  * every loaded entry is found again exactly (cp_table_find, cp_table_lookup)
  * and carries a resolved algorithm that supports its shape; the loader's fast

@@ -1,5 +1,7 @@
-/* What a loaded tuning table holds, shared by the loader (lib_table_load.c)
- * and the lookup (lib_table_lookup.c).  Part of libconvpick; not installed. */
+/* What a loaded tuning table holds, shared by the loader (table_load.c: the
+ * document; table_entry.c: one entry; table_index.c: storage, order and
+ * duplicates) and the lookup (table_lookup.c).  Part of libconvpick; not
+ * installed. */
 #ifndef CONVPICK_LIB_TABLE_IMPL_H
 #define CONVPICK_LIB_TABLE_IMPL_H
 
@@ -7,6 +9,7 @@
 #include <stdint.h>
 
 #include "convpick/table.h"
+#include "loader/json_get.h"
 
 #define CPT_KEY_MAX 40 /* longest settings_key kept, NUL included */
 #define CPT_MAX_BYTES (1ull << 31) /* largest table file read (2 GiB) */
@@ -21,8 +24,8 @@ struct cp_table {
     size_t n;
     cp_table_entry *entries;
     char (*settings_keys)[CPT_KEY_MAX];
-    /* Entry indices sorted by (shape, mode, threads, index): exact lookups are
-     * a binary search, and entries of one shape and mode sit side by side. */
+    /* Entry indices sorted by (shape, flip, threads, index): exact lookups are
+     * a binary search, and entries of one shape and flip sit side by side. */
     size_t *order;
 };
 
@@ -49,5 +52,26 @@ static inline int cpl_entry_cmp(const cp_table_entry *a, const cp_table_entry *b
     if (r) return r;
     return (a->threads > b->threads) - (a->threads < b->threads);
 }
+
+/* table_entry.c: entries[idx] -> out and its settings_key. */
+cp_status cpl_decode_entry(const cpl_jctx *c, const json_t *e, size_t idx, cp_table_entry *out,
+                           char *key, size_t keycap, const cp_cache_sizes *caches);
+/* table_index.c */
+cp_status cpl_table_alloc(const cpl_jctx *c, cp_table *t, size_t n);
+cp_status cpl_table_add(const cpl_jctx *c, cp_table *t, const json_t *e, size_t i);
+cp_status cpl_table_index(const cpl_jctx *c, cp_table *t); /* sort + duplicate check */
+void cpl_table_clear(cp_table *t);                         /* frees the contents */
+
+/* table_scan.c: JSON white space; the top-level "entries" array of the text
+ * d[0..len): d[*open] == '[', d[*close] == ']', *count elements (0 when the
+ * document does not look as expected). */
+int cpl_is_ws(char ch);
+int cpl_find_entries(const char *d, size_t len, size_t *open, size_t *close, size_t *count);
+
+/* table_load.c: a table from a document already parsed (and migrated in
+ * place to the current version), for the harness's table writer, which keeps
+ * the tree.  Messages name `name`. */
+cp_status cpl_table_from_json(json_t *root, const char *name, unsigned flags, cp_table **out,
+                              char *msg, size_t cap);
 
 #endif

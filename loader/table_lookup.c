@@ -36,7 +36,7 @@ const char *cp_match_str(cp_match m) {
     return "unknown";
 }
 
-/* First position in the sorted order whose (shape, mode) is not below s. */
+/* First position in the sorted order whose (shape, flip) is not below s. */
 static size_t lower_bound(const cp_table *t, const cp_shape *s, cp_flip flip) {
     size_t lo = 0, hi = t->n;
     while (lo < hi) {
@@ -50,7 +50,7 @@ static size_t lower_bound(const cp_table *t, const cp_shape *s, cp_flip flip) {
     return lo;
 }
 
-/* threads <= 0: the entry of this shape and mode with the fewest threads. */
+/* threads <= 0: the entry of this shape and flip with the fewest threads. */
 const cp_table_entry *cp_table_find(const cp_table *t, const cp_shape *s, cp_flip flip,
                                     int threads) {
     if (!t || !s) return NULL;
@@ -90,7 +90,7 @@ cp_status cp_table_lookup(const cp_table *t, const cp_shape *s, cp_flip flip, in
         out->params = e->params;
         out->entry = e;
         snprintf(out->why, sizeof out->why,
-                 "entry '%s' has this shape, mode and %d thread(s); measured median %.3g s",
+                 "entry '%s' has this shape, flip and %d thread(s); measured median %.3g s",
                  e->name, e->threads, e->timing.median);
         return CP_OK;
     }
@@ -138,7 +138,7 @@ cp_status cp_table_lookup(const cp_table *t, const cp_shape *s, cp_flip flip, in
     cp_algo_defaults(a, s, &cs, &out->params);
     snprintf(out->why, sizeof out->why,
              "%s; default im2col_gemm with parameters from the %s cache sizes",
-             t ? "no entry of the same mode, kernel, stride, dilation and groups class"
+             t ? "no entry of the same flip, kernel, stride, dilation and groups class"
                : "no table",
              t ? "table's" : "fallback");
     return CP_OK;

@@ -1,5 +1,5 @@
 #!/usr/bin/env python3
-"""Prints each entry of a convpick tuning table: name, shape, mode, threads and
+"""Prints each entry of a convpick tuning table: name, shape, flip, threads and
 the chosen algorithm with its parameters.  Standard library only.
 
 usage: show_table.py TABLE [--choices]
@@ -23,13 +23,13 @@ def main(argv):
     except (OSError, json.JSONDecodeError) as e:
         print(f"show_table: {argv[1]}: {e}", file=sys.stderr)
         return 2
-    if table.get("format") != "convpick-tuning-table" or table.get("version") != 1:
-        print(f"show_table: {argv[1]}: not a convpick-tuning-table of version 1", file=sys.stderr)
+    if table.get("format") != "convpick-tuning-table" or table.get("version") != 2:
+        print(f"show_table: {argv[1]}: not a convpick-tuning-table of version 2", file=sys.stderr)
         return 2
     only = len(argv) == 3
     if not only:
         dev = table["device"]
-        print(f"table of {dev['model']} ({dev['fingerprint']}), created {table['created']}")
+        print(f"table of {dev['cpu']['model']} ({dev['fingerprint']}), created {table['created']}")
     for e in table["entries"]:
         ch = e["choice"]
         if only:
@@ -41,8 +41,9 @@ def main(argv):
         ru = e["runner_up"]
         second = (f"; runner-up {ru['algo']} +{100 * ru['margin']:.1f}%"
                   f"{' (in noise)' if ru['in_noise'] else ''}") if ru else ""
-        print(f"{e['name']}: {shape} {e['mode']} threads={e['threads']} -> {ch['algo']} "
-              f"{params_text(ch['params'])} median {e['timing']['median_s']:.3g} s{second}")
+        flip = "conv" if e["flipped"] else "xcorr"
+        print(f"{e['name']}: {shape} {flip} threads={e['threads']} -> {ch['algo']} "
+              f"{params_text(ch['params'])} median {e['timing']['stats']['median']:.3g} s{second}")
     return 0
 
 

@@ -439,14 +439,14 @@ json_t *cph_summaries_json(const cph_summary *s, const cph_summary *fast, size_t
             json_array_append_new(layers, L);
         }
         json_t *o = json_pack(
-            "{s:s, s:s, s:s, s:f, s:o, s:s, s:s, s:o, s:i, s:o, s:s, s:s, s:o}", "id", x->id, "target_text",
+            "{s:s, s:s, s:s, s:f, s:o, s:s, s:s, s:o, s:i, s:o, s:o, s:s, s:o}", "id", x->id, "target_text",
             x->what, "comparison", x->at_least ? ">=" : "<=", "target", x->target, "value",
             cph_json_number(x->value), "unit", x->unit, "verdict",
             x->verdict == CPH_PASS ? "pass" : x->verdict == CPH_MISS ? "miss" : "n/a",
             "missed_by", x->verdict == CPH_MISS ? json_real(x->missed_by) : json_null(),
             "threads", x->threads, "base_threads",
-            x->base_threads ? json_integer(x->base_threads) : json_null(), "mode",
-            x->flip == CP_CONV ? "conv" : "xcorr", "note", x->note, "layers", layers);
+            x->base_threads ? json_integer(x->base_threads) : json_null(), "flipped",
+            cph_json_flipped(x->flip), "note", x->note, "layers", layers);
         if (o && fast) {
             json_object_set_new(o, "value_fastest", cph_json_number(fast[i].value));
             json_object_set_new(o, "verdict_fastest", json_string(verdict_json(fast[i].verdict)));

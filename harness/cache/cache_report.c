@@ -1,5 +1,6 @@
 /* Text, JSON and SVG reports of the cache study (see cache_report.h). */
 #include "harness/cache/cache_report.h"
+#include "harness/io/report_json.h"
 
 #include <math.h>
 #include <stdarg.h>
@@ -115,7 +116,7 @@ static json_t *variant_json(const cph_cache_report *r, const cph_layer_result *L
     json_t *j = json_object();
     json_object_set_new(j, "id", json_string(v->v->id));
     json_object_set_new(j, "algo", json_string(v->v->algo));
-    json_object_set_new(j, "mode", json_string(v->v->flip == CP_XCORR ? "xcorr" : "conv"));
+    json_object_set_new(j, "flipped", cph_json_flipped(v->v->flip));
     json_object_set_new(j, "kind", json_string(kind_name(v->v->kind)));
     json_object_set_new(j, "family", json_string(v->v->family));
     json_object_set_new(j, "supported", json_boolean(v->supported));
@@ -130,13 +131,8 @@ static json_t *variant_json(const cph_cache_report *r, const cph_layer_result *L
                         v->diff_vs_preflip >= 0 ? num_or_null(v->diff_vs_preflip) : json_null());
     json_object_set_new(j, "check", c);
     if (v->timed) {
-        json_t *t = json_object();
-        json_object_set_new(t, "median_s", json_real(v->time.median));
-        json_object_set_new(t, "ci_lo_s", json_real(v->time.ci_lo));
-        json_object_set_new(t, "ci_hi_s", json_real(v->time.ci_hi));
-        json_object_set_new(t, "confidence", json_real(v->time.confidence));
-        json_object_set_new(t, "samples", json_integer((json_int_t)v->time.n));
-        json_object_set_new(t, "noisy", json_boolean(v->time.noisy));
+        json_t *t = json_object(); /* the shared timing object: {"stats", ...} */
+        json_object_set_new(t, "stats", cph_json_stats(&v->time));
         json_object_set_new(t, "rounds", json_integer(v->rounds));
         json_object_set_new(j, "time", t);
     } else {
@@ -184,7 +180,7 @@ json_t *cph_cache_report_json(const cph_cache_report *r) {
     const cph_study_opts *o = r->opts;
     json_t *root = json_object();
     json_object_set_new(root, "format", json_string("convpick-cache-study"));
-    json_object_set_new(root, "version", json_integer(1));
+    json_object_set_new(root, "version", json_integer(2)); /* 2: "flipped", shape object */
     json_object_set_new(root, "machine", r->machine ? json_incref(r->machine) : json_null());
     json_t *g = json_object();
     json_object_set_new(g, "source", json_string(r->geom_source));
@@ -221,10 +217,8 @@ json_t *cph_cache_report_json(const cph_cache_report *r) {
     for (size_t k = 0; k < r->nlayers; k++) {
         const cph_layer_result *L = &r->layers[k];
         json_t *e = json_object();
-        char spec[200];
-        cph_shape_format_short(&L->layer->shape, spec, sizeof spec);
         json_object_set_new(e, "name", json_string(L->layer->name));
-        json_object_set_new(e, "shape", json_string(spec));
+        json_object_set_new(e, "shape", cph_json_shape(&L->layer->shape));
         json_object_set_new(e, "k", json_integer((json_int_t)L->layer->shape.k));
         json_object_set_new(e, "k_simulated", json_integer((json_int_t)L->k_sim));
         json_object_set_new(e, "outputs_simulated", json_integer((json_int_t)L->outputs_sim));

@@ -1,12 +1,13 @@
 /* Reports of the cache study: a text table, a JSON document and an SVG bar
  * chart of simulated misses per output element, per level and variant.
  *
- * JSON (format "convpick-cache-study", version 1): machine, geometry (levels
- * with name, size, ways, line and where they came from), hardware_counters
- * {available, reason}, settings, and layers[] each with its shape, the
- * sampled output channels and variants[] {id, algo, mode, kind, family,
- * params, check {rel_err, tolerance, pass, sim_rel_err, diff_vs_preflip},
- * time {median_s, ci_lo_s, ci_hi_s, samples, noisy} or null, counters {...}
+ * JSON (format "convpick-cache-study", version 2): machine (the device
+ * object, docs/table-format.md), geometry (levels with name, size, ways, line
+ * and where they came from), hardware_counters {available, reason},
+ * settings, and layers[] each with its shape (the shape object), the sampled
+ * output channels and variants[] {id, algo, flipped, kind, family, params,
+ * check {rel_err, tolerance, pass, sim_rel_err, diff_vs_preflip}, time
+ * {stats (as a bench measurement's), rounds} or null, counters {...}
  * or null, sim {refs, loads, stores, levels[] {name, accesses, misses,
  * read_misses, misses_per_output, ratio_to_xcorr}} or null with
  * sim_unavailable giving the reason}. */

@@ -1,13 +1,15 @@
 /* Reading measurements back for comparison: a bench results file (format
- * "convpick-bench-results" v1, harness/cmd_bench.c) or a tuning table
- * ("convpick-tuning-table" v1, docs/table-format.md) becomes one flat list of
+ * "convpick-bench-results", harness/cli/cmd_bench.c) or a tuning table
+ * ("convpick-tuning-table", docs/table-format.md), version 2 or the version 1
+ * they migrate from, becomes one flat list of
  * measured items, each with its samples, so that `convpick diff` compares
  * any mix of the two the same way.
  *
  * Only what a comparison needs is read, and checked: a missing or mistyped
  * field is reported with the file and its JSON path
  * ("base.json: results[3].measurement.samples[7]: expected a number >= 0"),
- * malformed JSON with file:line:column.  Unknown keys are ignored (both
+ * malformed JSON with file:line:column (getters and shared objects:
+ * loader/json_get.h, loader/codec.h).  Unknown keys are ignored (both
  * formats only ever add fields within a version).  Algorithm names are kept
  * as text and not resolved against this build's registry, so that results of
  * an algorithm since renamed or removed still read (and show as unmatched). */
@@ -23,7 +25,7 @@ typedef enum cph_results_kind {
     CPH_RESULTS_TABLE = 1
 } cph_results_kind;
 
-/* One measured algorithm on one layer shape, mode and thread count. */
+/* One measured algorithm on one layer shape, flip and thread count. */
 typedef struct cph_result_item {
     char layer[64];
     cp_shape shape;
@@ -79,7 +81,7 @@ void cph_results_free(cph_results *r);
 /* "bench results" or "tuning table". */
 const char *cph_results_kind_name(cph_results_kind k);
 
-/* 1 when a and b are the same measurement point: shape, mode, threads,
+/* 1 when a and b are the same measurement point: shape, flip, threads,
  * algorithm and parameters. */
 int cph_result_same_point(const cph_result_item *a, const cph_result_item *b);
 

@@ -1,7 +1,8 @@
 /* Writing tuning tables (the harness side; deploying programs only load).
+ * Parts: table_doc_impl.h.
  *
  * A table document is built from the machine, the measurement settings and
- * one entry per layer x mode x threads, and written atomically: a temporary
+ * one entry per layer x flip x threads, and written atomically: a temporary
  * file in the table's directory, fsync, rename, fsync of the directory, so a
  * reader (or a killed tune) sees the old table or the new one, never half of
  * one.  Format: docs/table-format.md.  The JSON goes through jansson. */
@@ -27,7 +28,7 @@ typedef struct cph_table_settings {
     int warmup;             /* untimed runs before sampling */
     size_t min_samples, max_samples;
     double max_rel_err;     /* candidates above it are disqualified */
-    double budget_seconds;  /* per layer x mode x threads, all candidates, s */
+    double budget_seconds;  /* per layer x flip x threads, all candidates, s */
     int max_candidates;     /* per algorithm */
     uint64_t seed;          /* of the test data */
     int threads[CPH_TABLE_MAX_THREADS]; /* thread counts tuned */
@@ -52,15 +53,16 @@ typedef struct cph_table_doc cph_table_doc;
 /* A new empty document for this machine and these settings. */
 cp_status cph_table_doc_new(const cph_machine *m, const cph_table_settings *s,
                             cph_table_doc **out, char *msg, size_t cap);
-/* Opens an existing table for --resume: checks it with cp_table_load, keeps
- * its entries as they are and records the current settings.  A table of
+/* Opens an existing table for --resume: reads it once, migrates an older
+ * version to the current one and checks it with the loader's decoder, keeps
+ * its entries and records the current settings and device description.  A table of
  * another device (fingerprint) is refused with CP_EDEVICE. */
 cp_status cph_table_doc_open(const char *path, const cph_machine *m, const cph_table_settings *s,
                              cph_table_doc **out, char *msg, size_t cap);
 void cph_table_doc_free(cph_table_doc *d);
 
 enum {
-    CPH_TABLE_ABSENT = 0, /* no entry of this shape, mode and threads */
+    CPH_TABLE_ABSENT = 0, /* no entry of this shape, flip and threads */
     CPH_TABLE_SAME = 1,   /* present, measured with the document's settings_key */
     CPH_TABLE_STALE = 2   /* present, measured with other settings */
 };
@@ -69,7 +71,7 @@ size_t cph_table_doc_count(const cph_table_doc *d);
 /* The settings_key that cph_table_doc_put records. */
 const char *cph_table_doc_settings_key(const cph_table_doc *d);
 
-/* Replaces the entry of the same shape, mode and threads, or appends. */
+/* Replaces the entry of the same shape, flip and threads, or appends. */
 cp_status cph_table_doc_put(cph_table_doc *d, const cp_table_entry *e, const cph_entry_notes *n,
                             char *msg, size_t cap);
 
@@ -82,7 +84,7 @@ cp_status cph_table_doc_put(cph_table_doc *d, const cp_table_entry *e, const cph
  * read-merge-write.  When the file on disk is not the one this document was
  * read from (cph_table_doc_open), replaces (cph_table_doc_replaces) or last
  * wrote, another process wrote it: its entries are merged in (this
- * process's own measurements win for the same shape, mode and threads), so
+ * process's own measurements win for the same shape, flip and threads), so
  * neither loses the other's entries.  A file on disk that is no longer a
  * valid table of this device is an error and is left as it is. */
 cp_status cph_table_doc_write(cph_table_doc *d, const char *path, char *msg, size_t cap);

@@ -78,8 +78,12 @@ typedef struct cph_roofs {
     double seconds_spent;
 } cph_roofs;
 
-/* The machine (and the roofs, when given) as a JSON object for reports and
- * tables; a new reference the caller owns (NULL on failure). */
+/* The device object every format embeds (machine_json.c; spelled as
+ * docs/table-format.md, "Shared objects", says); a new reference the caller
+ * owns (NULL on failure). */
+json_t *cph_device_json(const cph_machine *m);
+/* The same plus what probe and the reports add: "algorithm_caches",
+ * "llc_total_bytes" and "roofs" (null when not given). */
 json_t *cph_machine_to_json(const cph_machine *m, const cph_roofs *roofs);
 
 /* Measures the roofs, about `seconds` in total (at least a few runs of each

@@ -1,31 +1,33 @@
-/* The machine as JSON: what `convpick probe --json` prints and what reports
- * and tables embed as the device description.  Built with jansson only. */
+/* The machine as JSON: the device object every format embeds (tables, bench
+ * results, the cache study, `convpick probe --json`), spelled one way
+ * (docs/table-format.md, "Shared objects").  Built with jansson only. */
 #include <jansson.h>
 
 #include "harness/machine/machine.h"
 
-static int put(json_t *o, const char *key, json_t *v) { return json_object_set_new(o, key, v); }
-
 static json_t *isa_json(const cph_machine *m) {
-    json_t *o = json_object();
-    if (!o) return NULL;
-    put(o, "sse4_2", json_boolean(m->sse42));
-    put(o, "avx", json_boolean(m->avx));
-    put(o, "avx2", json_boolean(m->avx2));
-    put(o, "fma", json_boolean(m->fma));
-    put(o, "avx512f", json_boolean(m->avx512f));
-    put(o, "avx512bw", json_boolean(m->avx512bw));
-    put(o, "avx512vl", json_boolean(m->avx512vl));
-    put(o, "avx512dq", json_boolean(m->avx512dq));
-    put(o, "avx512_vnni", json_boolean(m->avx512_vnni));
-    put(o, "avx512_bf16", json_boolean(m->avx512_bf16));
-    return o;
+    const struct {
+        const char *name;
+        int on;
+    } f[] = {
+        {"sse4_2", m->sse42},       {"avx", m->avx},           {"avx2", m->avx2},
+        {"fma", m->fma},            {"avx512f", m->avx512f},   {"avx512bw", m->avx512bw},
+        {"avx512vl", m->avx512vl},  {"avx512dq", m->avx512dq}, {"avx512_vnni", m->avx512_vnni},
+        {"avx512_bf16", m->avx512_bf16},
+    };
+    json_t *a = json_array();
+    for (size_t i = 0; a && i < sizeof f / sizeof f[0]; i++)
+        if (f[i].on && json_array_append_new(a, json_string(f[i].name)) != 0) {
+            json_decref(a);
+            return NULL;
+        }
+    return a;
 }
 
 static json_t *caches_json(const cph_machine *m) {
     json_t *a = json_array();
     if (!a) return NULL;
-    for (int i = 0; i < m->ncaches; i++) {
+    for (int i = 0; i < m->ncaches && i < CPH_MAX_CACHES; i++) {
         const cph_cache_level *c = &m->caches[i];
         json_t *o = json_pack("{s:i, s:s, s:I, s:I, s:i, s:i, s:i}", "level", c->level, "kind",
                               c->kind, "size", (json_int_t)c->size, "line", (json_int_t)c->line,
@@ -37,6 +39,19 @@ static json_t *caches_json(const cph_machine *m) {
         }
     }
     return a;
+}
+
+json_t *cph_device_json(const cph_machine *m) {
+    return json_pack("{s:s, s:b, s:{s:s, s:s, s:i, s:i, s:i}, s:{s:i, s:i, s:i, s:i, s:I}, s:o, "
+                     "s:o, s:{s:s, s:s}, s:{s:s, s:s}}",
+                     "fingerprint", m->fingerprint, "synthetic", m->synthetic,
+                     "cpu", "vendor", m->vendor, "model", m->model, "family", m->family,
+                     "model_id", m->model_id, "stepping", m->stepping,
+                     "topology", "packages", m->packages, "numa_nodes", m->numa_nodes, "cores",
+                     m->cores, "pus", m->pus, "memory_bytes", (json_int_t)m->memory_bytes,
+                     "caches", caches_json(m), "isa", isa_json(m),
+                     "blas", "version", m->blas_version, "core", m->blas_core,
+                     "build", "compiler", m->compiler, "flags", m->build_flags);
 }
 
 static json_t *roofs_json(const cph_roofs *r) {
@@ -51,23 +66,14 @@ static json_t *roofs_json(const cph_roofs *r) {
 
 json_t *cph_machine_to_json(const cph_machine *m, const cph_roofs *roofs) {
     const cp_cache_sizes cs = cph_machine_caches(m);
-    json_t *o = json_pack(
-        "{s:s, s:b, s:{s:s, s:s, s:i, s:i, s:i}, s:{s:i, s:i, s:i, s:i, s:I}, s:o, "
-        "s:{s:I, s:I, s:I, s:I}, s:I, s:o, s:{s:s, s:s}, s:{s:s, s:s}}",
-        "fingerprint", m->fingerprint, "synthetic", m->synthetic,
-        "cpu", "vendor", m->vendor, "brand", m->model, "family", m->family, "model", m->model_id,
-        "stepping", m->stepping,
-        "topology", "packages", m->packages, "numa_nodes", m->numa_nodes, "cores", m->cores, "pus",
-        m->pus, "memory_bytes", (json_int_t)m->memory_bytes,
-        "caches", caches_json(m),
-        "algorithm_caches", "l1d", (json_int_t)cs.l1d, "l2", (json_int_t)cs.l2, "l3",
-        (json_int_t)cs.l3, "line", (json_int_t)cs.line,
-        "llc_total_bytes", (json_int_t)cph_machine_llc_total(m),
-        "isa", isa_json(m),
-        "blas", "config", m->blas_version, "core", m->blas_core,
-        "build", "compiler", m->compiler, "flags", m->build_flags);
+    json_t *o = cph_device_json(m);
     if (!o) return NULL;
-    if (put(o, "roofs", roofs ? roofs_json(roofs) : json_null()) != 0) {
+    json_t *ac = json_pack("{s:I, s:I, s:I, s:I}", "l1d", (json_int_t)cs.l1d, "l2",
+                           (json_int_t)cs.l2, "l3", (json_int_t)cs.l3, "line", (json_int_t)cs.line);
+    if (json_object_set_new(o, "algorithm_caches", ac) != 0 ||
+        json_object_set_new(o, "llc_total_bytes",
+                            json_integer((json_int_t)cph_machine_llc_total(m))) != 0 ||
+        json_object_set_new(o, "roofs", roofs ? roofs_json(roofs) : json_null()) != 0) {
         json_decref(o);
         return NULL;
     }

@@ -1,10 +1,11 @@
 /* Tuning tables: what `convpick tune` measured and chose, loaded by a
  * deploying program to dispatch each layer to its chosen algorithm.
  *
- * A table is a JSON file of format "convpick-tuning-table", version 1
- * (docs/table-format.md, docs/table.schema.json).  It records the device
+ * A table is a JSON file of format "convpick-tuning-table", version 2
+ * (docs/table-format.md, docs/table.schema.json); version-1 tables still load
+ * (migrated as the document describes).  It records the device
  * (description and fingerprint), the measurement settings, and one entry per
- * layer shape x mode x thread count with the chosen algorithm, its parameters
+ * layer shape x flip x thread count with the chosen algorithm, its parameters
  * and statistics, the runner-up and the margin, and every candidate tried.
  *
  * Only the loader and lookup are here: writing tables is the harness's job. */
@@ -19,7 +20,7 @@
 #include "convpick/status.h"
 
 #define CP_TABLE_FORMAT "convpick-tuning-table"
-#define CP_TABLE_VERSION 1
+#define CP_TABLE_VERSION 2 /* the version written; 1 is still read */
 
 /* Timing statistics as recorded (seconds). */
 typedef struct cp_timing {
@@ -71,7 +72,7 @@ enum {
  * entries[2].choice.algo: unknown algorithm 'x'"), CP_EDEVICE (with
  * CP_TABLE_STRICT_DEVICE) for another device.  Without the flag a device
  * mismatch loads and is reported by cp_table_device_matches().  Two entries of
- * the same shape, mode and threads are a CP_EFORMAT error. */
+ * the same shape, flip and threads are a CP_EFORMAT error. */
 cp_status cp_table_load(const char *path, unsigned flags, cp_table **out, char *msg, size_t cap);
 /* The same from a document already in memory (len bytes, not necessarily
  * NUL-terminated); name stands for the file in messages.  cp_table_load
@@ -92,7 +93,7 @@ cp_cache_sizes cp_table_caches(const cp_table *t);
  * measurement settings, so that a resumed tune can tell whether an entry was
  * measured the way it would measure it now. */
 const char *cp_table_settings_key(const cp_table *t, size_t i);
-/* The entry of exactly this shape, mode and thread count, or NULL (O(log n)). */
+/* The entry of exactly this shape, flip and thread count, or NULL (O(log n)). */
 const cp_table_entry *cp_table_find(const cp_table *t, const cp_shape *s, cp_flip flip,
                                     int threads);
 
@@ -103,7 +104,7 @@ void cp_device_fingerprint(char out[17]);
 
 /* How a lookup was answered. */
 typedef enum cp_match {
-    CP_MATCH_EXACT = 0,   /* an entry of exactly this shape, mode and thread count */
+    CP_MATCH_EXACT = 0,   /* an entry of exactly this shape, flip and thread count */
     CP_MATCH_NEAREST,     /* a compatible entry (rules below), reported as approximate */
     CP_MATCH_DEFAULT      /* no compatible entry: the documented default choice */
 } cp_match;
@@ -120,10 +121,10 @@ typedef struct cp_choice {
 } cp_choice;
 
 /* Lookup rules.
- *  1. Exact: same shape (every field), mode and threads.  threads <= 0 means
+ *  1. Exact: same shape (every field), flip and threads.  threads <= 0 means
  *     "any": the entry with the most threads <= the machine's is not guessed;
  *     the smallest thread count recorded is used.
- *  2. Nearest: entries with the same mode, kernel size r x s, stride,
+ *  2. Nearest: entries with the same flip, kernel size r x s, stride,
  *     dilation and groups class (1, depthwise = groups == c, or other), whose
  *     chosen algorithm supports the asked shape; the one nearest in
  *     |log(FLOPs)| wins (then the nearer thread count, then the earlier entry).

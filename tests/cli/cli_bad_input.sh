@@ -70,7 +70,7 @@ t = json.load(open("good.json"))
 def w(name, f):
     d = copy.deepcopy(t); f(d); json.dump(d, open(name, "w"), indent=1)
 w("fmt.json", lambda d: d.update(format="x"))
-w("ver.json", lambda d: d.update(version=2))
+w("ver.json", lambda d: d.update(version=3))
 w("miss.json", lambda d: d["entries"][0]["shape"].pop("k"))
 w("type.json", lambda d: d["entries"][0]["shape"].update(k="4"))
 w("algo.json", lambda d: d["entries"][0]["choice"].update(algo="nope"))
@@ -85,11 +85,11 @@ check T2 2 "adir: cannot read: is a directory" lookup adir "${S[@]}"
 check T3 2 "empty: empty file" lookup empty "${S[@]}"
 check T4 2 "trunc.json:" lookup trunc.json "${S[@]}"
 check T5 2 "format: 'x' is not a convpick-tuning-table" lookup fmt.json "${S[@]}"
-check T6 2 "version: 2 is not supported" lookup ver.json "${S[@]}"
+check T6 2 "version: 3 is not supported (this build reads versions 1 to 2)" lookup ver.json "${S[@]}"
 check T7 2 "entries[0].shape.k: missing (expected integer)" lookup miss.json "${S[@]}"
 check T8 2 "entries[0].shape.k: expected integer, found a string" lookup type.json "${S[@]}"
 check T9 2 "entries[0].choice.algo: unknown algorithm 'nope'" lookup algo.json "${S[@]}"
-check T10 2 "same shape, mode and threads as entries[0]" lookup dup.json "${S[@]}"
+check T10 2 "same shape, flipped and threads as entries[0]" lookup dup.json "${S[@]}"
 check T11 2 "unable to decode byte 0xff" lookup utf8.json "${S[@]}"
 check T12 2 "expected a JSON object at the top level" lookup top.json "${S[@]}"
 check T13 2 "is not this machine's" lookup dev.json "${S[@]}" --strict-device
@@ -114,7 +114,7 @@ $PY - "$B" <<'P'
 import json, sys
 src = sys.argv[1]
 b = json.load(open(src))
-b["version"] = 2; json.dump(b, open("dver.json", "w"))
+b["version"] = 3; json.dump(b, open("dver.json", "w"))
 b["version"] = 1; b["format"] = "other"; json.dump(b, open("dfmt.json", "w"))
 b["format"] = "convpick-bench-results"; b["results"][0]["threads"] = "one"
 json.dump(b, open("dtype.json", "w"))
@@ -125,10 +125,10 @@ P
 check D1 2 "diff: missing.json: cannot read: No such file or directory" diff missing.json "$B"
 check D2 2 "diff: adir: cannot read: is a directory" diff adir "$B"
 check D3 2 "empty:1:0: malformed JSON" diff empty "$B"
-check D4 2 "dtrunc.json:16:4: malformed JSON: premature end of input" diff dtrunc.json "$B"
+check D4 2 "dtrunc.json:18:1: malformed JSON: ']' expected near end of file" diff dtrunc.json "$B"
 check D5 2 "format: \"other\" is neither" diff dfmt.json "$B"
-check D6 2 "version 2 is not supported" diff dver.json "$B"
-check D7 2 "results[0].threads: expected an integer, found a string" diff dtype.json "$B"
+check D6 2 "version 3 is not supported" diff dver.json "$B"
+check D7 2 "results[0].threads: expected integer, found a string" diff dtype.json "$B"
 check D8 2 "unable to decode byte 0xff" diff dutf.json "$B"
 check D9 2 "idle.fifo:1:0: malformed JSON" diff idle.fifo "$B"
 check D10 2 "expected two files, BASE and NEW, got 1" diff "$B"

@@ -1,6 +1,6 @@
 #!/usr/bin/env bash
 # convpick bench end to end: the JSON results file (format convpick-bench-results
-# version 1) holds every sample and setting, its statistics agree with NumPy's
+# version 2) holds every sample and setting, its statistics agree with NumPy's
 # on the recorded samples, cold mode flushes before each sample, and bad
 # options give one error line and exit status 2.
 set -euo pipefail
@@ -27,12 +27,12 @@ import jsonschema
 import numpy as np
 d = json.load(open(sys.argv[1]))
 jsonschema.validate(d, json.load(open(sys.argv[2])))
-assert d["format"] == "convpick-bench-results" and d["version"] == 1, d["format"]
-assert len(d["fingerprint"]) == 16 and d["device"]["fingerprint"] == d["fingerprint"]
+assert d["format"] == "convpick-bench-results" and d["version"] == 2, d["format"]
+assert len(d["device"]["fingerprint"]) == 16 and "fingerprint" not in d
 assert d["roofs"] is None  # --no-roofs
 t = d["settings"]["timing"]
 assert abs(t["target_rel_ci"] - 0.05) < 1e-15 and t["max_seconds"] == 0.05 and t["max_samples"] == 40
-assert d["settings"]["modes"] == ["xcorr", "conv"]
+assert d["settings"]["flipped"] == [False, True]
 assert d["summaries"] is None  # no --targets
 ok = [r for r in d["results"] if r["status"] == "ok"]
 assert ok, "no measurement"
@@ -59,7 +59,7 @@ for r in ok:
         assert m["stop"] in ("time_cap", "max_samples"), m["stop"]
     assert m["warmup_runs"] >= 1 and m["flushes"] == 0
     assert abs(r["gflops"] - r["flops"] / s["median"] * 1e-9) <= 1e-9 * r["gflops"]
-    assert r["threads"] >= 1 and r["mode"] in ("xcorr", "conv")
+    assert r["threads"] >= 1 and r["flipped"] in (False, True)
 print("json ok: %d measurements" % len(ok))
 P
 

@@ -37,7 +37,9 @@ $PY - "$T/s.json" "$T/table" <<'PYEOF' || die "JSON checks"
 import json, sys
 d = json.load(open(sys.argv[1]))
 table = open(sys.argv[2]).read()
-assert d["format"] == "convpick-cache-study" and d["version"] == 1
+assert d["format"] == "convpick-cache-study" and d["version"] == 2
+assert all(v["flipped"] in (False, True) for L in d["layers"] for v in L["variants"])
+assert all(L["shape"]["dilation_h"] >= 1 and L["shape"]["spec"] for L in d["layers"])
 assert [l["name"] for l in d["geometry"]["levels"]] == ["L1", "L2"]
 assert d["geometry"]["levels"][0]["size"] == 4096 and d["geometry"]["levels"][0]["ways"] == 4
 hc = d["hardware_counters"]

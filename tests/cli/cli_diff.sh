@@ -59,7 +59,7 @@ base["results"], new["results"] = bres, nres
 json.dump(base, open(out + "/base.json", "w"))
 json.dump(new, open(out + "/new.json", "w"))
 # the same file with another device, another format name, a mistyped sample
-other = copy.deepcopy(new); other["fingerprint"] = "0123456789abcdef"
+other = copy.deepcopy(new); other["device"]["fingerprint"] = "0123456789abcdef"
 json.dump(other, open(out + "/other_device.json", "w"))
 wrong = copy.deepcopy(base); wrong["format"] = "some-other-format"
 json.dump(wrong, open(out + "/wrong_format.json", "w"))
@@ -135,9 +135,16 @@ printf '{"format": "convpick-bench-results",\n "version": 1,\n "results": [}\n' 
 expect 2 "torn\.json:3:[0-9]+: malformed JSON" -- "$CLI" diff "$tmp/base.json" "$tmp/torn.json"
 expect 2 "bad_sample\.json: results\[1\]\.measurement\.samples\[3\]: expected a number" -- "$CLI" diff "$tmp/bad_sample.json" "$tmp/new.json"
 expect 2 "no measurement in common" -- "$CLI" diff "$tmp/base.json" "$tmp/apart.json"
-$PY -c 'import json,sys; d=json.load(open(sys.argv[1])); d["version"]=2; json.dump(d, open(sys.argv[2],"w"))' \
-  "$DATA/diff_base.table.json" "$tmp/table_v2.json"
-expect 2 "table_v2\.json: version: convpick-tuning-table version 2 is not supported" -- "$CLI" diff "$DATA/diff_base.table.json" "$tmp/table_v2.json"
+$PY -c 'import json,sys; d=json.load(open(sys.argv[1])); d["version"]=3; json.dump(d, open(sys.argv[2],"w"))' \
+  "$DATA/diff_base.table.json" "$tmp/table_v3.json"
+expect 2 "table_v3\.json: version: 3 is not supported \(this build reads versions 1 to 2\)" -- "$CLI" diff "$DATA/diff_base.table.json" "$tmp/table_v3.json"
+$PY -c 'import json,sys; d=json.load(open(sys.argv[1])); d["version"]=3; json.dump(d, open(sys.argv[2],"w"))' \
+  "$DATA/diff_base.bench.json" "$tmp/bench_v3.json"
+expect 2 "bench_v3\.json: version: convpick-bench-results version 3 is not supported" -- "$CLI" diff "$DATA/diff_base.bench.json" "$tmp/bench_v3.json"
+# Version 1 (the migration, docs/table-format.md): the v1 original of the bench
+# fixture reads as its Python-migrated v2 copy, every pair unchanged.
+expect 0 "" -- "$CLI" diff "$DATA/diff_base.v1.bench.json" "$DATA/diff_base.bench.json"
+grep -qE "^summary: 4 compared: 0 slower, [0-9] inconclusive, [0-9] unchanged, 0 faster; 0 only in BASE, 0 only in NEW" "$tmp/out" || { cat "$tmp/out"; fail "v1 bench file does not read as its v2 copy"; }
 expect 2 "device .*--allow-other-device" -- "$CLI" diff "$tmp/base.json" "$tmp/other_device.json"
 expect 1 "" -- "$CLI" diff --allow-other-device "$tmp/base.json" "$tmp/other_device.json" --markdown "$tmp/other.md"
 head -n 1 "$tmp/out" | grep -q "^WARNING: BASE and NEW were measured on different devices" || fail "other-device warning not on top"

@@ -49,8 +49,8 @@ import json, sys
 for e in json.load(open(sys.argv[1]))["entries"]:
     s = e["shape"]
     keys = "n c h w k r s stride_h stride_w pad_top pad_left pad_bottom pad_right dilation_h dilation_w groups"
-    # the table keeps "mode" xcorr|conv; the example takes the flip word no|yes
-    print(e["name"], ",".join(str(s[k]) for k in keys.split()), {"xcorr": "no", "conv": "yes"}[e["mode"]], e["threads"])
+    # the table says "flipped": true|false; the example takes the flip word no|yes
+    print(e["name"], ",".join(str(s[k]) for k in keys.split()), "yes" if e["flipped"] else "no", e["threads"])
 ' "$table" > "$tmp/layers.txt"
   while read -r name spec flip threads; do
     want="$(awk -v n="$name" '$1 == n { print $2, $3 }' "$tmp/py.txt")"

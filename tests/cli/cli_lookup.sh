@@ -38,7 +38,7 @@ expect2 "device.fingerprint: 00000000000f1a7e is not this machine's" "$T" --shap
 expect2 "cannot read: No such file or directory" "$tmp/absent.json" --shape n=1,c=3,h=16,w=16,k=8,r=3
 head -c 700 "$T" > "$tmp/trunc.json"
 expect2 "$tmp/trunc.json:" "$tmp/trunc.json" --shape n=1,c=3,h=16,w=16,k=8,r=3
-sed 's/"version": 1/"version": 3/' "$T" > "$tmp/v3.json"
+sed "s/\"version\": 2,/\"version\": 3,/" "$T" > "$tmp/v3.json"
 expect2 "version: 3 is not supported" "$tmp/v3.json" --shape n=1,c=3,h=16,w=16,k=8,r=3
 expect2 "--shape" "$T" --shape n=1,c=3,h=16,w=16,k=8,r=3,bogus=2
 expect2 "convpick lookup: --flip: 'sideways' is not no or yes" "$T" --shape n=1,c=3,h=16,w=16,k=8,r=3 --flip sideways

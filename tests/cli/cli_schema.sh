@@ -1,5 +1,5 @@
 #!/usr/bin/env bash
-# Tuning tables against docs/table.schema.json: the committed fixtures and a
+# Tuning tables against docs/table.schema.json: the committed version-2 fixtures and a
 # table freshly written by the writer (through test_table --write-sample) must
 # validate, and a table with a wrong field must not.  The validator is
 # python3-jsonschema (Debian), run by /usr/bin/python3.
@@ -28,7 +28,11 @@ sys.exit(1 if bad else 0)
 PY
 }
 
-validate "$SRC"/tests/data/*.table.json "$tmp/fresh.json" || { echo "FAIL: a table does not match the schema"; exit 1; }
+# Version-2 fixtures only: *.v1.* are the old-version originals the migration
+# test reads (the schema describes version 2).
+current=()
+for f in "$SRC"/tests/data/*.table.json; do case "$f" in *.v1.*) ;; *) current+=("$f") ;; esac; done
+validate "${current[@]}" "$tmp/fresh.json" || { echo "FAIL: a table does not match the schema"; exit 1; }
 
 # The schema must be able to fail: a string where an integer belongs.
 $PY -c '

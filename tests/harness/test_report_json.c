@@ -1,8 +1,12 @@
-/* Measurement JSON (harness/report_json.c): round trip, the documented field
- * names, null for non-finite numbers, error messages naming the field, and
- * the atomic write (no temporary file left, target untouched on failure). */
+/* Measurement JSON (harness/io/report_json.c): round trip, the documented
+ * field names, null for non-finite numbers, error messages naming the field
+ * (read back by the test-only tests/support/measurement_read.c), and the
+ * atomic write (no temporary file left; an existing target whose replacement
+ * fails midway is left byte for byte as it was). */
 #define _POSIX_C_SOURCE 200809L
 #include <dirent.h>
+#include <signal.h>
+#include <sys/resource.h>
 #include <math.h>
 #include <setjmp.h>
 #include <stdarg.h>
@@ -16,6 +20,7 @@
 #include <cmocka.h>
 
 #include "harness/io/report_json.h"
+#include "tests/support/measurement_read.h"
 
 static char dir[64];
 
@@ -109,7 +114,7 @@ static void test_round_trip(void **state) {
         assert_true(json_real_value(json_array_get(samples, i)) == vals[i]); /* bit for bit */
 
     cph_measurement r;
-    assert_int_equal(cph_json_read_measurement(back, "m", &r, msg, sizeof msg), CP_OK);
+    assert_int_equal(cpt_json_read_measurement(back, "m.json", "m", &r, msg, sizeof msg), CP_OK);
     assert_int_equal(r.n, 12);
     assert_memory_equal(r.samples, vals, sizeof vals);
     assert_int_equal(r.stop, CPH_STOP_TIME_CAP);
@@ -124,6 +129,21 @@ static void test_round_trip(void **state) {
     cph_measurement_free(&m);
 }
 
+static char *slurp(const char *path, size_t *len) {
+    FILE *f = fopen(path, "rb");
+    assert_non_null(f);
+    char *buf = malloc(1 << 20);
+    assert_non_null(buf);
+    *len = fread(buf, 1, 1 << 20, f);
+    fclose(f);
+    return buf;
+}
+
+/* The failure is made real: the process may write at most 64 KiB per file
+ * (RLIMIT_FSIZE, SIGXFSZ ignored, so write() fails with EFBIG), and the new
+ * document is ~1 MB, so the temporary file's write fails midway through.
+ * The existing target must come back byte for byte (common practice, no
+ * source: what atomic replacement by rename promises). */
 static void test_replaces_existing_and_failure_leaves_target(void **state) {
     (void)state;
     char path[128], msg[512] = "";
@@ -131,16 +151,37 @@ static void test_replaces_existing_and_failure_leaves_target(void **state) {
     json_t *a = json_pack("{s:i}", "x", 1), *b = json_pack("{s:i}", "x", 2);
     assert_int_equal(cph_json_write_atomic(a, path, msg, sizeof msg), CP_OK);
     assert_int_equal(cph_json_write_atomic(b, path, msg, sizeof msg), CP_OK);
-    json_error_t err;
-    json_t *back = json_load_file(path, 0, &err);
-    assert_int_equal(json_integer_value(json_object_get(back, "x")), 2);
-    json_decref(back);
+    size_t before_len;
+    char *before = slurp(path, &before_len);
+    assert_int_equal(before_len, strlen("{\n \"x\": 2\n}\n"));
+    assert_memory_equal(before, "{\n \"x\": 2\n}\n", before_len);
+
+    json_t *big = json_array();
+    for (int i = 0; i < 100000; i++) json_array_append_new(big, json_real(0.1 * i));
+    struct rlimit old, lim;
+    assert_int_equal(getrlimit(RLIMIT_FSIZE, &old), 0);
+    lim = old;
+    lim.rlim_cur = 64 * 1024;
+    void (*prev)(int) = signal(SIGXFSZ, SIG_IGN);
+    assert_int_equal(setrlimit(RLIMIT_FSIZE, &lim), 0);
+    const cp_status st = cph_json_write_atomic(big, path, msg, sizeof msg);
+    assert_int_equal(setrlimit(RLIMIT_FSIZE, &old), 0);
+    signal(SIGXFSZ, prev);
+    assert_int_equal(st, CP_EIO);
+    assert_non_null(strstr(msg, "write failed"));
+    size_t after_len;
+    char *after = slurp(path, &after_len);
+    assert_int_equal(after_len, before_len);
+    assert_memory_equal(after, before, before_len);
+    assert_int_equal(entries_in_dir(".json."), 0);
+    free(before);
+    free(after);
+    json_decref(big);
 
     char bad[160];
     snprintf(bad, sizeof bad, "%s/no/such/dir/r.json", dir);
     assert_int_equal(cph_json_write_atomic(a, bad, msg, sizeof msg), CP_EIO);
     assert_non_null(strstr(msg, bad));
-    assert_int_equal(entries_in_dir(".json."), 0);
     json_decref(a);
     json_decref(b);
 }
@@ -171,12 +212,14 @@ static void test_read_errors_name_the_field(void **state) {
     json_t *j = cph_json_measurement(&m);
     char msg[512] = "";
     json_array_set_new(json_object_get(j, "samples"), 3, json_string("fast"));
-    assert_int_equal(cph_json_read_measurement(j, "results[2].measurement", &r, msg, sizeof msg),
-                     CP_EFORMAT);
-    assert_string_equal(msg, "results[2].measurement.samples[3]: expected a non-negative number");
+    assert_int_equal(
+        cpt_json_read_measurement(j, "b.json", "results[2].measurement", &r, msg, sizeof msg),
+        CP_EFORMAT);
+    assert_string_equal(msg, "b.json: results[2].measurement.samples[3]: expected a number >= 0 "
+                             "(seconds), found a string");
     json_object_del(json_object_get(j, "settings"), "confidence");
-    assert_int_equal(cph_json_read_measurement(j, "x", &r, msg, sizeof msg), CP_EFORMAT);
-    assert_string_equal(msg, "x.settings.confidence: missing");
+    assert_int_equal(cpt_json_read_measurement(j, "b.json", "x", &r, msg, sizeof msg), CP_EFORMAT);
+    assert_string_equal(msg, "b.json: x.settings.confidence: missing (expected number)");
     json_decref(j);
     cph_measurement_free(&m);
 }
@@ -196,6 +239,10 @@ static void test_shape_json(void **state) {
     assert_int_equal(json_integer_value(json_object_get(j, "stride_w")), 2);
     assert_int_equal(json_integer_value(json_object_get(j, "pad_bottom")), 1);
     assert_int_equal(json_integer_value(json_object_get(j, "groups")), 1);
+    /* the one spelling of every format (docs/table-format.md, "Shared objects") */
+    assert_int_equal(json_integer_value(json_object_get(j, "dilation_h")), 1);
+    assert_null(json_object_get(j, "dil_h"));
+    assert_string_equal(json_string_value(json_object_get(j, "layout")), "NCHW/KCRS");
     char spec[256];
     cp_shape_format(&s, spec, sizeof spec);
     assert_string_equal(json_string_value(json_object_get(j, "spec")), spec);

@@ -29,6 +29,9 @@
 #include "harness/io/table_write.h"
 
 #define FIXTURE CP_TEST_DATA "/tiny.table.json"
+/* The same table in version 1; tiny.table.json was made from it by
+ * scripts/fixture_v1_to_v2.py, the migration written out in Python. */
+#define FIXTURE_V1 CP_TEST_DATA "/tiny.v1.table.json"
 
 static char tmpdir[256];
 
@@ -242,11 +245,12 @@ static void round_trip(int with_params) {
     json_t *root = json_load_file(p, 0, &err);
     assert_non_null(root);
     json_t *dev = json_object_get(root, "device");
-    assert_string_equal(json_string_value(json_object_get(dev, "vendor")), "AuthenticAMD");
-    assert_int_equal(json_integer_value(json_object_get(dev, "cores")), 2);
+    assert_string_equal(json_string_value(json_object_get(json_object_get(dev, "cpu"), "vendor")),
+                        "AuthenticAMD");
+    assert_int_equal(json_integer_value(json_object_get(json_object_get(dev, "topology"), "cores")), 2);
     assert_int_equal(json_array_size(json_object_get(dev, "isa")), 4);
     json_t *set = json_object_get(root, "settings");
-    assert_string_equal(json_string_value(json_object_get(set, "caches")), "warm");
+    assert_true(json_is_false(json_object_get(json_object_get(set, "timing"), "cold")));
     assert_int_equal(json_array_size(json_object_get(set, "threads")), 2);
     const char *created = json_string_value(json_object_get(root, "created"));
     assert_non_null(created);
@@ -355,6 +359,104 @@ static void test_fixture_loads(void **state) {
     cp_table_free(t);
 }
 
+/* --- version 1 ---------------------------------------------------------- */
+
+static void same_entry(const cp_table_entry *a, const cp_table_entry *b) {
+    assert_string_equal(a->name, b->name);
+    assert_true(cp_shape_equal(&a->shape, &b->shape));
+    assert_int_equal(a->flip, b->flip);
+    assert_int_equal(a->threads, b->threads);
+    assert_ptr_equal(a->algo, b->algo);
+    assert_memory_equal(&a->params, &b->params, sizeof a->params);
+    assert_memory_equal(&a->timing, &b->timing, sizeof a->timing);
+    assert_ptr_equal(a->runner_up, b->runner_up);
+    assert_int_equal(a->ncandidates, b->ncandidates);
+    for (size_t j = 0; j < a->ncandidates; j++) {
+        assert_string_equal(a->candidates[j].algo, b->candidates[j].algo);
+        assert_int_equal(a->candidates[j].failed, b->candidates[j].failed);
+        assert_memory_equal(&a->candidates[j].timing, &b->candidates[j].timing, sizeof(cp_timing));
+    }
+}
+
+/* A version-1 table loads, migrated, exactly as its version-2 rewrite by the
+ * Python migration (scripts/fixture_v1_to_v2.py) does: mode "conv" became
+ * flipped true, the timing fields moved under "stats". */
+static void test_v1_fixture_migrates(void **state) {
+    (void)state;
+    char msg[512] = "";
+    cp_table *a, *b;
+    if (cp_table_load(FIXTURE_V1, 0, &a, msg, sizeof msg) != CP_OK) fail_msg("%s", msg);
+    if (cp_table_load(FIXTURE, 0, &b, msg, sizeof msg) != CP_OK) fail_msg("%s", msg);
+    assert_int_equal(cp_table_count(a), 2);
+    assert_int_equal(cp_table_count(b), 2);
+    for (size_t i = 0; i < 2; i++) same_entry(cp_table_entry_at(a, i), cp_table_entry_at(b, i));
+    assert_int_equal(cp_table_entry_at(a, 1)->flip, CP_CONV); /* "mode": "conv" in the file */
+    assert_true(cp_table_entry_at(a, 0)->timing.median == 1.2e-4); /* "median_s" in the file */
+    assert_string_equal(cp_table_settings_key(a, 0), "7d0c1b2a3e4f5061");
+    cp_table_free(a);
+    cp_table_free(b);
+}
+
+/* The parameter renamed in version 2: a version-1 entry of the blocked
+ * algorithm with "ukernel": 1 loads as tile_isa = 1 (its values, from
+ * algos/blocked.c: 0 = best the CPU has, 1 = portable C). */
+static void test_v1_ukernel_is_tile_isa(void **state) {
+    (void)state;
+    char msg[512] = "";
+    json_error_t err;
+    json_t *r = json_load_file(FIXTURE_V1, 0, &err);
+    assert_non_null(r);
+    json_t *ch = json_object_get(entry0(r), "choice");
+    json_object_set_new(ch, "algo", json_string("blocked"));
+    json_object_set_new(ch, "params", json_pack("{s:i}", "ukernel", 1));
+    json_object_set_new(entry0(r), "candidates", json_array());
+    const char *p = tpath("v1_ukernel.json");
+    assert_int_equal(json_dump_file(r, p, JSON_INDENT(1)), 0);
+    json_decref(r);
+    cp_table *t;
+    if (cp_table_load(p, 0, &t, msg, sizeof msg) != CP_OK) fail_msg("%s", msg);
+    const cp_table_entry *e = cp_table_entry_at(t, 0);
+    const int i = cp_algo_param_index(e->algo, "tile_isa");
+    assert_true(i >= 0);
+    assert_int_equal(e->params.v[i], 1);
+    cp_table_free(t);
+}
+
+/* --resume of a version-1 table: the document is rewritten in version 2, its
+ * entries kept (and migrated), none in the old spelling. */
+static void test_v1_resume_writes_v2(void **state) {
+    (void)state;
+    char msg[512] = "";
+    cph_machine m;
+    fake_machine(&m);
+    snprintf(m.fingerprint, sizeof m.fingerprint, "00000000000f1a7e"); /* the fixture's device */
+    cph_table_settings st;
+    fake_settings(&st);
+    const char *p = tpath("resume_v1.json");
+    json_error_t err;
+    json_t *r = json_load_file(FIXTURE_V1, 0, &err);
+    assert_non_null(r);
+    assert_int_equal(json_dump_file(r, p, JSON_INDENT(1)), 0);
+    json_decref(r);
+    cph_table_doc *d;
+    if (cph_table_doc_open(p, &m, &st, &d, msg, sizeof msg) != CP_OK) fail_msg("%s", msg);
+    assert_int_equal(cph_table_doc_count(d), 2);
+    if (cph_table_doc_write(d, p, msg, sizeof msg) != CP_OK) fail_msg("%s", msg);
+    cph_table_doc_free(d);
+    r = json_load_file(p, 0, &err);
+    assert_non_null(r);
+    assert_int_equal(json_integer_value(json_object_get(r, "version")), 2);
+    json_t *e1 = json_array_get(json_object_get(r, "entries"), 1);
+    assert_true(json_is_true(json_object_get(e1, "flipped")));
+    assert_null(json_object_get(e1, "mode"));
+    assert_non_null(json_object_get(json_object_get(e1, "timing"), "stats"));
+    json_decref(r);
+    cp_table *t;
+    if (cp_table_load(p, 0, &t, msg, sizeof msg) != CP_OK) fail_msg("%s", msg);
+    assert_int_equal(cp_table_count(t), 2);
+    cp_table_free(t);
+}
+
 static void test_truncated(void **state) {
     (void)state;
     FILE *f = fopen(FIXTURE, "rb");
@@ -400,15 +502,17 @@ static void test_wrong_types(void **state) {
     expect(load_doc(r, "type1.json", msg, sizeof msg), CP_EFORMAT, msg,
            "entries[1].shape.k: expected integer, found a string");
     r = fixture();
-    json_object_set_new(json_object_get(entry0(r), "timing"), "noisy", json_integer(0));
+    json_object_set_new(json_object_get(json_object_get(entry0(r), "timing"), "stats"), "noisy",
+                        json_integer(0));
     expect(load_doc(r, "type2.json", msg, sizeof msg), CP_EFORMAT, msg,
-           "entries[0].timing.noisy: expected boolean");
+           "entries[0].timing.stats.noisy: expected boolean");
     r = fixture();
     json_object_set_new(r, "entries", json_object());
     expect(load_doc(r, "type3.json", msg, sizeof msg), CP_EFORMAT, msg, "entries: expected array");
     r = fixture();
-    json_object_set_new(entry0(r), "mode", json_string("sideways"));
-    expect(load_doc(r, "type4.json", msg, sizeof msg), CP_EFORMAT, msg, "entries[0].mode: 'sideways'");
+    json_object_set_new(entry0(r), "flipped", json_string("conv"));
+    expect(load_doc(r, "type4.json", msg, sizeof msg), CP_EFORMAT, msg,
+           "entries[0].flipped: expected boolean, found a string");
 }
 
 static void test_version_and_format(void **state) {
@@ -496,8 +600,9 @@ static void test_huge_numbers(void **state) {
     expect(load_doc(r, "huge3.json", msg, sizeof msg), CP_EFORMAT, msg,
            "entries[0].threads: 1099511627776 is outside");
     r = fixture();
-    json_object_set_new(json_object_get(entry0(r), "timing"), "samples", json_integer((json_int_t)1 << 33));
-    expect(load_doc(r, "huge4.json", msg, sizeof msg), CP_EFORMAT, msg, "entries[0].timing.samples:");
+    json_object_set_new(json_object_get(json_object_get(entry0(r), "timing"), "stats"), "n",
+                        json_integer((json_int_t)1 << 33));
+    expect(load_doc(r, "huge4.json", msg, sizeof msg), CP_EFORMAT, msg, "entries[0].timing.stats.n:");
 }
 
 static void test_unknown_algorithm_and_duplicates(void **state) {
@@ -515,7 +620,7 @@ static void test_unknown_algorithm_and_duplicates(void **state) {
     json_t *ents = json_object_get(r, "entries");
     json_array_append_new(ents, json_deep_copy(json_array_get(ents, 0)));
     expect(load_doc(r, "dup.json", msg, sizeof msg), CP_EFORMAT, msg,
-           "entries[2]: same shape, mode and threads as entries[0]");
+           "entries[2]: same shape, flipped and threads as entries[0]");
 }
 
 static void test_strict_device(void **state) {
@@ -784,6 +889,9 @@ int main(int argc, char **argv) {
         cmocka_unit_test(test_round_trip_params),
         cmocka_unit_test(test_resume),
         cmocka_unit_test(test_fixture_loads),
+        cmocka_unit_test(test_v1_fixture_migrates),
+        cmocka_unit_test(test_v1_ukernel_is_tile_isa),
+        cmocka_unit_test(test_v1_resume_writes_v2),
         cmocka_unit_test(test_truncated),
         cmocka_unit_test(test_empty_and_directory_and_missing),
         cmocka_unit_test(test_wrong_types),

@@ -1,0 +1,36 @@
+/* The results reader's parts (results_read.h is their interface):
+ *   results_read.c     the entry point: file, JSON, which format
+ *   results_bench.c    bench results -> items
+ *   results_table.c    tuning tables -> items and choices
+ *   results_migrate.c  bench results version 1 -> current
+ *   results_items.c    what both share: the item list, params as text
+ * Field access and messages: loader/json_get.h; the shared objects:
+ * loader/codec.h. */
+#ifndef CONVPICK_RESULTS_IMPL_H
+#define CONVPICK_RESULTS_IMPL_H
+
+#include "harness/io/results_read.h"
+#include "loader/codec.h"
+
+typedef struct cph_rctx {
+    cpl_jctx j;
+    cph_results *r;
+    size_t items_cap;
+} cph_rctx;
+
+cp_status cph_results_push(cph_rctx *c, const cph_result_item *it);
+/* The run's cache state: the first value seen, -1 once two differ. */
+void cph_results_note_cold(cph_results *r, int cold, int *first);
+double cph_results_median(const double *v, size_t n);
+/* obj.params {"kt": 4, "kb": 64} -> "kb=64,kt=4": in algo's declaration order
+ * (as everywhere parameters are printed); names it does not declare (the
+ * SGEMM reference rows' m, k, n, ...) after, in the order the writer wrote them. */
+cp_status cph_results_params_text(const cpl_jctx *c, const json_t *obj, const char *where,
+                                  const char *algo, char *out, size_t cap);
+
+cp_status cph_results_read_bench(cph_rctx *c, json_t *root);
+cp_status cph_results_read_table(cph_rctx *c, json_t *root);
+/* Bench results of an older version -> the current spelling, in place. */
+cp_status cph_bench_migrate(const cpl_jctx *c, json_t *root);
+
+#endif

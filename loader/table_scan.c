@@ -1,0 +1,99 @@
+/* Finding a table's "entries" array in the raw text, for the loader's fast
+ * path (table_load.c). */
+#include <string.h>
+
+#include "loader/table_impl.h"
+
+/* --- the fast path --------------------------------------------------------
+ * A large table is mostly its entries.  Parsed as one tree, jansson builds
+ * (and later frees) millions of small objects spread over the whole heap;
+ * parsed one entry at a time, each tree is small and freed at once, which
+ * measured ~40 % less CPU time on a 100 000-entry table.  A byte scanner finds
+ * the top-level "entries" array and counts its elements; the rest of the
+ * document is parsed with the array emptied, and each element on its own
+ * (JSON_DISABLE_EOF_CHECK gives where it ended).  Anything unexpected, and any
+ * error at all, falls back to load_whole, so that messages and results are
+ * exactly the reference path's (fuzz_table_load checks both agree). */
+
+int cpl_is_ws(char ch) { return ch == ' ' || ch == '\t' || ch == '\n' || ch == '\r'; }
+
+/* Index just past the string starting at d[i] == '"', or 0 if unterminated. */
+static size_t skip_string(const char *d, size_t len, size_t i) {
+    for (i++; i < len; i++) {
+        if (d[i] == '\\') {
+            i++;
+        } else if (d[i] == '"') {
+            return i + 1;
+        }
+    }
+    return 0;
+}
+
+/* Finds the top-level "entries" array: d[*open] == '[', d[*close] == ']',
+ * *count elements.  0 when the document does not look as expected. */
+int cpl_find_entries(const char *d, size_t len, size_t *open, size_t *close, size_t *count) {
+    size_t i = 0;
+    while (i < len && cpl_is_ws(d[i])) i++;
+    if (i >= len || d[i] != '{') return 0;
+    int depth = 0, expect_key = 0;
+    for (; i < len; i++) {
+        const char ch = d[i];
+        if (ch == '"') {
+            size_t end = skip_string(d, len, i);
+            if (!end) return 0;
+            if (depth == 1 && expect_key) {
+                expect_key = 0;
+                const int is_entries = end - i == 9 && memcmp(d + i + 1, "entries", 7) == 0;
+                size_t j = end;
+                while (j < len && cpl_is_ws(d[j])) j++;
+                if (j >= len || d[j] != ':') return 0;
+                j++;
+                while (j < len && cpl_is_ws(d[j])) j++;
+                if (is_entries) {
+                    if (j >= len || d[j] != '[') return 0;
+                    *open = j;
+                    size_t n = 0;
+                    int ad = 0, any = 0;
+                    for (size_t k = j; k < len; k++) {
+                        const char a = d[k];
+                        if (a == '"') {
+                            size_t e = skip_string(d, len, k);
+                            if (!e) return 0;
+                            k = e - 1;
+                            any = 1;
+                        } else if (a == '[' || a == '{') {
+                            if (ad == 1) any = 1;
+                            ad++;
+                        } else if (a == ']' || a == '}') {
+                            ad--;
+                            if (ad == 0) {
+                                if (a != ']') return 0;
+                                *close = k;
+                                *count = any ? n + 1 : 0;
+                                return 1;
+                            }
+                        } else if (a == ',' && ad == 1) {
+                            n++;
+                        } else if (!cpl_is_ws(a) && ad == 1) {
+                            any = 1;
+                        }
+                    }
+                    return 0;
+                }
+            }
+            i = end - 1;
+            continue;
+        }
+        if (ch == '{' || ch == '[') {
+            depth++;
+            if (depth == 1) expect_key = 1;
+        } else if (ch == '}' || ch == ']') {
+            depth--;
+            if (depth <= 0) return 0;
+        } else if (ch == ',' && depth == 1) {
+            expect_key = 1;
+        }
+    }
+    return 0;
+}
+
