@@ -11,7 +11,7 @@
 #include "convpick/convpick.h"
 #include "fuzz.h"
 #include "harness/io/rawfile.h"
-#include "harness/select/select.h"
+#include "harness/select/shape_spec.h"
 
 /* Keeps each input fast: the direct algorithms cost ~flops. */
 #define MAX_ELEMS 8192

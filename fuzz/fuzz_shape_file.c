@@ -5,7 +5,7 @@
 #include <string.h>
 
 #include "fuzz.h"
-#include "harness/select/select.h"
+#include "harness/select/shapefile.h"
 
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size) {
     if (size > (1u << 20)) return 0;

@@ -5,7 +5,7 @@
 #include <string.h>
 
 #include "fuzz.h"
-#include "harness/select/select.h"
+#include "harness/select/shape_spec.h"
 
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size) {
     if (size > 4096) return 0;

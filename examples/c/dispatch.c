@@ -2,7 +2,8 @@
  * for one layer, creates the plan (weights prepared once) and runs it on
  * random data.  Links only libconvpick.
  *
- * usage: dispatch TABLE SPEC [xcorr|conv] [THREADS]
+ * usage: dispatch TABLE SPEC [no|yes] [THREADS]
+ *   no|yes: flip the kernel (true convolution) or not (cross-correlation, the default)
  *   SPEC: n,c,h,w,k,r,s,stride,pad (nine integers, e.g. 1,64,56,56,64,3,3,1,1), or all
  *         sixteen cp_shape fields: n,c,h,w,k,r,s,stride_h,stride_w,pad_top,pad_left,
  *         pad_bottom,pad_right,dilation_h,dilation_w,groups
@@ -33,7 +34,7 @@ static void fill(float *v, size_t n, uint64_t seed) {
 
 int main(int argc, char **argv) {
     if (argc < 3 || argc > 5) {
-        fprintf(stderr, "usage: %s TABLE n,c,h,w,k,r,s,stride,pad [xcorr|conv] [THREADS]\n", argv[0]);
+        fprintf(stderr, "usage: %s TABLE n,c,h,w,k,r,s,stride,pad [no|yes] [THREADS]\n", argv[0]);
         return 2;
     }
     long long f[16];
@@ -60,7 +61,7 @@ int main(int argc, char **argv) {
         s.pad_top = f[9], s.pad_left = f[10], s.pad_bottom = f[11], s.pad_right = f[12];
         s.dil_h = f[13], s.dil_w = f[14], s.groups = f[15];
     }
-    cp_flip flip = argc > 3 && strcmp(argv[3], "conv") == 0 ? CP_CONV : CP_XCORR;
+    cp_flip flip = argc > 3 && strcmp(argv[3], "yes") == 0 ? CP_CONV : CP_XCORR;
     int threads = argc > 4 ? atoi(argv[4]) : 1;
 
     char msg[512];

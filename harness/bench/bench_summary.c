@@ -6,6 +6,7 @@
 #include <string.h>
 
 #include "harness/io/report_json.h"
+#include "harness/select/selection.h"
 
 #define BLOCKED_PEAK_TARGET 0.70
 #define IM2COL_TARGET 1.25
@@ -365,7 +366,7 @@ void cph_summaries_print(FILE *f, const cph_summary *s, const cph_summary *fast,
                "over layers of count x median%s\n",
             fast ? "; 'fastest': the same from each row's fastest sample (noise floor, "
                    "not the verdict)" : "");
-    fprintf(f, "%-17s %-5s %4s %10s %11s  %-7s %9s %15s  %s\n", "target", "mode", "thr", "figure",
+    fprintf(f, "%-17s %-4s %4s %10s %11s  %-7s %9s %15s  %s\n", "target", "flip", "thr", "figure",
             "target", "verdict", "missed_by", fast ? "fastest" : "", "note");
     for (size_t i = 0; i < n; i++) {
         const cph_summary *x = &s[i];
@@ -385,19 +386,21 @@ void cph_summaries_print(FILE *f, const cph_summary *s, const cph_summary *fast,
             fmt_value(&fast[i], fast[i].value, tmp, sizeof tmp);
             snprintf(fv, sizeof fv, "%s %s", tmp, verdict_name(fast[i].verdict));
         }
-        fprintf(f, "%-17s %-5s %4s %10s %11s  %-7s %9s %15s  %s\n", x->id,
-                x->flip == CP_CONV ? "conv" : "xcorr", thr, v, t, verdict_name(x->verdict), mb,
+        fprintf(f, "%-17s %-4s %4s %10s %11s  %-7s %9s %15s  %s\n", x->id,
+                cph_flip_word(x->flip), thr, v, t, verdict_name(x->verdict), mb,
                 fv, x->note);
     }
-    fprintf(f, "\nper layer:\n");
+    size_t with_layers = 0;
+    for (size_t i = 0; i < n; i++) with_layers += s[i].nlayers > 0;
+    if (with_layers) fprintf(f, "\nper layer:\n");
     for (size_t i = 0; i < n; i++) {
         const cph_summary *x = &s[i];
         if (!x->nlayers) continue;
         if (x->base_threads)
-            fprintf(f, "  %s (%s, %d vs %d threads): %s\n", x->id,
-                    x->flip == CP_CONV ? "conv" : "xcorr", x->threads, x->base_threads, x->what);
+            fprintf(f, "  %s (flip %s, %d vs %d threads): %s\n", x->id,
+                    cph_flip_word(x->flip), x->threads, x->base_threads, x->what);
         else
-            fprintf(f, "  %s (%s, %d thread%s): %s\n", x->id, x->flip == CP_CONV ? "conv" : "xcorr",
+            fprintf(f, "  %s (flip %s, %d thread%s): %s\n", x->id, cph_flip_word(x->flip),
                     x->threads, x->threads == 1 ? "" : "s", x->what);
         for (size_t j = 0; j < x->nlayers; j++) {
             char v[32];

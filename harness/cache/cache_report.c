@@ -35,11 +35,11 @@ void cph_cache_report_header(FILE *f, const cph_cache_report *r) {
         fprintf(f, "hardware counters: not available here (%s)\n", r->counters_reason);
     else
         fprintf(f, "hardware counters: perf_event_open, user space, this thread\n");
-    fprintf(f, "one thread; times are warm-cache medians (cph_measure in %d rounds interleaved\n"
-               "within each family, %.1f s per variant in all);\n"
+    fprintf(f, "one thread; times are warm-cache medians (timed in %d rounds interleaved\n"
+               "within each family, %.0f ms per variant in all);\n"
                "simulation: traced build of the same source, cold caches, first K' output channels\n"
                "(budget %llu accesses per run); misses per output = misses / (N*K'*P*Q)\n",
-            o->rounds, o->time_cap, (unsigned long long)o->max_accesses);
+            o->rounds, 1e3 * o->time_cap, (unsigned long long)o->max_accesses);
 }
 
 void cph_cache_report_layer(FILE *f, const cph_cache_report *r, const cph_layer_result *L) {
@@ -94,7 +94,7 @@ void cph_cache_report_layer(FILE *f, const cph_cache_report *r, const cph_layer_
             fprintf(f, "; time CI [%.3f, %.3f] ms n=%zu%s", v->time.ci_lo * 1e3,
                     v->time.ci_hi * 1e3, v->time.n, v->time.noisy ? " noisy" : "");
         if (v->simulated)
-            fprintf(f, "; traced rel_err %.2e, sim %.1f s", v->sim_rel_err, v->seconds_sim);
+            fprintf(f, "; traced rel_err %.2e, sim %.0f ms", v->sim_rel_err, 1e3 * v->seconds_sim);
         fprintf(f, "\n");
         if (v->have_counters) {
             fprintf(f, "      counters:");

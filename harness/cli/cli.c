@@ -45,7 +45,7 @@ static void put_escaped(const char *text) {
     }
 }
 
-static void emit(const char *prefix, const char *fmt, va_list ap) {
+void cph_vreport(const char *prefix, const char *fmt, va_list ap) {
     char buf[2048];
     vsnprintf(buf, sizeof buf, fmt, ap);
     fputs(prefix, stderr);
@@ -56,19 +56,13 @@ static void emit(const char *prefix, const char *fmt, va_list ap) {
 void cph_err(const char *fmt, ...) {
     va_list ap;
     va_start(ap, fmt);
-    emit("convpick: error: ", fmt, ap);
+    cph_vreport("convpick: error: ", fmt, ap);
     va_end(ap);
 }
 
 void cph_warn(const char *fmt, ...) {
     va_list ap;
     va_start(ap, fmt);
-    emit("convpick: warning: ", fmt, ap);
+    cph_vreport("convpick: warning: ", fmt, ap);
     va_end(ap);
-}
-
-int cph_usage_error(const char *cmd) {
-    fprintf(stderr, "convpick %s: unknown option or missing value (see convpick %s --help)\n", cmd,
-            cmd);
-    return CPH_EXIT_USAGE;
 }

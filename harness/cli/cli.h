@@ -1,12 +1,15 @@
 /* The command line's shared conventions.
  *
  * Each subcommand is `int cph_cmd_NAME(int argc, char **argv)` in its own file
- * harness/cmd_NAME.c, listed once in main.c.  argv[0] is the subcommand name.
- * It parses its options with getopt_long (optind reset by main), does all its
- * work, frees what it allocated, and returns one of the exit codes below.
- * Errors are reported once, as one line on stderr, through cph_err(). */
+ * harness/cli/cmd_NAME.c, listed once in main.c.  argv[0] is the subcommand
+ * name.  It reads like a small main: parse the options (options.h: optind is
+ * reset by main), do the work inside one call, report any error once (one
+ * line on stderr), free what it allocated, and return one of the exit codes
+ * below. */
 #ifndef CONVPICK_CLI_H
 #define CONVPICK_CLI_H
+
+#include <stdarg.h>
 
 enum {
     CPH_EXIT_OK = 0,    /* success */
@@ -19,9 +22,10 @@ void cph_err(const char *fmt, ...) __attribute__((format(printf, 1, 2)));
 /* "convpick: warning: <message>\n" on stderr. */
 void cph_warn(const char *fmt, ...) __attribute__((format(printf, 1, 2)));
 
-/* The error getopt_long's '?' / ':' cases print, naming the command: prints
- * "convpick CMD: unknown option or missing value (see convpick CMD --help)". */
-int cph_usage_error(const char *cmd);
+/* prefix, then the message with control characters and invalid UTF-8
+ * escaped as \xHH, then a newline, on stderr (the one writer of error lines;
+ * option errors go through cph_opt_error in options.h). */
+void cph_vreport(const char *prefix, const char *fmt, va_list ap);
 
 /* Subcommands. */
 int cph_cmd_verify(int argc, char **argv);

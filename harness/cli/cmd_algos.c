@@ -1,39 +1,24 @@
 /* convpick algos: what the registry holds, straight from each algorithm's
  * descriptor, so the listing can never disagree with what verify and tune use. */
-#include <getopt.h>
 #include <stdio.h>
 #include <string.h>
 
 #include "harness/cli/cli.h"
+#include "harness/cli/options.h"
 #include "convpick/convpick.h"
 
 static void usage(FILE *f) {
-    fprintf(f, "usage: convpick algos [-h]\n\n"
-               "Lists every registered algorithm: its summary, the tolerance verify applies\n"
-               "(error relative to sum|x||w| + |bias|, see convpick verify), and its tunable\n"
-               "parameters with their ranges.\n\n"
-               "options:\n"
-               "  -h, --help        this text\n");
+    fputs("usage: convpick algos [OPTIONS]\n\n"
+          "Lists every registered algorithm: its summary, the tolerance verify applies\n"
+          "(error relative to sum|x||w| + |bias|, see convpick verify), and its tunable\n"
+          "parameters with their ranges, in the order the algorithm declares them.\n\n"
+          "options:\n",
+          f);
+    cph_help_end(f, "0 listed, 2 bad usage");
 }
 
-int cph_cmd_algos(int argc, char **argv) {
-    static const struct option longopts[] = {
-        {"help", no_argument, NULL, 'h'},
-        {NULL, 0, NULL, 0},
-    };
-    int opt;
-    opterr = 0; /* one error line, ours */
-    while ((opt = getopt_long(argc, argv, "h", longopts, NULL)) != -1) {
-        if (opt == 'h') {
-            usage(stdout);
-            return CPH_EXIT_OK;
-        }
-        return cph_usage_error("algos");
-    }
-    if (optind < argc) {
-        cph_err("algos: unexpected argument '%s' (see convpick algos --help)", argv[optind]);
-        return CPH_EXIT_USAGE;
-    }
+/* The listing, straight from the registry. */
+static void list(void) {
     int name_w = 4;
     for (size_t i = 0; i < cp_algo_count(); i++) {
         int len = (int)strlen(cp_algo_at(i)->name);
@@ -61,5 +46,17 @@ int cph_cmd_algos(int argc, char **argv) {
                    d->doc ? d->doc : "");
         }
     }
+}
+
+int cph_cmd_algos(int argc, char **argv) {
+    static const struct option longopts[] = {CPH_OPTS_HELP_END};
+    int opt;
+    while ((opt = cph_opt_next("algos", argc, argv, longopts)) != -1) {
+        if (opt != 'h') return CPH_EXIT_USAGE;
+        usage(stdout);
+        return CPH_EXIT_OK;
+    }
+    if (cph_opt_no_operands("algos", argc, argv)) return CPH_EXIT_USAGE;
+    list();
     return CPH_EXIT_OK;
 }

@@ -9,7 +9,7 @@
  * of substance, so that a run under valgrind's cachegrind sees the kernel's
  * own traffic; --skip-kernel does everything but the kernel call. */
 #define _POSIX_C_SOURCE 200809L /* strdup, strtok */
-#include <getopt.h>
+#include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -18,50 +18,54 @@
 #include "harness/cache/cache_study.h"
 #include "harness/cache/cache_traced.h"
 #include "harness/cli/cli.h"
+#include "harness/cli/options.h"
 #include "harness/measure/data.h"
 #include "harness/machine/machine.h"
 #include "harness/io/rawfile.h"
-#include "harness/select/select.h"
+#include "harness/select/selection.h"
 
 static void usage(FILE *f) {
-    fprintf(f,
-            "usage: convpick cache [OPTIONS]\n\n"
-            "Compares cross-correlation (xcorr), true convolution with the kernel read\n"
-            "reversed in the loops (flipidx) and true convolution with the weights flipped\n"
-            "once (preflip) for direct (loop order 0 = n,k,p,q,c,r,s and 1 = n,k,c,r,s,p,q)\n"
-            "and blocked (portable tile kernel, traced; AVX2 tile kernel, timed only).\n"
-            "Each variant is checked against the fp64 oracle, timed on one thread, counted by\n"
-            "hardware counters when the machine has them, and its traced build is run through\n"
-            "a cache simulator on the first K' output channels of the layer.\n\n"
-            "options:\n%s"
-            "                    (--algo: direct and/or blocked select the families; --mode is\n"
-            "                    not used: each variant has its own)\n"
-            "  --family F,G      only these variant families: direct, direct.o0, direct.o1,\n"
-            "                    blocked, blocked.ref, blocked.avx2 (default: all)\n"
-            "  --cache-geometry G  simulated levels NAME=SIZE:WAYS:LINE,... L1 first, SIZE with\n"
-            "                    K/M/G (powers of two), WAYS a number or 'full', e.g.\n"
-            "                    L1=32K:8:64,L2=512K:8:64,L3=32M:16:64 (default: this machine's\n"
-            "                    data caches from hwloc)\n"
-            "  --max-accesses N  access budget per traced run; K' is the largest multiple of 6\n"
-            "                    output channels whose estimate fits (default 30000000)\n"
-            "  --channels K      simulate exactly the first K output channels instead\n"
-            "  --time-cap S      seconds of timing per variant (default 2.0)\n"
-            "  --rounds N        timing rounds per variant, interleaved within a family\n"
-            "                    (default 5); the samples of all rounds are pooled\n"
-            "  --no-time         do not time\n"
-            "  --json FILE       write the study as JSON (replaced atomically)\n"
-            "  --svg FILE        write a bar chart of misses per output (replaced atomically)\n"
-            "  --trace-only V    one variant (e.g. direct.o1.flipidx) on one layer: print the\n"
-            "                    simulator's counts for its traced build\n"
-            "  --plain           with --trace-only: flush the caches, run the plain kernel once\n"
-            "  --skip-kernel     with --plain: everything except the kernel call\n"
-            "  -h, --help        this text\n\n"
-            "exit status: 0 done, 1 a variant failed its oracle check, 2 bad usage or input\n",
-            cph_selection_help);
+    fputs("usage: convpick cache SELECTION [OPTIONS]\n\n"
+          "Compares cross-correlation (xcorr), true convolution with the kernel read\n"
+          "reversed in the loops (flipidx) and true convolution with the weights flipped\n"
+          "once (preflip) for direct (loop order 0 = n,k,p,q,c,r,s and 1 = n,k,c,r,s,p,q)\n"
+          "and blocked (portable tile kernel, traced; AVX2 tile kernel, timed only).\n"
+          "Each variant is checked against the fp64 oracle, timed on one thread, counted by\n"
+          "hardware counters when the machine has them, and its traced build is run through\n"
+          "a cache simulator on the first K' output channels of the layer.  --flip is not\n"
+          "taken: each variant has its own orientation; --algo direct and/or blocked\n"
+          "select the families.\n\n",
+          f);
+    cph_help_selection(f, NULL);
+    fputs("options:\n"
+          "  --family F,G        only these variant families: direct, direct.o0, direct.o1,\n"
+          "                      blocked, blocked.ref, blocked.avx2 (default: all)\n"
+          "  --cache-geometry G  simulated levels NAME=SIZE:WAYS:LINE,... L1 first, SIZE with\n"
+          "                      K/M/G (powers of two), WAYS a number or 'full', e.g.\n"
+          "                      L1=32K:8:64,L2=512K:8:64,L3=32M:16:64 (default: this\n"
+          "                      machine's data caches from hwloc)\n"
+          "  --max-accesses N    access budget per traced run; K' is the largest multiple of\n"
+          "                      6 output channels whose estimate fits (default: 30000000)\n"
+          "  --channels K        simulate exactly the first K output channels instead\n"
+          "                      (default: from --max-accesses)\n"
+          "  --time-cap S        seconds of timing per variant (default: 2)\n"
+          "  --rounds N          timing rounds per variant, interleaved within a family;\n"
+          "                      the samples of all rounds are pooled (default: 5)\n"
+          "  --no-time           do not time (default: time)\n"
+          "  --json FILE         write the study as JSON, replaced atomically (default: none)\n"
+          "  --svg FILE          write a bar chart of misses per output, replaced atomically\n"
+          "                      (default: none)\n"
+          "  --trace-only V      one variant (e.g. direct.o1.flipidx) on one layer: print the\n"
+          "                      simulator's counts for its traced build (default: the study)\n"
+          "  --plain             with --trace-only: flush the caches, run the plain kernel once\n"
+          "                      (default: off)\n"
+          "  --skip-kernel       with --plain: everything except the kernel call (default: off)\n",
+          f);
+    cph_help_end(f, "0 done, 1 a variant failed its oracle check, 2 bad usage or input");
 }
 
 enum {
-    OPT_GEOM = 2000,
+    OPT_GEOM = 1,
     OPT_MAXACC,
     OPT_CHANNELS,
     OPT_TIMECAP,
@@ -79,15 +83,6 @@ typedef struct {
     const char *geom, *json, *svg, *trace, *family;
     int plain, skip, algo_given;
 } cache_cli;
-
-static int parse_u64(const char *s, uint64_t *out) {
-    char *end = NULL;
-    if (!s || !*s || *s == '-') return 0;
-    unsigned long long v = strtoull(s, &end, 10);
-    if (*end) return 0;
-    *out = v;
-    return 1;
-}
 
 /* Levels from hwloc: the data/unified caches, L1 first. */
 static cp_status geom_from_machine(const cph_machine *m, cph_cache_geom *g, int *n, char *msg,
@@ -148,20 +143,20 @@ static int place(placed *b, size_t bytes, size_t lines) {
 static int trace_only(const cache_cli *c, const cph_study_opts *o, const cph_layer *L) {
     const cph_variant *v = cph_variant_find(c->trace);
     if (!v) {
-        cph_err("--trace-only %s: unknown variant (e.g. direct.o0.xcorr, direct.o1.flipidx, "
-                "blocked.ref.preflip)", c->trace);
-        return CPH_EXIT_USAGE;
+        return cph_opt_error("cache", "--trace-only",
+                             "'%s': unknown variant (e.g. direct.o0.xcorr, direct.o1.flipidx, "
+                             "blocked.ref.preflip)", c->trace);
     }
     if (!c->plain && !v->traced) {
-        cph_err("--trace-only %s: this variant has no traced build (use --plain)", v->id);
-        return CPH_EXIT_USAGE;
+        return cph_opt_error("cache", "--trace-only",
+                             "'%s': this variant has no traced build (use --plain)", v->id);
     }
     const cp_algo *a = c->plain ? cp_algo_find(v->algo) : v->traced;
     cp_shape s = L->shape;
     if (!c->plain && o->channels > 0 && o->channels < s.k) s.k = o->channels;
     if (!a || !a->supports(&s, v->flip, NULL, 0)) {
-        cph_err("--trace-only %s: not applicable to layer %s", v->id, L->name);
-        return CPH_EXIT_USAGE;
+        return cph_opt_error("cache", "--trace-only", "'%s': not applicable to layer %s", v->id,
+                             L->name);
     }
     char msg[512];
     cp_params p;
@@ -169,8 +164,7 @@ static int trace_only(const cache_cli *c, const cph_study_opts *o, const cph_lay
     const int pi = cp_algo_param_index(a, v->param);
     if (pi >= 0) p.v[pi] = v->param_value;
     if (cp_params_check(a, &p, msg, sizeof msg) != CP_OK) {
-        cph_err("--trace-only %s: %s", v->id, msg);
-        return CPH_EXIT_USAGE;
+        return cph_opt_error("cache", "--trace-only", "'%s': %s", v->id, msg);
     }
     const size_t nx = cp_shape_input_elems(&s), nw = cp_shape_weight_elems(&s);
     const size_t ny = cp_shape_output_elems(&s);
@@ -279,9 +273,9 @@ static int study(const cache_cli *c, cph_study_opts *o, const cph_selection *sel
         const char *f = strncmp(nm, "direct", 6) == 0 ? "direct"
                         : strncmp(nm, "blocked", 7) == 0 ? "blocked" : NULL;
         if (!f) {
-            cph_err("--algo %s: the cache study covers direct and blocked only", nm);
             free(fbuf);
-            return CPH_EXIT_USAGE;
+            return cph_opt_error("cache", "--algo", "'%s': the cache study covers direct and "
+                                 "blocked only", nm);
         }
         int dup = 0;
         for (size_t j = 0; j < nfam; j++) dup |= strcmp(fam[j], f) == 0;
@@ -338,9 +332,36 @@ out:
     return rc;
 }
 
-int cph_cmd_cache(int argc, char **argv) {
+typedef struct cache_opts {
+    cache_cli c;
+    cph_study_opts o;
+    cph_selection sel;
+} cache_opts;
+
+/* --family: every name known, at least one. */
+static int check_families(const char *list) {
+    static const char *const known[] = {"direct", "direct.o0", "direct.o1", "blocked",
+                                        "blocked.ref", "blocked.avx2"};
+    char *buf = strdup(list);
+    const char *f[8];
+    const int n = buf ? split_list(buf, f, 8) : 0;
+    int rc = n == 0 ? cph_opt_error("cache", "--family", "empty list") : 0;
+    for (int i = 0; i < n && !rc; i++) {
+        int ok = 0;
+        for (size_t k = 0; k < sizeof known / sizeof known[0]; k++) ok |= !strcmp(f[i], known[k]);
+        if (!ok)
+            rc = cph_opt_error("cache", "--family",
+                               "unknown family '%s' (direct, direct.o0, direct.o1, blocked, "
+                               "blocked.ref, blocked.avx2)", f[i]);
+    }
+    free(buf);
+    return rc;
+}
+
+/* Returns -1 to go on, else the exit code (the error already reported). */
+static int parse(int argc, char **argv, cache_opts *co) {
     static const struct option longopts[] = {
-        CPH_SELECTION_LONGOPTS,
+        CPH_OPTS_SELECTION,
         {"cache-geometry", required_argument, NULL, OPT_GEOM},
         {"max-accesses", required_argument, NULL, OPT_MAXACC},
         {"channels", required_argument, NULL, OPT_CHANNELS},
@@ -353,146 +374,108 @@ int cph_cmd_cache(int argc, char **argv) {
         {"skip-kernel", no_argument, NULL, OPT_SKIP},
         {"family", required_argument, NULL, OPT_FAMILY},
         {"rounds", required_argument, NULL, OPT_ROUNDS},
-        {"help", no_argument, NULL, 'h'},
-        {NULL, 0, NULL, 0},
+        CPH_OPTS_HELP_END,
     };
-    cph_selection sel;
-    cph_selection_init(&sel);
-    cache_cli c;
-    memset(&c, 0, sizeof c);
-    cph_study_opts o;
-    memset(&o, 0, sizeof o);
-    o.max_accesses = 30000000;
-    o.time = 1;
-    o.time_cap = 2.0;
-    o.rounds = 5;
-    char msg[512];
-    int opt, rc = CPH_EXIT_USAGE;
-    uint64_t u;
-    opterr = 0;
-    while ((opt = getopt_long(argc, argv, "h", longopts, NULL)) != -1) {
+    const cph_opt_dest dest = {"cache", &co->sel, NULL, NULL, NULL};
+    cache_cli *c = &co->c;
+    cph_study_opts *o = &co->o;
+    int opt, rc;
+    long long n;
+    while ((opt = cph_opt_next("cache", argc, argv, longopts)) != -1) {
+        rc = 0;
         switch (opt) {
-        case 'h':
-            usage(stdout);
-            cph_selection_free(&sel);
-            return CPH_EXIT_OK;
-        case OPT_GEOM: c.geom = optarg; break;
+        case 'h': usage(stdout); return CPH_EXIT_OK;
+        case OPT_GEOM: c->geom = optarg; break;
         case OPT_MAXACC:
-            if (!parse_u64(optarg, &o.max_accesses) || o.max_accesses == 0) {
-                cph_err("--max-accesses %s: expected a positive integer", optarg);
-                goto out;
-            }
+            rc = cph_opt_int("cache", "--max-accesses", optarg, 1, INT64_MAX,
+                             "a positive integer", &n);
+            o->max_accesses = (uint64_t)n;
             break;
         case OPT_CHANNELS:
-            if (!parse_u64(optarg, &u) || u == 0 || u > (1u << 30)) {
-                cph_err("--channels %s: expected a positive integer", optarg);
-                goto out;
-            }
-            o.channels = (int64_t)u;
+            rc = cph_opt_int("cache", "--channels", optarg, 1, 1 << 30,
+                             "a positive integer up to 2^30", &n);
+            o->channels = (int64_t)n;
             break;
-        case OPT_TIMECAP: {
-            char *end = NULL;
-            o.time_cap = strtod(optarg, &end);
-            if (*end || !(o.time_cap > 0.0) || o.time_cap > 3600.0) {
-                cph_err("--time-cap %s: expected seconds in (0, 3600]", optarg);
-                goto out;
-            }
+        case OPT_TIMECAP:
+            rc = cph_opt_double("cache", "--time-cap", optarg, 1e-9, 3600.0,
+                                "a number of seconds in (0, 3600]", &o->time_cap);
             break;
-        }
-        case OPT_NOTIME: o.time = 0; break;
+        case OPT_NOTIME: o->time = 0; break;
         case OPT_ROUNDS:
-            if (!parse_u64(optarg, &u) || u == 0 || u > 1000) {
-                cph_err("--rounds %s: expected an integer in 1..1000", optarg);
-                goto out;
-            }
-            o.rounds = (int)u;
+            rc = cph_opt_int("cache", "--rounds", optarg, 1, 1000, "an integer in [1, 1000]", &n);
+            o->rounds = (int)n;
             break;
-        case OPT_JSON: c.json = optarg; break;
-        case OPT_SVG: c.svg = optarg; break;
-        case OPT_TRACE: c.trace = optarg; break;
-        case OPT_PLAIN: c.plain = 1; break;
-        case OPT_SKIP: c.skip = 1; break;
-        case OPT_FAMILY: c.family = optarg; break;
+        case OPT_JSON: c->json = optarg; break;
+        case OPT_SVG: c->svg = optarg; break;
+        case OPT_TRACE: c->trace = optarg; break;
+        case OPT_PLAIN: c->plain = 1; break;
+        case OPT_SKIP: c->skip = 1; break;
+        case OPT_FAMILY: c->family = optarg; break;
         case CPH_OPT_FLIP:
-            cph_err("--mode: the cache study fixes the mode of each variant (see --help)");
-            goto out;
+            return cph_opt_error("cache", "--flip",
+                                 "not taken: each variant has its own orientation (see --help)");
         default:
-            if (opt == CPH_OPT_ALGO) c.algo_given = 1;
-            if (opt < CPH_OPT_SHAPE) {
-                cph_selection_free(&sel);
-                return cph_usage_error("cache");
-            }
-            if (cph_selection_option(&sel, opt, optarg, msg, sizeof msg) != CP_OK) {
-                cph_err("%s", msg);
-                goto out;
-            }
+            if (opt == CPH_OPT_ALGO) c->algo_given = 1;
+            rc = cph_opt_shared(&dest, opt, optarg);
         }
+        if (rc) return rc;
     }
-    if (optind < argc) {
-        cph_err("cache: unexpected argument '%s' (see convpick cache --help)", argv[optind]);
-        goto out;
-    }
-    if ((c.plain || c.skip) && !c.trace) {
-        cph_err("--plain and --skip-kernel need --trace-only");
-        goto out;
-    }
-    if (c.skip && !c.plain) {
-        cph_err("--skip-kernel needs --plain");
-        goto out;
-    }
-    if (c.family) {
-        static const char *const known[] = {"direct", "direct.o0", "direct.o1", "blocked",
-                                            "blocked.ref", "blocked.avx2"};
-        char *buf = strdup(c.family);
-        const char *f[8];
-        const int n = buf ? split_list(buf, f, 8) : 0;
-        int bad = n == 0;
-        for (int i = 0; i < n && !bad; i++) {
-            int ok = 0;
-            for (size_t k = 0; k < sizeof known / sizeof known[0]; k++) ok |= !strcmp(f[i], known[k]);
-            if (!ok) {
-                cph_err("--family %s: unknown family (direct, direct.o0, direct.o1, blocked, "
-                        "blocked.ref, blocked.avx2)", f[i]);
-                bad = 1;
-            }
-        }
-        if (n == 0) cph_err("--family: empty list");
-        free(buf);
-        if (bad) goto out;
-    }
-    static const cp_flip xc[] = {CP_XCORR};
-    if (cph_selection_finish(&sel, xc, 1, msg, sizeof msg) != CP_OK) {
-        cph_err("cache: %s", msg);
-        goto out;
-    }
-    if (c.trace && sel.layers.n != 1) {
-        cph_err("--trace-only needs exactly one layer (got %zu)", sel.layers.n);
-        goto out;
-    }
-    o.seed = sel.seed;
+    if (cph_opt_no_operands("cache", argc, argv)) return CPH_EXIT_USAGE;
+    if ((c->plain || c->skip) && !c->trace)
+        return cph_opt_error("cache", c->plain ? "--plain" : "--skip-kernel", "needs --trace-only");
+    if (c->skip && !c->plain) return cph_opt_error("cache", "--skip-kernel", "needs --plain");
+    if (c->family && check_families(c->family)) return CPH_EXIT_USAGE;
+    static const cp_flip no_flip[] = {CP_XCORR};
+    if (cph_opt_selection_finish("cache", &co->sel, no_flip, 1)) return CPH_EXIT_USAGE;
+    if (c->trace && co->sel.layers.n != 1)
+        return cph_opt_error("cache", "--trace-only", "needs exactly one layer (got %zu)",
+                             co->sel.layers.n);
+    o->seed = co->sel.seed;
+    return -1;
+}
+
+/* The machine, the simulated geometry, then the study or the one trace. */
+static int cache_run(cache_opts *co) {
+    char msg[512];
     cph_machine m;
     if (cph_machine_detect(&m, NULL, msg, sizeof msg) != CP_OK) {
         cph_err("cache: %s", msg);
-        rc = CPH_EXIT_FAIL;
-        goto out;
+        return CPH_EXIT_FAIL;
     }
-    o.caches = cph_machine_caches(&m);
-    const char *src = "--cache-geometry";
-    cp_status st = c.geom ? cph_geom_parse(c.geom, "--cache-geometry", o.geom, &o.nlevels, msg,
-                                           sizeof msg)
-                          : geom_from_machine(&m, o.geom, &o.nlevels, msg, sizeof msg);
-    if (!c.geom) src = "hwloc";
+    cph_study_opts *o = &co->o;
+    o->caches = cph_machine_caches(&m);
+    char ctx[96];
+    snprintf(ctx, sizeof ctx, "'%.80s'", co->c.geom ? co->c.geom : "");
+    const cp_status st =
+        co->c.geom ? cph_geom_parse(co->c.geom, ctx, o->geom, &o->nlevels, msg, sizeof msg)
+                   : geom_from_machine(&m, o->geom, &o->nlevels, msg, sizeof msg);
+    int rc;
     if (st != CP_OK) {
-        cph_err("%s", msg);
-        cph_machine_free(&m);
-        goto out;
+        if (co->c.geom) {
+            rc = cph_opt_error("cache", "--cache-geometry", "%s", msg);
+        } else {
+            cph_err("cache: %s", msg);
+            rc = CPH_EXIT_USAGE;
+        }
+    } else if (co->c.trace) {
+        rc = trace_only(&co->c, o, &co->sel.layers.v[0]);
+    } else {
+        rc = study(&co->c, o, &co->sel, co->c.geom ? "--cache-geometry" : "hwloc", &m);
     }
-    if (c.trace)
-        rc = trace_only(&c, &o, &sel.layers.v[0]);
-    else
-        rc = study(&c, &o, &sel, src, &m);
     cph_machine_free(&m);
-out:
-    cph_selection_free(&sel);
+    return rc;
+}
+
+int cph_cmd_cache(int argc, char **argv) {
+    cache_opts co;
+    memset(&co, 0, sizeof co);
+    cph_selection_init(&co.sel);
+    co.o.max_accesses = 30000000;
+    co.o.time = 1;
+    co.o.time_cap = 2.0;
+    co.o.rounds = 5;
+    int rc = parse(argc, argv, &co);
+    if (rc < 0) rc = cache_run(&co);
+    cph_selection_free(&co.sel);
     return rc;
 }

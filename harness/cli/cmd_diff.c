@@ -1,20 +1,19 @@
 /* convpick diff BASE NEW: did NEW get slower than BASE?
  *
  * Reads two bench results files or tuning tables (any mix), pairs their
- * measurements by shape, mode, thread count, algorithm and parameters, and
+ * measurements by shape, flip, thread count, algorithm and parameters, and
  * gives each pair a ratio NEW/BASE with a confidence interval and a verdict
  * (Mann-Whitney U test and Hodges-Lehmann estimate: diff_stats.h,
  * docs/diff.md).  Exit 1 when any pair is a regression, so a CI job can gate
  * on it; --junit and --markdown write reports for the CI's pages. */
 #define _POSIX_C_SOURCE 200809L
-#include <errno.h>
-#include <getopt.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "harness/cli/cli.h"
+#include "harness/cli/options.h"
 #include "harness/diff/diff_report.h"
 
 static void usage(FILE *f) {
@@ -22,7 +21,7 @@ static void usage(FILE *f) {
             "usage: convpick diff [OPTIONS] BASE NEW\n\n"
             "Compares two measurement files, each a bench results file (bench --json) or\n"
             "a tuning table (tune), measured on the same device.  Measurements of the\n"
-            "same shape, mode, thread count, algorithm and parameters are paired; for\n"
+            "same shape, flip, thread count, algorithm and parameters are paired; for\n"
             "each pair it reports the ratio NEW/BASE of the medians, the Hodges-Lehmann\n"
             "estimate of the ratio (from the shift of the log times) with its\n"
             "distribution-free (1-alpha) interval, the two-sided Mann-Whitney U p-value,\n"
@@ -36,16 +35,16 @@ static void usage(FILE *f) {
             "Rows are sorted worst first.  For two tables it also lists the layers whose\n"
             "chosen algorithm changed, and what BASE's choice costs in NEW.\n\n"
             "options:\n"
-            "  --alpha A             significance level, 0 < A < 0.5 (default 0.01)\n"
-            "  --tolerance PCT       changes within +-PCT %% are not regressions (default 5)\n"
+            "  --alpha A           significance level, 0 < A < 0.5 (default: 0.01)\n"
+            "  --tolerance PCT     changes within +-PCT %% are not regressions (default: 5)\n"
             "  --allow-other-device  compare files of different device fingerprints\n"
-            "  --junit FILE          write JUnit XML: one testcase per pair, regressions\n"
-            "                        as failures\n"
-            "  --markdown FILE       write a Markdown summary for a CI page\n"
-            "  -h, --help            this text\n\n"
-            "exit status: 0 no regression, 1 at least one regression, 2 bad usage or\n"
-            "input (unreadable or malformed file, another format version, other device,\n"
-            "nothing in common)\n");
+            "                      (default: refuse)\n"
+            "  --junit FILE        write JUnit XML: one testcase per pair, regressions as\n"
+            "                      failures (default: none)\n"
+            "  --markdown FILE     write a Markdown summary for a CI page (default: none)\n");
+    cph_help_end(f, "0 no regression, 1 at least one regression, 2 bad usage or\n"
+                    "input (unreadable or malformed file, another format version, other device,\n"
+                    "nothing in common)");
 }
 
 enum { OPT_ALPHA = 1, OPT_TOL, OPT_OTHER, OPT_JUNIT, OPT_MD };
@@ -56,56 +55,42 @@ typedef struct diff_opts {
     const char *junit, *markdown, *base, *next;
 } diff_opts;
 
-static int parse_double(const char *s, double *out) {
-    char *end;
-    errno = 0;
-    const double v = strtod(s, &end);
-    if (errno || end == s || *end || !isfinite(v)) return -1;
-    *out = v;
-    return 0;
-}
-
-static int parse_args(int argc, char **argv, diff_opts *o) {
+/* Returns -1 to go on, else the exit code (the error already reported). */
+static int parse(int argc, char **argv, diff_opts *o) {
     static const struct option longopts[] = {
         {"alpha", required_argument, NULL, OPT_ALPHA},
         {"tolerance", required_argument, NULL, OPT_TOL},
         {"allow-other-device", no_argument, NULL, OPT_OTHER},
         {"junit", required_argument, NULL, OPT_JUNIT},
         {"markdown", required_argument, NULL, OPT_MD},
-        {"help", no_argument, NULL, 'h'},
-        {NULL, 0, NULL, 0},
+        CPH_OPTS_HELP_END,
     };
     int opt;
     double v;
-    opterr = 0;
-    while ((opt = getopt_long(argc, argv, "h", longopts, NULL)) != -1) {
+    while ((opt = cph_opt_next("diff", argc, argv, longopts)) != -1) {
         switch (opt) {
         case 'h': usage(stdout); return CPH_EXIT_OK;
         case OPT_ALPHA:
-            if (parse_double(optarg, &v) || !(v > 0.0 && v < 0.5)) {
-                cph_err("diff: --alpha '%s': expected a number in (0, 0.5)", optarg);
+            if (cph_opt_double("diff", "--alpha", optarg, 1e-300, nextafter(0.5, 0.0),
+                               "a number in (0, 0.5)", &o->alpha))
                 return CPH_EXIT_USAGE;
-            }
-            o->alpha = v;
             break;
         case OPT_TOL:
-            if (parse_double(optarg, &v) || !(v >= 0.0 && v < 100.0)) {
-                cph_err("diff: --tolerance '%s': expected a percentage in [0, 100)", optarg);
+            if (cph_opt_double("diff", "--tolerance", optarg, 0.0, nextafter(100.0, 0.0),
+                               "a percentage in [0, 100)", &v))
                 return CPH_EXIT_USAGE;
-            }
             o->tol = v / 100.0;
             break;
         case OPT_OTHER: o->allow_other = 1; break;
         case OPT_JUNIT: o->junit = optarg; break;
         case OPT_MD: o->markdown = optarg; break;
-        default: return cph_usage_error("diff");
+        default: return CPH_EXIT_USAGE;
         }
     }
-    if (argc - optind != 2) {
-        cph_err("diff: expected two files, BASE and NEW, got %d (see convpick diff --help)",
-                argc - optind);
-        return CPH_EXIT_USAGE;
-    }
+    if (argc - optind != 2)
+        return cph_opt_error("diff", NULL,
+                             "expected two files, BASE and NEW, got %d (see convpick diff --help)",
+                             argc - optind);
     o->base = argv[optind];
     o->next = argv[optind + 1];
     return -1;
@@ -140,8 +125,8 @@ static void print_pairs(const cph_diff *d) {
         if ((int)strlen(it->algo) > aw) aw = (int)strlen(it->algo);
         if ((int)strlen(it->params) > pw) pw = (int)strlen(it->params);
     }
-    printf("%-12s  %-*s  %-5s  %3s  %-*s  %-*s  %10s  %10s  %7s  %7s  %-17s  %8s  %s\n", "verdict",
-           lw, "layer", "mode", "thr", aw, "algo", pw, "params", "base_ms", "new_ms", "ratio",
+    printf("%-12s  %-*s  %-4s  %3s  %-*s  %-*s  %10s  %10s  %7s  %7s  %-17s  %8s  %s\n", "verdict",
+           lw, "layer", "flip", "thr", aw, "algo", pw, "params", "base_ms", "new_ms", "ratio",
            "hl", "interval", "p", "note");
     for (size_t i = 0; i < d->npairs; i++) {
         const cph_diff_pair *p = &d->pairs[i];
@@ -154,9 +139,8 @@ static void print_pairs(const cph_diff *d) {
             if (c->bounded) snprintf(ci, sizeof ci, "[%.4f, %.4f]", c->ratio_lo, c->ratio_hi);
             else snprintf(ci, sizeof ci, "unbounded");
         }
-        printf("%-12s  %-*s  %-5s  %3d  %-*s  %-*s  %10.4g  %10.4g  %7.4f  %7s  %-17s  %8s  %s\n",
-               cph_shift_verdict_name(p->verdict), lw, it->layer,
-               it->flip == CP_CONV ? "conv" : "xcorr",
+        printf("%-12s  %-*s  %-4s  %3d  %-*s  %-*s  %10.4g  %10.4g  %7.4f  %7s  %-17s  %8s  %s\n",
+               cph_shift_verdict_name(p->verdict), lw, it->layer, cph_flip_word(it->flip),
                it->threads, aw, it->algo, pw, it->params[0] ? it->params : "-",
                1e3 * c->base_median, 1e3 * c->new_median, c->median_ratio, hl, ci, pv, p->note);
     }
@@ -168,8 +152,8 @@ static void print_rest(const cph_diff *d) {
         printf("\nchanged choices (%zu):\n", d->nchanges);
         for (size_t i = 0; i < d->nchanges; i++) {
             const cph_choice_change *ch = &d->changes[i];
-            printf("  %s %s t=%d: BASE chose %s%s%s%s, NEW chooses %s%s%s%s; ", ch->next->layer,
-                   ch->next->flip == CP_CONV ? "conv" : "xcorr", ch->next->threads, ch->base->algo,
+            printf("  %s flip=%s t=%d: BASE chose %s%s%s%s, NEW chooses %s%s%s%s; ", ch->next->layer,
+                   cph_flip_word(ch->next->flip), ch->next->threads, ch->base->algo,
                    ch->base->params[0] ? " [" : "", ch->base->params,
                    ch->base->params[0] ? "]" : "", ch->next->algo, ch->next->params[0] ? " [" : "",
                    ch->next->params, ch->next->params[0] ? "]" : "");
@@ -229,7 +213,7 @@ static int run_diff(const diff_opts *o) {
         goto done;
     }
     if (!d.npairs) {
-        cph_err("diff: %s and %s have no measurement in common (same shape, mode, threads, "
+        cph_err("diff: %s and %s have no measurement in common (same shape, flip, threads, "
                 "algorithm and parameters)", o->base, o->next);
         rc = CPH_EXIT_USAGE;
         goto done;
@@ -263,6 +247,6 @@ done:
 
 int cph_cmd_diff(int argc, char **argv) {
     diff_opts o = {0.01, 0.05, 0, NULL, NULL, NULL, NULL};
-    const int rc = parse_args(argc, argv, &o);
+    const int rc = parse(argc, argv, &o);
     return rc >= 0 ? rc : run_diff(&o);
 }

@@ -1,27 +1,34 @@
 /* convpick lookup: asks a tuning table which algorithm a deploying program
  * would run for one layer, and says how the answer was found (exact entry,
  * nearest compatible entry, or the default). */
-#include <getopt.h>
 #include <jansson.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "harness/cli/cli.h"
+#include "harness/cli/options.h"
 #include "convpick/convpick.h"
-#include "harness/select/select.h"
+#include "harness/select/shape_spec.h"
 
-static const char help[] =
-    "usage: convpick lookup TABLE --shape SPEC [--mode xcorr|conv] [--threads N]\n"
-    "                       [--strict-device] [--json]\n\n"
-    "Prints the algorithm and parameters the table gives for the layer SPEC\n"
-    "(e.g. n=1,c=64,h=56,w=56,k=64,r=3,s=3,pad=1) and whether the answer is\n"
-    "exact, approximate (nearest compatible entry) or the default.\n\n"
-    "  --shape SPEC      the layer (key=value list, see convpick verify --help)\n"
-    "  --mode M          xcorr (default) or conv\n"
-    "  --threads N       thread count to look up (default: any, fewest recorded)\n"
-    "  --strict-device   refuse a table made on another device\n"
-    "  --json            print one JSON object instead of text\n";
+static void usage(FILE *f) {
+    fputs("usage: convpick lookup TABLE --shape SPEC [OPTIONS]\n\n"
+          "Prints the algorithm and parameters the table gives for the layer SPEC\n"
+          "(e.g. n=1,c=64,h=56,w=56,k=64,r=3,s=3,pad=1) and whether the answer is\n"
+          "exact, approximate (nearest compatible entry) or the default.\n\n"
+          "the layer:\n"
+          "  --shape SPEC        the layer (key=value list, see convpick verify --help;\n"
+          "                      required)\n"
+          "  --flip F            the kernel orientation: no (cross-correlation, what a\n"
+          "                      network layer computes) or yes (true convolution, the\n"
+          "                      kernel read flipped) (default: no)\n\n"
+          "options:\n"
+          "  --threads N         thread count to look up (default: any, fewest recorded)\n"
+          "  --strict-device     refuse a table made on another device (default: accept)\n"
+          "  --json              print one JSON object instead of text (default: text)\n",
+          f);
+    cph_help_end(f, "0 answered, 1 the answer could not be printed, 2 bad usage or input");
+}
 
 static void print_text(const cp_table *t, const cp_choice *c) {
     char params[256];
@@ -54,72 +61,71 @@ static int print_json(const cp_table *t, const cp_choice *c) {
     return 0;
 }
 
-int cph_cmd_lookup(int argc, char **argv) {
+typedef struct lookup_opts {
+    const char *spec, *path;
+    cp_flip flip;
+    int threads, json;
+    unsigned flags;
+} lookup_opts;
+
+/* Returns -1 to go on, else the exit code (the error already reported). */
+static int parse(int argc, char **argv, lookup_opts *o) {
+    enum { OPT_THREADS = 1, OPT_STRICT, OPT_JSON };
     static const struct option longopts[] = {
-        {"shape", required_argument, NULL, 's'},  {"mode", required_argument, NULL, 'm'},
-        {"threads", required_argument, NULL, 't'}, {"strict-device", no_argument, NULL, 'd'},
-        {"json", no_argument, NULL, 'j'},          {"help", no_argument, NULL, 'h'},
-        {NULL, 0, NULL, 0},
+        {"shape", required_argument, NULL, CPH_OPT_SHAPE},
+        {"flip", required_argument, NULL, CPH_OPT_FLIP},
+        {"threads", required_argument, NULL, OPT_THREADS},
+        {"strict-device", no_argument, NULL, OPT_STRICT},
+        {"json", no_argument, NULL, OPT_JSON},
+        CPH_OPTS_HELP_END,
     };
-    const char *spec = NULL;
-    cp_flip flip = CP_XCORR;
-    int threads = 0, json = 0;
-    unsigned flags = 0;
-    int opt;
-    while ((opt = getopt_long(argc, argv, "", longopts, NULL)) != -1) {
+    int opt, nflip;
+    long long v;
+    while ((opt = cph_opt_next("lookup", argc, argv, longopts)) != -1) {
         switch (opt) {
-        case 's': spec = optarg; break;
-        case 'm':
-            if (strcmp(optarg, "xcorr") == 0)
-                flip = CP_XCORR;
-            else if (strcmp(optarg, "conv") == 0)
-                flip = CP_CONV;
-            else {
-                cph_err("lookup: --mode: '%s' (expected xcorr or conv)", optarg);
-                return CPH_EXIT_USAGE;
-            }
+        case CPH_OPT_SHAPE: o->spec = optarg; break;
+        case CPH_OPT_FLIP:
+            if (cph_opt_flip("lookup", optarg, 0, &o->flip, &nflip)) return CPH_EXIT_USAGE;
             break;
-        case 't': {
-            char *end;
-            long v = strtol(optarg, &end, 10);
-            if (*end || end == optarg || v < 1 || v > 65536) {
-                cph_err("lookup: --threads: '%s' (expected an integer in [1, 65536])", optarg);
+        case OPT_THREADS:
+            if (cph_opt_int("lookup", "--threads", optarg, 1, 65536, "an integer in [1, 65536]",
+                            &v))
                 return CPH_EXIT_USAGE;
-            }
-            threads = (int)v;
+            o->threads = (int)v;
             break;
-        }
-        case 'd': flags |= CP_TABLE_STRICT_DEVICE; break;
-        case 'j': json = 1; break;
-        case 'h': fputs(help, stdout); return CPH_EXIT_OK;
-        default: return cph_usage_error("lookup");
+        case OPT_STRICT: o->flags |= CP_TABLE_STRICT_DEVICE; break;
+        case OPT_JSON: o->json = 1; break;
+        case 'h': usage(stdout); return CPH_EXIT_OK;
+        default: return CPH_EXIT_USAGE;
         }
     }
-    if (optind != argc - 1 || !spec) {
-        cph_err("lookup: expected one TABLE and --shape SPEC (see convpick lookup --help)");
-        return CPH_EXIT_USAGE;
-    }
-    const char *path = argv[optind];
+    if (optind != argc - 1)
+        return cph_opt_error("lookup", NULL,
+                             "expected one TABLE, got %d (see convpick lookup --help)",
+                             argc - optind);
+    if (!o->spec)
+        return cph_opt_error("lookup", "--shape", "required (see convpick lookup --help)");
+    o->path = argv[optind];
+    return -1;
+}
+
+/* Loads the table and answers; the exit code. */
+static int lookup(const lookup_opts *o) {
     char msg[512];
     cp_shape shape;
-    if (cph_parse_shape(spec, "--shape", &shape, msg, sizeof msg) != CP_OK) {
-        cph_err("lookup: %s", msg);
-        return CPH_EXIT_USAGE;
-    }
+    if (cph_parse_shape(o->spec, NULL, &shape, msg, sizeof msg) != CP_OK)
+        return cph_opt_error("lookup", "--shape", "'%s': %s", o->spec, msg);
     cp_table *t;
-    if (cp_table_load(path, flags, &t, msg, sizeof msg) != CP_OK) {
+    if (cp_table_load(o->path, o->flags, &t, msg, sizeof msg) != CP_OK) {
         cph_err("%s", msg);
         return CPH_EXIT_USAGE;
     }
     cp_choice c;
-    cp_status st = cp_table_lookup(t, &shape, flip, threads, &c, msg, sizeof msg);
-    if (st != CP_OK) {
-        cph_err("lookup: %s", msg);
-        cp_table_free(t);
-        return CPH_EXIT_USAGE;
-    }
     int rc = CPH_EXIT_OK;
-    if (json) {
+    if (cp_table_lookup(t, &shape, o->flip, o->threads, &c, msg, sizeof msg) != CP_OK) {
+        cph_err("lookup: %s", msg);
+        rc = CPH_EXIT_USAGE;
+    } else if (o->json) {
         if (print_json(t, &c) != 0) {
             cph_err("lookup: cannot format the answer as JSON");
             rc = CPH_EXIT_FAIL;
@@ -129,4 +135,10 @@ int cph_cmd_lookup(int argc, char **argv) {
     }
     cp_table_free(t);
     return rc;
+}
+
+int cph_cmd_lookup(int argc, char **argv) {
+    lookup_opts o = {NULL, NULL, CP_XCORR, 0, 0, 0};
+    const int rc = parse(argc, argv, &o);
+    return rc >= 0 ? rc : lookup(&o);
 }

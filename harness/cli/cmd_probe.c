@@ -1,6 +1,5 @@
 /* convpick probe: what the tuner knows of this machine - topology, caches,
  * ISA, BLAS, build, fingerprint - and the roofs measured on the spot. */
-#include <getopt.h>
 #include <jansson.h>
 #include <math.h>
 #include <stdio.h>
@@ -8,22 +7,26 @@
 #include <string.h>
 
 #include "harness/cli/cli.h"
+#include "harness/cli/options.h"
 #include "harness/machine/machine.h"
 
-static void help(void) {
-    printf("usage: convpick probe [--json] [--no-roofs] [--seconds S] [--synthetic DESC]\n\n"
-           "Describes this machine (topology and caches from hwloc, ISA from cpuid, the BLAS\n"
-           "library, the compiler and flags of this build, the device fingerprint) and measures\n"
-           "its roofs: FP32 FMA peak and triad bandwidth on one core and on all physical cores.\n\n"
-           "  --json            print one JSON object instead of text\n"
-           "  --no-roofs        describe only, measure nothing\n"
-           "  --seconds S       time budget for the roofs (default 2)\n"
-           "  --synthetic DESC  describe an invented machine given in hwloc's synthetic syntax,\n"
-           "                    e.g. \"pack:2 l3:1(size=32MiB) l2:8(size=1MiB) l1d:1(size=32KiB)\n"
-           "                    core:1 pu:2\" (no roofs: there is nothing to measure)\n"
-           "  --help            this text\n\n"
-           "Bandwidth is counted as STREAM counts the triad a = b + s*c: 12 bytes per float\n"
-           "element, the write-allocate read of a not counted.\n");
+static void usage(FILE *f) {
+    fputs("usage: convpick probe [OPTIONS]\n\n"
+          "Describes this machine (topology and caches from hwloc, ISA from cpuid, the BLAS\n"
+          "library, the compiler and flags of this build, the device fingerprint) and measures\n"
+          "its roofs: FP32 FMA peak and triad bandwidth on one core and on all physical cores.\n"
+          "Bandwidth is counted as STREAM counts the triad a = b + s*c: 12 bytes per float\n"
+          "element, the write-allocate read of a not counted.\n\n"
+          "options:\n"
+          "  --json              print one JSON object instead of text (default: text)\n"
+          "  --no-roofs          describe only, measure nothing (default: measure)\n"
+          "  --seconds S         time budget for the roofs (default: 2)\n"
+          "  --synthetic DESC    describe an invented machine given in hwloc's synthetic\n"
+          "                      syntax, e.g. \"pack:2 l3:1(size=32MiB) l2:8(size=1MiB)\n"
+          "                      l1d:1(size=32KiB) core:1 pu:2\" (no roofs: nothing to measure;\n"
+          "                      default: this machine)\n",
+          f);
+    cph_help_end(f, "0 done, 1 the roofs could not be measured, 2 bad usage or input");
 }
 
 static void print_size(char *buf, size_t cap, double bytes) {
@@ -90,60 +93,57 @@ static void print_text(const cph_machine *m, const cph_roofs *r) {
     printf("%s arrays)\n", sz);
     printf("ridge        %.2f FLOP/byte on 1 core, %.2f FLOP/byte on %d %s\n", r->ridge_1core,
            r->ridge_all, r->cores_used, plural(r->cores_used, "core", "cores"));
-    printf("             measured in %.2f s, threads %s\n", r->seconds_spent,
+    printf("             measured in %.0f ms, threads %s\n", 1e3 * r->seconds_spent,
            r->pinned ? "pinned one per core" : "not pinned");
 }
 
-static int parse_seconds(const char *s, double *out) {
-    char *end;
-    const double v = strtod(s, &end);
-    if (end == s || *end || !(v > 0.0) || !isfinite(v) || v > 600.0) return -1;
-    *out = v;
-    return 0;
-}
+typedef struct probe_opts {
+    int json, roofs;
+    double seconds;
+    const char *synthetic;
+} probe_opts;
 
-int cph_cmd_probe(int argc, char **argv) {
-    static const struct option opts[] = {{"json", no_argument, NULL, 'j'},
-                                         {"no-roofs", no_argument, NULL, 'n'},
-                                         {"seconds", required_argument, NULL, 's'},
-                                         {"synthetic", required_argument, NULL, 'y'},
-                                         {"help", no_argument, NULL, 'h'},
-                                         {NULL, 0, NULL, 0}};
-    int json = 0, roofs = 1;
-    double seconds = 2.0;
-    const char *synthetic = NULL;
-    int c;
-    opterr = 0; /* one line of our own instead of getopt's */
-    while ((c = getopt_long(argc, argv, "", opts, NULL)) != -1) {
-        switch (c) {
-        case 'j': json = 1; break;
-        case 'n': roofs = 0; break;
-        case 's':
-            if (parse_seconds(optarg, &seconds) != 0) {
-                cph_err("probe: --seconds '%s': give a number of seconds in (0, 600]", optarg);
+/* Returns -1 to go on, else the exit code (the error already reported). */
+static int parse(int argc, char **argv, probe_opts *o) {
+    enum { OPT_JSON = 1, OPT_NOROOFS, OPT_SECONDS, OPT_SYNTHETIC };
+    static const struct option longopts[] = {
+        {"json", no_argument, NULL, OPT_JSON},
+        {"no-roofs", no_argument, NULL, OPT_NOROOFS},
+        {"seconds", required_argument, NULL, OPT_SECONDS},
+        {"synthetic", required_argument, NULL, OPT_SYNTHETIC},
+        CPH_OPTS_HELP_END,
+    };
+    int opt;
+    while ((opt = cph_opt_next("probe", argc, argv, longopts)) != -1) {
+        switch (opt) {
+        case OPT_JSON: o->json = 1; break;
+        case OPT_NOROOFS: o->roofs = 0; break;
+        case OPT_SECONDS:
+            if (cph_opt_double("probe", "--seconds", optarg, 1e-6, 600.0,
+                               "a number of seconds in (0, 600]", &o->seconds))
                 return CPH_EXIT_USAGE;
-            }
             break;
-        case 'y': synthetic = optarg; break;
-        case 'h': help(); return CPH_EXIT_OK;
-        default: return cph_usage_error("probe");
+        case OPT_SYNTHETIC: o->synthetic = optarg; break;
+        case 'h': usage(stdout); return CPH_EXIT_OK;
+        default: return CPH_EXIT_USAGE;
         }
     }
-    if (optind < argc) {
-        cph_err("probe: unexpected argument '%s' (see convpick probe --help)", argv[optind]);
-        return CPH_EXIT_USAGE;
-    }
+    return cph_opt_no_operands("probe", argc, argv) ? CPH_EXIT_USAGE : -1;
+}
+
+/* Describes the machine (and measures it); the exit code. */
+static int probe(const probe_opts *o) {
     char msg[512];
     cph_machine m;
-    cp_status st = cph_machine_detect(&m, synthetic, msg, sizeof msg);
+    cp_status st = cph_machine_detect(&m, o->synthetic, msg, sizeof msg);
     if (st != CP_OK) {
         cph_err("probe: %s", msg);
         return CPH_EXIT_USAGE;
     }
     cph_roofs r;
     int have_roofs = 0;
-    if (roofs && !m.synthetic) {
-        st = cph_roofs_measure(&m, seconds, &r, msg, sizeof msg);
+    if (o->roofs && !m.synthetic) {
+        st = cph_roofs_measure(&m, o->seconds, &r, msg, sizeof msg);
         if (st != CP_OK) {
             cph_err("probe: %s", msg);
             cph_machine_free(&m);
@@ -153,9 +153,9 @@ int cph_cmd_probe(int argc, char **argv) {
         have_roofs = 1;
     }
     int rc = CPH_EXIT_OK;
-    if (json) {
-        json_t *o = cph_machine_to_json(&m, have_roofs ? &r : NULL);
-        char *text = o ? json_dumps(o, JSON_INDENT(2) | JSON_PRESERVE_ORDER) : NULL;
+    if (o->json) {
+        json_t *j = cph_machine_to_json(&m, have_roofs ? &r : NULL);
+        char *text = j ? json_dumps(j, JSON_INDENT(2) | JSON_PRESERVE_ORDER) : NULL;
         if (text) {
             printf("%s\n", text);
             free(text);
@@ -163,10 +163,16 @@ int cph_cmd_probe(int argc, char **argv) {
             cph_err("probe: cannot build the JSON description");
             rc = CPH_EXIT_FAIL;
         }
-        json_decref(o);
+        json_decref(j);
     } else {
         print_text(&m, have_roofs ? &r : NULL);
     }
     cph_machine_free(&m);
     return rc;
+}
+
+int cph_cmd_probe(int argc, char **argv) {
+    probe_opts o = {0, 1, 2.0, NULL};
+    const int rc = parse(argc, argv, &o);
+    return rc >= 0 ? rc : probe(&o);
 }

@@ -1,42 +1,45 @@
 /* convpick run: computes one layer from raw float32 files with a chosen
  * algorithm, so that any algorithm can be checked against an outside tool
  * (NumPy, SciPy) on the user's own data. */
-#include <getopt.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "harness/cli/cli.h"
+#include "harness/cli/options.h"
 #include "harness/machine/membudget.h"
 #include "harness/io/rawfile.h"
-#include "harness/select/select.h"
+#include "harness/select/shape_spec.h"
 
 static void usage(FILE *f) {
-    fprintf(f,
-            "usage: convpick run --shape SPEC --algo A --input X.f32 --weights W.f32\n"
-            "                    [--bias B.f32] --output Y.f32 [--mode xcorr|conv]\n\n"
-            "Computes one layer with algorithm A (default parameters) from raw little-endian\n"
-            "float32 files: input N x C x H x W (NCHW), weights K x C/groups x R x S (KCRS),\n"
-            "bias K values; writes the output N x K x P x Q (NCHW), replacing Y.f32 atomically.\n\n"
-            "options:\n"
-            "  --shape SPEC      the layer (syntax as in convpick verify --help)\n"
-            "  --algo A          the algorithm (see convpick algos)\n"
-            "  --input FILE      input activations\n"
-            "  --weights FILE    weights\n"
-            "  --bias FILE       bias (optional)\n"
-            "  --output FILE     where to write the output\n"
-            "  --mode M          xcorr (default) or conv\n"
-            "%s"
-            "  -h, --help        this text\n\n"
-            "Non-finite inputs (NaN, Inf) are computed with and reported in a warning.\n\n"
-            "exit status: 0 written, 1 the computation or the write failed, 2 bad usage or input\n",
-            cph_membudget_help);
+    fputs("usage: convpick run --shape SPEC --algo A --input X.f32 --weights W.f32\n"
+          "                    [--bias B.f32] --output Y.f32 [OPTIONS]\n\n"
+          "Computes one layer with algorithm A (default parameters) from raw little-endian\n"
+          "float32 files: input N x C x H x W (NCHW), weights K x C/groups x R x S (KCRS),\n"
+          "bias K values; writes the output N x K x P x Q (NCHW), replacing Y.f32 atomically.\n"
+          "Non-finite inputs (NaN, Inf) are computed with and reported in a warning.\n\n"
+          "the layer:\n"
+          "  --shape SPEC        the layer (syntax as in convpick verify --help; required)\n"
+          "  --algo A            the algorithm (see convpick algos; required)\n"
+          "  --flip F            the kernel orientation: no (cross-correlation, what a\n"
+          "                      network layer computes) or yes (true convolution, the\n"
+          "                      kernel read flipped) (default: no)\n\n"
+          "options:\n"
+          "  --input FILE        input activations (required)\n"
+          "  --weights FILE      weights (required)\n"
+          "  --bias FILE         bias (default: none)\n"
+          "  --output FILE       where to write the output (required)\n",
+          f);
+    cph_help_max_memory(f);
+    cph_help_end(f, "0 written, 1 the computation or the write failed, 2 bad usage or input");
 }
 
-enum { OPT_INPUT = 2000, OPT_WEIGHTS, OPT_BIAS, OPT_OUTPUT };
+enum { OPT_INPUT = 1, OPT_WEIGHTS, OPT_BIAS, OPT_OUTPUT };
 
 typedef struct {
-    const char *spec, *algo, *input, *weights, *bias, *output, *flip, *max_memory;
+    const char *spec, *algo, *input, *weights, *bias, *output, *flip_arg, *max_memory;
+    cp_flip flip;
+    uint64_t budget; /* 0: the default */
 } run_opts;
 
 /* One warning per tensor that holds NaN or Inf: they propagate, never crash. */
@@ -50,35 +53,20 @@ static void warn_nonfinite(const char *what, const char *path, const float *v, s
 static int run_layer(const run_opts *o) {
     char msg[512];
     cp_shape s;
-    if (cph_parse_shape(o->spec, "--shape", &s, msg, sizeof msg) != CP_OK) {
-        cph_err("%s", msg);
-        return CPH_EXIT_USAGE;
-    }
+    if (cph_parse_shape(o->spec, NULL, &s, msg, sizeof msg) != CP_OK)
+        return cph_opt_error("run", "--shape", "'%s': %s", o->spec, msg);
     const cp_algo *a = cp_algo_find(o->algo);
-    if (!a) {
-        cph_err("--algo: unknown algorithm '%s' (see convpick algos)", o->algo);
-        return CPH_EXIT_USAGE;
-    }
-    cp_flip flip = CP_XCORR;
-    if (o->flip && strcmp(o->flip, "conv") == 0)
-        flip = CP_CONV;
-    else if (o->flip && strcmp(o->flip, "xcorr") != 0) {
-        cph_err("--mode %s: expected xcorr or conv", o->flip);
-        return CPH_EXIT_USAGE;
-    }
+    if (!a)
+        return cph_opt_error("run", "--algo", "unknown algorithm '%s' (see convpick algos)",
+                             o->algo);
+    cp_flip flip = o->flip;
     char why[256] = "";
     if (!a->supports(&s, flip, why, sizeof why)) {
-        cph_err("%s does not support this layer in %s mode: %s", a->name,
-                flip == CP_XCORR ? "xcorr" : "conv", why);
+        cph_err("run: %s does not support this layer with --flip %s: %s", a->name,
+                cph_flip_word(flip), why);
         return CPH_EXIT_USAGE;
     }
-    uint64_t budget = 0;
-    if (o->max_memory &&
-        cph_mem_parse(o->max_memory, strchr(o->max_memory, '%') ? cph_mem_machine_bytes() : 0,
-                      &budget, msg, sizeof msg) != CP_OK) {
-        cph_err("run: %s", msg);
-        return CPH_EXIT_USAGE;
-    }
+    const uint64_t budget = o->budget;
     const cp_cache_sizes caches = cp_cache_sizes_fallback();
     const cph_mem_need need = cph_mem_layer_need(&s, &flip, 1, &a, 1, 1, 0, &caches);
     if (cph_mem_check("the layer", &need, budget ? budget : cph_mem_default(), msg, sizeof msg) !=
@@ -137,57 +125,58 @@ out:
     return rc;
 }
 
-int cph_cmd_run(int argc, char **argv) {
+/* Returns -1 to go on, else the exit code (the error already reported). */
+static int parse(int argc, char **argv, run_opts *o) {
     static const struct option longopts[] = {
         {"shape", required_argument, NULL, CPH_OPT_SHAPE},
         {"algo", required_argument, NULL, CPH_OPT_ALGO},
-        {"mode", required_argument, NULL, CPH_OPT_FLIP},
+        {"flip", required_argument, NULL, CPH_OPT_FLIP},
         {"input", required_argument, NULL, OPT_INPUT},
         {"weights", required_argument, NULL, OPT_WEIGHTS},
         {"bias", required_argument, NULL, OPT_BIAS},
         {"output", required_argument, NULL, OPT_OUTPUT},
-        CPH_MEMBUDGET_LONGOPT,
-        {"help", no_argument, NULL, 'h'},
-        {NULL, 0, NULL, 0},
+        CPH_OPT_MAX_MEMORY_ENTRY,
+        CPH_OPTS_HELP_END,
     };
-    run_opts o;
-    memset(&o, 0, sizeof o);
     int opt;
-    opterr = 0; /* one error line, ours */
-    while ((opt = getopt_long(argc, argv, "h", longopts, NULL)) != -1) {
+    while ((opt = cph_opt_next("run", argc, argv, longopts)) != -1) {
         const char **slot = NULL;
         switch (opt) {
         case 'h': usage(stdout); return CPH_EXIT_OK;
-        case CPH_OPT_SHAPE: slot = &o.spec; break;
-        case CPH_OPT_ALGO: slot = &o.algo; break;
-        case CPH_OPT_FLIP: slot = &o.flip; break;
-        case OPT_INPUT: slot = &o.input; break;
-        case OPT_WEIGHTS: slot = &o.weights; break;
-        case OPT_BIAS: slot = &o.bias; break;
-        case OPT_OUTPUT: slot = &o.output; break;
-        case CPH_OPT_MAX_MEMORY: slot = &o.max_memory; break;
-        default: return cph_usage_error("run");
+        case CPH_OPT_SHAPE: slot = &o->spec; break;
+        case CPH_OPT_ALGO: slot = &o->algo; break;
+        case CPH_OPT_FLIP: slot = &o->flip_arg; break;
+        case OPT_INPUT: slot = &o->input; break;
+        case OPT_WEIGHTS: slot = &o->weights; break;
+        case OPT_BIAS: slot = &o->bias; break;
+        case OPT_OUTPUT: slot = &o->output; break;
+        case CPH_OPT_MAX_MEMORY: slot = &o->max_memory; break;
+        default: return CPH_EXIT_USAGE;
         }
         if (*slot) {
-            const char *name = "?";
-            for (const struct option *lo = longopts; lo->name; lo++)
-                if (lo->val == opt) name = lo->name;
-            cph_err("run: --%s given twice", name);
-            return CPH_EXIT_USAGE;
+            char name[64];
+            return cph_opt_error("run", cph_opt_name(longopts, opt, name, sizeof name),
+                                 "given twice");
         }
         *slot = optarg;
+        int n, rc = 0;
+        if (opt == CPH_OPT_FLIP) rc = cph_opt_flip("run", optarg, 0, &o->flip, &n);
+        if (opt == CPH_OPT_MAX_MEMORY) rc = cph_opt_max_memory("run", optarg, &o->budget);
+        if (rc) return rc;
     }
-    if (optind < argc) {
-        cph_err("run: unexpected argument '%s' (see convpick run --help)", argv[optind]);
-        return CPH_EXIT_USAGE;
-    }
+    if (cph_opt_no_operands("run", argc, argv)) return CPH_EXIT_USAGE;
     const struct { const char *name, *v; } need[] = {
-        {"--shape", o.spec}, {"--algo", o.algo}, {"--input", o.input},
-        {"--weights", o.weights}, {"--output", o.output}};
+        {"--shape", o->spec}, {"--algo", o->algo}, {"--input", o->input},
+        {"--weights", o->weights}, {"--output", o->output}};
     for (size_t i = 0; i < sizeof need / sizeof need[0]; i++)
-        if (!need[i].v) {
-            cph_err("run: %s is required (see convpick run --help)", need[i].name);
-            return CPH_EXIT_USAGE;
-        }
-    return run_layer(&o);
+        if (!need[i].v)
+            return cph_opt_error("run", need[i].name, "required (see convpick run --help)");
+    return -1;
+}
+
+int cph_cmd_run(int argc, char **argv) {
+    run_opts o;
+    memset(&o, 0, sizeof o);
+    const int rc = parse(argc, argv, &o);
+    return rc >= 0 ? rc : run_layer(&o);
 }

@@ -1,9 +1,9 @@
 /* convpick verify: every selected algorithm against the fp64 oracle, per layer
- * and mode, judged by each algorithm's own tolerance.
+ * and flip, judged by each algorithm's own tolerance.
  *
  * The oracle is plain double loops and by far the slowest part, so it runs
- * once per layer x mode and its reference is shared by every algorithm.  The
- * tensors are random in [-1, 1) from the seed, the layer index and the mode,
+ * once per layer x flip and its reference is shared by every algorithm.  The
+ * tensors are random in [-1, 1) from the seed, the layer index and the flip,
  * so a FAIL can be reproduced with the same --seed. */
 #include <getopt.h>
 #include <math.h>
@@ -14,22 +14,22 @@
 #include "harness/cli/cli.h"
 #include "harness/measure/data.h"
 #include "harness/machine/membudget.h"
-#include "harness/select/select.h"
+#include "harness/cli/options.h"
+#include "harness/select/shape_spec.h"
 
 static void usage(FILE *f) {
-    fprintf(f,
-            "usage: convpick verify [OPTIONS]\n\n"
-            "Runs every selected algorithm on random tensors for each layer and mode and\n"
-            "compares it with the fp64 oracle; PASS when the error relative to sum|x||w|\n"
-            "is within the algorithm's tolerance (see convpick algos).\n\n"
-            "options:\n%s"
-            "                    (verify's default mode: both)\n%s"
-            "  -h, --help        this text\n\n"
-            "exit status: 0 all applicable checks passed, 1 a check failed, 2 bad usage or input\n",
-            cph_selection_help, cph_membudget_help);
+    fputs("usage: convpick verify SELECTION [OPTIONS]\n\n"
+          "Runs every selected algorithm on random tensors for each layer and orientation\n"
+          "and compares it with the fp64 oracle; PASS when the error relative to sum|x||w|\n"
+          "is within the algorithm's tolerance (see convpick algos).\n\n",
+          f);
+    cph_help_selection(f, "both");
+    fputs("options:\n", f);
+    cph_help_max_memory(f);
+    cph_help_end(f, "0 all applicable checks passed, 1 a check failed, 2 bad usage or input");
 }
 
-/* Derives independent seeds per layer, mode and tensor. */
+/* Derives independent seeds per layer, flip and tensor. */
 static uint64_t tensor_seed(uint64_t seed, size_t layer, int flip, int tensor) {
     uint64_t st = seed ^ ((uint64_t)layer << 20) ^ ((uint64_t)flip << 8) ^ (uint64_t)tensor;
     return cph_rng_next(&st);
@@ -42,11 +42,11 @@ typedef struct {
 
 static void row(const tally *t, const char *layer, cp_flip flip, const cp_algo *a,
                 const char *rest) {
-    printf("%-*s  %-5s  %-*s  %s\n", t->name_w, layer, flip == CP_XCORR ? "xcorr" : "conv",
+    printf("%-*s  %-4s  %-*s  %s\n", t->name_w, layer, cph_flip_word(flip),
            t->algo_w, a->name, rest);
 }
 
-/* Checks one algorithm on one layer x mode against the shared reference. */
+/* Checks one algorithm on one layer x flip against the shared reference. */
 static void check_algo(tally *t, const cph_layer *L, cp_flip flip, const cp_algo *a,
                        const float *x, const float *w, const float *bias, const double *ref,
                        const double *mag, float *y) {
@@ -88,7 +88,7 @@ static void check_algo(tally *t, const cph_layer *L, cp_flip flip, const cp_algo
     t->failed++;
 }
 
-/* One layer: tensors and the oracle per mode, then every algorithm. */
+/* One layer: tensors and the oracle per flip, then every algorithm. */
 static int verify_layer(tally *t, const cph_selection *sel, size_t li) {
     const cph_layer *L = &sel->layers.v[li];
     const size_t nx = cp_shape_input_elems(&L->shape), nw = cp_shape_weight_elems(&L->shape),
@@ -125,86 +125,72 @@ out:
     return rc;
 }
 
-int cph_cmd_verify(int argc, char **argv) {
-    static const struct option longopts[] = {
-        CPH_SELECTION_LONGOPTS,
-        CPH_MEMBUDGET_LONGOPT,
-        {"help", no_argument, NULL, 'h'},
-        {NULL, 0, NULL, 0},
-    };
+typedef struct verify_opts {
     cph_selection sel;
-    cph_selection_init(&sel);
-    char msg[512];
-    int rc = CPH_EXIT_OK;
-    uint64_t budget = 0; /* 0: the default, found only when needed */
+    uint64_t budget; /* 0: the default, found only when needed */
+} verify_opts;
+
+/* Returns -1 to go on, else the exit code (the error already reported). */
+static int parse(int argc, char **argv, verify_opts *o) {
+    static const struct option longopts[] = {
+        CPH_OPTS_SELECTION, CPH_OPT_MAX_MEMORY_ENTRY, CPH_OPTS_HELP_END,
+    };
+    const cph_opt_dest dest = {"verify", &o->sel, NULL, NULL, &o->budget};
     int opt;
-    opterr = 0; /* one error line, ours */
-    while ((opt = getopt_long(argc, argv, "h", longopts, NULL)) != -1) {
+    while ((opt = cph_opt_next("verify", argc, argv, longopts)) != -1) {
         if (opt == 'h') {
             usage(stdout);
-            cph_selection_free(&sel);
             return CPH_EXIT_OK;
         }
-        if (opt < CPH_OPT_SHAPE) {
-            cph_selection_free(&sel);
-            return cph_usage_error("verify");
-        }
-        if (opt == CPH_OPT_MAX_MEMORY) {
-            if (cph_mem_parse(optarg, strchr(optarg, '%') ? cph_mem_machine_bytes() : 0, &budget,
-                              msg, sizeof msg) != CP_OK) {
-                cph_err("verify: %s", msg);
-                cph_selection_free(&sel);
-                return CPH_EXIT_USAGE;
-            }
-            continue;
-        }
-        if (cph_selection_option(&sel, opt, optarg, msg, sizeof msg) != CP_OK) {
-            cph_err("%s", msg);
-            cph_selection_free(&sel);
-            return CPH_EXIT_USAGE;
-        }
-    }
-    if (optind < argc) {
-        cph_err("verify: unexpected argument '%s' (see convpick verify --help)", argv[optind]);
-        cph_selection_free(&sel);
-        return CPH_EXIT_USAGE;
+        const int rc = cph_opt_shared(&dest, opt, optarg);
+        if (rc) return rc;
     }
     static const cp_flip both[] = {CP_XCORR, CP_CONV};
-    if (cph_selection_finish(&sel, both, 2, msg, sizeof msg) != CP_OK) {
-        cph_err("verify: %s", msg);
-        cph_selection_free(&sel);
+    if (cph_opt_no_operands("verify", argc, argv) ||
+        cph_opt_selection_finish("verify", &o->sel, both, 2))
         return CPH_EXIT_USAGE;
-    }
+    return -1;
+}
 
-    if (cph_mem_check_selection("verify", &sel, 1, 1, budget ? budget : cph_mem_default()) != 0) {
-        cph_selection_free(&sel);
+/* Every layer against the oracle; the exit code. */
+static int verify(const verify_opts *o) {
+    const cph_selection *s = &o->sel;
+    if (cph_mem_check_selection("verify", s, 1, 1, o->budget ? o->budget : cph_mem_default()) != 0)
         return CPH_EXIT_USAGE;
-    }
-
+    int rc = CPH_EXIT_OK;
     tally t = {0, 0, 0, 5, 4};
-    for (size_t i = 0; i < sel.layers.n; i++) {
-        int len = (int)strlen(sel.layers.v[i].name);
+    for (size_t i = 0; i < s->layers.n; i++) {
+        int len = (int)strlen(s->layers.v[i].name);
         if (len > t.name_w) t.name_w = len;
     }
-    for (size_t i = 0; i < sel.nalgos; i++) {
-        int len = (int)strlen(sel.algos[i]->name);
+    for (size_t i = 0; i < s->nalgos; i++) {
+        int len = (int)strlen(s->algos[i]->name);
         if (len > t.algo_w) t.algo_w = len;
     }
-    printf("verify: %zu layer(s), %zu algorithm(s), seed %llu\n", sel.layers.n, sel.nalgos,
-           (unsigned long long)sel.seed);
-    for (size_t i = 0; i < sel.layers.n; i++) {
+    printf("verify: %zu layer(s), %zu algorithm(s), seed %llu\n", s->layers.n, s->nalgos,
+           (unsigned long long)s->seed);
+    for (size_t i = 0; i < s->layers.n; i++) {
         char spec[320];
-        cph_shape_format_short(&sel.layers.v[i].shape, spec, sizeof spec);
-        printf("  %-*s  x%-3d %s\n", t.name_w, sel.layers.v[i].name, sel.layers.v[i].count, spec);
+        cph_shape_format_short(&s->layers.v[i].shape, spec, sizeof spec);
+        printf("  %-*s  x%-3d %s\n", t.name_w, s->layers.v[i].name, s->layers.v[i].count, spec);
     }
-    printf("\n%-*s  %-5s  %-*s  %-10s %-10s %-9s %s\n", t.name_w, "layer", "mode", t.algo_w,
+    printf("\n%-*s  %-4s  %-*s  %-10s %-10s %-9s %s\n", t.name_w, "layer", "flip", t.algo_w,
            "algo", "max_abs", "max_rel", "tolerance", "result");
-    for (size_t i = 0; i < sel.layers.n && rc == CPH_EXIT_OK; i++) {
-        if (verify_layer(&t, &sel, i) != 0) rc = CPH_EXIT_FAIL;
+    for (size_t i = 0; i < s->layers.n && rc == CPH_EXIT_OK; i++) {
+        if (verify_layer(&t, s, i) != 0) rc = CPH_EXIT_FAIL;
         fflush(stdout);
     }
     printf("\nverify: %d passed, %d failed, %d not applicable\n", t.passed, t.failed, t.na);
     if (t.failed) rc = CPH_EXIT_FAIL;
-    cph_selection_free(&sel);
+    return rc;
+}
+
+int cph_cmd_verify(int argc, char **argv) {
+    verify_opts o;
+    memset(&o, 0, sizeof o);
+    cph_selection_init(&o.sel);
+    int rc = parse(argc, argv, &o);
+    if (rc < 0) rc = verify(&o);
+    cph_selection_free(&o.sel);
     return rc;
 }

@@ -6,6 +6,7 @@
 #include <string.h>
 
 #include "harness/diff/diff_report.h"
+#include "harness/select/selection.h"
 
 /* occ[i] = how many earlier items of r are the same point as item i. */
 static size_t *occurrences(const cph_results *r) {
@@ -142,7 +143,7 @@ void cph_diff_free(cph_diff *d) {
 }
 
 void cph_diff_item_label(const cph_result_item *it, char *buf, size_t cap) {
-    snprintf(buf, cap, "%s %s t=%d %s%s%s%s", it->layer, it->flip == CP_CONV ? "conv" : "xcorr",
+    snprintf(buf, cap, "%s flip=%s t=%d %s%s%s%s", it->layer, cph_flip_word(it->flip),
              it->threads, it->algo, it->params[0] ? " [" : "", it->params,
              it->params[0] ? "]" : "");
 }

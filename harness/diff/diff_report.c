@@ -9,6 +9,7 @@
 
 #include "algos/core/cpa.h"
 #include "harness/diff/diff_report.h"
+#include "harness/select/selection.h"
 #include "harness/io/rawfile.h"
 
 void cph_xml_escape(FILE *f, const char *s) {
@@ -140,7 +141,7 @@ cp_status cph_diff_write_markdown(const cph_diff *d, const char *path, char *msg
     fprintf(f, "Verdicts: Mann-Whitney U test at alpha %g, Hodges-Lehmann ratio with its "
                "%g %% interval, tolerance +-%g %% (docs/diff.md).\n\n",
             d->alpha, 100.0 * (1.0 - d->alpha), 100.0 * d->tol);
-    fprintf(f, "| verdict | layer | mode | threads | algo | params | base ms | new ms | ratio | "
+    fprintf(f, "| verdict | layer | flip | threads | algo | params | base ms | new ms | ratio | "
                "HL ratio | interval | p |\n|---|---|---|---:|---|---|---:|---:|---:|---:|---|---:|\n");
     for (size_t i = 0; i < d->npairs; i++) {
         const cph_diff_pair *p = &d->pairs[i];
@@ -148,7 +149,7 @@ cp_status cph_diff_write_markdown(const cph_diff *d, const char *path, char *msg
         fprintf(f, "| %s%s%s | ", p->verdict == CPH_SHIFT_SLOWER ? "**" : "",
                 cph_shift_verdict_name(p->verdict), p->verdict == CPH_SHIFT_SLOWER ? "**" : "");
         md_cell(f, p->base->layer);
-        fprintf(f, " | %s | %d | ", p->base->flip == CP_CONV ? "conv" : "xcorr", p->base->threads);
+        fprintf(f, " | %s | %d | ", cph_flip_word(p->base->flip), p->base->threads);
         md_cell(f, p->base->algo);
         fprintf(f, " | ");
         md_cell(f, p->base->params[0] ? p->base->params : "-");
@@ -166,13 +167,13 @@ cp_status cph_diff_write_markdown(const cph_diff *d, const char *path, char *msg
         }
     }
     if (d->nchanges) {
-        fprintf(f, "\n### Changed choices\n\n| layer | mode | threads | BASE chose | NEW chose | "
+        fprintf(f, "\n### Changed choices\n\n| layer | flip | threads | BASE chose | NEW chose | "
                    "BASE's choice in NEW |\n|---|---|---:|---|---|---|\n");
         for (size_t i = 0; i < d->nchanges; i++) {
             const cph_choice_change *ch = &d->changes[i];
             fprintf(f, "| ");
             md_cell(f, ch->next->layer);
-            fprintf(f, " | %s | %d | ", ch->next->flip == CP_CONV ? "conv" : "xcorr",
+            fprintf(f, " | %s | %d | ", cph_flip_word(ch->next->flip),
                     ch->next->threads);
             md_cell(f, ch->base->algo);
             fprintf(f, "%s", ch->base->params[0] ? " " : "");

@@ -17,7 +17,7 @@ static cp_status read_result(cph_rctx *c, const json_t *e, cph_result_item *it, 
         (st = cpl_decode_flipped(j, e, it->where, &it->flip)) ||
         (st = cpl_jint(j, e, it->where, "threads", 1, 65536, &thr)) ||
         (st = cpl_jtext(j, e, it->where, "algo", it->algo, sizeof it->algo)) ||
-        (st = cph_results_params_text(j, e, it->where, it->params, sizeof it->params)))
+        (st = cph_results_params_text(j, e, it->where, it->algo, it->params, sizeof it->params)))
         return st;
     it->threads = (int)thr;
     char sub[128];

@@ -22,9 +22,11 @@ cp_status cph_results_push(cph_rctx *c, const cph_result_item *it);
 /* The run's cache state: the first value seen, -1 once two differ. */
 void cph_results_note_cold(cph_results *r, int cold, int *first);
 double cph_results_median(const double *v, size_t n);
-/* obj.params {"kb": 64, "kt": 4} -> "kb=64,kt=4" (names sorted). */
+/* obj.params {"kt": 4, "kb": 64} -> "kb=64,kt=4": in algo's declaration order
+ * (as everywhere parameters are printed); names it does not declare (the
+ * SGEMM reference rows' m, k, n, ...) after, in the order the writer wrote them. */
 cp_status cph_results_params_text(const cpl_jctx *c, const json_t *obj, const char *where,
-                                  char *out, size_t cap);
+                                  const char *algo, char *out, size_t cap);
 
 cp_status cph_results_read_bench(cph_rctx *c, json_t *root);
 cp_status cph_results_read_table(cph_rctx *c, json_t *root);

@@ -43,12 +43,15 @@ double cph_results_median(const double *v, size_t n) {
     return m;
 }
 
-static int cmp_str(const void *a, const void *b) {
-    return strcmp(*(const char *const *)a, *(const char *const *)b);
+/* Where a parameter name sorts: its index in the algorithm's declaration,
+ * names the algorithm does not declare after all of them. */
+static int param_rank(const cp_algo *a, const char *name) {
+    const int i = a ? cp_algo_param_index(a, name) : -1;
+    return i >= 0 ? i : 64;
 }
 
 cp_status cph_results_params_text(const cpl_jctx *c, const json_t *obj, const char *where,
-                                  char *out, size_t cap) {
+                                  const char *algo, char *out, size_t cap) {
     json_t *p;
     cp_status st = cpl_jfield(c, obj, where, "params", JSON_OBJECT, 0, &p);
     if (st) return st;
@@ -63,7 +66,15 @@ cp_status cph_results_params_text(const cpl_jctx *c, const json_t *obj, const ch
         if (n == 64) return cpl_jfail(c, CP_EFORMAT, "%s.params: more than 64 parameters", where);
         names[n++] = key;
     }
-    qsort(names, n, sizeof *names, cmp_str);
+    const cp_algo *a = cp_algo_find(algo);
+    for (size_t i = 1; i < n; i++) /* insertion sort: at most a few names */
+        for (size_t j = i; j > 0; j--) {
+            if (param_rank(a, names[j - 1]) <= param_rank(a, names[j]))
+                break; /* equal: undeclared names keep the file's order */
+            const char *t = names[j];
+            names[j] = names[j - 1];
+            names[j - 1] = t;
+        }
     size_t len = 0;
     out[0] = '\0';
     for (size_t i = 0; i < n; i++) {

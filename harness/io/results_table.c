@@ -20,7 +20,7 @@ static cp_status read_candidate(cph_rctx *c, const json_t *cand, cph_result_item
         return cpl_jfail(j, CP_EFORMAT, "%s: expected an object, found %s", where,
                          cpl_json_type_name(cand));
     if ((st = cpl_jtext(j, cand, where, "algo", it->algo, sizeof it->algo)) ||
-        (st = cph_results_params_text(j, cand, where, it->params, sizeof it->params)))
+        (st = cph_results_params_text(j, cand, where, it->algo, it->params, sizeof it->params)))
         return st;
     if (cpl_jstr(j, cand, where, "status", &status))
         return cpl_jfail(j, CP_EFORMAT, "%s.status: expected \"ok\", \"disqualified\" or \"failed\"",
@@ -58,7 +58,7 @@ static cp_status read_entry(cph_rctx *c, const json_t *e, size_t i, int *first_c
     snprintf(sub, sizeof sub, "%s.choice", where);
     if ((st = cpl_jfield(j, e, where, "choice", JSON_OBJECT, 0, &choice)) ||
         (st = cpl_jtext(j, choice, sub, "algo", ch.algo, sizeof ch.algo)) ||
-        (st = cph_results_params_text(j, choice, sub, ch.params, sizeof ch.params)) ||
+        (st = cph_results_params_text(j, choice, sub, ch.algo, ch.params, sizeof ch.params)) ||
         (st = cpl_jfield(j, e, where, "candidates", JSON_ARRAY, 0, &cands)))
         return st;
     ch.median = NAN;

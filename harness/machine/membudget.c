@@ -14,9 +14,6 @@
 #include "algos/core/cpa.h"
 #include "harness/cli/cli.h"
 
-const char cph_membudget_help[] =
-    "  --max-memory B|P% refuse a layer whose buffers and workspace need more than B bytes\n"
-    "                    (suffix K, M or G) or P % of the machine's memory (default 50%)\n";
 
 static uint64_t add_sat(uint64_t a, uint64_t b) { return a > UINT64_MAX - b ? UINT64_MAX : a + b; }
 static uint64_t mul_sat(uint64_t a, uint64_t b) {

@@ -10,12 +10,7 @@
 #include <stdint.h>
 
 #include "convpick/convpick.h"
-#include "harness/select/select.h"
-
-/* Option code of --max-memory (beside the CPH_OPT_ selection codes). */
-enum { CPH_OPT_MAX_MEMORY = 1100 };
-#define CPH_MEMBUDGET_LONGOPT {"max-memory", required_argument, NULL, CPH_OPT_MAX_MEMORY}
-extern const char cph_membudget_help[];
+#include "harness/select/selection.h"
 
 #define CPH_MEM_DEFAULT_PERCENT 50 /* of the machine's memory */
 

@@ -1,5 +1,5 @@
 /* The shape-file reader: one layer a line, optional "name:" first, '#'
- * comments, blank lines ignored (syntax in select.h).
+ * comments, blank lines ignored (syntax in shapefile.h).
  *
  * Lines are read into a fixed buffer; a line that does not fit is reported as
  * an error rather than split, so a corrupt or binary file cannot turn into a
@@ -15,7 +15,8 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
-#include "harness/select/select.h"
+#include "harness/select/shapefile.h"
+#include "harness/select/shape_spec.h"
 #include "algos/core/cpa.h"
 
 #define CPH_SHAPE_LINE_MAX 1024 /* characters per line, without the newline */
@@ -23,13 +24,6 @@
  * generated lines (a pipe, /dev/urandom) ends in an error, not in minutes of
  * de-duplication (cph_layers_add is linear in the list). */
 #define CPH_SHAPE_FILE_MAX_LAYERS 10000
-
-static char *trim(char *t) {
-    while (*t && isspace((unsigned char)*t)) t++;
-    size_t len = strlen(t);
-    while (len && isspace((unsigned char)t[len - 1])) t[--len] = '\0';
-    return t;
-}
 
 /* Splits "name: spec" off; a name is [A-Za-z0-9_.-], 1..63 characters. */
 static cp_status split_name(char *line, const char *ctx, char **name, char **spec, char *msg,
@@ -39,7 +33,7 @@ static cp_status split_name(char *line, const char *ctx, char **name, char **spe
     *spec = line;
     if (!colon) return CP_OK;
     *colon = '\0';
-    char *nm = trim(line);
+    char *nm = cph_trim(line);
     if (!*nm) return cpa_fail(CP_EFORMAT, msg, cap, "%s: empty layer name before ':'", ctx);
     if (strlen(nm) >= sizeof(((cph_layer *)0)->name))
         return cpa_fail(CP_EFORMAT, msg, cap, "%s: layer name '%.20s...' is longer than %zu characters",
@@ -79,7 +73,7 @@ static cp_status load_stream(FILE *f, const char *path, cph_layer_list *out, cha
         }
         char *hash = strchr(line, '#');
         if (hash) *hash = '\0';
-        char *text = trim(line);
+        char *text = cph_trim(line);
         if (!*text) continue;
         char ctx[CPH_SHAPE_LINE_MAX / 2];
         snprintf(ctx, sizeof ctx, "%.400s:%ld", path, lineno);

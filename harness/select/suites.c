@@ -10,7 +10,7 @@
 #include <stdio.h>
 #include <string.h>
 
-#include "harness/select/select.h"
+#include "harness/select/suites.h"
 
 typedef struct {
     cph_layer_list *out;

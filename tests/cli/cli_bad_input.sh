@@ -19,7 +19,7 @@ check() {
   if [ "$rc" = 124 ]; then echo "FAIL $id: hung (killed after 20 s): $*"; fails=$((fails+1)); return; fi
   if [ "$rc" != "$want" ]; then echo "FAIL $id: exit $rc, expected $want: $*"; cat "$id.err"; fails=$((fails+1)); return; fi
   if ! grep -qF -- "$text" "$id.err"; then echo "FAIL $id: message lacks '$text': $*"; cat "$id.err"; fails=$((fails+1)); return; fi
-  if [ "$want" != 0 ] && [ "$(grep -cE 'error:|unknown option or missing value' "$id.err")" != 1 ]; then
+  if [ "$want" != 0 ] && [ "$(grep -cE '^convpick: error:|^convpick [a-z]+: ' "$id.err")" != 1 ]; then
     echo "FAIL $id: expected exactly one error line"; cat "$id.err"; fails=$((fails+1)); return; fi
   echo "ok $id"
 }
@@ -157,21 +157,21 @@ sys.exit(0 if any(math.isnan(v) for v in y) and any(math.isinf(v) for v in y) el
 check R7 1 "was left as it was" "${R[@]}" --input x.f32 --weights w.f32 --output /nonexistent/y.f32
 check R8 1 "adir: cannot rename the temporary file into place: Is a directory" "${R[@]}" --input x.f32 --weights w.f32 --output adir
 # ---- options
-check O1 2 "unknown option or missing value" verify --bogus
-check O2 2 "unknown option or missing value" verify --shape
+check O1 2 "convpick verify: unknown option '--bogus'" verify --bogus
+check O2 2 "convpick verify: --shape: missing value" verify --shape
 check O3 2 "unknown suite 'nope'" verify --suite nope
 check O4 2 "unknown algorithm 'nope'" verify --algo nope "${S[@]}"
-check O5 2 "--mode both2: expected xcorr, conv or both" verify --mode both2 "${S[@]}"
+check O5 2 "convpick verify: --flip: 'both2' is not no, yes or both" verify --flip both2 "${S[@]}"
 check O6 2 "no layers selected" verify
 check O7 2 "unknown command 'nosuchcmd'" nosuchcmd
 check O8 2 "tune: good.json exists: use --resume" tune "${S[@]}" --out good.json
 check O9 2 "tune: --out adir/ is a directory" tune "${S[@]}" --out adir/ --force
 check O10 2 "directory /nonexistent is not writable" tune "${S[@]}" --out /nonexistent/t.json
-check O11 2 "--budget 'abc': expected a number >= 0" tune "${S[@]}" --budget abc --out z.json
-check O12 2 "--threads: threads: 0 is outside" tune "${S[@]}" --threads 0 --out z.json
+check O11 2 "convpick tune: --budget: 'abc' is not a number of seconds >= 0" tune "${S[@]}" --budget abc --out z.json
+check O12 2 "convpick tune: --threads: 0 is outside" tune "${S[@]}" --threads 0 --out z.json
 check O13 2 "premature end of input" tune "${S[@]}" --out trunc.json --resume
 check O14 2 "cannot resume it here" tune "${S[@]}" --out dev.json --resume
-check O15 2 "--threads 'x'" bench "${S[@]}" --threads x --no-roofs
+check O15 2 "convpick bench: --threads: 'x' in 'x' is not a count" bench "${S[@]}" --threads x --no-roofs
 # ---- the memory budget (--max-memory), on all four commands
 # Worked by hand: input 64*224*224 + weights 64*64*9 + bias 64 + output 64*222*222
 # floats = 25609472 bytes; the reference is 2 doubles per output = 50466816 bytes.
@@ -180,7 +180,7 @@ check M1 2 "(tensors 25609472, reference 50466816, plan" verify --shape c=64,h=2
 check M2 2 "more than the memory budget of 1048576 bytes" tune --shape c=64,h=224,w=224,k=64,r=3 --max-memory 1M --out m.json
 check M3 2 "more than the memory budget of 1048576 bytes" bench --shape c=64,h=224,w=224,k=64,r=3 --max-memory 1M --no-roofs
 check M4 2 "the layer needs 424 bytes" "${R[@]}" --input x.f32 --weights w.f32 --output y.f32 --max-memory 100
-check M5 2 "--max-memory '0': must be more than 0 bytes" "${R[@]}" --input x.f32 --weights w.f32 --output y.f32 --max-memory 0
+check M5 2 "convpick run: --max-memory: '0': must be more than 0 bytes" "${R[@]}" --input x.f32 --weights w.f32 --output y.f32 --max-memory 0
 check M6 2 "a percentage must be 1..100" verify "${S[@]}" --max-memory 101%
 check M7 2 "expected BYTES (suffix K, M or G) or PERCENT%" verify "${S[@]}" --max-memory 12x
 # The default budget (half of memory) refuses a layer of ~34 TB at once.

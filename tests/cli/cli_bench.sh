@@ -11,9 +11,16 @@ shape=n=1,c=4,h=10,w=10,k=4,r=3,pad=1
 fast=(--no-roofs --max-seconds 0.05 --max-samples 40)
 
 # 1. A run with JSON: the document and every measurement.
-"$CLI" bench --shape "$shape" --shape n=1,c=4,h=8,w=8,k=8,r=1 --mode both --threads all \
+"$CLI" bench --shape "$shape" --shape n=1,c=4,h=8,w=8,k=8,r=1 --flip both --threads all \
   --target-ci 5 "${fast[@]}" --json "$tmp/b.json" > "$tmp/out.txt"
 grep -q "median_ms" "$tmp/out.txt" || { echo "FAIL: no table printed"; cat "$tmp/out.txt"; exit 1; }
+# A user's run prints the user's rows only: the project's targets need --targets
+# (common practice, no source: what the command's help promises).
+! grep -qE "blocked_peak|im2col_vs_sgemm|PASS|MISS|per layer" "$tmp/out.txt" ||
+  { echo "FAIL: targets printed without --targets"; cat "$tmp/out.txt"; exit 1; }
+# The orientation column says flip no / yes.
+grep -qE "^shape1 +no +[0-9]+ " "$tmp/out.txt" && grep -qE "^shape1 +yes +[0-9]+ " "$tmp/out.txt" ||
+  { echo "FAIL: no flip column with no/yes"; cat "$tmp/out.txt"; exit 1; }
 $PY - "$tmp/b.json" "$SRC/tests/data/bench_results.schema.json" <<'P'
 import json, sys
 import jsonschema
@@ -26,6 +33,7 @@ assert d["roofs"] is None  # --no-roofs
 t = d["settings"]["timing"]
 assert abs(t["target_rel_ci"] - 0.05) < 1e-15 and t["max_seconds"] == 0.05 and t["max_samples"] == 40
 assert d["settings"]["flipped"] == [False, True]
+assert d["summaries"] is None  # no --targets
 ok = [r for r in d["results"] if r["status"] == "ok"]
 assert ok, "no measurement"
 layers = {r["layer"] for r in d["results"]}
@@ -95,12 +103,12 @@ rc=$?; set -e
 grep -q "$tmp/no/such/b.json" "$tmp/err" || { echo "FAIL: error should name the file"; cat "$tmp/err"; exit 1; }
 [ ! -s "$tmp/out2" ] || { echo "FAIL: bench ran despite an unwritable --json"; exit 1; }
 # 5. --table: a 'chosen' row planned from a tuning table, SGEMM reference rows
-#    and the suite summaries, in the text and in the JSON.
+#    and (--targets) the project's performance targets, in the text and in the JSON.
 s3=n=1,c=64,h=8,w=8,k=64,r=3,pad=1
 "$CLI" tune --shape "$s3" --algo im2col_gemm,blocked --budget 0.2 --max-seconds 0.05 \
   --max-samples 20 --quiet --out "$tmp/t.json" > /dev/null
 "$CLI" bench --shape "$s3" --algo im2col_gemm,blocked,winograd_2x2_3x3 --table "$tmp/t.json" \
-  "${fast[@]}" --json "$tmp/s.json" > "$tmp/out3.txt"
+  "${fast[@]}" --targets --json "$tmp/s.json" > "$tmp/out3.txt"
 for w in " chosen " " sgemm " " sgemm_wino " "im2col_vs_sgemm" "chosen_vs_im2col"; do
   grep -q -- "$w" "$tmp/out3.txt" || { echo "FAIL: bench output lacks '$w'"; cat "$tmp/out3.txt"; exit 1; }
 done

@@ -83,17 +83,17 @@ grep -q "^trace direct.o1.flipidx refs " "$T/tr" || die "trace-only output: $(ca
 grep -q "^level L1 accesses " "$T/tr" || die "trace-only level line: $(cat "$T/tr")"
 
 S=n=1,c=2,h=8,w=8,k=2,r=3
-expect 2 "--cache-geometry: L1: line size 48 is not a power of two" -- \
+expect 2 "convpick cache: --cache-geometry: 'L1=32K:8:48': L1: line size 48 is not a power of two" -- \
     "$CLI" cache --shape $S --cache-geometry L1=32K:8:48
-expect 2 "--cache-geometry: L2: ways 'x'" -- "$CLI" cache --shape $S --cache-geometry L1=1K:2:64,L2=8K:x:64
-expect 2 "--max-accesses abc" -- "$CLI" cache --shape $S --max-accesses abc
-expect 2 "--mode" -- "$CLI" cache --shape $S --mode conv
-expect 2 "--trace-only direct.o9.xcorr: unknown variant" -- "$CLI" cache --shape $S --trace-only direct.o9.xcorr
+expect 2 "convpick cache: --cache-geometry: 'L1=1K:2:64,L2=8K:x:64': L2: ways 'x'" -- "$CLI" cache --shape $S --cache-geometry L1=1K:2:64,L2=8K:x:64
+expect 2 "convpick cache: --max-accesses: 'abc' is not a positive integer" -- "$CLI" cache --shape $S --max-accesses abc
+expect 2 "convpick cache: --flip: not taken" -- "$CLI" cache --shape $S --flip yes
+expect 2 "convpick cache: --trace-only: 'direct.o9.xcorr': unknown variant" -- "$CLI" cache --shape $S --trace-only direct.o9.xcorr
 expect 2 "no traced build" -- "$CLI" cache --shape $S --trace-only blocked.avx2.xcorr
-expect 2 "--family sideways: unknown family" -- "$CLI" cache --shape $S --family sideways
-expect 2 "--algo im2col_gemm: the cache study covers direct and blocked only" -- \
+expect 2 "convpick cache: --family: unknown family 'sideways'" -- "$CLI" cache --shape $S --family sideways
+expect 2 "convpick cache: --algo: 'im2col_gemm': the cache study covers direct and blocked only" -- \
     "$CLI" cache --shape $S --algo im2col_gemm
-expect 2 "--plain and --skip-kernel need --trace-only" -- "$CLI" cache --shape $S --plain
+expect 2 "convpick cache: --plain: needs --trace-only" -- "$CLI" cache --shape $S --plain
 expect 2 "" -- "$CLI" cache --bogus
 
 [[ $fails -eq 0 ]] || { echo "$fails failure(s)"; exit 1; }

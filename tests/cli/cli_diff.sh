@@ -77,8 +77,8 @@ grep -q "^faster .* im2col_gemm " "$tmp/out" || fail "stem/im2col_gemm should be
 grep -q "^unchanged .*mix .* direct " "$tmp/out" || fail "mix/direct should be unchanged"
 head -n 20 "$tmp/out" | grep -m1 -E '^(slower|faster|unchanged|inconclusive) ' | grep -q '^slower' \
   || fail "the worst row (slower) should come first"
-grep -q "only in BASE: mix xcorr t=1 im2col_gemm" "$tmp/out" || fail "unmatched BASE item not reported"
-grep -q "only in NEW: mix xcorr t=1 direct_renamed" "$tmp/out" || fail "unmatched NEW item not reported"
+grep -q "only in BASE: mix flip=no t=1 im2col_gemm" "$tmp/out" || fail "unmatched BASE item not reported"
+grep -q "only in NEW: mix flip=no t=1 direct_renamed" "$tmp/out" || fail "unmatched NEW item not reported"
 grep -q "summary: 3 compared: 1 slower, 0 inconclusive, 1 unchanged, 1 faster; 1 only in BASE, 1 only in NEW: REGRESSION" "$tmp/out" \
   || { cat "$tmp/out"; fail "summary line"; }
 
@@ -92,9 +92,9 @@ msg="$(xmllint --xpath 'string(//failure/@message)' "$tmp/junit.xml")"
 echo "$msg" | grep -qE '^slower: ratio 1\.(0[6-9]|1[0-4])[0-9]* \(Hodges-Lehmann [0-9.]+, 99\.0 % CI [0-9.]+\.\.[0-9.]+\), Mann-Whitney p = [0-9.e+-]+ ' \
   || fail "failure message lacks the figures: $msg"
 name="$(xmllint --xpath 'string(//testcase[failure]/@name)' "$tmp/junit.xml")"
-[ "$name" = "stem <&\"'> xcorr t=1 direct" ] || fail "testcase name not escaped and read back: '$name'"
+[ "$name" = "stem <&\"'> flip=no t=1 direct" ] || fail "testcase name not escaped and read back: '$name'"
 ls "$tmp" | grep -q '\.tmp' && fail "temporary report file left behind"
-grep -q '^| \*\*slower\*\* | stem <&"'"'"'> | xcorr | 1 | direct |' "$tmp/summary.md" || { cat "$tmp/summary.md"; fail "markdown row"; }
+grep -q '^| \*\*slower\*\* | stem <&"'"'"'> | no | 1 | direct |' "$tmp/summary.md" || { cat "$tmp/summary.md"; fail "markdown row"; }
 grep -q "1 only in BASE, 1 only in NEW" "$tmp/summary.md" || fail "markdown summary"
 
 # A file against itself: no regression, every pair unchanged or inconclusive.
@@ -104,6 +104,23 @@ grep -qE "^(slower|faster) " "$tmp/out" && fail "self diff found a change"
 for f in diff_base.bench.json diff_base.table.json; do
   expect 0 "" -- "$CLI" diff "$DATA/$f" "$DATA/$f"
 done
+
+# Parameters are printed in the algorithm's declaration order (the order
+# `convpick algos` lists them; ours, no outside source), whatever the order of
+# the keys in the file: here a result whose params object is written backwards.
+$PY - "$tmp/base.json" "$tmp/params.json" <<'PY'
+import json, sys
+d = json.load(open(sys.argv[1]))
+r = next(r for r in d["results"] if r["status"] == "ok")
+r["algo"] = "blocked"
+r["params"] = {"order": 0, "tile_isa": 1, "pb": 3, "cb": 4, "kb": 2}
+json.dump(d, open(sys.argv[2], "w"))
+PY
+want="$("$CLI" algos | awk '/^blocked /{b=1; next} b && /^[a-z]/{exit} b && NF > 2 && $1 != "parameters:" {printf "%s%s", s, $1; s=","}')"
+[ "$want" = "kb,cb,pb,tile_isa,order" ] || fail "blocked's declared parameters read as '$want'"
+expect 0 "" -- "$CLI" diff "$tmp/params.json" "$tmp/params.json"
+grep -qE " blocked +kb=2,cb=4,pb=3,tile_isa=1,order=0 " "$tmp/out" ||
+  { cat "$tmp/out"; fail "params not in declaration order"; }
 
 # A wider tolerance turns the +10 % into no regression; alpha is validated.
 expect 0 "" -- "$CLI" diff --tolerance 15 "$tmp/base.json" "$tmp/new.json"

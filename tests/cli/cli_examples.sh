@@ -43,18 +43,19 @@ checked=0
 for table in "$SRC/tests/data/tiny.table.json" "$tmp/fresh.table.json" "$tmp/demo.table.json"; do
   "$PY" "$SRC/examples/python/show_table.py" "$table" --choices > "$tmp/py.txt"
   [ -s "$tmp/py.txt" ] || { echo "FAIL: show_table.py printed nothing for $table"; exit 1; }
-  # name  "n,c,h,w,k,r,s,stride,pad"  mode  threads, for each entry
+  # name  "n,c,h,w,k,r,s,stride,pad"  flip  threads, for each entry
   "$PY" -c '
 import json, sys
 for e in json.load(open(sys.argv[1]))["entries"]:
     s = e["shape"]
     keys = "n c h w k r s stride_h stride_w pad_top pad_left pad_bottom pad_right dilation_h dilation_w groups"
-    print(e["name"], ",".join(str(s[k]) for k in keys.split()), "conv" if e["flipped"] else "xcorr", e["threads"])
+    # the table says "flipped": true|false; the example takes the flip word no|yes
+    print(e["name"], ",".join(str(s[k]) for k in keys.split()), "yes" if e["flipped"] else "no", e["threads"])
 ' "$table" > "$tmp/layers.txt"
-  while read -r name spec mode threads; do
+  while read -r name spec flip threads; do
     want="$(awk -v n="$name" '$1 == n { print $2, $3 }' "$tmp/py.txt")"
     for bin in "$tmp/ex/dispatch" "$tmp/dispatch_pc"; do
-      out="$(LD_LIBRARY_PATH="$libdir" "$bin" "$table" "$spec" "$mode" "$threads")" ||
+      out="$(LD_LIBRARY_PATH="$libdir" "$bin" "$table" "$spec" "$flip" "$threads")" ||
         { echo "FAIL: $bin on $name of $table"; exit 1; }
       got="$(sed -n 's/^choice: \([^ ]*\) \([^ ]*\) \([^ ]*\)$/\1 \2 \3/p' <<<"$out")"
       [ "$got" = "$want exact" ] ||

@@ -14,7 +14,7 @@ grep -q '^algorithm: direct$' <<<"$out" || fail "exact: $out"
 grep -q '^match: *exact$' <<<"$out" || fail "exact match: $out"
 grep -q 'another device' <<<"$out" || fail "device note missing: $out"
 
-j="$("$CLI" lookup "$T" --shape n=1,c=8,h=32,w=32,k=8,r=3,pad=1 --mode conv --threads 1 --json)"
+j="$("$CLI" lookup "$T" --shape n=1,c=8,h=32,w=32,k=8,r=3,pad=1 --flip yes --threads 1 --json)"
 $PY -c '
 import json, sys
 d = json.loads(sys.argv[1])
@@ -41,7 +41,7 @@ expect2 "$tmp/trunc.json:" "$tmp/trunc.json" --shape n=1,c=3,h=16,w=16,k=8,r=3
 sed "s/\"version\": 2,/\"version\": 3,/" "$T" > "$tmp/v3.json"
 expect2 "version: 3 is not supported" "$tmp/v3.json" --shape n=1,c=3,h=16,w=16,k=8,r=3
 expect2 "--shape" "$T" --shape n=1,c=3,h=16,w=16,k=8,r=3,bogus=2
-expect2 "--mode" "$T" --shape n=1,c=3,h=16,w=16,k=8,r=3 --mode sideways
+expect2 "convpick lookup: --flip: 'sideways' is not no or yes" "$T" --shape n=1,c=3,h=16,w=16,k=8,r=3 --flip sideways
 expect2 "expected one TABLE" --shape n=1,c=3,h=16,w=16,k=8,r=3
 "$CLI" lookup --help | grep -q -- "--strict-device" || fail "help"
 echo "cli_lookup: all checks passed"

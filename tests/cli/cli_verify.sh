@@ -41,15 +41,15 @@ grep -q 'FAIL' "$T/out" && die "verify --suite demo printed a FAIL"
 # --- help and usage errors --------------------------------------------------
 for cmd in verify run algos; do
     expect 0 "stdout:usage: convpick $cmd" -- "$CLI" "$cmd" --help
-    expect 2 "unknown option" -- "$CLI" "$cmd" --no-such-option
+    expect 2 "convpick $cmd: unknown option '--no-such-option'" -- "$CLI" "$cmd" --no-such-option
 done
 expect 0 "stdout:direct" -- "$CLI" algos
-expect 2 "--mode fft" -- "$CLI" verify --suite demo --mode fft
+expect 2 "convpick verify: --flip: 'fft' is not no, yes or both" -- "$CLI" verify --suite demo --flip fft
 expect 2 "unknown algorithm 'nosuch'" -- "$CLI" verify --suite demo --algo direct,nosuch
 expect 2 "unknown suite 'alexnet'" -- "$CLI" verify --suite alexnet
 expect 2 "--seed" -- "$CLI" verify --suite demo --seed -3
 expect 2 "no layers selected" -- "$CLI" verify
-expect 2 "unknown option" -- "$CLI" verify --shape
+expect 2 "convpick verify: --shape: missing value" -- "$CLI" verify --shape
 
 # --- every invalid-shape class through --shape ------------------------------
 S=c=3,h=8,w=8,k=4
@@ -73,7 +73,7 @@ expect 2 "missing required key 'r'" -- "$CLI" verify --shape $S
 printf '# layers\nok: c=3,h=8,w=8,k=4,r=3\n\nbad: c=3,h=8,w=8,k=4,r=3,stide=2\n' >"$T/s.txt"
 expect 2 "$T/s.txt:4: unknown key 'stide'" -- "$CLI" verify --shapes "$T/s.txt"
 printf 'a: c=3,h=8,w=8,k=4,r=3\nb: c=3,h=8,w=8,k=4,r=3\n' >"$T/dup.txt"
-expect 0 "stdout:x2" -- "$CLI" verify --shapes "$T/dup.txt" --algo direct --mode xcorr
+expect 0 "stdout:x2" -- "$CLI" verify --shapes "$T/dup.txt" --algo direct --flip no
 grep -q '^verify: 1 passed, 0 failed, 0 not applicable$' "$T/out" || die "duplicate shape verified twice"
 
 # --- run: round trip against SciPy ------------------------------------------
@@ -127,7 +127,8 @@ for mode in xcorr conv; do
     for algo in direct direct_flipidx; do
         [[ $algo == direct_flipidx && $mode == xcorr ]] && continue
         rm -f "$T/y.f32"
-        expect 0 "" -- "$CLI" run --shape $SHAPE --algo $algo --mode $mode \
+        flip=no; [[ $mode == conv ]] && flip=yes
+        expect 0 "" -- "$CLI" run --shape $SHAPE --algo $algo --flip $flip \
             --input "$T/x.f32" --weights "$T/w.f32" --bias "$T/b.f32" --output "$T/y.f32"
         compare "$T/y.f32" "$T/ref_$mode.f32" || die "run $algo $mode differs from SciPy"
     done
@@ -162,7 +163,7 @@ expect 2 "bias file $T/w.f32: size is 288 bytes, expected 24 bytes" -- \
 [[ -e $T/y2.f32 ]] && die "run wrote an output despite bad input"
 expect 2 "cannot open" -- "$CLI" run --shape $SHAPE --algo direct --input "$T/none.f32" \
     --weights "$T/w.f32" --output "$T/y2.f32"
-expect 2 "--output is required" -- "$CLI" run --shape $SHAPE --algo direct --input "$T/x.f32" \
+expect 2 "convpick run: --output: required" -- "$CLI" run --shape $SHAPE --algo direct --input "$T/x.f32" \
     --weights "$T/w.f32"
 expect 2 "direct_flipidx does not support" -- "$CLI" run --shape $SHAPE --algo direct_flipidx \
     --input "$T/x.f32" --weights "$T/w.f32" --output "$T/y2.f32"

@@ -12,7 +12,7 @@
 #include <cmocka.h>
 
 #include "harness/bench/bench_summary.h"
-#include "harness/select/select.h"
+#include "harness/select/shape_spec.h"
 
 /* Relative agreement to 1e-12 (the sums are of a handful of terms). */
 #define assert_near(a, b)                                                   \

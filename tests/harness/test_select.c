@@ -13,6 +13,7 @@
 
 #include <cmocka.h>
 
+#include "harness/cli/options.h"
 #include "harness/select/select.h"
 
 /* --- helpers -------------------------------------------------------------- */
@@ -458,6 +459,29 @@ static void test_suite_demo(void **state) {
 
 /* --- selection options ---------------------------------------------------- */
 
+/* Runs cph_opt_selection with stderr sent to a file; returns its result and
+ * leaves the one error line (without the newline) in line. */
+static int opt_sel(cph_selection *sel, int opt, const char *arg, char *line, size_t cap) {
+    fflush(stderr);
+    FILE *tmp = tmpfile();
+    assert_non_null(tmp);
+    const int saved = dup(fileno(stderr));
+    assert_true(saved >= 0);
+    assert_true(dup2(fileno(tmp), fileno(stderr)) >= 0);
+    const int rc = cph_opt_selection("test", sel, opt, arg);
+    fflush(stderr);
+    assert_true(dup2(saved, fileno(stderr)) >= 0);
+    close(saved);
+    rewind(tmp);
+    line[0] = '\0';
+    if (fgets(line, (int)cap, tmp)) line[strcspn(line, "\n")] = '\0';
+    char extra[64];
+    /* common practice, no source: one line per error, never two */
+    assert_null(fgets(extra, sizeof extra, tmp));
+    fclose(tmp);
+    return rc;
+}
+
 static void test_selection(void **state) {
     (void)state;
     cph_selection sel;
@@ -467,30 +491,26 @@ static void test_selection(void **state) {
     static const cp_flip both[] = {CP_XCORR, CP_CONV};
     /* Nothing selected: an error. */
     assert_int_equal(cph_selection_finish(&sel, both, 2, msg, sizeof msg), CP_EINVAL);
-    assert_int_equal(cph_selection_option(&sel, CPH_OPT_SHAPE, "c=3,h=8,w=8,k=4,r=3", msg,
-                                          sizeof msg), CP_OK);
-    assert_int_equal(cph_selection_option(&sel, CPH_OPT_SHAPE, "c=3,h=8,w=8,k=4,r=3", msg,
-                                          sizeof msg), CP_OK);
+    assert_int_equal(opt_sel(&sel, CPH_OPT_SHAPE, "c=3,h=8,w=8,k=4,r=3", msg, sizeof msg), 0);
+    assert_int_equal(opt_sel(&sel, CPH_OPT_SHAPE, "c=3,h=8,w=8,k=4,r=3", msg, sizeof msg), 0);
     assert_int_equal(sel.layers.n, 1);
     assert_int_equal(sel.layers.v[0].count, 2);
-    assert_int_not_equal(cph_selection_option(&sel, CPH_OPT_SHAPE, "c=3,h=8", msg, sizeof msg),
-                         CP_OK);
-    assert_non_null(strstr(msg, "--shape"));
-    assert_int_equal(cph_selection_option(&sel, CPH_OPT_SUITE, "demo", msg, sizeof msg), CP_OK);
+    assert_int_equal(opt_sel(&sel, CPH_OPT_SHAPE, "c=3,h=8", msg, sizeof msg), 2);
+    assert_non_null(strstr(msg, "convpick test: --shape: 'c=3,h=8': missing required key 'w'"));
+    assert_int_equal(opt_sel(&sel, CPH_OPT_SUITE, "demo", msg, sizeof msg), 0);
     assert_int_equal(sel.layers.n, 8);
-    assert_int_not_equal(cph_selection_option(&sel, CPH_OPT_ALGO, "direct,nosuch", msg,
-                                              sizeof msg), CP_OK);
-    assert_non_null(strstr(msg, "'nosuch'"));
+    assert_int_equal(opt_sel(&sel, CPH_OPT_ALGO, "direct,nosuch", msg, sizeof msg), 2);
+    assert_non_null(strstr(msg, "convpick test: --algo: unknown algorithm 'nosuch'"));
     sel.nalgos = 0;
-    assert_int_equal(cph_selection_option(&sel, CPH_OPT_ALGO, "direct,direct", msg, sizeof msg),
-                     CP_OK);
+    assert_int_equal(opt_sel(&sel, CPH_OPT_ALGO, "direct,direct", msg, sizeof msg), 0);
     assert_int_equal(sel.nalgos, 1);
-    assert_int_not_equal(cph_selection_option(&sel, CPH_OPT_FLIP, "fft", msg, sizeof msg), CP_OK);
-    assert_int_equal(cph_selection_option(&sel, CPH_OPT_FLIP, "conv", msg, sizeof msg), CP_OK);
-    assert_int_not_equal(cph_selection_option(&sel, CPH_OPT_SEED, "-1", msg, sizeof msg), CP_OK);
-    assert_int_not_equal(cph_selection_option(&sel, CPH_OPT_SEED, "12x", msg, sizeof msg), CP_OK);
-    assert_int_equal(cph_selection_option(&sel, CPH_OPT_SEED, "18446744073709551615", msg,
-                                          sizeof msg), CP_OK);
+    assert_int_equal(opt_sel(&sel, CPH_OPT_FLIP, "conv", msg, sizeof msg), 2);
+    assert_string_equal(msg, "convpick test: --flip: 'conv' is not no, yes or both");
+    assert_int_equal(opt_sel(&sel, CPH_OPT_FLIP, "yes", msg, sizeof msg), 0);
+    assert_int_equal(opt_sel(&sel, CPH_OPT_SEED, "-1", msg, sizeof msg), 2);
+    assert_int_equal(opt_sel(&sel, CPH_OPT_SEED, "12x", msg, sizeof msg), 2);
+    assert_string_equal(msg, "convpick test: --seed: '12x' is not an integer in [0, 2^64)");
+    assert_int_equal(opt_sel(&sel, CPH_OPT_SEED, "18446744073709551615", msg, sizeof msg), 0);
     assert_true(sel.seed == UINT64_MAX);
     assert_int_equal(cph_selection_finish(&sel, both, 2, msg, sizeof msg), CP_OK);
     assert_int_equal(sel.nflips, 1);
@@ -498,12 +518,18 @@ static void test_selection(void **state) {
     assert_int_equal(sel.nalgos, 1);
     cph_selection_free(&sel);
 
-    /* Defaults: every registered algorithm, the command's modes. */
+    /* Defaults: every registered algorithm, the command's flips. */
     cph_selection_init(&sel);
-    assert_int_equal(cph_selection_option(&sel, CPH_OPT_SUITE, "demo", msg, sizeof msg), CP_OK);
+    assert_int_equal(opt_sel(&sel, CPH_OPT_SUITE, "demo", msg, sizeof msg), 0);
+    assert_int_equal(opt_sel(&sel, CPH_OPT_FLIP, "both", msg, sizeof msg), 0);
+    assert_int_equal(sel.nflips, 2);
+    sel.nflips = 0;
     assert_int_equal(cph_selection_finish(&sel, both, 2, msg, sizeof msg), CP_OK);
     assert_int_equal(sel.nalgos, cp_algo_count());
     assert_int_equal(sel.nflips, 2);
+    /* The words human output prints for the orientations. */
+    assert_string_equal(cph_flip_word(CP_XCORR), "no");
+    assert_string_equal(cph_flip_word(CP_CONV), "yes");
     cph_selection_free(&sel);
 }
 

@@ -1,0 +1,100 @@
+/* The results document of bench (--json FILE, written atomically), format
+ * "convpick-bench-results" version 2 (version 1 files still read:
+ * harness/io/results_migrate.c).  The shared objects (shape, flipped, params,
+ * timing settings, device) are spelled as in tuning tables
+ * (docs/table-format.md, "Shared objects"):
+ *   {
+ *     "format": "convpick-bench-results", "version": 2,
+ *     "created": "2026-12-01T22:00:00Z",
+ *     "convpick": {"version": "0.1.0", "git": "..."},
+ *     "command_line": ["bench", ...],
+ *     "device": {device object + "algorithm_caches", "llc_total_bytes", "roofs"},
+ *     "roofs": null | {"peak_1core_gflops", "peak_all_gflops", "bw_1core_gbs",
+ *                      "bw_all_gbs", "ridge_1core", "ridge_all", "cores_used",
+ *                      "budget_seconds"},
+ *     "settings": {"timing": {timing settings object},
+ *                  "threads": [1, 2], "flipped": [false, true], "seed": 1,
+ *                  "caches": {"l1d", "l2", "l3", "line"}},
+ *     "roofs_end": null | {the same, measured after the rows},
+ *     "results": [
+ *       {"layer": "conv1", "layer_count": 1, "shape": {shape object},
+ *        "flipped": false, "threads": 1, "pinned": true, "algo": "direct",
+ *        "kind": "algorithm" | "reference" | "chosen",
+ *        "chosen_algo": "blocked" (chosen rows), "flops_performed": 2mnk (SGEMM rows),
+ *        "status": "ok" | "unsupported" | "error", "reason": "..." (not ok),
+ *        "params": {"kb": 64}, "params_text": "kb=64", "flops": 2.3e9,
+ *        "gflops": 41.2, "peak_gflops": 90.1 | null, "peak_fraction": 0.457 | null,
+ *        "measurement": {measurement object, report_json.h}}      (ok only)
+ *     ],
+ *     "summaries": [{"id": "blocked_peak", "target_text", "comparison": ">=",
+ *                    "target": 0.7, "value", "unit", "verdict": "pass"|"miss"|"n/a",
+ *                    "missed_by": relative | null, "threads", "base_threads",
+ *                    "flipped", "note", "layers": [{"layer", "value", "verdict"?}]}]
+ *   }
+ * Fields are only ever added within a version; readers ignore unknown keys.
+ * The same structure as a JSON Schema: tests/data/bench_results.schema.json
+ * (tests/cli_bench.sh validates every file it makes against it). */
+#define _POSIX_C_SOURCE 200809L
+#include <stdio.h>
+#include <string.h>
+#include <time.h>
+
+#include "harness/bench/bench_state.h"
+#include "harness/io/report_json.h"
+
+static const char *kind_name(cph_row_kind k) {
+    return k == CPH_ROW_ALGO ? "algorithm" : k == CPH_ROW_CHOSEN ? "chosen" : "reference";
+}
+
+json_t *cph_bench_row_json(const cph_bench_row *x, const char *status) {
+    json_t *o = json_pack("{s:s, s:i, s:o, s:o, s:i, s:b, s:s, s:s, s:s, s:o}", "layer",
+                          x->L->name, "layer_count", x->L->count, "shape",
+                          cph_json_shape(&x->L->shape), "flipped", cph_json_flipped(x->flip),
+                          "threads",
+                          x->threads, "pinned", x->pinned, "algo", x->name, "kind",
+                          kind_name(x->kind), "status", status, "flops",
+                          cph_json_number(cp_shape_flops(&x->L->shape)));
+    if (o && x->kind == CPH_ROW_CHOSEN) json_object_set_new(o, "chosen_algo", json_string(x->algo));
+    return o;
+}
+
+static json_t *roofs_json(const cph_bench_state *r, int end) {
+    if (end ? !r->have_roofs_end : !r->have_roofs) return json_null();
+    const cph_roofs *f = end ? &r->roofs_end : &r->roofs;
+    return json_pack("{s:o, s:o, s:o, s:o, s:o, s:o, s:i, s:o}", "peak_1core_gflops",
+                     cph_json_number(f->peak_1core_gflops), "peak_all_gflops",
+                     cph_json_number(f->peak_all_gflops), "bw_1core_gbs",
+                     cph_json_number(f->bw_1core_gbs), "bw_all_gbs",
+                     cph_json_number(f->bw_all_gbs), "ridge_1core",
+                     cph_json_number(f->ridge_1core), "ridge_all", cph_json_number(f->ridge_all),
+                     "cores_used", f->cores_used, "budget_seconds",
+                     json_real(CPH_BENCH_ROOF_SECONDS));
+}
+
+json_t *cph_bench_document(const cph_bench_state *r, const cph_bench_cfg *c, int argc, char **argv,
+                        json_t *summaries) {
+    char when[32] = "";
+    const time_t now = time(NULL);
+    struct tm tm;
+    if (gmtime_r(&now, &tm)) strftime(when, sizeof when, "%Y-%m-%dT%H:%M:%SZ", &tm);
+    json_t *cmd = json_array(), *thr = json_array(), *flips = json_array();
+    for (int i = 0; i < argc; i++) json_array_append_new(cmd, json_string(argv[i]));
+    for (int i = 0; i < r->nthreads; i++) json_array_append_new(thr, json_integer(r->threads[i]));
+    for (int i = 0; i < c->sel.nflips; i++)
+        json_array_append_new(flips, cph_json_flipped(c->sel.flips[i]));
+    json_t *settings = json_pack(
+        "{s:o, s:o, s:o, s:I, s:{s:I, s:I, s:I, s:I}}", "timing",
+        cph_json_timing_opts(&c->timing), "threads", thr, "flipped", flips, "seed",
+        (json_int_t)c->sel.seed, "caches", "l1d", (json_int_t)r->caches.l1d, "l2",
+        (json_int_t)r->caches.l2, "l3", (json_int_t)r->caches.l3, "line",
+        (json_int_t)r->caches.line);
+    json_t *device = cph_machine_to_json(&r->m, NULL);
+    json_t *doc = json_pack(
+        "{s:s, s:i, s:s, s:{s:s, s:s}, s:o, s:o, s:o, s:o, s:O, s:o}", "format", CPH_BENCH_FORMAT,
+        "version", CPH_BENCH_VERSION, "created", when, "convpick", "version", CONVPICK_VERSION,
+        "git", CP_GIT_REV, "command_line", cmd, "device", device ? device : json_null(), "roofs",
+        roofs_json(r, 0), "settings", settings, "results", r->results, "summaries",
+        summaries ? summaries : json_null());
+    if (doc) json_object_set_new(doc, "roofs_end", roofs_json(r, 1));
+    return doc;
+}

@@ -1,0 +1,61 @@
+/* What the parts of one bench run share (internal to harness/bench). */
+#ifndef CONVPICK_BENCH_STATE_H
+#define CONVPICK_BENCH_STATE_H
+
+#include <jansson.h>
+
+#include "convpick/table.h"
+#include "harness/bench/bench.h"
+#include "harness/bench/bench_summary.h"
+#include "harness/machine/machine.h"
+
+#define CPH_BENCH_MAX_THREADS 256
+/* Roofs are the best of several runs: on a shared machine more runs give
+ * more chances of an undisturbed one.  They are measured again at the end,
+ * and a disagreement of more than 10 % is reported (the machine's load
+ * changed during the run). */
+#define CPH_BENCH_ROOF_SECONDS 1.0
+#define CPH_BENCH_ROOF_DRIFT 0.10
+
+typedef struct cph_bench_state {
+    cph_machine m;
+    cp_cache_sizes caches;
+    cph_roofs roofs;
+    int have_roofs;
+    cph_roofs roofs_end; /* measured again after the rows */
+    int have_roofs_end;
+    int threads[CPH_BENCH_MAX_THREADS];
+    int nthreads;
+    json_t *results;     /* NULL without a results document */
+    cph_bench_recs recs; /* every measured row, for the targets */
+    cp_table *table;     /* the table whose choice is timed, or NULL */
+    int oom;
+    int failures;
+    int name_w, algo_w;
+} cph_bench_state;
+
+/* Where one row stands: the layer, flip, thread count and what is timed. */
+typedef struct cph_bench_row {
+    const cph_layer *L;
+    size_t li;
+    cp_flip flip;
+    int threads, pinned;
+    cph_row_kind kind;
+    const char *name; /* printed in the algo column */
+    const char *algo; /* the algorithm behind the row, "" for SGEMM rows */
+} cph_bench_row;
+
+/* bench_rows.c: the table's header line, then one layer at one thread count
+ * (tensors once, then every flip x algorithm and the reference rows); -1
+ * when the tensors cannot be allocated. */
+void cph_bench_print_header(const cph_bench_state *r);
+int cph_bench_layer(cph_bench_state *r, const cph_bench_cfg *c, size_t li, int threads,
+                    int pinned, const cp_exec *exec);
+
+/* bench_doc.c: one row's JSON object (status "ok", "unsupported" or "error"),
+ * and the whole results document (summaries: NULL or stolen). */
+json_t *cph_bench_row_json(const cph_bench_row *x, const char *status);
+json_t *cph_bench_document(const cph_bench_state *r, const cph_bench_cfg *c, int argc,
+                           char **argv, json_t *summaries);
+
+#endif

@@ -1,0 +1,33 @@
+/* The selection a command runs on (selection.h). */
+#include "harness/select/selection.h"
+#include "algos/core/cpa.h"
+
+#include <string.h>
+
+void cph_selection_init(cph_selection *sel) {
+    memset(sel, 0, sizeof *sel);
+    sel->seed = 1;
+}
+
+void cph_selection_free(cph_selection *sel) { cph_layers_free(&sel->layers); }
+
+cp_status cph_selection_finish(cph_selection *sel, const cp_flip *default_flips, int ndefault,
+                               char *msg, size_t cap) {
+    if (sel->nalgos == 0) {
+        size_t n = cp_algo_count();
+        if (n > CPH_SELECTION_MAX_ALGOS) n = CPH_SELECTION_MAX_ALGOS;
+        for (size_t i = 0; i < n; i++) sel->algos[i] = cp_algo_at(i);
+        sel->nalgos = n;
+    }
+    if (sel->nflips == 0) {
+        if (ndefault > 2) ndefault = 2;
+        for (int i = 0; i < ndefault; i++) sel->flips[i] = default_flips[i];
+        sel->nflips = ndefault;
+    }
+    if (sel->layers.n == 0)
+        return cpa_fail(CP_EINVAL, msg, cap,
+                        "no layers selected (give --shape, --shapes or --suite)");
+    return CP_OK;
+}
+
+const char *cph_flip_word(cp_flip f) { return f == CP_CONV ? "yes" : "no"; }
