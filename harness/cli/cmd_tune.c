@@ -9,9 +9,13 @@
 
 static void usage(FILE *f) {
     fputs("usage: convpick tune SELECTION --out FILE [OPTIONS]\n\n"
-          "Times every algorithm that supports each layer (and a budgeted search over its\n"
-          "parameters), checks each candidate against the fp64 oracle once, picks the fastest\n"
-          "accurate one and writes the tuning table after every layer.\n\n",
+          "Checks every algorithm that supports each layer (and a budgeted search over its\n"
+          "parameters) against the fp64 oracle once, then races the accurate ones on trials\n"
+          "(each a fresh plan, freshly placed buffers, one warm-up run and a short batch of\n"
+          "samples), run interleaved in rounds in a shuffled order; a candidate slower than\n"
+          "the leader with confidence leaves the race.  The choice, its runner-up and the\n"
+          "margin with its interval come from the paired trials.  The tuning table is\n"
+          "written after every layer.\n\n",
           f);
     cph_help_selection(f, "no");
     fputs("options:\n"
@@ -20,12 +24,22 @@ static void usage(FILE *f) {
           "                      with other settings (default: refuse an existing FILE)\n"
           "  --force             replace an existing FILE (default: refuse)\n"
           "  --budget SECONDS    time per layer x flip x threads for all candidates\n"
-          "                      (default: 10); every algorithm's defaults are measured even\n"
-          "                      past it\n"
+          "                      (default: 10); every algorithm's defaults are checked and\n"
+          "                      raced at least one round even past it\n"
+          "  --trial-samples N   timed samples per trial, after one warm-up run (default: 5)\n"
+          "  --min-rounds N      rounds before the race drops anything (default: 6)\n"
+          "  --max-rounds N      rounds at most (default: 40)\n"
+          "  --alpha A           level of the race's drop test and of the margin's interval\n"
+          "                      (1 - A) (default: 0.05)\n"
+          "  --no-place          trial buffers page-aligned instead of at random offsets\n"
+          "                      (default: random offsets)\n"
           "  --max-rel-err X     disqualify candidates whose error exceeds X (default: 1e-4)\n"
           "  --max-candidates N  parameter sets per algorithm (default: 16)\n",
           f);
     cph_help_timing(f, 1.0);
+    fputs("                      (in tune --max-seconds caps one trial and --max-samples\n"
+          "                      lowers --trial-samples; --target-ci is not used)\n",
+          f);
     cph_help_max_memory(f);
     fputs("  --quiet             no progress on stderr (default: progress)\n", f);
     cph_help_end(f, "0 done, 1 a layer had no qualifying candidate, 2 bad usage or input,\n"
@@ -39,7 +53,10 @@ typedef struct tune_cli {
 
 /* Returns -1 to go on, else the exit code (the error already reported). */
 static int parse(int argc, char **argv, tune_cli *t) {
-    enum { OPT_OUT = 1, OPT_RESUME, OPT_FORCE, OPT_BUDGET, OPT_MAXERR, OPT_MAXC, OPT_QUIET };
+    enum {
+        OPT_OUT = 1, OPT_RESUME, OPT_FORCE, OPT_BUDGET, OPT_MAXERR, OPT_MAXC, OPT_QUIET,
+        OPT_TRIAL_SAMPLES, OPT_MIN_ROUNDS, OPT_MAX_ROUNDS, OPT_ALPHA, OPT_NO_PLACE
+    };
     static const struct option longopts[] = {
         CPH_OPTS_SELECTION,
         CPH_OPTS_TIMING,
@@ -50,6 +67,11 @@ static int parse(int argc, char **argv, tune_cli *t) {
         {"max-rel-err", required_argument, NULL, OPT_MAXERR},
         {"max-candidates", required_argument, NULL, OPT_MAXC},
         {"quiet", no_argument, NULL, OPT_QUIET},
+        {"trial-samples", required_argument, NULL, OPT_TRIAL_SAMPLES},
+        {"min-rounds", required_argument, NULL, OPT_MIN_ROUNDS},
+        {"max-rounds", required_argument, NULL, OPT_MAX_ROUNDS},
+        {"alpha", required_argument, NULL, OPT_ALPHA},
+        {"no-place", no_argument, NULL, OPT_NO_PLACE},
         CPH_OPT_MAX_MEMORY_ENTRY,
         CPH_OPTS_HELP_END,
     };
@@ -78,6 +100,30 @@ static int parse(int argc, char **argv, tune_cli *t) {
             rc = cph_opt_int("tune", "--max-candidates", optarg, 1, 64, "an integer in [1, 64]",
                              &n);
             o->max_candidates = (int)n;
+            break;
+        case OPT_TRIAL_SAMPLES:
+            rc = cph_opt_int("tune", "--trial-samples", optarg, 1, 1000,
+                             "an integer in [1, 1000]", &n);
+            o->timing.min_samples = o->timing.max_samples = (size_t)n;
+            break;
+        case OPT_MIN_ROUNDS:
+            rc = cph_opt_int("tune", "--min-rounds", optarg, 1, CPH_PAIRED_MAX,
+                             "an integer in [1, 400]", &n);
+            o->race.min_rounds = (size_t)n;
+            break;
+        case OPT_MAX_ROUNDS:
+            rc = cph_opt_int("tune", "--max-rounds", optarg, 1, CPH_PAIRED_MAX,
+                             "an integer in [1, 400]", &n);
+            o->race.max_rounds = (size_t)n;
+            break;
+        case OPT_ALPHA:
+            rc = cph_opt_double("tune", "--alpha", optarg, 1e-6, 0.5, "a level in (0, 0.5]",
+                                &o->race.alpha);
+            break;
+        case OPT_NO_PLACE: o->place = 0; break;
+        case CPH_OPT_TARGET_CI:
+            rc = cph_opt_error("tune", "--target-ci",
+                               "not used by tune (a trial is a fixed batch: --trial-samples)");
             break;
         default: rc = cph_opt_shared(&dest, opt, optarg);
         }

@@ -151,33 +151,44 @@ static int tune_one(tune_state *t, const cph_layer *L, cp_flip flip, int threads
     const cph_tune_request rq = {&t->o, L, flip, threads, sel->algos, sel->nalgos,
                                  &t->caches, exec, &stop_requested, on_candidate, &pc};
     cp_status st = cph_tune_layer(&rq, &e, &rep, msg, sizeof msg);
-    if (rep.interrupted) return 1;
+    if (rep.interrupted) {
+        cph_tune_report_free(&rep);
+        return 1;
+    }
     t->measured_work++;
     t->measured_seconds += rep.seconds;
     if (st != CP_OK) {
         cph_progress_note(&t->pr, "[layer %d/%d] %s: %s", t->done_work, t->nwork, lname, msg);
         t->failures++;
+        cph_tune_report_free(&rep);
         return 0;
     }
-    char note[160];
-    snprintf(note, sizeof note,
-             "tried %d of %d planned candidates in %.1f s: %d measured, %d skipped by "
+    char note[2][200];
+    snprintf(note[0], sizeof note[0],
+             "tried %d of %d planned candidates in %.1f s: %d raced, %d skipped by "
              "the budget, %d disqualified, %d failed, %d algorithms not applicable",
              rep.measured + rep.disqualified, rep.planned, rep.seconds, rep.measured,
              rep.skipped, rep.disqualified, rep.failed, rep.unsupported);
-    const char *notes[1] = {note};
-    cph_entry_notes en = {NULL, rep.planned, rep.measured, rep.skipped, rep.disqualified,
-                          rep.failed, rep.unsupported, rep.seconds, notes, 1};
+    snprintf(note[1], sizeof note[1], "race: %zu rounds of trials, %d dropped, ended by %s",
+             rep.rounds, rep.dropped, rep.ended_by ? rep.ended_by : "-");
+    const char *notes[2] = {note[0], note[1]};
+    const char **cnotes = calloc(e.ncandidates ? e.ncandidates : 1, sizeof *cnotes);
+    for (size_t i = 0; cnotes && i < e.ncandidates; i++) cnotes[i] = rep.candidate_notes[i];
+    cph_entry_notes en = {cnotes, rep.planned, rep.measured, rep.skipped, rep.disqualified,
+                          rep.failed, rep.unsupported, rep.seconds, notes, 2};
     st = cph_table_doc_put(t->doc, &e, &en, msg, sizeof msg);
+    free(cnotes);
+    cph_tune_report_free(&rep);
     if (st == CP_OK) st = cph_table_doc_write(t->doc, t->job->out, msg, sizeof msg);
     char pbuf[128];
     cp_params_format(e.algo, &e.params, pbuf, sizeof pbuf);
     if (st == CP_OK)
-        cph_progress_note(&t->pr, "[layer %d/%d] %s: %s%s%s%s %.3f ms, runner-up %s %+.1f %%%s",
+        cph_progress_note(&t->pr,
+                          "[layer %d/%d] %s: %s%s%s%s %.3f ms, runner-up %s %+.1f %% %s (%zu rounds)",
                           t->done_work, t->nwork, lname, e.algo->name, pbuf[0] ? " (" : "", pbuf,
                           pbuf[0] ? ")" : "", e.timing.median * 1e3,
                           e.runner_up ? e.runner_up->name : "none", e.margin * 100.0,
-                          e.margin_in_noise ? " (in the noise)" : "");
+                          e.margin_in_noise ? "in the noise" : "confident", rep.rounds);
     cph_tune_entry_free(&e);
     if (st != CP_OK) {
         cph_progress_done(&t->pr);

@@ -27,6 +27,12 @@ void cph_tune_defaults(cph_tune_opts *o) {
     o->place = 1;
 }
 
+void cph_tune_report_free(cph_tune_report *r) {
+    if (!r) return;
+    free(r->candidate_notes);
+    r->candidate_notes = NULL;
+}
+
 void cph_tune_entry_free(cp_table_entry *e) {
     if (!e) return;
     for (size_t i = 0; i < e->ncandidates; i++) free(e->candidates[i].samples);
@@ -108,6 +114,18 @@ static int race_trial(void *arg, size_t cand, size_t round, double *median, doub
                          wall, why, sizeof why);
 }
 
+/* What the race did with one candidate, for the table's notes. */
+static void race_note(const cph_race_cand *k, char *buf, size_t cap) {
+    switch (k->state) {
+    case CPH_RACE_IN: snprintf(buf, cap, "raced %zu rounds", k->ntrials); break;
+    case CPH_RACE_DROPPED:
+        snprintf(buf, cap, "dropped after round %zu: %.3fx the leader, p = %.2g", k->left_round,
+                 k->drop_ratio, k->drop_p);
+        break;
+    case CPH_RACE_FAILED: snprintf(buf, cap, "failed its trial in round %zu", k->left_round); break;
+    }
+}
+
 /* A candidate's timing from its trial medians; the samples it keeps are
  * those medians. */
 static int timing_from_trials(const cph_race_cand *k, cp_candidate *c) {
@@ -182,7 +200,8 @@ cp_status cph_tune_layer(const cph_tune_request *rq, cp_table_entry *entry,
     cands = calloc(np, sizeof *cands);
     who = calloc(np, sizeof *who);
     slot_of = calloc(np, sizeof *slot_of);
-    if (!cands || !who || !slot_of) {
+    report->candidate_notes = calloc(np, sizeof *report->candidate_notes);
+    if (!cands || !who || !slot_of || !report->candidate_notes) {
         st = cpa_fail(CP_ENOMEM, msg, cap, "%s: out of memory for candidates", layer->name);
         goto out;
     }
@@ -215,6 +234,8 @@ cp_status cph_tune_layer(const cph_tune_request *rq, cp_table_entry *entry,
             break;
         case TRY_DISQUALIFIED:
             report->disqualified++;
+            snprintf(report->candidate_notes[nc], sizeof report->candidate_notes[nc],
+                     "disqualified: error %.3g above %.3g", cands[nc].rel_err, o->max_rel_err);
             nc++;
             break;
         case TRY_QUALIFIED:
@@ -254,6 +275,7 @@ cp_status cph_tune_layer(const cph_tune_request *rq, cp_table_entry *entry,
         if (k->state == CPH_RACE_FAILED && k->ntrials == 0) report->failed++;
         if (k->state == CPH_RACE_DROPPED) report->dropped++;
         if (k->ntrials > 0) report->measured++;
+        race_note(k, report->candidate_notes[slot_of[q]], sizeof report->candidate_notes[0]);
         if (timing_from_trials(k, &cands[slot_of[q]]) != 0) {
             st = cpa_fail(CP_ENOMEM, msg, cap, "%s: out of memory", layer->name);
             goto out;

@@ -69,7 +69,13 @@ typedef struct cph_tune_report {
     size_t rounds;     /* rounds of trials raced */
     int dropped;       /* candidates dropped by the race */
     const char *ended_by; /* why the race ended (race.h) */
+    /* One line per candidate of the entry (same order): what the race did
+     * with it ("raced 12 rounds", "dropped after round 6: 1.31x the leader,
+     * p = 0.0039", "disqualified: ...").  Owned: cph_tune_report_free. */
+    char (*candidate_notes)[96];
 } cph_tune_report;
+
+void cph_tune_report_free(cph_tune_report *r);
 
 /* One layer to tune and everything the tuner may use for it. */
 typedef struct cph_tune_request {

@@ -37,7 +37,7 @@ libdir="$(pkg-config --variable=libdir convpick)"
 
 "$BUILD/tests/test_table" --write-sample "$tmp/fresh.table.json"
 # And a real one: convpick tune on the demo suite (tiny budget).
-"$CLI" tune --suite demo --budget 0.2 --max-seconds 0.05 --target-ci 10 --quiet --out "$tmp/demo.table.json"
+"$CLI" tune --suite demo --budget 0.2 --max-seconds 0.05 --quiet --out "$tmp/demo.table.json"
 
 checked=0
 for table in "$SRC/tests/data/tiny.table.json" "$tmp/fresh.table.json" "$tmp/demo.table.json"; do

@@ -177,6 +177,7 @@ static void tune_and_check(double budget_ticks, const expected *x) {
     }
     assert_true(t.rep.seconds == x->spent_ticks * TICK);
     cph_tune_entry_free(&t.e);
+    cph_tune_report_free(&t.rep);
 }
 
 static void test_tune_layer_invented_clock(void **state) {
@@ -194,6 +195,19 @@ static void test_tune_layer_invented_clock(void **state) {
      * the margin is confident. */
     const expected x = {4, 0, 3, 6, "one left", 2, 1.5, 0, 519};
     tune_and_check(1e6, &x);
+    /* The notes say what the race did with each candidate, in the entry's
+     * candidate order: quick(4), steady, sloppy, quick(3), quick(2). */
+    tuned t;
+    tune_invented(1e6, 1, NULL, &t);
+    assert_int_equal(t.e.ncandidates, 5);
+    assert_string_equal(t.rep.candidate_notes[0],
+                        "dropped after round 6: 2.000x the leader, p = 0.016");
+    /* sloppy's error is whatever one wrong output gives: only the form. */
+    assert_memory_equal(t.rep.candidate_notes[2], "disqualified: error ", 20);
+    assert_non_null(strstr(t.rep.candidate_notes[2], " above 0.0001"));
+    assert_string_equal(t.rep.candidate_notes[4], "raced 6 rounds");
+    cph_tune_entry_free(&t.e);
+    cph_tune_report_free(&t.rep);
 }
 
 static void test_tune_layer_budget_ends_race(void **state) {
@@ -225,11 +239,13 @@ static void test_trial_buffers_placed(void **state) {
     tune_invented(1e6, 1, NULL, &t);
     assert_int_equal(t.st, CP_OK);
     cph_tune_entry_free(&t.e);
+    cph_tune_report_free(&t.rep);
     assert_true(nseen >= 4);
     for (size_t i = 0; i < nseen; i++) assert_int_equal(seen_offsets[i] % 64, 0);
     tune_invented(1e6, 0, NULL, &t);
     assert_int_equal(t.st, CP_OK);
     cph_tune_entry_free(&t.e);
+    cph_tune_report_free(&t.rep);
     /* Qualification runs on the tuner's own tensors (malloc); every trial on
      * a page-aligned buffer: at most those two offsets. */
     assert_true(nseen <= 2);
@@ -244,6 +260,7 @@ static void test_tune_layer_stop(void **state) {
     assert_int_equal(t.rep.interrupted, 1);
     assert_int_equal(t.rep.measured, 0);
     assert_null(t.e.algo);
+    cph_tune_report_free(&t.rep);
 }
 
 int main(void) {
