@@ -4,6 +4,7 @@ per factor level, the median of the trial medians and the spread, and per
 configuration whether its trials fall in one cluster or two.  Standard library
 only."""
 import csv
+import math
 import statistics
 import sys
 from collections import defaultdict
@@ -26,6 +27,17 @@ def summarise(path):
                          % (factor, level, statistics.median(g) * 1e3,
                             g[len(g) // 10] * 1e3, g[(9 * len(g)) // 10] * 1e3))
         print("  " + "; ".join(parts))
+    # Time: trials are in run order; slow trials that come in runs mean a
+    # machine state that lasts, which hits whatever runs then.
+    logs = [math.log(x) for x in t]
+    mean = statistics.mean(logs)
+    ac = sum((logs[i] - mean) * (logs[i + 1] - mean) for i in range(len(logs) - 1)) / \
+        sum((x - mean) ** 2 for x in logs)
+    rounds = defaultdict(list)
+    for r in rows:
+        rounds[int(r["trial"])].append(float(r["median_s"]))
+    print("  run order: lag-1 autocorrelation of log trial medians %.2f; per-round medians %s ms"
+          % (ac, " ".join("%.3f" % (statistics.median(v) * 1e3) for _, v in sorted(rounds.items()))))
     # Within-configuration spread: fresh configurations re-place every trial.
     by_cfg = defaultdict(list)
     for r in rows:

@@ -18,7 +18,7 @@ b1: c=4,h=14,w=14,k=8,r=3,pad=1
 b2: c=4,h=14,w=14,k=4,r=1
 b3: c=8,h=9,w=9,k=8,r=3,stride=2
 L
-fast=(--budget 0.15 --max-seconds 0.02 --target-ci 10 --max-samples 40 --quiet)
+fast=(--budget 0.15 --max-seconds 0.02 --max-samples 40 --quiet)
 names() { $PY -c 'import json,sys; print(" ".join(sorted(e["name"] for e in json.load(open(sys.argv[1]))["entries"])))' "$1"; }
 
 for round in 1 2 3; do
@@ -45,7 +45,7 @@ got="$(names "$tmp/shared-1.json")"
 [ "$got" = "b1 b2 b3" ] || { echo "FAIL: --force kept old entries: '$got'"; exit 1; }
 # The table replaced during a run by something that is not a table: the next
 # write refuses to merge it and leaves it as it is.
-slow=(--budget 1 --target-ci 0.01 --max-seconds 0.2 --max-samples 100000 --quiet)
+slow=(--budget 1 --trial-samples 1000 --min-rounds 400 --max-rounds 400 --max-seconds 0.2 --quiet)
 t="$tmp/replaced.json"
 "$CLI" tune --shapes "$tmp/a.txt" "${slow[@]}" --out "$t" 2>"$tmp/r.err" &
 pid=$!

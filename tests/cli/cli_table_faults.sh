@@ -14,7 +14,7 @@ if [ "$(id -u)" != 0 ] || ! mount -t tmpfs -o size=64k tmpfs "$mnt" 2>"$tmp/moun
   echo "cli_table_faults: SKIP: cannot mount a small tmpfs (needs root): $(cat "$tmp/mount.err" 2>/dev/null)"
   exit 77
 fi
-fast=(--budget 0.1 --max-seconds 0.01 --target-ci 10 --max-samples 20 --quiet)
+fast=(--budget 0.1 --max-seconds 0.01 --max-samples 20 --quiet)
 t="$mnt/table.json"
 "$CLI" tune --shape c=4,h=8,w=8,k=4,r=3 "${fast[@]}" --out "$t"
 cp "$t" "$tmp/before.json"

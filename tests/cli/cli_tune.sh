@@ -13,11 +13,11 @@ b: n=1,c=16,h=24,w=24,k=32,r=1,s=1
 c: n=1,c=32,h=24,w=24,k=32,r=3,s=3,stride=2,pad=1
 d: n=1,c=32,h=12,w=12,k=32,r=3,s=3,pad=1,groups=32
 L
-fast=(--budget 0.3 --max-seconds 0.05 --target-ci 10)
+fast=(--budget 0.3 --max-seconds 0.05)
 # An unreachable CI target keeps every candidate sampling up to its time cap,
 # so each layer takes about the budget and a kill lands mid-run.  Resumed runs
 # must use the same settings, else their entries count as stale.
-slow=(--budget 1 --target-ci 0.01 --max-seconds 0.2 --max-samples 100000)
+slow=(--budget 1 --trial-samples 1000 --min-rounds 400 --max-rounds 400 --max-seconds 0.2)
 
 count() { $PY -c 'import json,sys; print(len(json.load(open(sys.argv[1]))["entries"]))' "$1"; }
 names() { $PY -c 'import json,sys; print(" ".join(e["name"] for e in json.load(open(sys.argv[1]))["entries"]))' "$1"; }
