@@ -212,6 +212,19 @@ static void print_rest(const cph_diff *d, int details) {
                "them)\n",
                d->nonly_base, d->nonly_next);
     }
+    if (d->total_entries)
+        printf("\nchoices: %zu entries in both; %zu of BASE's were confident (over the best other "
+               "algorithm), of those NEW chose the same algorithm in %zu (%.0f %%), with the same "
+               "parameters in %zu%s\n",
+               d->total_entries, d->confident_base, d->confident_same_algo,
+               d->confident_base
+                   ? 100.0 * (double)d->confident_same_algo / (double)d->confident_base
+                   : 100.0,
+               d->confident_same, d->confident_base ? "" : " (none to reproduce)");
+    if (isfinite(d->changed_cost_max))
+        printf("changed choices, BASE's choice re-measured in NEW: worst %.3fx NEW's choice, "
+               "median %.3fx\n",
+               d->changed_cost_max, d->changed_cost_median);
     if (d->total_entries && d->total_base > 0)
         printf("\nnetwork: %zu entries in both, sum of the chosen medians BASE %.4g ms, NEW %.4g "
                "ms, ratio %.4f\n",

@@ -7,6 +7,7 @@
 
 #include "harness/diff/diff_report.h"
 #include "harness/measure/paired.h"
+#include "harness/measure/stats.h"
 #include "harness/select/selection.h"
 
 /* occ[i] = how many earlier items of r are the same point as item i. */
@@ -75,8 +76,32 @@ static void totals(cph_diff *d) {
             d->total_base += cb->median;
             d->total_next += cn->median;
             d->total_entries++;
+            if (cb->confident) {
+                d->confident_base++;
+                const int same_algo = strcmp(cb->algo, cn->algo) == 0;
+                d->confident_same_algo += (size_t)same_algo;
+                d->confident_same += (size_t)(same_algo && strcmp(cb->params, cn->params) == 0);
+            }
             break;
         }
+}
+
+/* What BASE's changed choices cost, measured in NEW. */
+static void changed_cost(cph_diff *d) {
+    d->changed_cost_max = d->changed_cost_median = NAN;
+    double *r = malloc((d->nchanges ? d->nchanges : 1) * sizeof *r);
+    if (!r) return;
+    size_t n = 0;
+    for (size_t i = 0; i < d->nchanges; i++) {
+        const cph_choice_change *ch = &d->changes[i];
+        if (ch->old_in_new && ch->next->median > 0) r[n++] = ch->old_in_new->median / ch->next->median;
+    }
+    if (n) {
+        cph_sort_doubles(r, n);
+        d->changed_cost_max = r[n - 1];
+        d->changed_cost_median = cph_median_sorted(r, n);
+    }
+    free(r);
 }
 
 static void compare_pair(const cph_diff *d, cph_diff_pair *p) {
@@ -187,6 +212,7 @@ int cph_diff_build(const cph_results *base, const cph_results *next, double alph
     free(used);
     choice_changes(out);
     totals(out);
+    changed_cost(out);
     qsort(out->pairs, out->npairs, sizeof *out->pairs, cmp_pairs);
     return 0;
 }

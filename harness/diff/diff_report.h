@@ -45,6 +45,13 @@ typedef struct cph_diff {
      * many entries that is. */
     double total_base, total_next;
     size_t total_entries;
+    /* Tables on both sides: of the entries both hold, how many BASE called
+     * confident (its margin over the best other ALGORITHM), how many of those NEW
+ * chose the same algorithm, and the same parameters too, and what BASE's
+     * changed choices cost in NEW's measurements (worst and median ratio of
+     * BASE's choice to NEW's choice, NaN when none measured). */
+    size_t confident_base, confident_same, confident_same_algo;
+    double changed_cost_max, changed_cost_median;
     int other_device;      /* fingerprints differ (and --allow-other-device was given) */
     cph_diff_pair *pairs;  /* worst first (cph_diff_sort) */
     size_t npairs;

@@ -174,6 +174,25 @@ ncand="$($PY -c 'import json,sys; print(sum(1 for e in json.load(open(sys.argv[1
 grep -qE "^summary: $((nent - 1)) compared" "$tmp/out" || { cat "$tmp/out"; fail "choices only: expected $((nent - 1)) pairs"; }
 grep -qE "^network: $nent entries in both, sum of the chosen medians BASE [0-9.e+-]+ ms, NEW [0-9.e+-]+ ms, ratio [0-9.]+" "$tmp/out" \
   || { cat "$tmp/out"; fail "network total not reported"; }
+# Reproduction of the confident choices, counted here from the two files with
+# Python's json module (an outside count of the same definition: confident =
+# runner_up.in_noise false; same = same algorithm; same params too).
+read -r conf same_algo same_all <<<"$($PY - "$DATA/diff_base.table.json" "$tmp/table_new.json" <<'PY'
+import json, sys
+a, b = (json.load(open(f))["entries"] for f in sys.argv[1:3])
+conf = same_algo = same_all = 0
+for x, y in zip(a, b):
+    if isinstance(x["runner_up"], dict) and x["runner_up"]["in_noise"] is False:
+        conf += 1
+        same_algo += x["choice"]["algo"] == y["choice"]["algo"]
+        same_all += x["choice"] == y["choice"]
+print(conf, same_algo, same_all)
+PY
+)"
+grep -qE "^choices: $nent entries in both; $conf of BASE's were confident \(over the best other algorithm\), of those NEW chose the same algorithm in $same_algo \([0-9]+ %\), with the same parameters in $same_all" "$tmp/out" \
+  || { cat "$tmp/out"; fail "choices line: expected $conf confident, $same_algo same algorithm, $same_all same"; }
+grep -qE "^changed choices, BASE's choice re-measured in NEW: worst [0-9.]+x NEW's choice, median [0-9.]+x" "$tmp/out" \
+  || fail "cost of the changed choices not summarised"
 expect 0 "" -- "$CLI" diff --all "$DATA/diff_base.table.json" "$tmp/table_new.json"
 grep -qE "^summary: $ncand compared" "$tmp/out" || { cat "$tmp/out"; fail "--all: expected $ncand pairs"; }
 grep -qE "BASE's choice now takes [0-9.e+-]+ ms, [0-9.e+-]+ times NEW's choice \([0-9.e+-]+ ms\)" "$tmp/out" || fail "old choice cost not reported"
