@@ -3,8 +3,10 @@
 # BASE = this build, NEW = the test-only build whose `direct` runs four times
 # as long (tests/CMakeLists.txt: convpick_slowed).  Eight rounds, interleaved
 # in a shuffled order, compared paired: the slowdown of `direct` is flagged
-# (exit 1, a JUnit failure per direct row) and nothing of im2col_gemm is.  A
-# 4x slowdown cannot hide in any noise a shared machine makes; whether the
+# (exit 1, a JUnit failure on every direct row, each about 4x).  Other rows
+# are not asserted: the two binaries differ in code layout, which moves
+# microsecond kernels by real per cents (we saw 13 % on a 0.9 us im2col_gemm
+# row).  A 4x slowdown cannot hide in any noise a shared machine makes; whether the
 # check catches 10 % is a benchmark (docs/speed-check.md), not a test.  Then
 # the same binary on both sides: the plumbing only (the exit code agrees with
 # the JUnit file; whether it is 0 is the machine's noise, never asserted).
@@ -27,9 +29,11 @@ set +e; "${ab[@]}" --convpick "$SLOWED" --out "$tmp/slow" >"$tmp/log" 2>&1; rc=$
 [ "$(ls "$tmp/slow/ab"/round*.base.json | wc -l)" = 8 ] || fail "expected 8 BASE rounds"
 [ "$(ls "$tmp/slow/ab"/round*.new.json | wc -l)" = 8 ] || fail "expected 8 NEW rounds"
 grep -q "^method: rounds paired in order" "$tmp/slow/diff.txt" || fail "not a paired comparison"
-nf="$(xmllint --xpath 'count(//testcase/failure)' "$tmp/slow/junit.xml")"
+ndirect="$(grep -cE '^[a-z]+ +[ab] +no +1 +direct ' "$tmp/slow/diff.txt")"
 nd="$(xmllint --xpath 'count(//testcase/failure[contains(../@name, " direct")])' "$tmp/slow/junit.xml")"
-[ "$nf" -ge 2 ] && [ "$nf" = "$nd" ] || { cat "$tmp/slow/diff.txt"; fail "failures: $nf, on direct rows: $nd (expected every direct row and nothing else)"; }
+[ "$ndirect" = 2 ] && [ "$nd" = 2 ] || { cat "$tmp/slow/diff.txt"; fail "direct rows: $ndirect, flagged: $nd (expected both)"; }
+grep -E '^slower +[ab] +no +1 +direct ' "$tmp/slow/diff.txt" | awk '{ if ($9 < 2.5) bad = 1 } END { exit bad }' \
+  || { cat "$tmp/slow/diff.txt"; fail "a direct row's ratio is below 2.5 (the slowdown is 4x)"; }
 grep -q "A/B speed check FAILED: a regression against HEAD" "$tmp/log" || fail "verdict line"
 
 set +e; "${ab[@]}" --convpick "$CLI" --out "$tmp/same" >"$tmp/log" 2>&1; rc=$?; set -e
