@@ -30,7 +30,7 @@
 #include "harness/measure/data.h"
 #include "harness/measure/stats.h"
 #include "harness/measure/timing.h"
-#include "harness/select/select.h"
+#include "harness/select/shape_spec.h"
 
 #define HUGE_PAGE ((size_t)2 << 20)
 

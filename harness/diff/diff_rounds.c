@@ -54,12 +54,7 @@ int cph_results_fold_rounds(const cph_results *rounds, size_t n, cph_results *ou
         *o = *it;
         o->samples = s;
         o->nsamples = n;
-        double *sorted = malloc(n * sizeof *sorted);
-        if (!sorted) return -1;
-        memcpy(sorted, s, n * sizeof *s);
-        cph_sort_doubles(sorted, n);
-        o->median = cph_median_sorted(sorted, n);
-        free(sorted);
+        o->median = cph_median_of(s, n);
     }
     return 0;
 }
