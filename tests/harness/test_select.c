@@ -202,7 +202,7 @@ static void test_spec_syntax_errors(void **state) {
 }
 
 /* Each invalid class of cp_shape_validate comes back with its own message
- * (texts of algos/shape.c), naming the field at fault. */
+ * (texts of algos/core/shape.c), naming the field at fault. */
 static void test_spec_invalid_classes(void **state) {
     (void)state;
     parse_err("c=0,h=8,w=8,k=4,r=3", NULL, "c=0", "at least 1", NULL);
