@@ -542,6 +542,11 @@ static cp_status run_common(const cp_run_args *a, int flipidx) {
 }
 
 static cp_status blocked_run(const cp_run_args *a) { return run_common(a, 0); }
+
+static const char *blocked_isa(const cp_shape *s, const cp_params *p) {
+    (void)s;
+    return cpa_isa_name(cpa_isa_resolve(p->v[P_TILE_ISA]));
+}
 static cp_status flipidx_run(const cp_run_args *a) { return run_common(a, 1); }
 
 /* Tolerance: each output is one float32 sum over C/groups*R*S products, split
@@ -565,6 +570,7 @@ const cp_algo cpa_blocked = {
     .prepared_size = blocked_prepared_size,
     .prepare = blocked_prepare,
     .run = blocked_run,
+    .isa = blocked_isa,
 };
 
 const cp_algo cpa_blocked_flipidx = {
@@ -580,4 +586,5 @@ const cp_algo cpa_blocked_flipidx = {
     .prepared_size = blocked_prepared_size,
     .prepare = flipidx_prepare,
     .run = flipidx_run,
+    .isa = blocked_isa,
 };

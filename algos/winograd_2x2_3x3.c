@@ -118,12 +118,19 @@ static int wino_candidates(const cp_shape *s, const cp_cache_sizes *caches, cp_p
     memset(&d, 0, sizeof d);
     wino_defaults(s, caches, &d);
     int n = 0;
+    if (cpa_isa_resolve(CPA_ISA_BEST) == CPA_ISA_AVX512 && max >= 2) {
+        /* the defaults with the AVX2 builds, against the AVX-512 ones */
+        out[n++] = d;
+        out[n] = d;
+        out[n++].v[WINO_KERNELS] = CPA_ISA_AVX2;
+    }
     for (int g = 0; g < 2; g++) { /* the default GEMM first, then the other */
         const int64_t gemm = g == 0 ? d.v[WINO_GEMM] : !d.v[WINO_GEMM];
         for (size_t i = 0; i < sizeof tries / sizeof tries[0] && n < max; i++) {
             int dup = 0;
             for (int j = 0; j < n; j++)
-                dup |= out[j].v[WINO_TILE_BLOCK] == tries[i] && out[j].v[WINO_GEMM] == gemm;
+                dup |= out[j].v[WINO_TILE_BLOCK] == tries[i] && out[j].v[WINO_GEMM] == gemm &&
+                       out[j].v[WINO_KERNELS] == 0;
             if (dup) continue;
             memset(&out[n], 0, sizeof out[n]);
             out[n].v[WINO_TILE_BLOCK] = tries[i];
@@ -399,6 +406,14 @@ static cp_status wino_run(const cp_run_args *a) {
  * here; 5e-5 keeps direct's room for deep reductions with a margin for that
  * factor, and is still tight enough to catch a wrong transform: scaling one
  * row of G by 1.0001 gave rel_err 1.04e-4 on the test grid. */
+static const char *wino_isa(const cp_shape *s, const cp_params *p) {
+    (void)s;
+    static const char *const names[2][4] = {
+        {"portable", "portable", "avx2", "avx512"},
+        {"portable+blas", "portable+blas", "avx2+blas", "avx512+blas"}};
+    return names[p->v[WINO_GEMM] == 0][cpa_isa_resolve(p->v[WINO_KERNELS])];
+}
+
 const cp_algo cpa_winograd_2x2_3x3 = {
     .name = "winograd_2x2_3x3",
     .summary = "Winograd F(2x2,3x3), element-wise stage as 16 GEMMs (3x3, stride 1)",
@@ -412,4 +427,5 @@ const cp_algo cpa_winograd_2x2_3x3 = {
     .prepared_size = wino_prepared_size,
     .prepare = wino_prepare,
     .run = wino_run,
+    .isa = wino_isa,
 };
