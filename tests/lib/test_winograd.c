@@ -404,7 +404,8 @@ static void test_candidates(void **state) {
         for (int j = 0; j < n; j++) {
             assert_int_equal(cp_params_check(a, &cand[j], msg, sizeof msg), CP_OK);
             for (int k = 0; k < j; k++)
-                assert_true(cand[j].v[0] != cand[k].v[0] || cand[j].v[2] != cand[k].v[2]);
+                assert_true(cand[j].v[0] != cand[k].v[0] || cand[j].v[1] != cand[k].v[1] ||
+                            cand[j].v[2] != cand[k].v[2]);
         }
         assert_int_equal(a->candidates(&s, &caches, cand, 1), 1);
     }
