@@ -27,11 +27,12 @@
  * walks a channel's taps forward, w_step = -MR (with w at the last tap of
  * channel 0) walks them in reverse: true convolution by flipped indexing.
  *
- * Reads: the portable kernel reads x only for kept lanes; ISA kernels read all
- * nv floats of every segment below the kernel's segment count (keep == 0
+ * Reads: the portable and AVX-512 kernels read x only for kept lanes (masked
+ * loads); the AVX2 kernel reads all 8 floats of segments 0 and 1 (keep == 0
  * included), so the caller gives x[v] = x[0] for an empty segment and calls the
- * portable kernel when those full reads would leave the input buffer.  The AVX2
- * kernel takes keep = 2^n - 1 only (it has no compress); `masks` says which do.
+ * portable kernel when those full reads would leave the input buffer
+ * (`full_reads` below).  The AVX2 kernel takes keep = 2^n - 1 only (it has no
+ * compress); `masks` says which kernels take any mask.
  * Kernels never allocate, time or print; they are pure functions of *t. */
 #ifndef CPA_BLOCKED_UKR_H
 #define CPA_BLOCKED_UKR_H

@@ -1,8 +1,10 @@
 /* AVX-512F tile kernel of the blocked direct convolution: 6 output channels x
  * 4 segments of 16 lanes = 24 ZMM accumulators of the 32 (contract and the
  * choice of tile in blocked_tile.h).  Per input channel and tap: four
- * unaligned 16-float input loads, six weight broadcasts (folded into the FMAs
- * as memory operands), 24 FMAs.  Tiles with fewer non-empty segments run a
+ * unaligned 16-float input loads, masked by keep (so the kernel reads exactly
+ * the lanes it keeps, like the portable one, and never needs the portable
+ * fallback at the end of a buffer: masked-off lanes do not fault), six weight
+ * broadcasts, 24 FMAs.  Tiles with fewer non-empty segments run a
  * 6 x 16 or 6 x 32 body.  Kept lanes are compressed on store and expanded on
  * load (register forms plus a masked contiguous access: the memory forms of
  * compress/expand are slow on some cores).  Built with -mavx512f; only called
@@ -37,31 +39,52 @@ static inline void store_acc(const cpa_blocked_tile *t, int v, int kk, __m512 a)
         _mm512_mask_storeu_ps(p, low_mask(keep), _mm512_maskz_compress_ps((__mmask16)keep, a));
 }
 
-/* The tile body for NS segments (a constant after inlining: the arrays of
- * accumulators then live in registers). */
+/* The tile body for NS segments (1, 2 or 4: a constant after inlining, so the
+ * tests on it fold away).  Named accumulators rather than an array: GCC 12
+ * kept an array of them mirrored on the stack inside the loop. */
+#define CPA_Z4(m) m(0) m(1) m(2) m(3) m(4) m(5)
 static inline __attribute__((always_inline)) void tile_ns(const cpa_blocked_tile *t, const int NS) {
-    __m512 acc[4][MR];
-    for (int v = 0; v < NS; v++)
-        for (int kk = 0; kk < MR; kk++) acc[v][kk] = load_start(t, v, kk);
-    const float *x[4];
-    for (int v = 0; v < NS; v++) x[v] = t->x[v];
+#define CPA_INIT(kk)                                                   \
+    __m512 a0##kk = load_start(t, 0, kk);                              \
+    __m512 a1##kk = NS > 1 ? load_start(t, 1, kk) : _mm512_setzero_ps(); \
+    __m512 a2##kk = NS > 2 ? load_start(t, 2, kk) : _mm512_setzero_ps(); \
+    __m512 a3##kk = NS > 2 ? load_start(t, 3, kk) : _mm512_setzero_ps();
+    CPA_Z4(CPA_INIT)
+#undef CPA_INIT
+    const __mmask16 k0 = (__mmask16)t->keep[0], k1 = (__mmask16)t->keep[1];
+    const __mmask16 k2 = (__mmask16)t->keep[2], k3 = (__mmask16)t->keep[3];
+    const float *x0 = t->x[0], *x1 = t->x[1], *x2 = t->x[2], *x3 = t->x[3];
     const int64_t ntap = t->ntap, cs = t->x_cs, step = t->w_step;
     const int64_t *off = t->tap_off;
-    for (int64_t c = 0; c < t->nc; c++) {
+    for (int64_t c = 0; c < t->nc; c++, x0 += cs, x1 += cs, x2 += cs, x3 += cs) {
         const float *w = t->w + c * ntap * MR;
         for (int64_t i = 0; i < ntap; i++, w += step) {
-            __m512 xv[4];
-            for (int v = 0; v < NS; v++) xv[v] = _mm512_loadu_ps(x[v] + off[i]);
-            for (int kk = 0; kk < MR; kk++) {
-                const __m512 b = _mm512_set1_ps(w[kk]);
-                for (int v = 0; v < NS; v++) acc[v][kk] = _mm512_fmadd_ps(xv[v], b, acc[v][kk]);
-            }
-        }
-        for (int v = 0; v < NS; v++) x[v] += cs;
+            const int64_t o = off[i];
+            const __m512 v0 = _mm512_maskz_loadu_ps(k0, x0 + o);
+            const __m512 v1 = NS > 1 ? _mm512_maskz_loadu_ps(k1, x1 + o) : _mm512_setzero_ps();
+            const __m512 v2 = NS > 2 ? _mm512_maskz_loadu_ps(k2, x2 + o) : _mm512_setzero_ps();
+            const __m512 v3 = NS > 2 ? _mm512_maskz_loadu_ps(k3, x3 + o) : _mm512_setzero_ps();
+#define CPA_FMA(kk)                                                \
+    {                                                              \
+        const __m512 b = _mm512_set1_ps(w[kk]);                    \
+        a0##kk = _mm512_fmadd_ps(v0, b, a0##kk);                   \
+        if (NS > 1) a1##kk = _mm512_fmadd_ps(v1, b, a1##kk);       \
+        if (NS > 2) a2##kk = _mm512_fmadd_ps(v2, b, a2##kk);       \
+        if (NS > 2) a3##kk = _mm512_fmadd_ps(v3, b, a3##kk);       \
     }
-    for (int v = 0; v < NS; v++)
-        for (int kk = 0; kk < MR; kk++) store_acc(t, v, kk, acc[v][kk]);
+            CPA_Z4(CPA_FMA)
+#undef CPA_FMA
+        }
+    }
+#define CPA_STORE(kk)                                 \
+    store_acc(t, 0, kk, a0##kk);                      \
+    if (NS > 1) store_acc(t, 1, kk, a1##kk);          \
+    if (NS > 2) store_acc(t, 2, kk, a2##kk);          \
+    if (NS > 2) store_acc(t, 3, kk, a3##kk);
+    CPA_Z4(CPA_STORE)
+#undef CPA_STORE
 }
+#undef CPA_Z4
 
 static void tile_1(const cpa_blocked_tile *t) { tile_ns(t, 1); }
 static void tile_2(const cpa_blocked_tile *t) { tile_ns(t, 2); }
