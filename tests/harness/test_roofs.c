@@ -8,6 +8,7 @@
 #include <stddef.h>
 #include <stdint.h>
 #include <stdio.h>
+#include <string.h>
 
 #include <cmocka.h>
 
@@ -76,9 +77,48 @@ static void test_peak_kernels_compute(void **state) {
     assert_float_equal(cph_roof_fma_avx512(20000000), 256 * 0.1f, 1.28f);
 }
 
+/* The JSON of invented roofs (no measurement): every width, widest first, the
+ * device roof's bits, the ratio only when 512 and 256 both ran (issue: roofs
+ * at every vector width; values invented, by hand). */
+static void test_roofs_json_invented(void **state) {
+    (void)state;
+    cph_roofs r;
+    memset(&r, 0, sizeof r);
+    r.nwidths = 2;
+    r.widths[0] = (cph_roof_width){512, "avx512f", 120.0, 240.0};
+    r.widths[1] = (cph_roof_width){256, "avx2_fma", 100.0, 200.0};
+    r.roof_bits = 512;
+    r.peak_1core_gflops = 120.0;
+    r.peak_all_gflops = 240.0;
+    r.ratio_512_256 = 1.2; /* a part that splits 512-bit operations */
+    json_t *o = cph_roofs_json(&r);
+    assert_non_null(o);
+    assert_int_equal(json_integer_value(json_object_get(o, "roof_bits")), 512);
+    json_t *w = json_object_get(o, "widths");
+    assert_int_equal(json_array_size(w), 2);
+    assert_int_equal(json_integer_value(json_object_get(json_array_get(w, 1), "bits")), 256);
+    assert_string_equal(json_string_value(json_object_get(json_array_get(w, 0), "isa")), "avx512f");
+    assert_true(json_real_value(json_object_get(json_array_get(w, 1), "peak_all_gflops")) == 200.0);
+    assert_true(json_real_value(json_object_get(o, "ratio_512_256")) == 1.2);
+    assert_true(json_real_value(json_object_get(o, "peak_1core_gflops")) == 120.0);
+    json_decref(o);
+    /* No AVX-512: one width, the roof is 256 bits, no ratio. */
+    r.nwidths = 1;
+    r.widths[0] = r.widths[1];
+    r.roof_bits = 256;
+    r.ratio_512_256 = 0.0;
+    o = cph_roofs_json(&r);
+    assert_non_null(o);
+    assert_int_equal(json_array_size(json_object_get(o, "widths")), 1);
+    assert_int_equal(json_integer_value(json_object_get(o, "roof_bits")), 256);
+    assert_true(json_is_null(json_object_get(o, "ratio_512_256")));
+    json_decref(o);
+}
+
 int main(void) {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_roofs_sane),
+        cmocka_unit_test(test_roofs_json_invented),
         cmocka_unit_test(test_peak_kernels_compute),
     };
     return cpt_suite_status(cmocka_run_group_tests(tests, NULL, NULL),
