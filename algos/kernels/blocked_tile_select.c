@@ -4,9 +4,11 @@
  * AVX-512 instruction on a CPU without it. */
 #include "algos/kernels/blocked_tile.h"
 
+#include <stdatomic.h>
+
 #include "loader/cpuid.h"
 
-int cpa_isa_best(void) {
+static int isa_detect(void) {
     cpl_cpu_id id;
     cpl_cpuid_read(&id);
     if (id.avx512f) return CPA_ISA_AVX512;
@@ -14,8 +16,22 @@ int cpa_isa_best(void) {
     return CPA_ISA_PORTABLE;
 }
 
+/* Read once: cpl_cpuid_read runs about ten cpuid leaves, and in a virtual
+ * machine each one traps to the hypervisor (microseconds apiece), which a run
+ * of a small layer would pay every time.  Every thread computes the same
+ * value, so a relaxed atomic suffices. */
+int cpa_isa_best(void) {
+    static atomic_int cached = -1;
+    int v = atomic_load_explicit(&cached, memory_order_relaxed);
+    if (v < 0) {
+        v = isa_detect();
+        atomic_store_explicit(&cached, v, memory_order_relaxed);
+    }
+    return v;
+}
+
 int cpa_isa_resolve(int64_t request) {
-    const int best = cpa_isa_best(); /* a few cpuid leaves: once per run */
+    const int best = cpa_isa_best();
     if (request == CPA_ISA_BEST) return best;
     if (request <= CPA_ISA_PORTABLE) return CPA_ISA_PORTABLE;
     return request < best ? (int)request : best;
