@@ -79,8 +79,11 @@ static void roofs_start(cph_bench_state *r) {
                r->roofs.widths[i].peak_1core_gflops, r->roofs.widths[i].peak_all_gflops,
                r->roofs.cores_used, r->roofs.widths[i].bits, r->roofs.widths[i].isa);
     if (r->roofs.ratio_512_256 > 0)
-        printf("roofs: 512/256-bit ratio %.2f; isa column: the kernels each row ran (\"blas\": "
-               "OpenBLAS core %s)\n", r->roofs.ratio_512_256, r->m.blas_core);
+        printf("roofs: 512/256-bit ratio %.2f\n", r->roofs.ratio_512_256);
+    else
+        printf("roofs: the widest vector width here is %d bits\n", r->roofs.roof_bits);
+    printf("isa column: the kernels each row ran (\"blas\": OpenBLAS, kernel type %s)\n",
+           r->m.blas_core);
     const double ratio = r->roofs.peak_all_gflops / r->roofs.peak_1core_gflops;
     if (r->roofs.cores_used > 1 && ratio < 0.9 * r->roofs.cores_used)
         printf("roofs: the %d-core peak is only %.2fx the 1-core peak: other work is "
