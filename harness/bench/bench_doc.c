@@ -29,6 +29,7 @@
  *        "gflops": 41.2, "isa": "avx512" (the kernels the row ran; "blas" for SGEMM
  *        rows, "-" when the algorithm does not say),
  *        "peak_gflops": 90.1 | null, "peak_fraction": 0.457 | null,
+ *        "peak_bits": 512 | null (the vector width of the roof the fraction is against),
  *        "measurement": {measurement object, report_json.h}}      (ok only)
  *     ],
  *     "summaries": [{"id": "blocked_peak", "target_text", "comparison": ">=",

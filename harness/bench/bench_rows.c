@@ -103,6 +103,9 @@ static double time_row(cph_bench_state *r, const cph_timing_opts *to, const cph_
             json_object_set_new(res, "gflops", cph_json_number(gflops));
             json_object_set_new(res, "isa", json_string(isa));
             json_object_set_new(res, "peak_gflops", peak > 0 ? json_real(peak) : json_null());
+            /* which roof the fraction is against: the widest width's */
+            json_object_set_new(res, "peak_bits",
+                                peak > 0 ? json_integer(r->roofs.roof_bits) : json_null());
             json_object_set_new(res, "peak_fraction",
                                 peak > 0 ? json_real(gflops / peak) : json_null());
             if (flops_used > 0) json_object_set_new(res, "flops_performed", json_real(flops_used));
