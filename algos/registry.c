@@ -13,7 +13,8 @@
     X(cpa_im2col_gemm)        \
     X(cpa_winograd_2x2_3x3)   \
     X(cpa_blocked)            \
-    X(cpa_blocked_flipidx)
+    X(cpa_blocked_flipidx)    \
+    X(cpa_depthwise)
 
 #define CPA_DECLARE(v) extern const cp_algo v;
 #define CPA_ENTRY(v) &v,
