@@ -12,6 +12,7 @@
     X(cpa_direct_flipidx)     \
     X(cpa_im2col_gemm)        \
     X(cpa_winograd_2x2_3x3)   \
+    X(cpa_winograd_4x4_3x3)   \
     X(cpa_blocked)            \
     X(cpa_blocked_flipidx)    \
     X(cpa_depthwise)
