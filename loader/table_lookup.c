@@ -78,6 +78,8 @@ static int compatible(const cp_table_entry *e, const cp_shape *s, cp_flip flip) 
 cp_status cp_table_lookup(const cp_table *t, const cp_shape *s, cp_flip flip, int threads,
                           cp_choice *out, char *msg, size_t cap) {
     memset(out, 0, sizeof *out);
+    out->max_rel_err = INFINITY;
+    out->rel_err = NAN;
     char why[200];
     if (!s || cp_shape_validate(s, why, sizeof why) != CP_SHAPE_OK) {
         if (msg && cap) snprintf(msg, cap, "invalid shape: %s", s ? why : "no shape given");
@@ -89,6 +91,7 @@ cp_status cp_table_lookup(const cp_table *t, const cp_shape *s, cp_flip flip, in
         out->algo = e->algo;
         out->params = e->params;
         out->entry = e;
+        out->rel_err = cpl_entry_chosen_err(e);
         snprintf(out->why, sizeof out->why,
                  "entry '%s' has this shape, flip and %d thread(s); measured median %.3g s",
                  e->name, e->threads, e->timing.median);
