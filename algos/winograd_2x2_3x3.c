@@ -4,7 +4,7 @@
  *   B^T = [1 0 -1 0; 0 1 1 0; 0 -1 1 0; 0 1 0 -1]
  *   G   = [1 0 0; 1/2 1/2 1/2; 1/2 -1/2 1/2; 0 0 1]
  *   A^T = [1 1 1 0; 0 1 -1 -1]
- * G appears unrolled in wino2_filter below, B^T and A^T in the transform loops
+ * G is the table wino2_g below (applied by the driver), B^T and A^T in the transform loops
  * of winograd_kernels_body.h (built portable and AVX2, chosen at run time);
  * tests/support/winograd_tile.c keeps all three as matrices for the tests.
  * Tiling, blocking, the GEMM stage and the parameters are the shared driver's
@@ -13,24 +13,8 @@
 #include "algos/core/wino_driver.h"
 #include "algos/kernels/winograd_kernels.h"
 
-/* U = G g G^T, unrolled. */
-static void wino2_filter(const float g[9], float *u, int64_t xs) {
-    float gg[4][3]; /* G g */
-    for (int j = 0; j < 3; j++) {
-        const float g0 = g[j], g1 = g[3 + j], g2 = g[6 + j];
-        gg[0][j] = g0;
-        gg[1][j] = 0.5f * (g0 + g1 + g2);
-        gg[2][j] = 0.5f * (g0 - g1 + g2);
-        gg[3][j] = g2;
-    }
-    for (int i = 0; i < 4; i++) { /* (G g) G^T */
-        const float a = gg[i][0], b = gg[i][1], c = gg[i][2];
-        u[(4 * i + 0) * xs] = a;
-        u[(4 * i + 1) * xs] = 0.5f * (a + b + c);
-        u[(4 * i + 2) * xs] = 0.5f * (a - b + c);
-        u[(4 * i + 3) * xs] = c;
-    }
-}
+/* G of the paper, row-major (4 x 3). */
+static const double wino2_g[12] = {1.0, 0.0, 0.0, 0.5, 0.5, 0.5, 0.5, -0.5, 0.5, 0.0, 0.0, 1.0};
 
 static const void *wino2_select(int64_t kernels) {
     return kernels == 1 ? &cpa_wino_kernels_ref : cpa_wino_kernels_select();
@@ -72,13 +56,11 @@ static const cpa_wino_variant wino2 = {
     .name = "F(2x2,3x3)",
     .m = 2,
     .alpha = 4,
-    .filter = wino2_filter,
+    .g = wino2_g,
     .select = wino2_select,
     .input = wino2_input,
     .output = wino2_output,
 };
-
-CPA_WINO_CALLBACKS(wino2, wino2)
 
 /* Tolerance.  Measured against the fp64 oracle (cp_oracle_run +
  * cp_error_measure, error relative to sum|x||w| + |b|), default tile_block,
@@ -99,17 +81,5 @@ CPA_WINO_CALLBACKS(wino2, wino2)
  * here; 5e-5 keeps direct's room for deep reductions with a margin for that
  * factor, and is still tight enough to catch a wrong transform: scaling one
  * row of G by 1.0001 gave rel_err 1.04e-4 on the test grid. */
-const cp_algo cpa_winograd_2x2_3x3 = {
-    .name = "winograd_2x2_3x3",
-    .summary = "Winograd F(2x2,3x3), element-wise stage as 16 GEMMs (3x3, stride 1)",
-    .tolerance = 5e-5,
-    .nparams = CPA_WINO_NPARAMS,
-    .params = cpa_wino_params,
-    .supports = wino2_supports,
-    .defaults = wino2_defaults,
-    .candidates = wino2_candidates,
-    .workspace_size = wino2_workspace_size,
-    .prepared_size = wino2_prepared_size,
-    .prepare = wino2_prepare,
-    .run = wino2_run,
-};
+CPA_WINO_ALGO(cpa_winograd_2x2_3x3, wino2, "winograd_2x2_3x3",
+              "Winograd F(2x2,3x3), element-wise stage as 16 GEMMs (3x3, stride 1)", 5e-5);

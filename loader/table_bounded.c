@@ -28,14 +28,9 @@ double cpl_entry_chosen_err(const cp_table_entry *e) {
 cp_status cp_table_lookup_bounded(const cp_table *t, const cp_shape *s, cp_flip flip,
                                   int threads, double max_rel_err, cp_choice *out, char *msg,
                                   size_t cap) {
-    memset(out, 0, sizeof *out);
+    const cp_status st = cpl_lookup_start(s, out, msg, cap);
+    if (st != CP_OK) return st;
     out->max_rel_err = max_rel_err;
-    out->rel_err = NAN;
-    char why[200];
-    if (!s || cp_shape_validate(s, why, sizeof why) != CP_SHAPE_OK) {
-        if (msg && cap) snprintf(msg, cap, "invalid shape: %s", s ? why : "no shape given");
-        return CP_EINVAL;
-    }
     if (!(max_rel_err >= 0.0)) {
         if (msg && cap) snprintf(msg, cap, "error bound %g is not a number >= 0", max_rel_err);
         return CP_EINVAL;

@@ -75,8 +75,7 @@ static int compatible(const cp_table_entry *e, const cp_shape *s, cp_flip flip) 
            groups_class(a) == groups_class(s) && e->algo->supports(s, flip, NULL, 0);
 }
 
-cp_status cp_table_lookup(const cp_table *t, const cp_shape *s, cp_flip flip, int threads,
-                          cp_choice *out, char *msg, size_t cap) {
+cp_status cpl_lookup_start(const cp_shape *s, cp_choice *out, char *msg, size_t cap) {
     memset(out, 0, sizeof *out);
     out->max_rel_err = INFINITY;
     out->rel_err = NAN;
@@ -85,6 +84,13 @@ cp_status cp_table_lookup(const cp_table *t, const cp_shape *s, cp_flip flip, in
         if (msg && cap) snprintf(msg, cap, "invalid shape: %s", s ? why : "no shape given");
         return CP_EINVAL;
     }
+    return CP_OK;
+}
+
+cp_status cp_table_lookup(const cp_table *t, const cp_shape *s, cp_flip flip, int threads,
+                          cp_choice *out, char *msg, size_t cap) {
+    const cp_status st = cpl_lookup_start(s, out, msg, cap);
+    if (st != CP_OK) return st;
     const cp_table_entry *e = cp_table_find(t, s, flip, threads);
     if (e) {
         out->match = CP_MATCH_EXACT;

@@ -144,6 +144,22 @@ size_t cpa_wino_prepared_size(const cpa_wino_variant *v, const cp_shape *s, cons
     return (size_t)(wino_points(v) * rows * s->c) * sizeof(float);
 }
 
+/* U = G g G^T for one 3x3 filter g (entry xi at u[xi * xs]), as matrix
+ * products in double, each entry rounded to float once: preparation time
+ * only, and the most accurate U the float layout can hold. */
+static void wino_filter(const cpa_wino_variant *v, const float g[9], float *u, int64_t xs) {
+    double gg[8][3]; /* G g; alpha <= 8 */
+    const double *G = v->g;
+    const int al = v->alpha;
+    for (int i = 0; i < al; i++)
+        for (int j = 0; j < 3; j++)
+            gg[i][j] = G[3 * i] * g[j] + G[3 * i + 1] * g[3 + j] + G[3 * i + 2] * g[6 + j];
+    for (int i = 0; i < al; i++) /* (G g) G^T */
+        for (int j = 0; j < al; j++)
+            u[(al * i + j) * xs] =
+                (float)(gg[i][0] * G[3 * j] + gg[i][1] * G[3 * j + 1] + gg[i][2] * G[3 * j + 2]);
+}
+
 /* U = (G g G^T)[xi] for every (k, c); g is w[k,c] (flipped for CP_CONV).
  * gemm 0: U[xi][k][c], alpha^2 row-major K x C matrices.  gemm 1:
  * U[xi][kt][c][kk] with k = 6 kt + kk, the panel order of the blocked tile
@@ -161,7 +177,7 @@ cp_status cpa_wino_prepare(const cpa_wino_variant *v, const cp_shape *s, cp_flip
         float g[9];
         const float *src = w + kc * 9;
         for (int i = 0; i < 9; i++) g[i] = flip == CP_CONV ? src[8 - i] : src[i];
-        v->filter(g, u + at, xstride);
+        wino_filter(v, g, u + at, xstride);
     }
     return CP_OK;
 }

@@ -27,8 +27,9 @@ typedef struct cpa_wino_variant {
     const char *name; /* "F(2x2,3x3)", for refusals */
     int m;            /* output tile edge */
     int alpha;        /* input tile edge, m + 2 */
-    /* U = G g G^T of a 3x3 cross-correlation filter g: entry xi at u[xi * xstride]. */
-    void (*filter)(const float g[9], float *u, int64_t xstride);
+    /* G, alpha x 3 row-major: U = G g G^T for a 3x3 cross-correlation filter g
+     * (computed in double, rounded once to float). */
+    const double *g;
     /* The transform kernels for the `kernels` parameter (0 best, 1 portable). */
     const void *(*select)(int64_t kernels);
     /* V = B^T d B for nt tiles of one tile row: rows holds alpha input rows of
@@ -58,33 +59,47 @@ cp_status cpa_wino_prepare(const cpa_wino_variant *v, const cp_shape *s, cp_flip
                            const cp_params *p, const float *w, void *out);
 cp_status cpa_wino_run(const cpa_wino_variant *v, const cp_run_args *a);
 
-/* Defines the cp_algo callbacks NAME_supports ... NAME_run of variant VAR
- * (a static const cpa_wino_variant) as one-line wrappers. */
-#define CPA_WINO_CALLBACKS(NAME, VAR)                                                        \
-    static int NAME##_supports(const cp_shape *s, cp_flip f, char *why, size_t cap) {        \
+/* Defines `const cp_algo SYM` for variant VAR (a static const
+ * cpa_wino_variant) with one-line wrappers of the driver as its callbacks. */
+#define CPA_WINO_ALGO(SYM, VAR, NAME, SUMMARY, TOL)                                          \
+    static int SYM##_supports(const cp_shape *s, cp_flip f, char *why, size_t cap) {         \
         (void)f; /* CP_CONV: the weights are flipped in prepare */                           \
         return cpa_wino_supports(&VAR, s, why, cap);                                         \
     }                                                                                        \
-    static void NAME##_defaults(const cp_shape *s, const cp_cache_sizes *c, cp_params *o) {  \
+    static void SYM##_defaults(const cp_shape *s, const cp_cache_sizes *c, cp_params *o) {   \
         cpa_wino_defaults(&VAR, s, c, o);                                                    \
     }                                                                                        \
-    static int NAME##_candidates(const cp_shape *s, const cp_cache_sizes *c, cp_params *o,   \
-                                 int max) {                                                  \
+    static int SYM##_candidates(const cp_shape *s, const cp_cache_sizes *c, cp_params *o,    \
+                                int max) {                                                   \
         return cpa_wino_candidates(&VAR, s, c, o, max);                                      \
     }                                                                                        \
-    static size_t NAME##_workspace_size(const cp_shape *s, cp_flip f, const cp_params *p,    \
-                                        int nthreads) {                                      \
+    static size_t SYM##_workspace_size(const cp_shape *s, cp_flip f, const cp_params *p,     \
+                                       int nthreads) {                                       \
         (void)f;                                                                             \
         return cpa_wino_workspace_size(&VAR, s, p, nthreads);                                \
     }                                                                                        \
-    static size_t NAME##_prepared_size(const cp_shape *s, cp_flip f, const cp_params *p) {   \
+    static size_t SYM##_prepared_size(const cp_shape *s, cp_flip f, const cp_params *p) {    \
         (void)f;                                                                             \
         return cpa_wino_prepared_size(&VAR, s, p);                                           \
     }                                                                                        \
-    static cp_status NAME##_prepare(const cp_shape *s, cp_flip f, const cp_params *p,        \
-                                    const float *w, void *out) {                             \
+    static cp_status SYM##_prepare(const cp_shape *s, cp_flip f, const cp_params *p,         \
+                                   const float *w, void *out) {                              \
         return cpa_wino_prepare(&VAR, s, f, p, w, out);                                      \
     }                                                                                        \
-    static cp_status NAME##_run(const cp_run_args *a) { return cpa_wino_run(&VAR, a); }
+    static cp_status SYM##_run(const cp_run_args *a) { return cpa_wino_run(&VAR, a); }       \
+    const cp_algo SYM = {                                                                    \
+        .name = NAME,                                                                        \
+        .summary = SUMMARY,                                                                  \
+        .tolerance = TOL,                                                                    \
+        .nparams = CPA_WINO_NPARAMS,                                                         \
+        .params = cpa_wino_params,                                                           \
+        .supports = SYM##_supports,                                                          \
+        .defaults = SYM##_defaults,                                                          \
+        .candidates = SYM##_candidates,                                                      \
+        .workspace_size = SYM##_workspace_size,                                              \
+        .prepared_size = SYM##_prepared_size,                                                \
+        .prepare = SYM##_prepare,                                                            \
+        .run = SYM##_run,                                                                    \
+    }
 
 #endif

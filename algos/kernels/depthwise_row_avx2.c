@@ -16,6 +16,22 @@ static __m256i dw_mask(int64_t n) {
     return _mm256_cmpgt_epi32(_mm256_set1_epi32((int)n), lane);
 }
 
+/* Stores the vector of outputs j .. j+7, masked to those below q. */
+static void dw_store(float *y, int64_t j, int64_t q, __m256 a) {
+    if (j + 8 <= q)
+        _mm256_storeu_ps(y + j, a);
+    else
+        _mm256_maskstore_ps(y + j, dw_mask(q - j), a);
+}
+
+/* Stores 32 outputs from four vectors. */
+static void dw_store32(float *y, __m256 a0, __m256 a1, __m256 a2, __m256 a3) {
+    _mm256_storeu_ps(y, a0);
+    _mm256_storeu_ps(y + 8, a1);
+    _mm256_storeu_ps(y + 16, a2);
+    _mm256_storeu_ps(y + 24, a3);
+}
+
 static void dw_row9(const cpa_dw_row *r) {
     const float *const *s = r->src;
     const __m256 w0 = _mm256_broadcast_ss(&r->w[0]), w1 = _mm256_broadcast_ss(&r->w[1]);
@@ -43,18 +59,12 @@ static void dw_row9(const cpa_dw_row *r) {
         DW_TAPS9(a1, j + 8);
         DW_TAPS9(a2, j + 16);
         DW_TAPS9(a3, j + 24);
-        _mm256_storeu_ps(r->y + j, a0);
-        _mm256_storeu_ps(r->y + j + 8, a1);
-        _mm256_storeu_ps(r->y + j + 16, a2);
-        _mm256_storeu_ps(r->y + j + 24, a3);
+        dw_store32(r->y + j, a0, a1, a2, a3);
     }
     for (; j < r->q; j += 8) {
         __m256 a = b;
         DW_TAPS9(a, j);
-        if (j + 8 <= r->q)
-            _mm256_storeu_ps(r->y + j, a);
-        else
-            _mm256_maskstore_ps(r->y + j, dw_mask(r->q - j), a);
+        dw_store(r->y, j, r->q, a);
     }
 #undef DW_TAPS9
 }
@@ -72,19 +82,13 @@ static void dw_row_any(const cpa_dw_row *r) {
             a2 = _mm256_fmadd_ps(wt, _mm256_loadu_ps(st + 16), a2);
             a3 = _mm256_fmadd_ps(wt, _mm256_loadu_ps(st + 24), a3);
         }
-        _mm256_storeu_ps(r->y + j, a0);
-        _mm256_storeu_ps(r->y + j + 8, a1);
-        _mm256_storeu_ps(r->y + j + 16, a2);
-        _mm256_storeu_ps(r->y + j + 24, a3);
+        dw_store32(r->y + j, a0, a1, a2, a3);
     }
     for (; j < r->q; j += 8) {
         __m256 a = b;
         for (int t = 0; t < r->ntap; t++)
             a = _mm256_fmadd_ps(_mm256_broadcast_ss(&r->w[t]), _mm256_loadu_ps(r->src[t] + j), a);
-        if (j + 8 <= r->q)
-            _mm256_storeu_ps(r->y + j, a);
-        else
-            _mm256_maskstore_ps(r->y + j, dw_mask(r->q - j), a);
+        dw_store(r->y, j, r->q, a);
     }
 }
 

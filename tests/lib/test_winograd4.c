@@ -21,7 +21,6 @@
 
 #include "convpick/algo.h"
 #include "convpick/oracle.h"
-#include "harness/measure/data.h"
 #include "tests/support/conv.h"
 #include "tests/support/winograd_tile.h"
 
@@ -112,38 +111,21 @@ static void test_params_vs_oracle(void **state) {
         s.pad_top = v[5]; s.pad_left = v[6]; s.pad_bottom = v[7]; s.pad_right = v[8];
         char msg[256];
         assert_int_equal(cp_shape_validate(&s, msg, sizeof msg), CP_SHAPE_OK);
-        const size_t nx = cp_shape_input_elems(&s), nw = cp_shape_weight_elems(&s);
-        const size_t ny = cp_shape_output_elems(&s);
-        float *x = malloc(nx * sizeof *x), *w = malloc(nw * sizeof *w);
-        float *b = malloc((size_t)s.k * sizeof *b), *y = malloc(ny * sizeof *y);
-        double *ref = malloc(ny * sizeof *ref), *mag = malloc(ny * sizeof *mag);
-        assert_true(x && w && b && y && ref && mag);
-        cph_fill_uniform(x, nx, 41 + i);
-        cph_fill_uniform(w, nw, 51 + i);
-        cph_fill_uniform(b, (size_t)s.k, 61 + i);
-        for (int m = 0; m < 2; m++) {
-            const cp_flip flip = m ? CP_CONV : CP_XCORR;
-            cp_oracle_run(&s, flip, x, w, b, ref, mag);
-            for (int combo = 0; combo < 12; combo++) {
-                cp_params p;
-                memset(&p, 0, sizeof p);
-                p.v[0] = blocks[combo % 3];
-                p.v[1] = (combo / 3) % 2;
-                p.v[2] = combo / 6;
-                cp_plan *plan = NULL;
-                assert_int_equal(cp_plan_create(wino4(), &s, flip, &p, NULL, 1, w, &plan, msg,
-                                                sizeof msg), CP_OK);
-                for (size_t j = 0; j < ny; j++) y[j] = NAN;
-                assert_int_equal(cp_plan_run(plan, x, b, y, NULL), CP_OK);
-                cp_plan_destroy(plan);
-                const cp_error e = cp_error_measure(y, ref, mag, ny);
-                if (e.nonfinite || e.rel_err > wino4()->tolerance)
-                    fail_msg("shape %zu flip %d block %lld kernels %lld gemm %lld: rel_err "
-                             "%.3g nonfinite %zu", i, m, (long long)p.v[0], (long long)p.v[1],
-                             (long long)p.v[2], e.rel_err, e.nonfinite);
-            }
+        for (int combo = 0; combo < 24; combo++) {
+            const int m = combo / 12;
+            cp_params p;
+            memset(&p, 0, sizeof p);
+            p.v[0] = blocks[combo % 3];
+            p.v[1] = (combo / 3) % 2;
+            p.v[2] = (combo / 6) % 2;
+            cp_error e;
+            assert_int_equal(cpt_check_random(wino4(), &s, m ? CP_CONV : CP_XCORR, &p, 41 + 3 * i,
+                                              &e, msg, sizeof msg), CP_OK);
+            if (e.nonfinite || e.rel_err > wino4()->tolerance)
+                fail_msg("shape %zu flip %d block %lld kernels %lld gemm %lld: rel_err %.3g "
+                         "nonfinite %zu", i, m, (long long)p.v[0], (long long)p.v[1],
+                         (long long)p.v[2], e.rel_err, e.nonfinite);
         }
-        free(x); free(w); free(b); free(y); free(ref); free(mag);
     }
 }
 
