@@ -111,6 +111,8 @@ static void dw_fill(const cp_shape *s, const dw_geom *g, const float *xc, float 
                 const float *src = xr + (f + sw * lo - s->pad_left);
                 if (sw == 1)
                     memcpy(d + lo, src, (size_t)(hi - lo) * sizeof(float));
+                else if (sw == 2) /* the common strided case, a constant stride */
+                    for (int64_t j = lo; j < hi; j++) d[j] = src[2 * (j - lo)];
                 else
                     for (int64_t j = lo; j < hi; j++) d[j] = src[(j - lo) * sw];
             }
@@ -131,30 +133,28 @@ static void dw_task(void *arg, int64_t begin, int64_t end, int worker) {
     const cp_run_args *a = j->a;
     const cp_shape *s = a->shape;
     const int64_t P = cp_shape_out_h(s), Q = cp_shape_out_w(s);
-    const int64_t R = s->r, S = s->s, mult = s->k / s->groups;
+    const int64_t R = s->r, S = s->s, sw = s->stride_w, mult = s->k / s->groups;
     float *buf = (float *)a->workspace + (size_t)worker * j->slice;
     const float *w = a->weights;
+    /* Tap (r, c) of output row 0 reads padded row r*dil_h, phase u mod sw,
+     * from u div sw (u = c*dil_w); row p adds p*stride_h padded rows. */
     const float *src[DW_MAX_TAPS];
+    for (int64_t r = 0; r < R; r++)
+        for (int64_t c = 0; c < S; c++) {
+            const int64_t u = c * s->dil_w;
+            src[r * S + c] = buf + (r * s->dil_h * sw + u % sw) * j->g.len + u / sw;
+        }
+    cpa_dw_row row = {.q = Q, .nrows = P, .src_step = s->stride_h * sw * j->g.len,
+                      .ntap = (int)(R * S), .src = src};
     for (int64_t ng = begin; ng < end; ng++) { /* (image, input channel) */
         const int64_t n = ng / s->groups, g = ng % s->groups;
         dw_fill(s, &j->g, a->x + ng * s->h * s->w, buf);
         for (int64_t m = 0; m < mult; m++) {
             const int64_t k = g * mult + m;
-            cpa_dw_row row = {.q = Q, .ntap = (int)(R * S), .src = src, .w = w + k * R * S,
-                              .bias = a->bias ? a->bias[k] : 0.0f};
-            float *yk = a->y + (n * s->k + k) * P * Q;
-            for (int64_t p = 0; p < P; p++) {
-                for (int64_t r = 0; r < R; r++) {
-                    const float *rowp = buf + (p * s->stride_h + r * s->dil_h) * s->stride_w *
-                                                  j->g.len;
-                    for (int64_t c = 0; c < S; c++) {
-                        const int64_t u = c * s->dil_w;
-                        src[r * S + c] = rowp + (u % s->stride_w) * j->g.len + u / s->stride_w;
-                    }
-                }
-                row.y = yk + p * Q;
-                j->row(&row);
-            }
+            row.w = w + k * R * S;
+            row.bias = a->bias ? a->bias[k] : 0.0f;
+            row.y = a->y + (n * s->k + k) * P * Q;
+            j->row(&row);
         }
     }
 }

@@ -2,17 +2,18 @@
  * contract, a portable C version always built, ISA versions chosen at run time
  * (the same pattern as blocked_tile.h).
  *
- * One call computes one output row of one channel:
- *   y[j] = bias + sum over t < ntap of w[t] * src[t][j]      for j < q
- * (taps added in order t = 0, 1, ...).  The caller has already turned stride,
- * dilation and padding into the ntap source pointers: each points into a
- * zero-padded, stride-phase-split copy of the input plane, so every tap reads
- * consecutive floats and the kernel has no branch per element.
+ * One call computes the nrows output rows of one channel:
+ *   y[i*q + j] = bias + sum over t < ntap of w[t] * src[t][i*src_step + j]
+ * for i < nrows, j < q (taps added in order t = 0, 1, ...).  The caller has
+ * already turned stride, dilation and padding into the ntap source pointers:
+ * each points into a zero-padded, stride-phase-split copy of the input plane,
+ * so every tap reads consecutive floats and the kernel has no branch per
+ * element.
  *
- * Reads: the portable kernel reads src[t][0 .. q-1]; ISA kernels read whole
- * vectors, src[t][0 .. round_up(q, CPA_DW_PAD) - 1], which the caller keeps
- * inside its buffer.  Writes y[0 .. q-1] only.  Pure: never allocates, times
- * or prints. */
+ * Reads: the portable kernel reads exactly the floats above; ISA kernels read
+ * whole vectors, src[t][i*src_step + 0 .. round_up(q, 8) - 1], which the
+ * caller keeps inside its buffer (CPA_DW_PAD floats of slack per row).
+ * Writes y[0 .. nrows*q - 1] only.  Pure: never allocates, times or prints. */
 #ifndef CPA_DEPTHWISE_ROW_H
 #define CPA_DEPTHWISE_ROW_H
 
@@ -21,12 +22,14 @@
 #define CPA_DW_PAD 16 /* readable floats past q: a multiple of every kernel's vector */
 
 typedef struct cpa_dw_row {
-    int64_t q;               /* outputs to write (>= 1) */
+    int64_t q;               /* outputs per row (>= 1) */
+    int64_t nrows;           /* output rows (>= 1) */
+    int64_t src_step;        /* floats between the sources of consecutive rows */
     int ntap;                /* taps R*S (>= 1) */
-    const float *const *src; /* ntap source rows */
+    const float *const *src; /* ntap sources of row 0 */
     const float *w;          /* ntap weights, in tap order */
     float bias;
-    float *y;
+    float *y;                /* row i at y + i*q */
 } cpa_dw_row;
 
 typedef void (*cpa_dw_row_fn)(const cpa_dw_row *r);

@@ -67,28 +67,33 @@ static void test_portable_vs_oracle(void **state) {
 static void test_avx2_rows_match_portable(void **state) {
     (void)state;
     if (cpa_dw_row_select(0) == cpa_dw_row_ref) skip(); /* no AVX2 here: exit 77 */
-    enum { MAXQ = 70, LEN = MAXQ + 8 + CPA_DW_PAD };
-    float buf[25][LEN], wts[25], y0[MAXQ + 1], y1[MAXQ + 1];
+    enum { MAXQ = 70, STEP = MAXQ + 8 + CPA_DW_PAD, ROWS = 3 };
+    static float buf[25][ROWS * STEP], y0[ROWS * MAXQ + 1], y1[ROWS * MAXQ + 1];
+    float wts[25];
     const float *src[25];
     for (int t = 0; t < 25; t++) {
-        for (int j = 0; j < LEN; j++) buf[t][j] = (float)((t * 7 + j * 5) % 13 - 6) * 0.5f;
+        for (int j = 0; j < ROWS * STEP; j++) buf[t][j] = (float)((t * 7 + j * 5) % 13 - 6) * 0.5f;
         wts[t] = (float)((t * 3) % 7 - 3) * 0.25f;
         src[t] = buf[t] + t % 3;
     }
     const int ntaps[] = {9, 5, 25, 1};
     for (size_t nt = 0; nt < sizeof ntaps / sizeof ntaps[0]; nt++)
-        for (int64_t q = 1; q <= MAXQ; q++) {
-            cpa_dw_row r = {.q = q, .ntap = ntaps[nt], .src = src, .w = wts, .bias = 0.75f};
-            y0[q] = y1[q] = 12345.0f; /* the float past the row must stay untouched */
-            r.y = y0;
-            cpa_dw_row_ref(&r);
-            r.y = y1;
-            cpa_dw_row_avx2(&r);
-            if (memcmp(y0, y1, (size_t)(q + 1) * sizeof(float)) != 0)
-                fail_msg("ntap %d q %lld: AVX2 row differs from portable", ntaps[nt],
-                         (long long)q);
-            assert_true(y1[q] == 12345.0f);
-        }
+        for (int64_t rows = 1; rows <= ROWS; rows += 2) /* one row, and rows sharing vectors */
+            for (int64_t q = 1; q <= MAXQ; q++) {
+                cpa_dw_row r = {.q = q, .nrows = rows, .src_step = STEP, .ntap = ntaps[nt],
+                                .src = src, .w = wts, .bias = 0.75f};
+                const size_t n = (size_t)(rows * q);
+                for (size_t i = 0; i <= n; i++) y0[i] = y1[i] = 12345.0f;
+                r.y = y0;
+                cpa_dw_row_ref(&r);
+                r.y = y1;
+                cpa_dw_row_avx2(&r);
+                if (memcmp(y0, y1, (n + 1) * sizeof(float)) != 0)
+                    fail_msg("ntap %d rows %lld q %lld: AVX2 differs from portable", ntaps[nt],
+                             (long long)rows, (long long)q);
+                assert_true(y1[n] == 12345.0f); /* the float past the rows stays untouched */
+                assert_true(y0[0] != 12345.0f); /* the portable kernel wrote */
+            }
 }
 
 static void test_supports(void **state) {
