@@ -12,8 +12,10 @@
     X(cpa_direct_flipidx)     \
     X(cpa_im2col_gemm)        \
     X(cpa_winograd_2x2_3x3)   \
+    X(cpa_winograd_4x4_3x3)   \
     X(cpa_blocked)            \
-    X(cpa_blocked_flipidx)
+    X(cpa_blocked_flipidx)    \
+    X(cpa_depthwise)
 
 #define CPA_DECLARE(v) extern const cp_algo v;
 #define CPA_ENTRY(v) &v,

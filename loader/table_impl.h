@@ -54,6 +54,14 @@ static inline int cpl_entry_cmp(const cp_table_entry *a, const cp_table_entry *b
 }
 
 /* table_entry.c: entries[idx] -> out and its settings_key. */
+/* Clears *out (no bound, error not recorded) and validates s; CP_EINVAL with
+ * "invalid shape: ..." in msg when it fails (table_lookup.c). */
+cp_status cpl_lookup_start(const cp_shape *s, cp_choice *out, char *msg, size_t cap);
+
+/* The recorded error of the entry's chosen candidate, NaN when it has none
+ * (table_bounded.c). */
+double cpl_entry_chosen_err(const cp_table_entry *e);
+
 cp_status cpl_decode_entry(const cpl_jctx *c, const json_t *e, size_t idx, cp_table_entry *out,
                            char *key, size_t keycap, const cp_cache_sizes *caches);
 /* table_index.c */

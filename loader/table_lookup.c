@@ -75,20 +75,29 @@ static int compatible(const cp_table_entry *e, const cp_shape *s, cp_flip flip) 
            groups_class(a) == groups_class(s) && e->algo->supports(s, flip, NULL, 0);
 }
 
-cp_status cp_table_lookup(const cp_table *t, const cp_shape *s, cp_flip flip, int threads,
-                          cp_choice *out, char *msg, size_t cap) {
+cp_status cpl_lookup_start(const cp_shape *s, cp_choice *out, char *msg, size_t cap) {
     memset(out, 0, sizeof *out);
+    out->max_rel_err = INFINITY;
+    out->rel_err = NAN;
     char why[200];
     if (!s || cp_shape_validate(s, why, sizeof why) != CP_SHAPE_OK) {
         if (msg && cap) snprintf(msg, cap, "invalid shape: %s", s ? why : "no shape given");
         return CP_EINVAL;
     }
+    return CP_OK;
+}
+
+cp_status cp_table_lookup(const cp_table *t, const cp_shape *s, cp_flip flip, int threads,
+                          cp_choice *out, char *msg, size_t cap) {
+    const cp_status st = cpl_lookup_start(s, out, msg, cap);
+    if (st != CP_OK) return st;
     const cp_table_entry *e = cp_table_find(t, s, flip, threads);
     if (e) {
         out->match = CP_MATCH_EXACT;
         out->algo = e->algo;
         out->params = e->params;
         out->entry = e;
+        out->rel_err = cpl_entry_chosen_err(e);
         snprintf(out->why, sizeof out->why,
                  "entry '%s' has this shape, flip and %d thread(s); measured median %.4g ms",
                  e->name, e->threads, 1e3 * e->timing.median);

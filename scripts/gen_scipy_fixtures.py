@@ -12,11 +12,14 @@ so every input, product and partial sum is exact in float32 and the expected
 outputs are exact whatever the summation order.
 
 File format (ours): lines starting with '#' are comments; each case is
-  case NAME op=OP mode=MODE c=C k=K h=H w=W r=R s=S p=P q=Q
+  case NAME op=OP mode=MODE c=C k=K h=H w=W r=R s=S p=P q=Q g=G st=T
   x C*H*W numbers (C x H x W, row-major)
-  w K*C*R*S numbers (K x C x R x S, row-major, unflipped)
+  w K*(C/G)*R*S numbers (K x C/G x R x S, row-major, unflipped)
   y K*P*Q numbers (K x P x Q, row-major)
-where y[k] = sum over c of OP(x[c], w[k, c], mode=MODE)."""
+where, for G = 1, y[k] = sum over c of OP(x[c], w[k, c], mode=MODE); for
+depthwise cases (G = C, K = M*C) y[k] = OP(x[k // M], w[k, 0], mode=MODE),
+one SciPy call per channel.  T > 1 keeps every T-th row and column of SciPy's
+output, starting at 0 (y[::T, ::T]): the stride-T layer with the same pads."""
 
 import os
 import sys
@@ -45,6 +48,15 @@ GEOMETRIES = [
     ("multi3to2_5x5_k2x2", 3, 2, 5, 5, 2, 2),
 ]
 
+# Depthwise (groups = C): (name, c, multiplier, h, w, r, s, stride).
+DEPTHWISE = [
+    ("dw4_9x11_k3x3", 4, 1, 9, 11, 3, 3, 1),
+    ("dw3_13x10_k3x3_st2", 3, 1, 13, 10, 3, 3, 2),
+    ("dw2_8x7_k5x5_st3", 2, 1, 8, 7, 5, 5, 3),
+    ("dw2x2_6x9_k2x3", 2, 2, 6, 9, 2, 3, 1),
+    ("dw3_1x1_k1x1", 3, 1, 1, 1, 1, 1, 1),
+]
+
 
 def data(count, seed, mul, mod, scale):
     """Small dyadic values: ((i*mul + seed) % mod - mod//2) * scale."""
@@ -54,6 +66,16 @@ def data(count, seed, mul, mod, scale):
 
 def fmt(values):
     return " ".join(repr(float(v)) for v in np.asarray(values).ravel())
+
+
+def emit(lines, name, opname, mode, dims, groups, stride, x, wt, y):
+    c, k, h, w, r, s = dims
+    lines.append("case %s op=%s mode=%s c=%d k=%d h=%d w=%d r=%d s=%d p=%d q=%d g=%d st=%d"
+                 % (name, opname, mode, c, k, h, w, r, s, y.shape[1], y.shape[2], groups,
+                    stride))
+    lines.append("x " + fmt(x))
+    lines.append("w " + fmt(wt))
+    lines.append("y " + fmt(y))
 
 
 def main():
@@ -73,12 +95,16 @@ def main():
             for mode in MODES:
                 y = np.stack([sum(op(x[ci], wt[ki, ci], mode=mode) for ci in range(c))
                               for ki in range(k)])
-                p, q = y.shape[1], y.shape[2]
-                lines.append("case %s op=%s mode=%s c=%d k=%d h=%d w=%d r=%d s=%d p=%d q=%d"
-                             % (name, opname, mode, c, k, h, w, r, s, p, q))
-                lines.append("x " + fmt(x))
-                lines.append("w " + fmt(wt))
-                lines.append("y " + fmt(y))
+                emit(lines, name, opname, mode, (c, k, h, w, r, s), 1, 1, x, wt, y)
+    for di, (name, c, mult, h, w, r, s, st) in enumerate(DEPTHWISE):
+        k = c * mult
+        x = data(c * h * w, 5 + di, 5, 13, 0.5).reshape(c, h, w)
+        wt = data(k * r * s, 1 + 3 * di, 3, 7, 0.25).reshape(k, 1, r, s)
+        for opname, op in OPS.items():
+            for mode in MODES:
+                y = np.stack([op(x[ki // mult], wt[ki, 0], mode=mode)[::st, ::st]
+                              for ki in range(k)])
+                emit(lines, name, opname, mode, (c, k, h, w, r, s), c, st, x, wt, y)
     tmp = out + ".tmp"
     with open(tmp, "w", encoding="ascii") as f:
         f.write("\n".join(lines) + "\n")

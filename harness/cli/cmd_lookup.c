@@ -2,6 +2,7 @@
  * would run for one layer, and says how the answer was found (exact entry,
  * nearest compatible entry, or the default). */
 #include <jansson.h>
+#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -24,10 +25,14 @@ static void usage(FILE *f) {
           "                      kernel read flipped) (default: no)\n\n"
           "options:\n"
           "  --threads N         thread count to look up (default: any, fewest recorded)\n"
+          "  --max-rel-err X     answer with the fastest candidate the exact entry\n"
+          "                      recorded with an error against the oracle <= X\n"
+          "                      (default: the table's choice, within tune's bound)\n"
           "  --strict-device     refuse a table made on another device (default: accept)\n"
           "  --json              print one JSON object instead of text (default: text)\n",
           f);
-    cph_help_end(f, "0 answered, 1 the answer could not be printed, 2 bad usage or input");
+    cph_help_end(f, "0 answered, 1 no exact entry or no candidate within --max-rel-err, or "
+                    "the answer could not be printed, 2 bad usage or input");
 }
 
 static void print_text(const cp_table *t, const cp_choice *c) {
@@ -37,6 +42,9 @@ static void print_text(const cp_table *t, const cp_choice *c) {
     printf("params:    %s\n", params[0] ? params : "(none)");
     printf("match:     %s\n", cp_match_str(c->match));
     if (c->entry) printf("entry:     %s (%d thread(s))\n", c->entry->name, c->entry->threads);
+    if (isfinite(c->max_rel_err))
+        printf("bound:     rel_err <= %.3g (the answer's recorded rel_err %.3g)\n",
+               c->max_rel_err, c->rel_err);
     printf("why:       %s\n", c->why);
     if (!cp_table_device_matches(t))
         printf("note:      the table was made on another device (fingerprint %s)\n",
@@ -53,6 +61,9 @@ static int print_json(const cp_table *t, const cp_choice *c) {
                           c->entry ? c->entry->threads : 0, "why", c->why, "device_matches",
                           cp_table_device_matches(t));
     if (!o) return 1;
+    json_object_set_new(o, "max_rel_err",
+                        isfinite(c->max_rel_err) ? json_real(c->max_rel_err) : json_null());
+    json_object_set_new(o, "rel_err", isfinite(c->rel_err) ? json_real(c->rel_err) : json_null());
     char *s = json_dumps(o, JSON_COMPACT);
     json_decref(o);
     if (!s) return 1;
@@ -66,17 +77,19 @@ typedef struct lookup_opts {
     cp_flip flip;
     int threads, json;
     unsigned flags;
+    double max_rel_err; /* INFINITY: no bound asked */
 } lookup_opts;
 
 /* Returns -1 to go on, else the exit code (the error already reported). */
 static int parse(int argc, char **argv, lookup_opts *o) {
-    enum { OPT_THREADS = 1, OPT_STRICT, OPT_JSON };
+    enum { OPT_THREADS = 1, OPT_STRICT, OPT_JSON, OPT_MAXERR };
     static const struct option longopts[] = {
         {"shape", required_argument, NULL, CPH_OPT_SHAPE},
         {"flip", required_argument, NULL, CPH_OPT_FLIP},
         {"threads", required_argument, NULL, OPT_THREADS},
         {"strict-device", no_argument, NULL, OPT_STRICT},
         {"json", no_argument, NULL, OPT_JSON},
+        {"max-rel-err", required_argument, NULL, OPT_MAXERR},
         CPH_OPTS_HELP_END,
     };
     int opt, nflip;
@@ -95,6 +108,12 @@ static int parse(int argc, char **argv, lookup_opts *o) {
             break;
         case OPT_STRICT: o->flags |= CP_TABLE_STRICT_DEVICE; break;
         case OPT_JSON: o->json = 1; break;
+        case OPT_MAXERR: {
+            const int rc = cph_opt_double("lookup", "--max-rel-err", optarg, 0.0, 1e300,
+                                          "a number >= 0", &o->max_rel_err);
+            if (rc) return rc;
+            break;
+        }
         case 'h': usage(stdout); return CPH_EXIT_OK;
         default: return CPH_EXIT_USAGE;
         }
@@ -122,7 +141,15 @@ static int lookup(const lookup_opts *o) {
     }
     cp_choice c;
     int rc = CPH_EXIT_OK;
-    if (cp_table_lookup(t, &shape, o->flip, o->threads, &c, msg, sizeof msg) != CP_OK) {
+    const cp_status st =
+        isfinite(o->max_rel_err)
+            ? cp_table_lookup_bounded(t, &shape, o->flip, o->threads, o->max_rel_err, &c, msg,
+                                      sizeof msg)
+            : cp_table_lookup(t, &shape, o->flip, o->threads, &c, msg, sizeof msg);
+    if (st == CP_ENOTFOUND) {
+        cph_err("lookup: %s", msg);
+        rc = CPH_EXIT_FAIL;
+    } else if (st != CP_OK) {
         cph_err("lookup: %s", msg);
         rc = CPH_EXIT_USAGE;
     } else if (o->json) {
@@ -138,7 +165,7 @@ static int lookup(const lookup_opts *o) {
 }
 
 int cph_cmd_lookup(int argc, char **argv) {
-    lookup_opts o = {NULL, NULL, CP_XCORR, 0, 0, 0};
+    lookup_opts o = {NULL, NULL, CP_XCORR, 0, 0, 0, INFINITY};
     const int rc = parse(argc, argv, &o);
     return rc >= 0 ? rc : lookup(&o);
 }

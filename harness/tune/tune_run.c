@@ -17,6 +17,7 @@
 #include "harness/machine/membudget.h"
 #include "harness/machine/pool.h"
 #include "harness/measure/progress.h"
+#include "harness/tune/tradeoff.h"
 
 static volatile sig_atomic_t stop_requested = 0;
 
@@ -193,6 +194,9 @@ static int tune_one(tune_state *t, const cph_layer *L, cp_flip flip, int threads
                           pbuf[0] ? ")" : "", e.timing.median * 1e3,
                           e.runner_up ? e.runner_up->name : "none", e.margin * 100.0,
                           e.margin_in_noise ? "in the noise" : "confident", rep.rounds);
+    char trade[400];
+    if (st == CP_OK && cph_tradeoff_line(&e, trade, sizeof trade))
+        cph_progress_note(&t->pr, "[layer %d/%d] %s: %s", t->done_work, t->nwork, lname, trade);
     cph_tune_entry_free(&e);
     if (st != CP_OK) {
         cph_progress_done(&t->pr);

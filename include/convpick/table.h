@@ -120,6 +120,11 @@ typedef struct cp_choice {
     cp_params params;
     const cp_table_entry *entry; /* the entry used, NULL for CP_MATCH_DEFAULT */
     char why[256];               /* one line: how the answer was found */
+    double max_rel_err;          /* the error bound the answer was chosen within: the
+                                    one given to cp_table_lookup_bounded, or INFINITY
+                                    (cp_table_lookup: the bound tune used applies) */
+    double rel_err;              /* the answer's recorded error against the oracle,
+                                    NaN when not recorded (nearest match, default) */
 } cp_choice;
 
 /* Lookup rules.
@@ -138,6 +143,26 @@ typedef struct cp_choice {
  * Fails only for an invalid shape (CP_EINVAL). */
 cp_status cp_table_lookup(const cp_table *t, const cp_shape *s, cp_flip flip, int threads,
                           cp_choice *out, char *msg, size_t cap);
+
+/* 1 when tune timed candidate c: neither disqualified nor failed, with a
+ * finite recorded error and a positive median time. */
+int cp_candidate_timed(const cp_candidate *c);
+
+/* Accuracy-aware lookup: the exact entry of this shape, flip and threads
+ * (rule 1 above) answered with the fastest candidate whose recorded error is
+ * at most max_rel_err.  The candidates are those tune timed (neither
+ * disqualified nor failed, finite error): the entry's chosen one when its
+ * error is within the bound (the winner of the race), else the one with the
+ * smallest recorded median time among those within it.  out->max_rel_err is
+ * the bound used, out->rel_err the answer's recorded error; why names both.
+ * Errors: CP_EINVAL for an invalid shape or a bound that is NaN or negative;
+ * CP_ENOTFOUND with a one-line reason when there is no exact entry (an error
+ * bound needs recorded errors: no approximate answer is given) or no
+ * recorded candidate within the bound (the message names the most accurate
+ * one recorded). */
+cp_status cp_table_lookup_bounded(const cp_table *t, const cp_shape *s, cp_flip flip,
+                                  int threads, double max_rel_err, cp_choice *out, char *msg,
+                                  size_t cap);
 
 /* Dispatch in one call: looks the shape up and creates a plan with the chosen
  * algorithm and parameters, preparing the weights once.  The plan's workspace

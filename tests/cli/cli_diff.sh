@@ -120,7 +120,7 @@ r["algo"] = "blocked"
 r["params"] = {"order": 0, "tile_isa": 1, "pb": 3, "cb": 4, "kb": 2}
 json.dump(d, open(sys.argv[2], "w"))
 PY
-want="$("$CLI" algos | awk '/^blocked /{b=1; next} b && /^[a-z]/{exit} b && NF > 2 && $1 != "parameters:" {printf "%s%s", s, $1; s=","}')"
+want="$("$CLI" algos | awk '/^blocked /{b=1; next} b && /^[a-z]/{b = 0} b && NF > 2 && $1 != "parameters:" {printf "%s%s", s, $1; s=","}')"
 [ "$want" = "kb,cb,pb,tile_isa,order" ] || fail "blocked's declared parameters read as '$want'"
 expect 0 "" -- "$CLI" diff "$tmp/params.json" "$tmp/params.json"
 grep -qE " blocked +kb=2,cb=4,pb=3,tile_isa=1,order=0 " "$tmp/out" ||

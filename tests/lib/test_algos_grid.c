@@ -64,6 +64,16 @@ static const grid_shape grid[] = {
     {"5x5 full",                    1, 2,  7, 13, 2, 5, 5, 1, 1, 1, 1, 1, F, 0, 0, 0, 0},
     {"batch 3, groups 2, stride 2", 3, 4, 13,  7, 4, 3, 3, 2, 2, 1, 1, 2, F, 0, 0, 0, 0},
     {"dilation 2, stride 2",        2, 3, 17, 17, 2, 3, 3, 2, 2, 2, 2, 1, SA, 0, 0, 0, 0},
+    /* Depthwise (groups == c) on the same awkward geometry, for the depthwise kernel. */
+    {"dw 1x1 image, 3x3 same",      1, 3,  1,  1, 3, 3, 3, 1, 1, 1, 1, 3, SA, 0, 0, 0, 0},
+    {"dw H < kernel, padded",       1, 2,  2,  9, 2, 3, 3, 1, 1, 1, 1, 2, EXPLICIT, 1, 0, 1, 0},
+    {"dw W < kernel, 3x5 same",     1, 2,  6,  2, 2, 3, 5, 1, 1, 1, 1, 2, SA, 0, 0, 0, 0},
+    {"dw odd 37x19, valid",         1, 5, 37, 19, 5, 3, 3, 1, 1, 1, 1, 5, V, 0, 0, 0, 0},
+    {"dw stride 2, odd 41x45 same", 1, 4, 41, 45, 4, 3, 3, 2, 2, 1, 1, 4, SA, 0, 0, 0, 0},
+    {"dw stride 3, 5x5 asym pads",  1, 3, 23, 29, 3, 5, 5, 3, 3, 1, 1, 3, EXPLICIT, 2, 0, 1, 2},
+    {"dw stride 2x3, dil 2x1",      1, 2, 17, 40, 2, 3, 3, 2, 3, 2, 1, 2, EXPLICIT, 0, 1, 2, 1},
+    {"dw batch 3, x3 multiplier",   3, 2, 11, 35, 6, 3, 3, 1, 1, 1, 1, 2, F, 0, 0, 0, 0},
+    {"single channel C=1 K=3",      1, 1,  9, 33, 3, 3, 3, 1, 1, 1, 1, 1, SA, 0, 0, 0, 0},
 };
 #undef V
 #undef SA

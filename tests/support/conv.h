@@ -5,6 +5,7 @@
 #define CONVPICK_TEST_SUPPORT_CONV_H
 
 #include <stddef.h>
+#include <stdint.h>
 
 #include "convpick/algo.h"
 #include "convpick/oracle.h"
@@ -15,6 +16,18 @@
  * write is caught.  Returns the first failing status with a reason in msg. */
 cp_status cpt_run_plan(const cp_algo *a, const cp_shape *s, cp_flip flip, const float *x,
                        const float *w, const float *bias, float *y, char *msg, size_t cap);
+
+/* The same with explicit parameters (NULL: the defaults). */
+cp_status cpt_run_plan_params(const cp_algo *a, const cp_shape *s, cp_flip flip,
+                              const cp_params *params, const float *x, const float *w,
+                              const float *bias, float *y, char *msg, size_t cap);
+
+/* Runs a with params (NULL: defaults) on seeded random tensors for s -- x,
+ * weights and bias uniform in [-1, 1) from seeds seed, seed+1, seed+2 -- and
+ * measures it against cp_oracle_run into *err. */
+cp_status cpt_check_random(const cp_algo *a, const cp_shape *s, cp_flip flip,
+                           const cp_params *params, uint64_t seed, cp_error *err, char *msg,
+                           size_t cap);
 
 /* Runs a as above and measures it against cp_oracle_run.  On success *err
  * holds the measure; y (may be NULL) receives the output. */

@@ -29,4 +29,9 @@ void cpt_wino_f2x2_3x3_tile(const float d[16], const float g[9], float y[4], lon
 /* F(2,3) on one row: y (2) from d (4) and g (3); mults as above. */
 void cpt_wino_f2_3(const float d[4], const float g[3], float y[2], long *mults);
 
+/* F(4x4,3x3) on one tile, from the matrices of Lavin & Gray 2016 (section
+ * 4.2, interpolation points 0, 1, -1, 2, -2, infinity): y (4x4) from d (6x6)
+ * and g (3x3), all row-major; mults as above. */
+void cpt_wino_f4x4_3x3_tile(const float d[36], const float g[9], float y[16], long *mults);
+
 #endif
