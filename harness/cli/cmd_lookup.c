@@ -27,6 +27,7 @@ static void usage(FILE *f) {
           "  --strict-device     refuse a table made on another device (default: accept)\n"
           "  --json              print one JSON object instead of text (default: text)\n",
           f);
+    cph_help_plugin(f);
     cph_help_end(f, "0 answered, 1 the answer could not be printed, 2 bad usage or input");
 }
 
@@ -77,6 +78,7 @@ static int parse(int argc, char **argv, lookup_opts *o) {
         {"threads", required_argument, NULL, OPT_THREADS},
         {"strict-device", no_argument, NULL, OPT_STRICT},
         {"json", no_argument, NULL, OPT_JSON},
+        CPH_OPT_PLUGIN_ENTRY,
         CPH_OPTS_HELP_END,
     };
     int opt, nflip;
@@ -95,6 +97,9 @@ static int parse(int argc, char **argv, lookup_opts *o) {
             break;
         case OPT_STRICT: o->flags |= CP_TABLE_STRICT_DEVICE; break;
         case OPT_JSON: o->json = 1; break;
+        case CPH_OPT_PLUGIN:
+            if (cph_opt_plugin("lookup", optarg)) return CPH_EXIT_USAGE;
+            break;
         case 'h': usage(stdout); return CPH_EXIT_OK;
         default: return CPH_EXIT_USAGE;
         }
