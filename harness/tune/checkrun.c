@@ -6,6 +6,7 @@
 #include <math.h>
 #include <signal.h>
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 #include <sys/mman.h>
 #include <sys/wait.h>
@@ -93,4 +94,28 @@ static cp_status run_child(const cph_check_run *r, float *y, size_t ny, char *wh
 cp_status cph_check_run_once(const cph_check_run *r, float *y, size_t ny, char *why, size_t cap) {
     if (r->isolate && cp_algo_plugin(r->algo)) return run_child(r, y, ny, why, cap);
     return run_here(r, r->exec, y, ny, why, cap);
+}
+
+cp_status cph_check_against_oracle(const cph_check_run *r, char *why, size_t cap) {
+    const size_t ny = cp_shape_output_elems(r->shape);
+    float *y = malloc(ny * sizeof *y);
+    double *ref = malloc(ny * sizeof *ref), *mag = malloc(ny * sizeof *mag);
+    cp_status st = CP_ENOMEM;
+    if (!y || !ref || !mag) {
+        snprintf(why, cap, "cannot allocate the oracle's buffers");
+        goto out;
+    }
+    cp_oracle_run(r->shape, r->flip, r->x, r->w, r->bias, ref, mag);
+    if ((st = cph_check_run_once(r, y, ny, why, cap)) != CP_OK) goto out;
+    const cp_error e = cp_error_measure(y, ref, mag, ny);
+    if (e.nonfinite || !(e.rel_err <= r->algo->tolerance)) {
+        snprintf(why, cap, "error %.3g above its tolerance %.3g against the oracle%s", e.rel_err,
+                 r->algo->tolerance, e.nonfinite ? " (non-finite outputs)" : "");
+        st = CP_EINVAL;
+    }
+out:
+    free(y);
+    free(ref);
+    free(mag);
+    return st;
 }

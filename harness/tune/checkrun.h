@@ -28,4 +28,11 @@ typedef struct cph_check_run {
  * message, or "crashed in its checking run: signal 11 (SIGSEGV)"). */
 cp_status cph_check_run_once(const cph_check_run *r, float *y, size_t ny, char *why, size_t cap);
 
+/* The whole check for a command that does not compare with the oracle itself
+ * (bench, before timing a plugin algorithm): the oracle on r's tensors, the
+ * checking run, and the error within the algorithm's tolerance.  CP_OK, or
+ * CP_EINVAL / the run's status with why ("error 0.5 above its tolerance
+ * 1e-05", a crash, ...). */
+cp_status cph_check_against_oracle(const cph_check_run *r, char *why, size_t cap);
+
 #endif
