@@ -354,13 +354,14 @@ void cph_help_max_memory(FILE *f) {
 
 void cph_help_plugin(FILE *f) {
     fputs("  --plugin FILE       load the algorithms of a plugin (a shared library, see\n"
-          "                      convpick/plugin.h); repeatable\n",
+          "                      convpick/plugin.h); repeatable (default: none)\n",
           f);
 }
 
 void cph_help_isolate(FILE *f) {
     fputs("  --isolate           run each plugin algorithm's checking run in a child\n"
-          "                      process: a crash fails that algorithm, not the command\n",
+          "                      process: a crash fails that algorithm, not the command\n"
+          "                      (default: in this process)\n",
           f);
 }
 
