@@ -18,26 +18,8 @@ for v in good good2 wrong crash clash badabi badparam noentry; do
 done
 
 fails=0
-die() { echo "FAIL: $*" >&2; fails=$((fails + 1)); }
-
-# expect CODE FRAGMENT -- command...: exit status CODE and FRAGMENT on stderr
-# as its only line (or on stdout when FRAGMENT starts with 'stdout:').
-expect() {
-  local code=$1 frag=$2
-  shift 3
-  local rc=0
-  "$@" >"$T/out" 2>"$T/err" || rc=$?
-  if [[ $rc -ne $code ]]; then
-    die "'$*' exited $rc, expected $code; stderr: $(head -3 "$T/err")"
-    return 0
-  fi
-  if [[ $frag == stdout:* ]]; then
-    grep -qF -- "${frag#stdout:}" "$T/out" || die "'$*': stdout lacks '${frag#stdout:}'"
-  elif [[ -n $frag ]]; then
-    grep -qF -- "$frag" "$T/err" || die "'$*': stderr '$(cat "$T/err")' lacks '$frag'"
-    [[ $(wc -l <"$T/err") -eq 1 ]] || die "'$*': stderr is not one line: $(cat "$T/err")"
-  fi
-}
+# die, expect (one error line, exit status)
+source "$(dirname "$0")/expect.sh"
 
 SH="n=1,c=4,h=8,w=8,k=4,r=3,s=3,pad=1"
 # FNV-1a 64 of a file (Fowler-Noll-Vo, draft-eastlake-fnv: offset basis
