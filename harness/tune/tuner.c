@@ -234,7 +234,7 @@ cp_status cph_tune_layer(const cph_tune_request *rq, cp_table_entry *entry,
             /* Kept in the table with why (a plugin's crash names the signal). */
             report->failed++;
             snprintf(report->candidate_notes[nc], sizeof report->candidate_notes[nc],
-                     "failed: %s", why);
+                     "failed: %.80s", why);
             fprintf(stderr, "convpick tune: %s: %s failed: %s\n", layer->name,
                     plan[i].algo->name, why);
             nc++;
