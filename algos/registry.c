@@ -2,7 +2,8 @@
  * Adding an algorithm is a new file in algos/ that defines
  * `const cp_algo cpa_NAME = {...}` and one X(cpa_NAME) line in CPA_ALGOS
  * below: the list both declares the variables and fills the table, so no
- * header needs to know them. */
+ * header needs to know them.  Plugins' algorithms (loader/plugin.c) are the
+ * dynamic part at the end of the file, listed after the built-in ones. */
 #include <string.h>
 
 #include "algos/core/cpa.h"
