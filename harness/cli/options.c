@@ -47,14 +47,13 @@ int cph_opt_plugin(const char *cmd, const char *path) {
     return 0;
 }
 
-/* The --plugin options of argv, loaded before getopt reads any option (once
- * per argv). */
+/* The --plugin options of argv, loaded before getopt reads any option (on the
+ * first step of a parse, optind <= 1; loading a path twice is a no-op, so
+ * getopt meeting the same --plugin later changes nothing). */
 static int plugins_first(const char *cmd, int argc, char **argv, const struct option *longopts) {
-    static char **scanned;
     int takes = 0;
     for (const struct option *o = longopts; o->name; o++) takes |= o->val == CPH_OPT_PLUGIN;
-    if (!takes || argv == scanned) return 0;
-    scanned = argv;
+    if (!takes || optind > 1) return 0;
     for (int i = 1; i < argc && strcmp(argv[i], "--") != 0; i++) {
         const char *path = NULL;
         if (strcmp(argv[i], "--plugin") == 0 && i + 1 < argc)
