@@ -2,7 +2,9 @@
  * for one layer, creates the plan (weights prepared once) and runs it on
  * random data.  Links only libconvpick.
  *
- * usage: dispatch TABLE SPEC [no|yes] [THREADS]
+ * usage: dispatch [--plugin FILE]... TABLE SPEC [no|yes] [THREADS]
+ *   --plugin FILE: load a plugin's algorithms first (convpick/plugin.h); a table
+ *         chosen from a plugin needs the same build of it (examples/plugin/)
  *   no|yes: flip the kernel (true convolution) or not (cross-correlation, the default)
  *   SPEC: n,c,h,w,k,r,s,stride,pad (nine integers, e.g. 1,64,56,56,64,3,3,1,1), or all
  *         sixteen cp_shape fields: n,c,h,w,k,r,s,stride_h,stride_w,pad_top,pad_left,
@@ -33,8 +35,19 @@ static void fill(float *v, size_t n, uint64_t seed) {
 }
 
 int main(int argc, char **argv) {
+    char msg[512];
+    /* Plugins before the table: its entries may name their algorithms. */
+    while (argc > 2 && strcmp(argv[1], "--plugin") == 0) {
+        if (cp_plugin_load(argv[2], NULL, msg, sizeof msg) != CP_OK) {
+            fprintf(stderr, "dispatch: %s\n", msg);
+            return 2;
+        }
+        argv[2] = argv[0];
+        argv += 2;
+        argc -= 2;
+    }
     if (argc < 3 || argc > 5) {
-        fprintf(stderr, "usage: %s TABLE n,c,h,w,k,r,s,stride,pad [no|yes] [THREADS]\n", argv[0]);
+        fprintf(stderr, "usage: %s [--plugin FILE]... TABLE n,c,h,w,k,r,s,stride,pad [no|yes] [THREADS]\n", argv[0]);
         return 2;
     }
     long long f[16];
@@ -64,7 +77,6 @@ int main(int argc, char **argv) {
     cp_flip flip = argc > 3 && strcmp(argv[3], "yes") == 0 ? CP_CONV : CP_XCORR;
     int threads = argc > 4 ? atoi(argv[4]) : 1;
 
-    char msg[512];
     cp_table *t = NULL;
     if (cp_table_load(argv[1], 0, &t, msg, sizeof msg) != CP_OK) {
         fprintf(stderr, "dispatch: %s\n", msg);
@@ -108,5 +120,6 @@ done:
     free(w);
     free(y);
     cp_table_free(t);
+    cp_plugins_unload_all(); /* after every plan and table that used them */
     return rc;
 }

@@ -11,6 +11,7 @@
 #include "harness/io/report_json.h"
 #include "harness/measure/data.h"
 #include "harness/measure/gemm_ref.h"
+#include "harness/tune/checkrun.h"
 
 typedef struct work_arg {
     cp_plan *plan;
@@ -164,6 +165,15 @@ static void bench_algo(cph_bench_state *r, const cph_timing_opts *to, cph_bench_
     x->name = x->algo = a->name;
     if (!a->supports(&x->L->shape, x->flip, why, sizeof why)) {
         row_not_timed(r, x, "unsupported", why);
+        return;
+    }
+    /* A plugin's algorithm is checked against the oracle before it is timed. */
+    const cph_check_run cr = {a, &x->L->shape, x->flip, NULL, &r->caches, x->threads, xin, w,
+                              bias, exec, 0};
+    if (cp_algo_plugin(a) && cph_check_against_oracle(&cr, why, sizeof why) != CP_OK) {
+        char line[300];
+        snprintf(line, sizeof line, "check: %s", why);
+        row_not_timed(r, x, "error", line);
         return;
     }
     cp_plan *plan = NULL;

@@ -11,9 +11,11 @@ static void usage(FILE *f) {
     fputs("usage: convpick algos [OPTIONS]\n\n"
           "Lists every registered algorithm: its summary, the tolerance verify applies\n"
           "(error relative to sum|x||w| + |bias|, see convpick verify), and its tunable\n"
-          "parameters with their ranges, in the order the algorithm declares them.\n\n"
+          "parameters with their ranges, in the order the algorithm declares them, and\n"
+          "its origin: built-in, or the plugin it was loaded from (--plugin).\n\n"
           "options:\n",
           f);
+    cph_help_plugin(f);
     cph_help_end(f, "0 listed, 2 bad usage");
 }
 
@@ -28,6 +30,12 @@ static void list(void) {
     for (size_t i = 0; i < cp_algo_count(); i++) {
         const cp_algo *a = cp_algo_at(i);
         printf("%-*s  %-9.1e  %s\n", name_w, a->name, a->tolerance, a->summary);
+        const cp_plugin *pl = cp_algo_plugin(a);
+        if (pl)
+            printf("%-*s  origin: plugin %s (%s, hash %s)\n", name_w, "", cp_plugin_name(pl),
+                   cp_plugin_path(pl), cp_plugin_hash(pl));
+        else
+            printf("%-*s  origin: built-in\n", name_w, "");
         if (a->nparams == 0) {
             printf("%-*s  parameters: none\n", name_w, "");
             continue;
@@ -49,9 +57,13 @@ static void list(void) {
 }
 
 int cph_cmd_algos(int argc, char **argv) {
-    static const struct option longopts[] = {CPH_OPTS_HELP_END};
+    static const struct option longopts[] = {CPH_OPT_PLUGIN_ENTRY, CPH_OPTS_HELP_END};
     int opt;
     while ((opt = cph_opt_next("algos", argc, argv, longopts)) != -1) {
+        if (opt == CPH_OPT_PLUGIN) {
+            if (cph_opt_plugin("algos", optarg)) return CPH_EXIT_USAGE;
+            continue;
+        }
         if (opt != 'h') return CPH_EXIT_USAGE;
         usage(stdout);
         return CPH_EXIT_OK;

@@ -59,7 +59,7 @@ static int parse(int argc, char **argv, cph_bench_cfg *c) {
         CPH_OPT_MAX_MEMORY_ENTRY,
         CPH_OPTS_HELP_END,
     };
-    const cph_opt_dest dest = {"bench", &c->sel, &c->timing, &c->threads, &c->max_memory};
+    const cph_opt_dest dest = {"bench", &c->sel, &c->timing, &c->threads, &c->max_memory, NULL};
     int opt;
     while ((opt = cph_opt_next("bench", argc, argv, longopts)) != -1) {
         int rc = 0;

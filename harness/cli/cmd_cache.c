@@ -376,7 +376,7 @@ static int parse(int argc, char **argv, cache_opts *co) {
         {"rounds", required_argument, NULL, OPT_ROUNDS},
         CPH_OPTS_HELP_END,
     };
-    const cph_opt_dest dest = {"cache", &co->sel, NULL, NULL, NULL};
+    const cph_opt_dest dest = {"cache", &co->sel, NULL, NULL, NULL, NULL};
     cache_cli *c = &co->c;
     cph_study_opts *o = &co->o;
     int opt, rc;

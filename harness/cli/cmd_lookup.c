@@ -31,6 +31,7 @@ static void usage(FILE *f) {
           "  --strict-device     refuse a table made on another device (default: accept)\n"
           "  --json              print one JSON object instead of text (default: text)\n",
           f);
+    cph_help_plugin(f);
     cph_help_end(f, "0 answered, 1 no exact entry or no candidate within --max-rel-err, or "
                     "the answer could not be printed, 2 bad usage or input");
 }
@@ -90,6 +91,7 @@ static int parse(int argc, char **argv, lookup_opts *o) {
         {"strict-device", no_argument, NULL, OPT_STRICT},
         {"json", no_argument, NULL, OPT_JSON},
         {"max-rel-err", required_argument, NULL, OPT_MAXERR},
+        CPH_OPT_PLUGIN_ENTRY,
         CPH_OPTS_HELP_END,
     };
     int opt, nflip;
@@ -114,6 +116,9 @@ static int parse(int argc, char **argv, lookup_opts *o) {
             if (rc) return rc;
             break;
         }
+        case CPH_OPT_PLUGIN:
+            if (cph_opt_plugin("lookup", optarg)) return CPH_EXIT_USAGE;
+            break;
         case 'h': usage(stdout); return CPH_EXIT_OK;
         default: return CPH_EXIT_USAGE;
         }

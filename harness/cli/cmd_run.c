@@ -31,6 +31,7 @@ static void usage(FILE *f) {
           "  --output FILE       where to write the output (required)\n",
           f);
     cph_help_max_memory(f);
+    cph_help_plugin(f);
     cph_help_end(f, "0 written, 1 the computation or the write failed, 2 bad usage or input");
 }
 
@@ -136,6 +137,7 @@ static int parse(int argc, char **argv, run_opts *o) {
         {"bias", required_argument, NULL, OPT_BIAS},
         {"output", required_argument, NULL, OPT_OUTPUT},
         CPH_OPT_MAX_MEMORY_ENTRY,
+        CPH_OPT_PLUGIN_ENTRY,
         CPH_OPTS_HELP_END,
     };
     int opt;
@@ -143,6 +145,9 @@ static int parse(int argc, char **argv, run_opts *o) {
         const char **slot = NULL;
         switch (opt) {
         case 'h': usage(stdout); return CPH_EXIT_OK;
+        case CPH_OPT_PLUGIN:
+            if (cph_opt_plugin("run", optarg)) return CPH_EXIT_USAGE;
+            continue;
         case CPH_OPT_SHAPE: slot = &o->spec; break;
         case CPH_OPT_ALGO: slot = &o->algo; break;
         case CPH_OPT_FLIP: slot = &o->flip_arg; break;

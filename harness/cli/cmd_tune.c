@@ -41,6 +41,7 @@ static void usage(FILE *f) {
           "                      lowers --trial-samples; --target-ci is not used)\n",
           f);
     cph_help_max_memory(f);
+    cph_help_isolate(f);
     fputs("  --quiet             no progress on stderr (default: progress)\n", f);
     cph_help_end(f, "0 done, 1 a layer had no qualifying candidate, 2 bad usage or input,\n"
                     "130 interrupted (the table holds every finished layer)");
@@ -73,11 +74,13 @@ static int parse(int argc, char **argv, tune_cli *t) {
         {"alpha", required_argument, NULL, OPT_ALPHA},
         {"no-place", no_argument, NULL, OPT_NO_PLACE},
         CPH_OPT_MAX_MEMORY_ENTRY,
+        CPH_OPT_ISOLATE_ENTRY,
         CPH_OPTS_HELP_END,
     };
     cph_tune_job *j = &t->job;
     cph_tune_opts *o = &j->opts;
-    const cph_opt_dest dest = {"tune", &t->sel, &o->timing, &j->threads, &j->max_memory};
+    const cph_opt_dest dest = {"tune",          &t->sel,         &o->timing,
+                               &j->threads,     &j->max_memory,  &o->isolate};
     int opt;
     long long n;
     while ((opt = cph_opt_next("tune", argc, argv, longopts)) != -1) {

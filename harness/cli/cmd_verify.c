@@ -16,6 +16,7 @@
 #include "harness/machine/membudget.h"
 #include "harness/cli/options.h"
 #include "harness/select/shape_spec.h"
+#include "harness/tune/checkrun.h"
 
 static void usage(FILE *f) {
     fputs("usage: convpick verify SELECTION [OPTIONS]\n\n"
@@ -26,6 +27,7 @@ static void usage(FILE *f) {
     cph_help_selection(f, "both");
     fputs("options:\n", f);
     cph_help_max_memory(f);
+    cph_help_isolate(f);
     cph_help_end(f, "0 all applicable checks passed, 1 a check failed, 2 bad usage or input");
 }
 
@@ -38,6 +40,7 @@ static uint64_t tensor_seed(uint64_t seed, size_t layer, int flip, int tensor) {
 typedef struct {
     int passed, failed, na;
     int name_w, algo_w;
+    int isolate; /* --isolate: plugin algorithms checked in a child process */
 } tally;
 
 static void row(const tally *t, const char *layer, cp_flip flip, const cp_algo *a,
@@ -57,31 +60,23 @@ static void check_algo(tally *t, const cph_layer *L, cp_flip flip, const cp_algo
         t->na++;
         return;
     }
-    cp_plan *plan = NULL;
     const cp_cache_sizes caches = cp_cache_sizes_fallback();
-    cp_status st = cp_plan_create(a, &L->shape, flip, NULL, &caches, 1, w, &plan, why, sizeof why);
-    if (st == CP_OK) {
-        const size_t ny = cp_shape_output_elems(&L->shape);
-        /* Poison the output so that an algorithm that skips elements fails. */
-        for (size_t i = 0; i < ny; i++) y[i] = (float)NAN;
-        st = cp_plan_run(plan, x, bias, y, NULL);
-        if (st != CP_OK) snprintf(why, sizeof why, "run failed: %s", cp_status_str(st));
-        cp_plan_destroy(plan);
-        if (st == CP_OK) {
-            const cp_error e = cp_error_measure(y, ref, mag, ny);
-            const int ok = e.nonfinite == 0 && e.rel_err <= a->tolerance;
-            char extra[64] = "";
-            if (e.nonfinite)
-                snprintf(extra, sizeof extra, "  (%zu non-finite outputs)", e.nonfinite);
-            snprintf(line, sizeof line, "%-10.3e %-10.3e %-9.1e %s%s", e.abs_err, e.rel_err,
-                     a->tolerance, ok ? "PASS" : "FAIL", extra);
-            row(t, L->name, flip, a, line);
-            if (ok)
-                t->passed++;
-            else
-                t->failed++;
-            return;
-        }
+    const size_t ny = cp_shape_output_elems(&L->shape);
+    /* The output is poisoned first, so that an algorithm that skips elements fails. */
+    const cph_check_run cr = {a, &L->shape, flip, NULL, &caches, 1, x, w, bias, NULL, t->isolate};
+    if (cph_check_run_once(&cr, y, ny, why, sizeof why) == CP_OK) {
+        const cp_error e = cp_error_measure(y, ref, mag, ny);
+        const int ok = e.nonfinite == 0 && e.rel_err <= a->tolerance;
+        char extra[64] = "";
+        if (e.nonfinite) snprintf(extra, sizeof extra, "  (%zu non-finite outputs)", e.nonfinite);
+        snprintf(line, sizeof line, "%-10.3e %-10.3e %-9.1e %s%s", e.abs_err, e.rel_err,
+                 a->tolerance, ok ? "PASS" : "FAIL", extra);
+        row(t, L->name, flip, a, line);
+        if (ok)
+            t->passed++;
+        else
+            t->failed++;
+        return;
     }
     snprintf(line, sizeof line, "%-10s %-10s %-9.1e %-7s %s", "-", "-", a->tolerance, "FAIL", why);
     row(t, L->name, flip, a, line);
@@ -128,14 +123,15 @@ out:
 typedef struct verify_opts {
     cph_selection sel;
     uint64_t budget; /* 0: the default, found only when needed */
+    int isolate;
 } verify_opts;
 
 /* Returns -1 to go on, else the exit code (the error already reported). */
 static int parse(int argc, char **argv, verify_opts *o) {
     static const struct option longopts[] = {
-        CPH_OPTS_SELECTION, CPH_OPT_MAX_MEMORY_ENTRY, CPH_OPTS_HELP_END,
+        CPH_OPTS_SELECTION, CPH_OPT_MAX_MEMORY_ENTRY, CPH_OPT_ISOLATE_ENTRY, CPH_OPTS_HELP_END,
     };
-    const cph_opt_dest dest = {"verify", &o->sel, NULL, NULL, &o->budget};
+    const cph_opt_dest dest = {"verify", &o->sel, NULL, NULL, &o->budget, &o->isolate};
     int opt;
     while ((opt = cph_opt_next("verify", argc, argv, longopts)) != -1) {
         if (opt == 'h') {
@@ -162,7 +158,7 @@ static int verify(const verify_opts *o) {
         return CPH_EXIT_USAGE;
     }
     int rc = CPH_EXIT_OK;
-    tally t = {0, 0, 0, 5, 4};
+    tally t = {0, 0, 0, 5, 4, o->isolate};
     for (size_t i = 0; i < s->layers.n; i++) {
         int len = (int)strlen(s->layers.v[i].name);
         if (len > t.name_w) t.name_w = len;

@@ -10,6 +10,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "convpick/plugin.h"
 #include "harness/cli/cli.h"
 #include "harness/machine/membudget.h"
 #include "harness/machine/pool.h"
@@ -37,7 +38,35 @@ const char *cph_opt_name(const struct option *longopts, int code, char *buf, siz
     return buf;
 }
 
+int cph_opt_plugin(const char *cmd, const char *path) {
+    for (size_t i = 0; i < cp_plugin_count(); i++)
+        if (strcmp(cp_plugin_path(cp_plugin_at(i)), path) == 0) return 0;
+    char msg[512];
+    if (cp_plugin_load(path, NULL, msg, sizeof msg) != CP_OK)
+        return cph_opt_error(cmd, "--plugin", "%s", msg);
+    return 0;
+}
+
+/* The --plugin options of argv, loaded before getopt reads any option (on the
+ * first step of a parse, optind <= 1; loading a path twice is a no-op, so
+ * getopt meeting the same --plugin later changes nothing). */
+static int plugins_first(const char *cmd, int argc, char **argv, const struct option *longopts) {
+    int takes = 0;
+    for (const struct option *o = longopts; o->name; o++) takes |= o->val == CPH_OPT_PLUGIN;
+    if (!takes || optind > 1) return 0;
+    for (int i = 1; i < argc && strcmp(argv[i], "--") != 0; i++) {
+        const char *path = NULL;
+        if (strcmp(argv[i], "--plugin") == 0 && i + 1 < argc)
+            path = argv[++i];
+        else if (strncmp(argv[i], "--plugin=", 9) == 0)
+            path = argv[i] + 9;
+        if (path && cph_opt_plugin(cmd, path)) return CPH_OPT_BAD;
+    }
+    return 0;
+}
+
 int cph_opt_next(const char *cmd, int argc, char **argv, const struct option *longopts) {
+    if (plugins_first(cmd, argc, argv, longopts)) return CPH_OPT_BAD;
     opterr = 0; /* the one line is ours */
     optopt = 0;
     const int opt = getopt_long(argc, argv, ":h", longopts, NULL);
@@ -257,6 +286,11 @@ int cph_opt_shared(const cph_opt_dest *d, int opt, const char *arg) {
         *d->threads = arg;
         return cph_opt_threads(d->cmd, arg);
     }
+    if (opt == CPH_OPT_PLUGIN) return cph_opt_plugin(d->cmd, arg);
+    if (opt == CPH_OPT_ISOLATE && d->isolate) {
+        *d->isolate = 1;
+        return 0;
+    }
     if (opt == CPH_OPT_MAX_MEMORY && d->max_memory)
         return cph_opt_max_memory(d->cmd, arg, d->max_memory);
     return cph_opt_error(d->cmd, NULL, "internal: option code %d has no destination", opt);
@@ -294,6 +328,7 @@ void cph_help_selection(FILE *f, const char *default_flip) {
                 "                      network layer computes), yes (true convolution, the\n"
                 "                      kernel read flipped) or both (default: %s)\n",
                 default_flip);
+    cph_help_plugin(f);
     fputs("  --seed N            seed of the random tensors (default: 1)\n\n", f);
 }
 
@@ -313,6 +348,19 @@ void cph_help_max_memory(FILE *f) {
     fputs("  --max-memory B|P%   refuse a layer whose buffers and workspace need more than B\n"
           "                      bytes (suffix K, M or G) or P % of the machine's memory\n"
           "                      (default: 50%)\n",
+          f);
+}
+
+void cph_help_plugin(FILE *f) {
+    fputs("  --plugin FILE       load the algorithms of a plugin (a shared library, see\n"
+          "                      convpick/plugin.h); repeatable (default: none)\n",
+          f);
+}
+
+void cph_help_isolate(FILE *f) {
+    fputs("  --isolate           run each plugin algorithm's checking run in a child\n"
+          "                      process: a crash fails that algorithm, not the command\n"
+          "                      (default: in this process)\n",
           f);
 }
 

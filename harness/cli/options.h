@@ -37,7 +37,9 @@ enum {
     CPH_OPT_TARGET_CI,
     CPH_OPT_MAX_SECONDS,
     CPH_OPT_MAX_SAMPLES,
-    CPH_OPT_COLD
+    CPH_OPT_COLD,
+    CPH_OPT_PLUGIN,
+    CPH_OPT_ISOLATE
 };
 
 /* getopt_long entries: a command lists the groups it takes, then its own. */
@@ -47,13 +49,18 @@ enum {
         {"suite", required_argument, NULL, CPH_OPT_SUITE},                                  \
         {"algo", required_argument, NULL, CPH_OPT_ALGO},                                    \
         {"flip", required_argument, NULL, CPH_OPT_FLIP},                                    \
-        {"seed", required_argument, NULL, CPH_OPT_SEED}
+        {"seed", required_argument, NULL, CPH_OPT_SEED}, CPH_OPT_PLUGIN_ENTRY
 #define CPH_OPTS_TIMING                                                                     \
     {"threads", required_argument, NULL, CPH_OPT_THREADS},                                  \
         {"target-ci", required_argument, NULL, CPH_OPT_TARGET_CI},                          \
         {"max-seconds", required_argument, NULL, CPH_OPT_MAX_SECONDS},                      \
         {"max-samples", required_argument, NULL, CPH_OPT_MAX_SAMPLES},                      \
         {"cold", no_argument, NULL, CPH_OPT_COLD}
+/* --plugin FILE (repeatable): every command that selects algorithms takes it
+ * (in CPH_OPTS_SELECTION; lookup, run and algos list it alone).  --isolate:
+ * verify and tune run a plugin candidate's checking run in a child process. */
+#define CPH_OPT_PLUGIN_ENTRY {"plugin", required_argument, NULL, CPH_OPT_PLUGIN}
+#define CPH_OPT_ISOLATE_ENTRY {"isolate", no_argument, NULL, CPH_OPT_ISOLATE}
 #define CPH_OPT_MAX_MEMORY_ENTRY {"max-memory", required_argument, NULL, CPH_OPT_MAX_MEMORY}
 /* Last in every table: --help and the end marker. */
 #define CPH_OPTS_HELP_END {"help", no_argument, NULL, 'h'}, {NULL, 0, NULL, 0}
@@ -66,7 +73,10 @@ int cph_opt_error(const char *cmd, const char *opt, const char *fmt, ...)
 /* getopt_long under the convention: returns the next option's code, -1 after
  * the last option, or CPH_OPT_BAD after printing the line for an unknown
  * or ambiguous option, a missing value or a value given to a flag.  "-h" is accepted
- * everywhere as --help. */
+ * everywhere as --help.  When longopts has --plugin, the first call loads
+ * every "--plugin FILE" / "--plugin=FILE" of argv before any option is read,
+ * so --algo may name a plugin's algorithms wherever --plugin stands
+ * (CPH_OPT_BAD after the line when one is refused). */
 enum { CPH_OPT_BAD = -2 };
 int cph_opt_next(const char *cmd, int argc, char **argv, const struct option *longopts);
 
@@ -88,6 +98,9 @@ int cph_opt_threads(const char *cmd, const char *arg);
 /* Writes at most max counts, each in [1, cores]; returns how many, or < 1
  * after the error line. */
 int cph_opt_threads_read(const char *cmd, const char *arg, int cores, int *out, int max);
+/* --plugin: loads the plugin (cp_plugin_load) unless that path is loaded
+ * already; 0, or CPH_EXIT_USAGE after the line naming the plugin and why. */
+int cph_opt_plugin(const char *cmd, const char *path);
 /* --max-memory: bytes (K, M, G) or a percentage of the machine's memory. */
 int cph_opt_max_memory(const char *cmd, const char *arg, uint64_t *out);
 
@@ -98,6 +111,7 @@ typedef struct cph_opt_dest {
     cph_timing_opts *timing; /* CPH_OPTS_TIMING except --threads */
     const char **threads;    /* --threads: the list, its syntax checked */
     uint64_t *max_memory;    /* --max-memory */
+    int *isolate;            /* --isolate */
 } cph_opt_dest;
 
 /* Any shared option (or CPH_OPT_BAD, already reported) into d: 0, or
@@ -117,6 +131,9 @@ void cph_help_selection(FILE *f, const char *default_flip);
 /* --threads and the timing options; max_seconds: the command's default. */
 void cph_help_timing(FILE *f, double max_seconds);
 void cph_help_max_memory(FILE *f);
+/* --plugin (cph_help_selection prints it too) and --isolate. */
+void cph_help_plugin(FILE *f);
+void cph_help_isolate(FILE *f);
 /* The last lines: "  -h, --help ..." and the exit status text. */
 void cph_help_end(FILE *f, const char *exit_status);
 

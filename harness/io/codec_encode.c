@@ -7,6 +7,17 @@
 
 json_t *cph_json_number(double x) { return isfinite(x) ? json_real(x) : json_null(); }
 
+json_t *cph_json_add_plugin(json_t *obj, const cp_algo *a) {
+    const cp_plugin *p = a ? cp_algo_plugin(a) : NULL;
+    if (!obj || !p) return obj;
+    json_t *pj = json_pack("{s:s, s:s}", "name", cp_plugin_name(p), "hash", cp_plugin_hash(p));
+    if (!pj || json_object_set_new(obj, "plugin", pj) != 0) {
+        json_decref(obj);
+        return NULL;
+    }
+    return obj;
+}
+
 static json_t *uint_json(size_t v) { return json_integer((json_int_t)v); }
 
 json_t *cph_json_shape(const cp_shape *s) {

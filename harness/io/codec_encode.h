@@ -26,6 +26,10 @@ json_t *cph_json_shape(const cp_shape *s);
 json_t *cph_json_flipped(cp_flip f);
 /* {"name": value, ...} in the algorithm's parameter order ({} for NULL). */
 json_t *cph_json_params(const cp_algo *a, const cp_params *p);
+/* Adds "plugin": {"name", "hash"} to obj (an algorithm object of a table:
+ * choice, runner_up, a candidate) when a is a plugin's; obj itself is
+ * returned (NULL stays NULL; NULL also when out of memory). */
+json_t *cph_json_add_plugin(json_t *obj, const cp_algo *a);
 /* The timing object of a table: {"stats": {"n", "median", "ci_lo", "ci_hi",
  * "noisy"}, "samples": [...] (only when samples && n)}; a bench measurement
  * (report_json.h) is the same object with more fields. */

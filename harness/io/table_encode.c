@@ -45,11 +45,14 @@ json_t *cph_table_settings_json(const cph_table_settings *s, const cph_machine *
 
 static json_t *candidate_json(const cp_candidate *c, const char *note) {
     const int timed = !c->failed && !(c->disqualified && c->timing.samples == 0);
-    return json_pack("{s:s, s:o, s:o, s:o, s:s, s:s}", "algo", c->algo, "params",
-                     cph_json_params(cp_algo_find(c->algo), &c->params), "timing",
-                     timed ? cph_json_timing(&c->timing, c->samples, c->nsamples) : json_null(),
-                     "rel_err", c->failed ? json_null() : cph_json_number(c->rel_err), "status",
-                     c->failed ? "failed" : c->disqualified ? "disqualified" : "ok", "note", note);
+    const cp_algo *a = cp_algo_find(c->algo);
+    return cph_json_add_plugin(
+        json_pack("{s:s, s:o, s:o, s:o, s:s, s:s}", "algo", c->algo, "params",
+                  cph_json_params(a, &c->params), "timing",
+                  timed ? cph_json_timing(&c->timing, c->samples, c->nsamples) : json_null(),
+                  "rel_err", c->failed ? json_null() : cph_json_number(c->rel_err), "status",
+                  c->failed ? "failed" : c->disqualified ? "disqualified" : "ok", "note", note),
+        a);
 }
 
 static json_t *tried_json(const cph_entry_notes *n) {
@@ -74,18 +77,23 @@ json_t *cph_table_entry_json(const cp_table_entry *e, const cph_entry_notes *n, 
     json_t *ru = json_null();
     if (e->runner_up) {
         const int bounded = isfinite(e->margin_lo) && isfinite(e->margin_hi);
-        ru = json_pack("{s:s, s:o, s:o, s:o, s:b}", "algo", e->runner_up->name, "params",
-                       cph_json_params(e->runner_up, &e->runner_up_params), "margin",
-                       cph_json_number(e->margin), "margin_interval",
-                       bounded ? json_pack("[f, f]", e->margin_lo, e->margin_hi) : json_null(),
-                       "in_noise", e->margin_in_noise ? 1 : 0);
+        ru = cph_json_add_plugin(
+            json_pack("{s:s, s:o, s:o, s:o, s:b}", "algo", e->runner_up->name, "params",
+                      cph_json_params(e->runner_up, &e->runner_up_params), "margin",
+                      cph_json_number(e->margin), "margin_interval",
+                      bounded ? json_pack("[f, f]", e->margin_lo, e->margin_hi) : json_null(),
+                      "in_noise", e->margin_in_noise ? 1 : 0),
+            e->runner_up);
     }
-    return json_pack("{s:s, s:o, s:o, s:i, s:{s:s, s:o}, s:o, s:o, s:o, s:o, s:s}", "name",
-                     e->name, "shape", cph_json_shape(&e->shape), "flipped",
-                     cph_json_flipped(e->flip), "threads", e->threads, "choice", "algo",
-                     e->algo ? e->algo->name : "", "params", cph_json_params(e->algo, &e->params),
-                     "timing", cph_json_timing(&e->timing, NULL, 0), "runner_up", ru,
-                     "candidates", cands, "tried", tried_json(n), "settings_key", key);
+    json_t *choice =
+        cph_json_add_plugin(json_pack("{s:s, s:o}", "algo", e->algo ? e->algo->name : "",
+                                      "params", cph_json_params(e->algo, &e->params)),
+                            e->algo);
+    return json_pack("{s:s, s:o, s:o, s:i, s:o, s:o, s:o, s:o, s:o, s:s}", "name", e->name,
+                     "shape", cph_json_shape(&e->shape), "flipped", cph_json_flipped(e->flip),
+                     "threads", e->threads, "choice", choice, "timing",
+                     cph_json_timing(&e->timing, NULL, 0), "runner_up", ru, "candidates", cands,
+                     "tried", tried_json(n), "settings_key", key);
 }
 
 int cph_table_entry_key(const json_t *e, char *buf, size_t cap) {

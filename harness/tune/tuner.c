@@ -10,6 +10,7 @@
 #include "harness/measure/data.h"
 #include "harness/measure/stats.h"
 #include "harness/tune/candidates.h"
+#include "harness/tune/checkrun.h"
 #include "harness/tune/trial.h"
 
 void cph_tune_defaults(cph_tune_opts *o) {
@@ -78,18 +79,17 @@ typedef enum { TRY_FAILED, TRY_DISQUALIFIED, TRY_QUALIFIED } try_outcome;
 
 /* Checks one planned candidate against the oracle: a plan and one run. */
 static try_outcome qualify(const cph_tune_request *rq, const cph_planned *pl, tensors *t,
-                           cp_candidate *c) {
-    cp_plan *plan = NULL;
-    char why[256];
-    if (cp_plan_create(pl->algo, &rq->layer->shape, rq->flip, &pl->params, rq->caches,
-                       rq->threads, t->w, &plan, why, sizeof why) != CP_OK)
-        return TRY_FAILED;
+                           cp_candidate *c, char *why, size_t cap) {
     snprintf(c->algo, sizeof c->algo, "%s", pl->algo->name);
     c->params = pl->params;
-    for (size_t k = 0; k < t->ny; k++) t->y[k] = NAN;
-    const cp_status st = cp_plan_run(plan, t->x, t->bias, t->y, rq->exec);
-    cp_plan_destroy(plan);
-    if (st != CP_OK) return TRY_FAILED;
+    const cph_check_run cr = {pl->algo,   &rq->layer->shape, rq->flip, &pl->params,
+                              rq->caches, rq->threads,       t->x,     t->w,
+                              t->bias,    rq->exec,          rq->opts->isolate};
+    if (cph_check_run_once(&cr, t->y, t->ny, why, cap) != CP_OK) {
+        c->failed = 1;
+        c->rel_err = NAN;
+        return TRY_FAILED;
+    }
     c->rel_err = cp_error_measure(t->y, t->ref, t->mag, t->ny).rel_err;
     if (!(c->rel_err <= rq->opts->max_rel_err)) {
         c->disqualified = 1;
@@ -228,9 +228,16 @@ cp_status cph_tune_layer(const cph_tune_request *rq, cp_table_entry *entry,
             rq->progress(rq->progress_arg, &pr);
         }
         memset(&cands[nc], 0, sizeof cands[nc]);
-        switch (qualify(rq, &plan[i], &t, &cands[nc])) {
+        char why[256] = "";
+        switch (qualify(rq, &plan[i], &t, &cands[nc], why, sizeof why)) {
         case TRY_FAILED:
+            /* Kept in the table with why (a plugin's crash names the signal). */
             report->failed++;
+            snprintf(report->candidate_notes[nc], sizeof report->candidate_notes[nc],
+                     "failed: %.80s", why);
+            fprintf(stderr, "convpick tune: %s: %s failed: %s\n", layer->name,
+                    plan[i].algo->name, why);
+            nc++;
             break;
         case TRY_DISQUALIFIED:
             report->disqualified++;

@@ -42,6 +42,7 @@ typedef struct cph_tune_opts {
     int max_candidates;      /* per algorithm, including its defaults */
     cph_race_opts race;      /* rounds and drop level; its budget and seed are set per layer */
     int place;               /* 1: trial buffers at random offsets (default); 0: aligned */
+    int isolate;             /* 1: a plugin candidate's checking run in a child process */
 } cph_tune_opts;
 
 void cph_tune_defaults(cph_tune_opts *o);

@@ -2,7 +2,9 @@
  *
  * Every algorithm is a constant cp_algo value listed in the registry
  * (algos/registry.c).  Adding one is a new file in algos/ that defines it and
- * one line in the registry table.
+ * one line in the registry table; an algorithm from outside the tree keeps
+ * the same contract in a plugin (convpick/plugin.h), appended to the registry
+ * at run time after the built-in ones.
  *
  * Rules every algorithm keeps:
  *  - Layouts: input NCHW, weights KCRS, output NKPQ (NCHW), float32, densely
@@ -112,7 +114,8 @@ typedef struct cp_algo {
 
 /* --- The registry --------------------------------------------------------- */
 
-/* Number of registered algorithms and the i-th of them (NULL out of range). */
+/* Number of registered algorithms and the i-th of them (NULL out of range):
+ * the built-in ones, then those of loaded plugins (convpick/plugin.h). */
 size_t cp_algo_count(void);
 const cp_algo *cp_algo_at(size_t i);
 /* The algorithm of that name, or NULL. */

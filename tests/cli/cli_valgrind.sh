@@ -50,4 +50,20 @@ if valgrind -q --error-exitcode=99 --leak-check=full --errors-for-leak-kinds=def
 fi
 if grep -q . "$tmp/bad.vg"; then echo "FAIL: valgrind reported on a refused table"; cat "$tmp/bad.vg"; exit 1; fi
 echo "ok: lookup on a non-table (error path)"
+# Plugins (tests/plugins/): loading and an isolated checking run, a refusal
+# (its dlclose path), and load/unload cycles through the library alone
+# (tests/lib/test_plugins.c).
+P="$(cd "$(dirname "$CLI")" && pwd)/tests/plugins"
+vg plugins verify --shape c=4,h=8,w=8,k=4,r=3,pad=1 --plugin "$P/cptp_good.so" --algo tp_loops,direct \
+   --isolate
+if valgrind -q --error-exitcode=99 --leak-check=full --errors-for-leak-kinds=definite \
+     --log-file="$tmp/refused.vg" "$CLI" algos --plugin "$P/cptp_clash.so" >/dev/null 2>&1; then
+  echo "FAIL: a clashing plugin should be refused"; exit 1
+fi
+if grep -q . "$tmp/refused.vg"; then echo "FAIL: valgrind reported on a refused plugin"; cat "$tmp/refused.vg"; exit 1; fi
+valgrind -q --error-exitcode=99 --leak-check=full --errors-for-leak-kinds=definite \
+  --log-file="$tmp/libplug.vg" "$(dirname "$CLI")/tests/test_plugins" >/dev/null 2>&1 ||
+  { echo "FAIL: test_plugins under valgrind"; cat "$tmp/libplug.vg"; exit 1; }
+if grep -q . "$tmp/libplug.vg"; then echo "FAIL: valgrind reported on test_plugins"; cat "$tmp/libplug.vg"; exit 1; fi
+echo "ok: plugins (a refusal, load/unload cycles)"
 echo "cli_valgrind: all checks passed"
