@@ -103,8 +103,8 @@ cp_status cph_onnx_import_buffer(const uint8_t *data, size_t len, const char *na
     Cponnx__ModelProto *m = cponnx__model_proto__unpack(NULL, len, data);
     if (!m)
         return cpa_fail(CP_EFORMAT, msg, cap,
-                        "%s: not an ONNX model (protobuf decoding failed: the file is truncated "
-                        "or not protobuf)", c.file);
+                        "%s: not an ONNX model (it does not decode as one: truncated, not "
+                        "protobuf, or another protobuf message)", c.file);
     cp_status st;
     if (!m->graph || !m->has_ir_version)
         st = cpa_fail(CP_EFORMAT, msg, cap, "%s: decodes as protobuf but is not an ONNX model (%s)",

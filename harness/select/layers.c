@@ -57,6 +57,27 @@ cp_status cph_layers_add(cph_layer_list *l, const char *name, const cp_shape *s,
     return CP_OK;
 }
 
+cp_status cph_layers_add_names(cph_layer_list *l, const char *names, const cp_shape *s, int count) {
+    const char *comma = strchr(names, ',');
+    char *first = strndup(names, comma ? (size_t)(comma - names) : strlen(names));
+    if (!first) return CP_ENOMEM;
+    cp_status st = cph_layers_add(l, first, s, count);
+    free(first);
+    for (size_t i = 0; i < l->n && st == CP_OK && comma; i++)
+        if (cp_shape_equal(&l->v[i].shape, s)) {
+            /* The other names join the layer that now holds the shape. */
+            for (const char *p = comma + 1; p && st == CP_OK;) {
+                const char *e = strchr(p, ',');
+                char *one = strndup(p, e ? (size_t)(e - p) : strlen(p));
+                st = one ? join_name(&l->v[i], one) : CP_ENOMEM;
+                free(one);
+                p = e ? e + 1 : NULL;
+            }
+            break;
+        }
+    return st;
+}
+
 const char *cph_layer_names(const cph_layer *L) { return L->names ? L->names : L->name; }
 
 long long cph_layers_total(const cph_layer_list *l) {

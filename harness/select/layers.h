@@ -26,6 +26,8 @@ typedef struct cph_layer_list {
 /* Appends a layer; a shape already in the list adds count to that layer's
  * and name to its names (a name it already holds is not repeated). */
 cp_status cph_layers_add(cph_layer_list *l, const char *name, const cp_shape *s, int count);
+/* The same with names given as "a,b,c" (as cph_layer_names gives them). */
+cp_status cph_layers_add_names(cph_layer_list *l, const char *names, const cp_shape *s, int count);
 void cph_layers_free(cph_layer_list *l);
 
 /* Every name of the layer ("a" or "a,b,c"). */
