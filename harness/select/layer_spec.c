@@ -71,13 +71,13 @@ static cp_status take_count(char *spec, const char *ctx, int *count, char *msg, 
                                     "%s%scount=%s: expected an integer in [1, 1000000]", CTX(ctx), v);
                 *count = (int)n;
                 /* Drop the item and its separator. */
-                if (comma)
+                if (comma) {
                     memmove(p, comma + 1, strlen(comma + 1) + 1);
-                else if (p > spec)
-                    p[-1] = '\0';
-                else
-                    *p = '\0';
-                continue;
+                    continue; /* p now holds the next item */
+                }
+                if (p > spec) p[-1] = '\0'; /* the last item: cut with its ',' */
+                *p = '\0';
+                break;
             }
         }
         p = comma ? comma + 1 : NULL;

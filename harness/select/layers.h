@@ -7,6 +7,7 @@
 #define CONVPICK_LAYERS_H
 
 #include <stddef.h>
+#include <stdio.h>
 
 #include "convpick/convpick.h"
 
@@ -35,5 +36,8 @@ const char *cph_layer_names(const cph_layer *L);
 
 /* The sum of the counts: the number of conv layers in the network. */
 long long cph_layers_total(const cph_layer_list *l);
+
+/* Lists the layers: "  NAME  xCOUNT SPEC[  names: a,b]" a line. */
+void cph_layers_print(FILE *f, const cph_layer_list *l);
 
 #endif
