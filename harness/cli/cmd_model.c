@@ -20,7 +20,7 @@ static void usage(FILE *f) {
           "options:\n"
           "  --batch N           every layer's batch size n (and a symbolic one's)\n"
           "  --input-size H,W    a graph input's symbolic height and width\n"
-          "  -o, --output FILE   write the shape file there (default: standard output)\n"
+          "  --output FILE       write the shape file there (default: standard output)\n"
           "  --partial           when an operator cannot be propagated, still write the\n"
           "                      layers found before it (the exit status stays 2)\n"
           "  --tensors           also list every tensor shape the propagation computed\n"
