@@ -20,7 +20,7 @@ static void print_one(FILE *f, const cph_bench_recs *r, const cph_layer_list *l,
             cph_net_add(&t, x->name, x->count, x->median);
             if (x->kind == CPH_ROW_ALGO && x->median < best) best = x->median;
         }
-        if (isfinite(best)) cph_net_add(&t, "best per layer", l->v[li].count, best);
+        if (isfinite(best)) cph_net_add(&t, "best of each", l->v[li].count, best);
     }
     cph_net_print(f, &t);
 }

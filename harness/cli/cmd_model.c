@@ -1,5 +1,5 @@
 /* convpick model: the Conv layers of an ONNX model as a shape file, to read,
- * edit and give back with --shapes (or use the model directly with --model). */
+ * edit and give back with --shapes (or use the model directly with --onnx). */
 #define _POSIX_C_SOURCE 200809L /* open_memstream */
 #include <stdio.h>
 #include <stdlib.h>
@@ -16,15 +16,18 @@ static void usage(FILE *f) {
           "Reads the Conv layers of an ONNX model (input sizes by shape propagation from\n"
           "the graph inputs) and writes them as a shape file: one 'name: spec' line per\n"
           "Conv node, layers of identical shape with count=N.  Edit it and give it back\n"
-          "with --shapes, or give the model itself with --model.\n\n"
+          "with --shapes, or give the model itself with --onnx.\n\n"
           "options:\n"
-          "  --batch N           every layer's batch size n (and a symbolic one's)\n"
-          "  --input-size H,W    a graph input's symbolic height and width\n"
+          "  --batch N           every layer's batch size n, a symbolic one too\n"
+          "                      (default: the model's)\n"
+          "  --input-size H,W    a graph input's symbolic height and width (default: none,\n"
+          "                      a symbolic size is refused)\n"
           "  --output FILE       write the shape file there (default: standard output)\n"
           "  --partial           when an operator cannot be propagated, still write the\n"
-          "                      layers found before it (the exit status stays 2)\n"
+          "                      layers found before it; the exit status stays 2\n"
+          "                      (default: write nothing)\n"
           "  --tensors           also list every tensor shape the propagation computed\n"
-          "                      (as '# tensor NAME DIMS' comments)\n",
+          "                      as '# tensor NAME DIMS' comments (default: layers only)\n",
           f);
     cph_help_end(f, "0 written, 2 bad usage or a model that cannot be read");
 }

@@ -198,7 +198,7 @@ int cph_opt_selection(const char *cmd, cph_selection *sel, int opt, const char *
     }
     case CPH_OPT_MODEL:
         if (sel->nmodels == CPH_SELECTION_MAX_MODELS)
-            return cph_opt_error(cmd, "--model", "more than %d models", CPH_SELECTION_MAX_MODELS);
+            return cph_opt_error(cmd, "--onnx", "more than %d models", CPH_SELECTION_MAX_MODELS);
         sel->models[sel->nmodels++] = arg;
         return 0;
     case CPH_OPT_BATCH: {
@@ -295,7 +295,7 @@ int cph_opt_models(const char *cmd, cph_selection *sel) {
     const cph_onnx_opts o = {sel->batch, sel->input_h, sel->input_w};
     for (size_t i = 0; i < sel->nmodels; i++)
         if (cph_onnx_import(sel->models[i], &o, &sel->layers, NULL, msg, sizeof msg) != CP_OK)
-            return cph_opt_error(cmd, "--model", "%s", msg);
+            return cph_opt_error(cmd, "--onnx", "%s", msg);
     sel->nmodels = 0;
     if (sel->batch > 0 && cph_selection_set_batch(sel, sel->batch) != CP_OK)
         return cph_opt_error(cmd, "--batch", "out of memory");
@@ -319,7 +319,7 @@ int cph_opt_no_operands(const char *cmd, int argc, char **argv) {
 }
 
 void cph_help_selection(FILE *f, const char *default_flip) {
-    fputs("shape selection (give at least one of --shape, --shapes, --suite, --model):\n"
+    fputs("shape selection (give at least one of --shape, --shapes, --suite, --onnx):\n"
           "  --shape [NAME:]SPEC a layer, e.g. n=1,c=64,h=56,w=56,k=64,r=3,s=3,stride=1,pad=1\n"
           "                      (keys: n c h w k r s stride[_h|_w]\n"
           "                      pad[_h|_w|_top|_left|_bottom|_right] dilation[_h|_w] groups;\n"
@@ -328,10 +328,12 @@ void cph_help_selection(FILE *f, const char *default_flip) {
           "  --shapes FILE       layers from a file: one spec a line, optional 'name:' first,\n"
           "                      '#' comments\n"
           "  --suite NAME        a built-in network: resnet50, vgg16, mobilenet_v1, demo\n"
-          "  --model FILE.onnx   the Conv layers of an ONNX model (convpick model writes\n"
+          "  --onnx FILE         the Conv layers of an ONNX model (convpick model writes\n"
           "                      them as a shape file); repeatable\n"
-          "  --batch N           every layer's batch size n (and a model's symbolic one)\n"
-          "  --input-size H,W    a model input's symbolic height and width\n"
+          "  --batch N           every layer's batch size n, a model's symbolic one too\n"
+          "                      (default: each layer's own)\n"
+          "  --input-size H,W    an ONNX input's symbolic height and width (default: none,\n"
+          "                      a symbolic size is refused)\n"
           "  --algo A,B          only these algorithms (default: all; see convpick algos)\n",
           f);
     if (default_flip)

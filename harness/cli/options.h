@@ -48,7 +48,7 @@ enum {
     {"shape", required_argument, NULL, CPH_OPT_SHAPE},                                      \
         {"shapes", required_argument, NULL, CPH_OPT_SHAPES},                                \
         {"suite", required_argument, NULL, CPH_OPT_SUITE},                                  \
-        {"model", required_argument, NULL, CPH_OPT_MODEL},                                  \
+        {"onnx", required_argument, NULL, CPH_OPT_MODEL},                                  \
         {"batch", required_argument, NULL, CPH_OPT_BATCH},                                  \
         {"input-size", required_argument, NULL, CPH_OPT_INPUT_SIZE},                        \
         {"algo", required_argument, NULL, CPH_OPT_ALGO},                                    \
@@ -97,7 +97,7 @@ int cph_opt_threads_read(const char *cmd, const char *arg, int cores, int *out, 
 /* --max-memory: bytes (K, M, G) or a percentage of the machine's memory. */
 int cph_opt_max_memory(const char *cmd, const char *arg, uint64_t *out);
 
-/* Imports the --model files (after --batch and --input-size are known) and
+/* Imports the --onnx files (after --batch and --input-size are known) and
  * applies --batch to every layer; 0, or CPH_EXIT_USAGE after the error line.
  * cph_opt_selection_finish calls it. */
 int cph_opt_models(const char *cmd, cph_selection *sel);

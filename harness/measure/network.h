@@ -14,7 +14,7 @@
 #define CPH_NET_MAX_ROWS 40
 
 typedef struct cph_net_row {
-    char name[32];     /* "chosen", an algorithm, "best per layer" */
+    char name[32];     /* "chosen", an algorithm, "best of each" (layer) */
     double seconds;    /* sum of count x median over the covered layers */
     size_t covered;    /* layers (shapes) with a time */
 } cph_net_row;

@@ -45,7 +45,7 @@ cp_status cph_selection_finish(cph_selection *sel, const cp_flip *default_flips,
     }
     if (sel->layers.n == 0)
         return cpa_fail(CP_EINVAL, msg, cap,
-                        "no layers selected (give --shape, --shapes, --suite or --model)");
+                        "no layers selected (give --shape, --shapes, --suite or --onnx)");
     return CP_OK;
 }
 

@@ -19,7 +19,7 @@ typedef struct cph_selection {
     cp_flip flips[2];
     int nflips;           /* 0 until finished = the command's default */
     uint64_t seed;        /* default 1 */
-    /* Models (--model) are imported when the options are finished, after
+    /* Models (--onnx) are imported when the options are finished, after
      * --batch and --input-size are known; their layers come after the others. */
     const char *models[CPH_SELECTION_MAX_MODELS];
     size_t nmodels;
