@@ -154,6 +154,91 @@ def unsupported():
     return g.model([y])
 
 
+# --- the published networks of the built-in suites, rebuilt as graphs ------
+# Weights are graph inputs (shapes only, no data), so the files stay small.
+# The Conv layers must come out equal to --suite NAME, shape for shape with
+# counts; every size between them is propagated from the 1x3x224x224 input
+# (and compared with infer_shapes like every other model).
+
+def bn_relu(g, y, c, relu=True):
+    ps = [g.inp(f"{g.t('bn')}.{p}", [c]) for p in ("s", "b", "m", "v")]
+    y = g.node("BatchNormalization", [y] + ps)
+    return g.node("Relu", [y]) if relu else y
+
+
+def head(g, y, c, classes=1000):
+    y = g.node("GlobalAveragePool", [y])
+    y = g.node("Flatten", [y])
+    return g.node("Gemm", [y, g.inp("fc.weight", [classes, c])], transB=1)
+
+
+def resnet50():
+    """He et al., CVPR 2016, Table 1 (50-layer); stride 2 on the first 1x1 of a
+    downsampling block, projection shortcuts on every stage's first block."""
+    g = G("resnet50")
+    y = g.conv(g.inp("image", [1, 3, 224, 224]), 3, 64, 7, "conv1", strides=[2, 2],
+               pads=[3, 3, 3, 3], weights_as_input=True)
+    y = bn_relu(g, y, 64)
+    y = g.node("MaxPool", [y], kernel_shape=[3, 3], strides=[2, 2], pads=[1, 1, 1, 1])
+    cin = 64
+    for stage, blocks, width, stride in ((2, 3, 64, 1), (3, 4, 128, 2), (4, 6, 256, 2),
+                                         (5, 3, 512, 2)):
+        for blk in range(1, blocks + 1):
+            s = stride if blk == 1 else 1
+            nm = f"conv{stage}_{blk}"
+            a = g.conv(y, cin, width, 1, nm + ".a", strides=[s, s], weights_as_input=True)
+            a = bn_relu(g, a, width)
+            a = g.conv(a, width, width, 3, nm + ".b", pads=[1, 1, 1, 1], weights_as_input=True)
+            a = bn_relu(g, a, width)
+            a = g.conv(a, width, 4 * width, 1, nm + ".c", weights_as_input=True)
+            a = bn_relu(g, a, 4 * width, relu=False)
+            sc = y
+            if blk == 1:
+                sc = g.conv(y, cin, 4 * width, 1, nm + ".proj", strides=[s, s],
+                            weights_as_input=True)
+                sc = bn_relu(g, sc, 4 * width, relu=False)
+            y = g.node("Relu", [g.node("Add", [a, sc])])
+            cin = 4 * width
+    return g.model([head(g, y, cin)])
+
+
+def vgg16():
+    """Simonyan & Zisserman, ICLR 2015, Table 1 configuration D."""
+    g = G("vgg16")
+    y, cin = g.inp("image", [1, 3, 224, 224]), 3
+    for blk, convs, width in ((1, 2, 64), (2, 2, 128), (3, 3, 256), (4, 3, 512), (5, 3, 512)):
+        for j in range(1, convs + 1):
+            y = g.conv(y, cin, width, 3, f"conv{blk}_{j}", pads=[1, 1, 1, 1], weights_as_input=True)
+            y = g.node("Relu", [y])
+            cin = width
+        y = g.node("MaxPool", [y], kernel_shape=[2, 2], strides=[2, 2])
+    y = g.node("Flatten", [y])
+    for i, (n_in, n_out) in enumerate(((25088, 4096), (4096, 4096), (4096, 1000))):
+        y = g.node("Gemm", [y, g.inp(f"fc{i + 6}.weight", [n_out, n_in])], transB=1)
+        if i < 2:
+            y = g.node("Dropout", [g.node("Relu", [y])])
+    return g.model([y])
+
+
+def mobilenet_v1():
+    """Howard et al., arXiv:1704.04861, Table 1, width 1.0; the last depthwise
+    layer at stride 1 (the table's sizes), as the built-in suite takes it."""
+    g = G("mobilenet_v1")
+    y = g.conv(g.inp("image", [1, 3, 224, 224]), 3, 32, 3, "conv1", strides=[2, 2],
+               pads=[1, 1, 1, 1], weights_as_input=True)
+    y = bn_relu(g, y, 32)
+    pairs = ((32, 64, 1), (64, 128, 2), (128, 128, 1), (128, 256, 2), (256, 256, 1),
+             (256, 512, 2), (512, 512, 1), (512, 512, 1), (512, 512, 1), (512, 512, 1),
+             (512, 512, 1), (512, 1024, 2), (1024, 1024, 1))
+    for i, (cin, cout, s) in enumerate(pairs):
+        y = g.conv(y, cin, cin, 3, f"conv{i + 2}.dw", group=cin, strides=[s, s],
+                   pads=[1, 1, 1, 1], weights_as_input=True)
+        y = bn_relu(g, y, cin)
+        y = g.conv(y, cin, cout, 1, f"conv{i + 2}.pw", weights_as_input=True)
+        y = bn_relu(g, y, cout)
+    return g.model([head(g, y, 1024)])
+
+
 def unchecked(name, nodes, inputs, inits):
     """A model the checker would refuse: the bad inputs of the importer."""
     g = helper.make_graph(nodes, name, inputs, [], inits)
@@ -222,6 +307,9 @@ def main():
     write(outdir, "autopad", autopad())
     write(outdir, "groups", groups())
     write(outdir, "symbolic", symbolic(False), expect_from=symbolic(True))
+    write(outdir, "resnet50", resnet50())
+    write(outdir, "vgg16", vgg16())
+    write(outdir, "mobilenet_v1", mobilenet_v1())
     um = unsupported()
     write(outdir, "unsupported", um)
     data = small_cnn().SerializeToString()

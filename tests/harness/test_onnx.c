@@ -14,6 +14,7 @@
 #include <cmocka.h>
 
 #include "harness/model/onnx_import.h"
+#include "harness/select/suites.h"
 
 #define DATA CP_TEST_DATA "/onnx/"
 
@@ -173,6 +174,43 @@ static void test_symbolic(void **state) {
     release(&r);
 }
 
+/* The published networks rebuilt as graphs by the generator (weights as graph
+ * inputs): every tensor against infer_shapes, and the Conv layers equal to the
+ * built-in suite, shape for shape with counts -- the suites come from the
+ * papers' tables (harness/select/suites.c cites them), the model's sizes from
+ * propagation, so the two share nothing but the papers. */
+static void published(const char *name, long long nlayers) {
+    check_model(name, 0, 0, 0, 20);
+    char file[64];
+    snprintf(file, sizeof file, "%s.onnx", name);
+    imported r;
+    import(file, 0, 0, 0, &r);
+    assert_int_equal(r.st, CP_OK);
+    cph_layer_list suite = {0};
+    char msg[256];
+    assert_int_equal(cph_suite_load(name, &suite, msg, sizeof msg), CP_OK);
+    assert_int_equal(r.l.n, suite.n);
+    assert_int_equal(cph_layers_total(&r.l), nlayers); /* the paper's conv count */
+    assert_int_equal(cph_layers_total(&suite), nlayers);
+    for (size_t i = 0; i < suite.n; i++) {
+        size_t j = 0;
+        while (j < r.l.n && !cp_shape_equal(&r.l.v[j].shape, &suite.v[i].shape)) j++;
+        if (j == r.l.n) fail_msg("%s: the suite's %s is not in the model", name, suite.v[i].name);
+        if (r.l.v[j].count != suite.v[i].count)
+            fail_msg("%s: %s counts %d in the model, %d in the suite", name, suite.v[i].name,
+                     r.l.v[j].count, suite.v[i].count);
+    }
+    cph_layers_free(&suite);
+    release(&r);
+}
+
+static void test_published(void **state) {
+    (void)state;
+    published("resnet50", 53);     /* He et al. 2016, Table 1: 49 + 4 projections */
+    published("vgg16", 13);        /* Simonyan & Zisserman 2015, Table 1 D */
+    published("mobilenet_v1", 27); /* Howard et al. 2017, Table 1 */
+}
+
 /* Bad input: one line naming the file (and the node), the status, and (for an
  * operator that cannot be propagated) the layers found before it.  Common
  * practice, no source: the messages are ours. */
@@ -212,7 +250,7 @@ int main(void) {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_small_cnn),       cmocka_unit_test(test_autopad),
         cmocka_unit_test(test_groups_dilation), cmocka_unit_test(test_symbolic),
-        cmocka_unit_test(test_bad_input),
+        cmocka_unit_test(test_bad_input),       cmocka_unit_test(test_published),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
