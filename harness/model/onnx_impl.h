@@ -33,7 +33,8 @@ cp_status cph_onnx_attr_int(const cph_onnx_ctx *c, const cph_onnx_node *nd, cons
 cp_status cph_onnx_attr_ints(const cph_onnx_ctx *c, const cph_onnx_node *nd, const char *name,
                              size_t n, int64_t *out, int *given);
 
-/* The shape of input i (must be given and known). */
+/* The shape of input i (must be given and known).  The pointer stays valid
+ * only until the next cph_onnx_output (the table may grow and move). */
 cp_status cph_onnx_input(const cph_onnx_ctx *c, const cph_onnx_node *nd, size_t i,
                          const cph_onnx_tensor **out);
 /* Sets output i's shape. */

@@ -55,6 +55,7 @@ cp_status cph_onnx_attr_ints(const cph_onnx_ctx *c, const cph_onnx_node *nd, con
 
 cp_status cph_onnx_input(const cph_onnx_ctx *c, const cph_onnx_node *nd, size_t i,
                          const cph_onnx_tensor **out) {
+    *out = NULL;
     if (i >= nd->n_input || !str(nd->input[i])[0])
         return cph_onnx_node_fail(c, nd, "input %zu is missing", i);
     const cph_onnx_tensor *e = cph_onnx_find(c->t, nd->input[i]);

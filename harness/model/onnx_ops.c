@@ -14,9 +14,10 @@ typedef cp_status (*op_fn)(cph_onnx_ctx *c, const cph_onnx_node *nd);
 
 /* Output 0 (and any other output) = input 0: element-wise operators. */
 static cp_status op_same(cph_onnx_ctx *c, const cph_onnx_node *nd) {
-    const cph_onnx_tensor *x;
+    const cph_onnx_tensor *x = NULL;
     cp_status st = cph_onnx_input(c, nd, 0, &x);
-    const cph_onnx_shape s = x ? x->shape : (cph_onnx_shape){0, {0}};
+    if (st != CP_OK) return st;
+    const cph_onnx_shape s = x->shape; /* a copy: outputs may move the table */
     for (size_t i = 0; st == CP_OK && i < nd->n_output; i++) st = cph_onnx_output(c, nd, i, &s);
     return st;
 }
