@@ -206,10 +206,16 @@ static cp_status op_reshape(cph_onnx_ctx *c, const cph_onnx_node *nd) {
     return cph_onnx_output(c, nd, 0, &y);
 }
 
+/* Inputs 0 and 1 (the two operands of Gemm and MatMul). */
+static cp_status two_inputs(cph_onnx_ctx *c, const cph_onnx_node *nd, const cph_onnx_tensor **a,
+                            const cph_onnx_tensor **b) {
+    cp_status st = cph_onnx_input(c, nd, 0, a);
+    return st == CP_OK ? cph_onnx_input(c, nd, 1, b) : st;
+}
+
 static cp_status op_gemm(cph_onnx_ctx *c, const cph_onnx_node *nd) {
     const cph_onnx_tensor *a, *b;
-    cp_status st = cph_onnx_input(c, nd, 0, &a);
-    if (st == CP_OK) st = cph_onnx_input(c, nd, 1, &b);
+    cp_status st = two_inputs(c, nd, &a, &b);
     if (st != CP_OK) return st;
     if (a->shape.rank != 2 || b->shape.rank != 2)
         return cph_onnx_node_fail(c, nd, "inputs of rank %d and %d (Gemm needs 2 and 2)", a->shape.rank, b->shape.rank);
@@ -225,8 +231,7 @@ static cp_status op_gemm(cph_onnx_ctx *c, const cph_onnx_node *nd) {
 
 static cp_status op_matmul(cph_onnx_ctx *c, const cph_onnx_node *nd) {
     const cph_onnx_tensor *ta, *tb;
-    cp_status st = cph_onnx_input(c, nd, 0, &ta);
-    if (st == CP_OK) st = cph_onnx_input(c, nd, 1, &tb);
+    const cp_status st = two_inputs(c, nd, &ta, &tb);
     if (st != CP_OK) return st;
     cph_onnx_shape a = ta->shape, b = tb->shape;
     if (a.rank < 1 || b.rank < 1) return cph_onnx_node_fail(c, nd, "a scalar input");

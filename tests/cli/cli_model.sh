@@ -12,27 +12,8 @@ D=$2/tests/data/onnx
 T=$(mktemp -d /tmp/convpick_cli_model.XXXXXX)
 trap 'rm -rf "$T"' EXIT
 
-fails=0
-die() { echo "FAIL: $*" >&2; fails=$((fails + 1)); }
-
-# expect CODE FRAGMENT -- command...: exit status CODE and FRAGMENT on stderr
-# as its one line (or on stdout when FRAGMENT starts with 'stdout:').
-expect() {
-    local code=$1 frag=$2
-    shift 3
-    local rc=0
-    "$@" >"$T/out" 2>"$T/err" || rc=$?
-    if [[ $rc -ne $code ]]; then
-        die "'$*' exited $rc, expected $code; stderr: $(cat "$T/err")"
-        return 0
-    fi
-    if [[ $frag == stdout:* ]]; then
-        grep -qF -- "${frag#stdout:}" "$T/out" || die "'$*': stdout lacks '${frag#stdout:}'"
-    elif [[ -n $frag ]]; then
-        grep -qF -- "$frag" "$T/err" || die "'$*': stderr '$(cat "$T/err")' lacks '$frag'"
-        [[ $(wc -l <"$T/err") -eq 1 ]] || die "'$*': stderr is not one line: $(cat "$T/err")"
-    fi
-}
+# shellcheck source=tests/cli/expect_lib.sh
+. "$(dirname "$0")/expect_lib.sh"
 
 # --- the shape file of a model, and back through --shapes -----------------
 # infer_shapes (small_cnn.expect): block1.conv1 and .conv2 take 1x8x16x16.
