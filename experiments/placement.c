@@ -13,7 +13,7 @@
  * reused), warm-up runs, then `samples` timed runs; its median is recorded.
  *
  * Not part of the product: built as cp_placement_experiment, run by
- * scripts/placement-experiment, findings in docs/two-speeds.md. */
+ * scripts/placement-experiment, findings in docs/measurement.md. */
 #define _GNU_SOURCE
 #include <errno.h>
 #include <math.h>
@@ -30,7 +30,7 @@
 #include "harness/measure/data.h"
 #include "harness/measure/stats.h"
 #include "harness/measure/timing.h"
-#include "harness/select/select.h"
+#include "harness/select/shape_spec.h"
 
 #define HUGE_PAGE ((size_t)2 << 20)
 

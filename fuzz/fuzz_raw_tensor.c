@@ -2,7 +2,7 @@
  * a shape spec line, one byte choosing the algorithm and mode, then the bytes
  * of the input tensor followed by those of the weights.  The tensors go
  * through cph_f32_from_bytes (the in-memory form of cph_read_f32,
- * harness/rawfile.c) and, when their sizes fit the shape, through a plan of
+ * harness/io/rawfile.c) and, when their sizes fit the shape, through a plan of
  * the chosen algorithm.  Properties: no crash, no leak, whatever the bytes
  * (NaN, Inf, denormals); a wrong size is refused with a message. */
 #include <stdlib.h>

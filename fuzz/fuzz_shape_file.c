@@ -1,5 +1,5 @@
 /* Fuzz target: the shape-file reader (cph_load_shape_text, the in-memory
- * form of cph_load_shape_file; harness/shapefile.c).  Properties: no crash,
+ * form of cph_load_shape_file; harness/select/shapefile.c).  Properties: no crash,
  * no leak; every layer read is a valid shape with a non-empty name; an error
  * leaves a message. */
 #include <string.h>

@@ -1,4 +1,4 @@
-/* Fuzz target: the shape spec parser (cph_parse_shape, harness/select.c).
+/* Fuzz target: the shape spec parser (cph_parse_shape, harness/select/shape_spec.c).
  * Properties: it never crashes; an accepted spec is a valid shape; its short
  * form (cph_shape_format_short) parses back to the same shape. */
 #include <stdlib.h>

@@ -3,7 +3,7 @@
  * the operating system's support of the AVX register state checked through
  * xgetbv), and the cache geometry.
  *
- * Compiled into the library (harness/lib_cpuid.c) because the device
+ * Compiled into the library (loader/cpuid.c) because the device
  * fingerprint a deploying program computes must come from the same facts as
  * the harness's, without hwloc.  On a processor other than x86 every field is
  * zero / empty. */

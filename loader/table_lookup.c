@@ -90,8 +90,8 @@ cp_status cp_table_lookup(const cp_table *t, const cp_shape *s, cp_flip flip, in
         out->params = e->params;
         out->entry = e;
         snprintf(out->why, sizeof out->why,
-                 "entry '%s' has this shape, flip and %d thread(s); measured median %.3g s",
-                 e->name, e->threads, e->timing.median);
+                 "entry '%s' has this shape, flip and %d thread(s); measured median %.4g ms",
+                 e->name, e->threads, 1e3 * e->timing.median);
         return CP_OK;
     }
     const cp_table_entry *best = NULL;

@@ -1,6 +1,6 @@
 #!/usr/bin/python3
 """Writes tests/data/diff_fixtures.txt: reference values that
-tests/test_diff_stats.c compares convpick diff's statistics against.
+tests/harness/test_diff_stats.c compares convpick diff's statistics against.
 
   - scipy.stats.mannwhitneyu(x, y, alternative='two-sided') with
     method='asymptotic' (tie and continuity corrected), method='exact' and

@@ -1,11 +1,11 @@
 #!/usr/bin/python3
 """Writes tests/data/scipy_fixtures.txt: reference outputs of SciPy's
 scipy.signal.correlate2d and scipy.signal.convolve2d (modes valid, same, full)
-that tests/test_scipy.c compares convpick's oracle and algorithms against.
+that tests/lib/test_scipy.c compares convpick's oracle and algorithms against.
 
 Run with Debian's /usr/bin/python3 (python3-scipy); the python3 first on PATH
 may have no SciPy.  Usage: gen_scipy_fixtures.py [OUTPUT]  (default: the
-committed file).  tests/cli_scipy_live.sh reruns it and diffs the result.
+committed file).  tests/cli/cli_scipy_live.sh reruns it and diffs the result.
 
 Data are deterministic dyadic numbers (halves and quarters of small integers),
 so every input, product and partial sum is exact in float32 and the expected

@@ -1,7 +1,7 @@
 #!/usr/bin/python3
-"""Writes tests/data/stats_fixtures.txt: reference values for harness/stats.c
+"""Writes tests/data/stats_fixtures.txt: reference values for harness/measure/stats.c
 computed with SciPy and NumPy (Debian python3-scipy, python3-numpy), so that
-tests/test_stats.c checks our statistics against an outside implementation.
+tests/harness/test_stats.c checks our statistics against an outside implementation.
 
 Run:  /usr/bin/python3 scripts/gen_stats_fixtures.py [OUT]
 (OUT defaults to tests/data/stats_fixtures.txt beside this script's directory).

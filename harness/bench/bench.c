@@ -32,9 +32,11 @@ static int setup(cph_bench_state *r, cph_bench_cfg *c) {
     int most = 1;
     for (int i = 0; i < r->nthreads; i++)
         if (r->threads[i] > most) most = r->threads[i];
-    if (cph_mem_check_selection("bench", &c->sel, most, 0,
-                                c->max_memory ? c->max_memory : cph_mem_default()) != 0)
+    if (cph_mem_check_selection(&c->sel, most, 0, c->max_memory ? c->max_memory : cph_mem_default(),
+                                msg, sizeof msg) != CP_OK) {
+        cph_err("bench: %s", msg);
         return CPH_EXIT_USAGE;
+    }
     r->caches = cph_machine_caches(&r->m);
     if (c->table_path) {
         if (cp_table_load(c->table_path, 0, &r->table, msg, sizeof msg) != CP_OK) {

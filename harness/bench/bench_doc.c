@@ -33,7 +33,7 @@
  *   }
  * Fields are only ever added within a version; readers ignore unknown keys.
  * The same structure as a JSON Schema: tests/data/bench_results.schema.json
- * (tests/cli_bench.sh validates every file it makes against it). */
+ * (tests/cli/cli_bench.sh validates every file it makes against it). */
 #define _POSIX_C_SOURCE 200809L
 #include <stdio.h>
 #include <string.h>

@@ -348,7 +348,7 @@ void cph_summaries_free(cph_summary *s, size_t n) {
 
 /* --- output ---------------------------------------------------------------- */
 
-static const char *verdict_name(cph_verdict v) {
+static const char *verdict_name(cph_target_verdict v) {
     return v == CPH_PASS ? "PASS" : v == CPH_MISS ? "MISS" : "n/a";
 }
 
@@ -418,7 +418,7 @@ void cph_summaries_print(FILE *f, const cph_summary *s, const cph_summary *fast,
     }
 }
 
-static const char *verdict_json(cph_verdict v) {
+static const char *verdict_json(cph_target_verdict v) {
     return v == CPH_PASS ? "pass" : v == CPH_MISS ? "miss" : "n/a";
 }
 

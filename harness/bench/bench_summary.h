@@ -62,13 +62,13 @@ typedef struct cph_bench_recs {
 cp_status cph_bench_recs_add(cph_bench_recs *r, const cph_bench_rec *rec);
 void cph_bench_recs_free(cph_bench_recs *r);
 
-typedef enum cph_verdict { CPH_PASS = 0, CPH_MISS, CPH_NA } cph_verdict;
+typedef enum cph_target_verdict { CPH_PASS = 0, CPH_MISS, CPH_NA } cph_target_verdict;
 
 /* One layer's figure in a summary. */
 typedef struct cph_summary_layer {
     char layer[64];
     double value;
-    cph_verdict verdict;  /* for targets checked per layer; else CPH_NA */
+    cph_target_verdict verdict;  /* for targets checked per layer; else CPH_NA */
 } cph_summary_layer;
 
 typedef struct cph_summary {
@@ -78,7 +78,7 @@ typedef struct cph_summary {
     double target;
     double value;         /* the suite figure (NaN when nothing was measured) */
     const char *unit;     /* "fraction of peak", "x" (static) */
-    cph_verdict verdict;
+    cph_target_verdict verdict;
     double missed_by;     /* relative shortfall when missed: |value - target| / target */
     int threads;          /* thread count of the rows compared */
     int base_threads;     /* scaling: the baseline thread count (1), else 0 */

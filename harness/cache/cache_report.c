@@ -1,5 +1,6 @@
 /* Text, JSON and SVG reports of the cache study (see cache_report.h). */
 #include "harness/cache/cache_report.h"
+#include "harness/select/shape_spec.h"
 #include "harness/io/report_json.h"
 
 #include <math.h>

@@ -25,7 +25,7 @@
 
 #include "harness/cache/cachesim.h"
 #include "harness/machine/counters.h"
-#include "harness/select/select.h"
+#include "harness/select/layers.h"
 #include "harness/measure/stats.h"
 
 /* How a variant computes: cross-correlation, true convolution by reversed

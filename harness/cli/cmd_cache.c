@@ -3,7 +3,7 @@
  * flipping the weights once up front removes that cost (cache_study.h).
  *
  * --trace-only runs one variant on one layer for comparison with an outside
- * simulator (tests/cli_cachegrind.sh): without --plain it prints our
+ * simulator (tests/cli/cli_cachegrind.sh): without --plain it prints our
  * simulator's counts for the traced copy; with --plain it runs the plain
  * (untraced) kernel once after flushing the caches and prints nothing else
  * of substance, so that a run under valgrind's cachegrind sees the kernel's

@@ -15,6 +15,7 @@
 #include "harness/cli/cli.h"
 #include "harness/cli/options.h"
 #include "harness/diff/diff_report.h"
+#include "harness/diff/diff_rounds.h"
 
 static void usage(FILE *f) {
     fprintf(f,
@@ -32,8 +33,16 @@ static void usage(FILE *f) {
             "  unchanged     the interval lies within 1 +- tolerance\n"
             "  inconclusive  anything else: the interval straddles a tolerance bound,\n"
             "                or too few samples for an interval\n"
-            "Rows are sorted worst first.  For two tables it also lists the layers whose\n"
-            "chosen algorithm changed, and what BASE's choice costs in NEW.\n\n"
+            "Rows are sorted worst first.  For two tables it compares what each entry\n"
+            "chose (--all: every candidate), lists the layers whose chosen algorithm\n"
+            "changed and what BASE's choice costs in NEW, and the network's time (the sum\n"
+            "of the chosen medians over the entries both hold).\n\n"
+            "With --paired, BASE and NEW are each a comma-separated list of results files,\n"
+            "the rounds of an A/B run taken interleaved (round r of BASE close in time to\n"
+            "round r of NEW): each round's median of a measurement is one trial, round r\n"
+            "pairs with round r, and the p-value is the Wilcoxon signed-rank test's, the\n"
+            "interval the paired Hodges-Lehmann one (docs/diff.md).  This is how to compare\n"
+            "two builds on a shared machine (scripts/ci-speed-check --ab).\n\n"
             "options:\n"
             "  --alpha A           significance level, 0 < A < 0.5 (default: 0.01)\n"
             "  --tolerance PCT     changes within +-PCT %% are not regressions (default: 5)\n"
@@ -41,17 +50,23 @@ static void usage(FILE *f) {
             "                      (default: refuse)\n"
             "  --junit FILE        write JUnit XML: one testcase per pair, regressions as\n"
             "                      failures (default: none)\n"
-            "  --markdown FILE     write a Markdown summary for a CI page (default: none)\n");
+            "  --markdown FILE     write a Markdown summary for a CI page (default: none)\n"
+            "  --paired            BASE and NEW are lists of rounds, compared paired\n"
+            "                      (default: two files, compared as independent samples)\n"
+            "  --all               two tables: compare every candidate, not only the choices\n"
+            "                      (default: the choices)\n"
+            "  --details           list every measurement found on one side only\n"
+            "                      (default: their counts)\n");
     cph_help_end(f, "0 no regression, 1 at least one regression, 2 bad usage or\n"
                     "input (unreadable or malformed file, another format version, other device,\n"
                     "nothing in common)");
 }
 
-enum { OPT_ALPHA = 1, OPT_TOL, OPT_OTHER, OPT_JUNIT, OPT_MD };
+enum { OPT_ALPHA = 1, OPT_TOL, OPT_OTHER, OPT_JUNIT, OPT_MD, OPT_PAIRED, OPT_ALL, OPT_DETAILS };
 
 typedef struct diff_opts {
     double alpha, tol;
-    int allow_other;
+    int allow_other, paired, all, details;
     const char *junit, *markdown, *base, *next;
 } diff_opts;
 
@@ -63,6 +78,9 @@ static int parse(int argc, char **argv, diff_opts *o) {
         {"allow-other-device", no_argument, NULL, OPT_OTHER},
         {"junit", required_argument, NULL, OPT_JUNIT},
         {"markdown", required_argument, NULL, OPT_MD},
+        {"paired", no_argument, NULL, OPT_PAIRED},
+        {"all", no_argument, NULL, OPT_ALL},
+        {"details", no_argument, NULL, OPT_DETAILS},
         CPH_OPTS_HELP_END,
     };
     int opt;
@@ -84,6 +102,9 @@ static int parse(int argc, char **argv, diff_opts *o) {
         case OPT_OTHER: o->allow_other = 1; break;
         case OPT_JUNIT: o->junit = optarg; break;
         case OPT_MD: o->markdown = optarg; break;
+        case OPT_PAIRED: o->paired = 1; break;
+        case OPT_ALL: o->all = 1; break;
+        case OPT_DETAILS: o->details = 1; break;
         default: return CPH_EXIT_USAGE;
         }
     }
@@ -111,10 +132,20 @@ static void print_header(const cph_diff *d) {
         printf("note: the cache settings differ (BASE %s, NEW %s)\n",
                b->cold < 0 ? "mixed" : b->cold ? "cold" : "warm",
                n->cold < 0 ? "mixed" : n->cold ? "cold" : "warm");
-    printf("method: two-sided Mann-Whitney U test at alpha %g; ratio NEW/BASE of the medians, "
-           "and the Hodges-Lehmann estimate of the ratio (log-time shift) with its "
-           "distribution-free %g %% interval; tolerance +-%g %%\n\n",
-           d->alpha, 100.0 * (1.0 - d->alpha), 100.0 * d->tol);
+    if (d->flags & CPH_DIFF_PAIRED)
+        printf("method: rounds paired in order; two-sided Wilcoxon signed-rank test at alpha "
+               "%g on the log ratios of the rounds' medians, and the paired Hodges-Lehmann ratio "
+               "NEW/BASE with its distribution-free %g %% interval; tolerance +-%g %%\n\n",
+               d->alpha, 100.0 * (1.0 - d->alpha), 100.0 * d->tol);
+    else
+        printf("method: two-sided Mann-Whitney U test at alpha %g; ratio NEW/BASE of the "
+               "medians, and the Hodges-Lehmann estimate of the ratio (log-time shift) with its "
+               "distribution-free %g %% interval; tolerance +-%g %%%s\n\n",
+               d->alpha, 100.0 * (1.0 - d->alpha), 100.0 * d->tol,
+               d->flags & CPH_DIFF_CHOSEN_ONLY && b->kind == CPH_RESULTS_TABLE &&
+                       n->kind == CPH_RESULTS_TABLE
+                   ? "; each entry's choice only (--all: every candidate)"
+                   : "");
 }
 
 static void print_pairs(const cph_diff *d) {
@@ -146,7 +177,7 @@ static void print_pairs(const cph_diff *d) {
     }
 }
 
-static void print_rest(const cph_diff *d) {
+static void print_rest(const cph_diff *d, int details) {
     char label[512];
     if (d->nchanges) {
         printf("\nchanged choices (%zu):\n", d->nchanges);
@@ -166,15 +197,39 @@ static void print_rest(const cph_diff *d) {
                 printf("NEW did not measure BASE's choice\n");
         }
     }
-    for (size_t i = 0; i < d->nonly_base; i++) {
-        cph_diff_item_label(d->only_base[i], label, sizeof label);
-        printf("%sonly in BASE: %s (%s)\n", i ? "" : "\n", label, d->only_base[i]->where);
+    if (details) {
+        for (size_t i = 0; i < d->nonly_base; i++) {
+            cph_diff_item_label(d->only_base[i], label, sizeof label);
+            printf("%sonly in BASE: %s (%s)\n", i ? "" : "\n", label, d->only_base[i]->where);
+        }
+        for (size_t i = 0; i < d->nonly_next; i++) {
+            cph_diff_item_label(d->only_next[i], label, sizeof label);
+            printf("%sonly in NEW: %s (%s)\n", i || d->nonly_base ? "" : "\n", label,
+                   d->only_next[i]->where);
+        }
+    } else if (d->nonly_base || d->nonly_next) {
+        printf("\nnot in both: %zu measurements only in BASE, %zu only in NEW (--details lists "
+               "them)\n",
+               d->nonly_base, d->nonly_next);
     }
-    for (size_t i = 0; i < d->nonly_next; i++) {
-        cph_diff_item_label(d->only_next[i], label, sizeof label);
-        printf("%sonly in NEW: %s (%s)\n", i || d->nonly_base ? "" : "\n", label,
-               d->only_next[i]->where);
-    }
+    if (d->total_entries)
+        printf("\nchoices: %zu entries in both; %zu of BASE's were confident (over the best other "
+               "algorithm), of those NEW chose the same algorithm in %zu (%.0f %%), with the same "
+               "parameters in %zu%s\n",
+               d->total_entries, d->confident_base, d->confident_same_algo,
+               d->confident_base
+                   ? 100.0 * (double)d->confident_same_algo / (double)d->confident_base
+                   : 100.0,
+               d->confident_same, d->confident_base ? "" : " (none to reproduce)");
+    if (isfinite(d->changed_cost_max))
+        printf("changed choices, BASE's choice re-measured in NEW: worst %.3fx NEW's choice, "
+               "median %.3fx\n",
+               d->changed_cost_max, d->changed_cost_median);
+    if (d->total_entries && d->total_base > 0)
+        printf("\nnetwork: %zu entries in both, sum of the chosen medians BASE %.4g ms, NEW %.4g "
+               "ms, ratio %.4f\n",
+               d->total_entries, 1e3 * d->total_base, 1e3 * d->total_next,
+               d->total_next / d->total_base);
     if (d->base->nfailed || d->next->nfailed)
         printf("\nnot measured (failed or disqualified): %zu in BASE, %zu in NEW\n",
                d->base->nfailed, d->next->nfailed);
@@ -185,17 +240,75 @@ static void print_rest(const cph_diff *d) {
            d->nonly_next, d->counts[CPH_SHIFT_SLOWER] ? ": REGRESSION" : "");
 }
 
-static int run_diff(const diff_opts *o) {
-    cph_results b, n;
+/* One side: a file, or (--paired) a comma-separated list of rounds folded
+ * into trials.  Returns 0, or the exit code after the error line. */
+static int read_side(const diff_opts *o, const char *arg, const char *side, cph_results *out) {
     char msg[1024];
-    if (cph_results_read(o->base, &b, msg, sizeof msg) != CP_OK) {
+    if (!o->paired) {
+        if (cph_results_read(arg, out, msg, sizeof msg) == CP_OK) return 0;
         cph_err("diff: %s", msg);
         return CPH_EXIT_USAGE;
     }
-    if (cph_results_read(o->next, &n, msg, sizeof msg) != CP_OK) {
-        cph_err("diff: %s", msg);
+    enum { MAX_ROUNDS = 400 };
+    cph_results *r = calloc(MAX_ROUNDS, sizeof *r);
+    char *list = strdup(arg), *save = NULL;
+    size_t n = 0;
+    int rc = 0;
+    if (!r || !list) {
+        cph_err("diff: out of memory");
+        rc = CPH_EXIT_USAGE;
+        goto out;
+    }
+    for (char *f = strtok_r(list, ",", &save); f; f = strtok_r(NULL, ",", &save)) {
+        if (n == MAX_ROUNDS) {
+            cph_err("diff: %s: more than %d rounds", side, MAX_ROUNDS);
+            rc = CPH_EXIT_USAGE;
+            goto out;
+        }
+        if (cph_results_read(f, &r[n], msg, sizeof msg) != CP_OK) {
+            cph_err("diff: %s", msg);
+            rc = CPH_EXIT_USAGE;
+            goto out;
+        }
+        n++;
+    }
+    if (n < 2) {
+        cph_err("diff: --paired: %s needs at least 2 rounds (comma-separated files), got %zu",
+                side, n);
+        rc = CPH_EXIT_USAGE;
+        goto out;
+    }
+    size_t dropped;
+    int other;
+    if (cph_results_fold_rounds(r, n, out, &dropped, &other) != 0) {
+        cph_err("diff: out of memory");
+        rc = CPH_EXIT_USAGE;
+        goto out;
+    }
+    if (other) {
+        cph_err("diff: --paired: the rounds of %s come from different devices", side);
+        cph_results_free(out);
+        rc = CPH_EXIT_USAGE;
+        goto out;
+    }
+    if (dropped)
+        printf("note: %zu measurements of %s are missing from some round and are left out\n",
+               dropped, side);
+out:
+    for (size_t i = 0; r && i < n; i++) cph_results_free(&r[i]);
+    free(r);
+    free(list);
+    return rc;
+}
+
+static int run_diff(const diff_opts *o) {
+    cph_results b, n;
+    char msg[1024];
+    int rd = read_side(o, o->base, "BASE", &b);
+    if (rd) return rd;
+    if ((rd = read_side(o, o->next, "NEW", &n)) != 0) {
         cph_results_free(&b);
-        return CPH_EXIT_USAGE;
+        return rd;
     }
     int rc = CPH_EXIT_OK;
     cph_diff d;
@@ -207,7 +320,8 @@ static int run_diff(const diff_opts *o) {
         rc = CPH_EXIT_USAGE;
         goto done;
     }
-    if (cph_diff_build(&b, &n, o->alpha, o->tol, &d)) {
+    const unsigned flags = (o->paired ? CPH_DIFF_PAIRED : 0u) | (o->all ? 0u : CPH_DIFF_CHOSEN_ONLY);
+    if (cph_diff_build(&b, &n, o->alpha, o->tol, flags, &d)) {
         cph_err("diff: out of memory");
         rc = CPH_EXIT_USAGE;
         goto done;
@@ -220,7 +334,7 @@ static int run_diff(const diff_opts *o) {
     }
     print_header(&d);
     print_pairs(&d);
-    print_rest(&d);
+    print_rest(&d, o->details);
     rc = d.counts[CPH_SHIFT_SLOWER] ? CPH_EXIT_FAIL : CPH_EXIT_OK;
     if (o->junit) {
         if (cph_diff_write_junit(&d, o->junit, msg, sizeof msg) != CP_OK) {
@@ -246,7 +360,7 @@ done:
 }
 
 int cph_cmd_diff(int argc, char **argv) {
-    diff_opts o = {0.01, 0.05, 0, NULL, NULL, NULL, NULL};
+    diff_opts o = {0.01, 0.05, 0, 0, 0, 0, NULL, NULL, NULL, NULL};
     const int rc = parse(argc, argv, &o);
     return rc >= 0 ? rc : run_diff(&o);
 }

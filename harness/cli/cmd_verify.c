@@ -155,8 +155,12 @@ static int parse(int argc, char **argv, verify_opts *o) {
 /* Every layer against the oracle; the exit code. */
 static int verify(const verify_opts *o) {
     const cph_selection *s = &o->sel;
-    if (cph_mem_check_selection("verify", s, 1, 1, o->budget ? o->budget : cph_mem_default()) != 0)
+    char mmsg[512];
+    if (cph_mem_check_selection(s, 1, 1, o->budget ? o->budget : cph_mem_default(), mmsg,
+                                sizeof mmsg) != CP_OK) {
+        cph_err("verify: %s", mmsg);
         return CPH_EXIT_USAGE;
+    }
     int rc = CPH_EXIT_OK;
     tally t = {0, 0, 0, 5, 4};
     for (size_t i = 0; i < s->layers.n; i++) {

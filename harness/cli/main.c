@@ -1,5 +1,5 @@
 /* convpick: one main, one table of subcommands.  Each subcommand does its work
- * inside one call and returns an exit code (harness/cli.h). */
+ * inside one call and returns an exit code (harness/cli/cli.h). */
 #include <getopt.h>
 #include <stdio.h>
 #include <string.h>

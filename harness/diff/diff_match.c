@@ -6,6 +6,8 @@
 #include <string.h>
 
 #include "harness/diff/diff_report.h"
+#include "harness/measure/paired.h"
+#include "harness/measure/stats.h"
 #include "harness/select/selection.h"
 
 /* occ[i] = how many earlier items of r are the same point as item i. */
@@ -31,6 +33,77 @@ static int cmp_pairs(const void *a, const void *b) {
     return strcmp(x->base->layer, y->base->layer);
 }
 
+/* Rounds on both sides: round r of BASE against round r of NEW. */
+static void compare_paired(const cph_diff *d, cph_diff_pair *p) {
+    const cph_result_item *b = p->base, *n = p->next;
+    const size_t k = b->nsamples < n->nsamples ? b->nsamples : n->nsamples;
+    cph_paired_cmp pc;
+    if (cph_compare_paired(b->samples, n->samples, k, d->alpha, &pc)) {
+        snprintf(p->note, sizeof p->note, "not compared: a trial of 0 s (or too many rounds)");
+        return;
+    }
+    cph_shift_cmp *c = &p->cmp;
+    c->m = c->n = k;
+    c->ratio = pc.ratio;
+    c->ratio_lo = pc.ratio_lo;
+    c->ratio_hi = pc.ratio_hi;
+    c->coverage = pc.coverage;
+    c->bounded = pc.bounded;
+    c->mwu.p = pc.test.p;
+    c->mwu.u1 = pc.test.statistic;
+    c->mwu.exact = pc.test.exact;
+    p->compared = 1;
+    p->verdict = cph_shift_verdict_of(c, d->alpha, d->tol);
+    if (!c->bounded)
+        snprintf(p->note, sizeof p->note, "too few rounds for a %.0f %% interval",
+                 100.0 * (1.0 - d->alpha));
+}
+
+/* Whether an item takes part (CPH_DIFF_CHOSEN_ONLY keeps tables' choices). */
+static int takes_part(const cph_diff *d, const cph_results *r, const cph_result_item *it) {
+    return !(d->flags & CPH_DIFF_CHOSEN_ONLY) || r->kind != CPH_RESULTS_TABLE || it->chosen;
+}
+
+/* The network's time on both sides: chosen medians of the entries both hold. */
+static void totals(cph_diff *d) {
+    const cph_results *b = d->base, *n = d->next;
+    for (size_t i = 0; i < b->nchoices; i++)
+        for (size_t j = 0; j < n->nchoices; j++) {
+            const cph_result_choice *cb = &b->choices[i], *cn = &n->choices[j];
+            if (cb->flip != cn->flip || cb->threads != cn->threads ||
+                !cp_shape_equal(&cb->shape, &cn->shape))
+                continue;
+            d->total_base += cb->median;
+            d->total_next += cn->median;
+            d->total_entries++;
+            if (cb->confident) {
+                d->confident_base++;
+                const int same_algo = strcmp(cb->algo, cn->algo) == 0;
+                d->confident_same_algo += (size_t)same_algo;
+                d->confident_same += (size_t)(same_algo && strcmp(cb->params, cn->params) == 0);
+            }
+            break;
+        }
+}
+
+/* What BASE's changed choices cost, measured in NEW. */
+static void changed_cost(cph_diff *d) {
+    d->changed_cost_max = d->changed_cost_median = NAN;
+    double *r = malloc((d->nchanges ? d->nchanges : 1) * sizeof *r);
+    if (!r) return;
+    size_t n = 0;
+    for (size_t i = 0; i < d->nchanges; i++) {
+        const cph_choice_change *ch = &d->changes[i];
+        if (ch->old_in_new && ch->next->median > 0) r[n++] = ch->old_in_new->median / ch->next->median;
+    }
+    if (n) {
+        cph_sort_doubles(r, n);
+        d->changed_cost_max = r[n - 1];
+        d->changed_cost_median = cph_median_sorted(r, n);
+    }
+    free(r);
+}
+
 static void compare_pair(const cph_diff *d, cph_diff_pair *p) {
     const cph_result_item *b = p->base, *n = p->next;
     p->cmp.base_median = b->median;
@@ -42,6 +115,10 @@ static void compare_pair(const cph_diff *d, cph_diff_pair *p) {
     if (!b->nsamples || !n->nsamples) {
         snprintf(p->note, sizeof p->note, "no samples recorded in %s",
                  !b->nsamples && !n->nsamples ? "BASE and NEW" : !b->nsamples ? "BASE" : "NEW");
+        return;
+    }
+    if (d->flags & CPH_DIFF_PAIRED) {
+        compare_paired(d, p);
         return;
     }
     cph_shift_cmp c;
@@ -86,12 +163,13 @@ static void choice_changes(cph_diff *d) {
 }
 
 int cph_diff_build(const cph_results *base, const cph_results *next, double alpha, double tol,
-                   cph_diff *out) {
+                   unsigned flags, cph_diff *out) {
     memset(out, 0, sizeof *out);
     out->base = base;
     out->next = next;
     out->alpha = alpha;
     out->tol = tol;
+    out->flags = flags;
     out->other_device = strcmp(base->fingerprint, next->fingerprint) != 0;
     size_t *ob = occurrences(base), *on = occurrences(next);
     char *used = calloc(next->nitems ? next->nitems : 1, 1);
@@ -108,7 +186,10 @@ int cph_diff_build(const cph_results *base, const cph_results *next, double alph
         cph_diff_free(out);
         return -1;
     }
+    for (size_t j = 0; j < next->nitems; j++)
+        if (!takes_part(out, next, &next->items[j])) used[j] = 1;
     for (size_t i = 0; i < base->nitems; i++) {
+        if (!takes_part(out, base, &base->items[i])) continue;
         size_t match = next->nitems;
         for (size_t j = 0; j < next->nitems && match == next->nitems; j++)
             if (!used[j] && on[j] == ob[i] && cph_result_same_point(&base->items[i], &next->items[j]))
@@ -130,6 +211,8 @@ int cph_diff_build(const cph_results *base, const cph_results *next, double alph
     free(on);
     free(used);
     choice_changes(out);
+    totals(out);
+    changed_cost(out);
     qsort(out->pairs, out->npairs, sizeof *out->pairs, cmp_pairs);
     return 0;
 }
@@ -161,6 +244,16 @@ void cph_diff_pair_figures(const cph_diff *d, const cph_diff_pair *p, char *buf,
                  c->ratio_hi);
     else
         snprintf(ci, sizeof ci, "no %.0f %% CI: too few samples", 100.0 * (1.0 - d->alpha));
+    if (d->flags & CPH_DIFF_PAIRED) {
+        snprintf(buf, cap,
+                 "ratio %.4f (paired Hodges-Lehmann %.4f, %s), Wilcoxon signed-rank p = %.3g "
+                 "(statistic %.1f, %s), base %.6g ms, new %.6g ms (%zu rounds), tolerance %.3g %%, "
+                 "alpha %.3g",
+                 c->median_ratio, c->ratio, ci, c->mwu.p, c->mwu.u1,
+                 c->mwu.exact ? "exact" : "normal approx.", 1e3 * c->base_median,
+                 1e3 * c->new_median, c->m, 100.0 * d->tol, d->alpha);
+        return;
+    }
     snprintf(buf, cap,
              "ratio %.4f (Hodges-Lehmann %.4f, %s), Mann-Whitney p = %.3g (U = %.1f, %s), "
              "base %.6g ms (n=%zu), new %.6g ms (n=%zu), tolerance %.3g %%, alpha %.3g",

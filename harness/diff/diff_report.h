@@ -25,9 +25,33 @@ typedef struct cph_choice_change {
     const cph_result_item *old_in_new; /* BASE's choice as a candidate in NEW, or NULL */
 } cph_choice_change;
 
+/* How to compare (cph_diff_build's flags). */
+enum {
+    /* Each side's samples are trials of rounds taken interleaved (diff_rounds.h):
+     * sample r of BASE pairs with sample r of NEW, compared by the Wilcoxon
+     * signed-rank test and the paired Hodges-Lehmann ratio (paired.h). */
+    CPH_DIFF_PAIRED = 1,
+    /* Two tables: compare only what each entry chose (the deployed decision),
+     * not every candidate tried; changed choices are listed apart. */
+    CPH_DIFF_CHOSEN_ONLY = 2
+};
+
 typedef struct cph_diff {
     const cph_results *base, *next;
     double alpha, tol;     /* tol a fraction */
+    unsigned flags;        /* CPH_DIFF_* */
+    /* Tables on both sides: the sum over the entries both hold of each
+     * entry's chosen median (the network's time, each layer once), and how
+     * many entries that is. */
+    double total_base, total_next;
+    size_t total_entries;
+    /* Tables on both sides: of the entries both hold, how many BASE called
+     * confident (its margin over the best other ALGORITHM), how many of those NEW
+ * chose the same algorithm, and the same parameters too, and what BASE's
+     * changed choices cost in NEW's measurements (worst and median ratio of
+     * BASE's choice to NEW's choice, NaN when none measured). */
+    size_t confident_base, confident_same, confident_same_algo;
+    double changed_cost_max, changed_cost_median;
     int other_device;      /* fingerprints differ (and --allow-other-device was given) */
     cph_diff_pair *pairs;  /* worst first (cph_diff_sort) */
     size_t npairs;
@@ -43,7 +67,7 @@ typedef struct cph_diff {
  * in the other), compares every pair, lists the unmatched, the changed
  * choices, and sorts.  Returns 0, or -1 when out of memory. */
 int cph_diff_build(const cph_results *base, const cph_results *next, double alpha, double tol,
-                   cph_diff *out);
+                   unsigned flags, cph_diff *out);
 void cph_diff_free(cph_diff *d);
 
 /* "conv1 xcorr t=1 direct [kb=64]" */

@@ -4,6 +4,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "harness/measure/stats.h"
 #include "harness/io/results_impl.h"
 
 cp_status cph_results_push(cph_rctx *c, const cph_result_item *it) {
@@ -28,20 +29,7 @@ void cph_results_note_cold(cph_results *r, int cold, int *first) {
     }
 }
 
-static int cmp_double(const void *a, const void *b) {
-    const double x = *(const double *)a, y = *(const double *)b;
-    return (x > y) - (x < y);
-}
-
-double cph_results_median(const double *v, size_t n) {
-    double *s = malloc(n * sizeof *s);
-    if (!s) return NAN;
-    memcpy(s, v, n * sizeof *s);
-    qsort(s, n, sizeof *s, cmp_double);
-    const double m = n % 2 ? s[n / 2] : 0.5 * (s[n / 2 - 1] + s[n / 2]);
-    free(s);
-    return m;
-}
+double cph_results_median(const double *v, size_t n) { return cph_median_of(v, n); }
 
 /* Where a parameter name sorts: its index in the algorithm's declaration,
  * names the algorithm does not declare after all of them. */

@@ -50,6 +50,7 @@ typedef struct cph_result_choice {
     char algo[32];
     char params[160];
     double median;      /* of the chosen candidate as recorded */
+    int confident;      /* a runner-up exists and its margin is not in the noise */
 } cph_result_choice;
 
 typedef struct cph_results {

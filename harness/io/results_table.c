@@ -62,6 +62,9 @@ static cp_status read_entry(cph_rctx *c, const json_t *e, size_t i, int *first_c
         (st = cpl_jfield(j, e, where, "candidates", JSON_ARRAY, 0, &cands)))
         return st;
     ch.median = NAN;
+    /* Confidence is read leniently: a runner_up object whose in_noise is false. */
+    const json_t *ru = json_object_get(e, "runner_up");
+    ch.confident = json_is_object(ru) && json_is_false(json_object_get(ru, "in_noise"));
     for (size_t k = 0; k < json_array_size(cands); k++) {
         cph_result_item it;
         memset(&it, 0, sizeof it);

@@ -12,7 +12,6 @@
 #include <string.h>
 
 #include "algos/core/cpa.h"
-#include "harness/cli/cli.h"
 
 
 static uint64_t add_sat(uint64_t a, uint64_t b) { return a > UINT64_MAX - b ? UINT64_MAX : a + b; }
@@ -143,19 +142,17 @@ cp_status cph_mem_check(const char *what, const cph_mem_need *need, uint64_t bud
     return CP_ENOMEM;
 }
 
-int cph_mem_check_selection(const char *cmd, const cph_selection *sel, int nthreads,
-                            int with_reference, uint64_t budget) {
+cp_status cph_mem_check_selection(const cph_selection *sel, int nthreads, int with_reference,
+                                  uint64_t budget, char *msg, size_t cap) {
     const cp_cache_sizes caches = cp_cache_sizes_fallback();
     for (size_t i = 0; i < sel->layers.n; i++) {
         const cph_layer *L = &sel->layers.v[i];
         const cph_mem_need need = cph_mem_layer_need(&L->shape, sel->flips, sel->nflips, sel->algos,
                                                      sel->nalgos, nthreads, with_reference, &caches);
-        char what[96], msg[512];
+        char what[96];
         snprintf(what, sizeof what, "layer %s", L->name);
-        if (cph_mem_check(what, &need, budget, msg, sizeof msg) != CP_OK) {
-            cph_err("%s: %s", cmd, msg);
-            return -1;
-        }
+        const cp_status st = cph_mem_check(what, &need, budget, msg, cap);
+        if (st != CP_OK) return st;
     }
-    return 0;
+    return CP_OK;
 }

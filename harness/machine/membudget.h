@@ -49,9 +49,8 @@ cp_status cph_mem_check(const char *what, const cph_mem_need *need, uint64_t bud
                         size_t cap);
 
 /* Every layer of a selection (nthreads: the most threads it will run with).
- * Prints the first refusal as "CMD: ..." through cph_err and returns -1;
- * 0 when all fit. */
-int cph_mem_check_selection(const char *cmd, const cph_selection *sel, int nthreads,
-                            int with_reference, uint64_t budget);
+ * CP_OK when all fit, else CP_ENOMEM with the first refusal in msg. */
+cp_status cph_mem_check_selection(const cph_selection *sel, int nthreads, int with_reference,
+                                  uint64_t budget, char *msg, size_t cap);
 
 #endif

@@ -86,6 +86,16 @@ static int cmp_double(const void *a, const void *b) {
 
 void cph_sort_doubles(double *v, size_t n) { qsort(v, n, sizeof *v, cmp_double); }
 
+double cph_median_of(const double *v, size_t n) {
+    double *s = n ? malloc(n * sizeof *s) : NULL;
+    if (!s) return NAN;
+    memcpy(s, v, n * sizeof *s);
+    cph_sort_doubles(s, n);
+    const double m = cph_median_sorted(s, n);
+    free(s);
+    return m;
+}
+
 static double rel_halfwidth(double median, double lo, double hi) {
     const double h = fmax(median - lo, hi - median);
     if (median > 0.0) return h / median;

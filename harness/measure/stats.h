@@ -57,6 +57,9 @@ double cph_binom_half_logcdf(size_t n, size_t k);
 /* Sorts v[0..n) ascending in place (NaNs are the caller's business). */
 void cph_sort_doubles(double *v, size_t n);
 
+/* Median of unsorted values (a sorted copy; NaN for n = 0 or no memory). */
+double cph_median_of(const double *v, size_t n);
+
 /* Median of sorted values (mean of the two middle ones for even n; 0 for n = 0). */
 double cph_median_sorted(const double *sorted, size_t n);
 

@@ -25,15 +25,7 @@ void cph_race_free(cph_race_result *r) {
 }
 
 double cph_race_median(const cph_race_result *r, size_t c) {
-    const cph_race_cand *k = &r->cand[c];
-    if (k->ntrials == 0) return NAN;
-    double *s = malloc(k->ntrials * sizeof *s);
-    if (!s) return NAN;
-    memcpy(s, k->trials, k->ntrials * sizeof *s);
-    cph_sort_doubles(s, k->ntrials);
-    const double m = cph_median_sorted(s, k->ntrials);
-    free(s);
-    return m;
+    return cph_median_of(r->cand[c].trials, r->cand[c].ntrials);
 }
 
 int cph_race_compare(const cph_race_result *r, size_t a, size_t b, double alpha,

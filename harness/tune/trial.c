@@ -16,7 +16,9 @@ typedef struct {
 static int place_alloc(placed *b, size_t n, int random_offset, uint64_t *rng) {
     const size_t off = random_offset ? (size_t)(cph_rng_next(rng) % (CPH_TRIAL_PLACE_SPAN / 64)) * 64
                                      : 0;
-    const size_t bytes = (n * sizeof(float) + off + CPH_TRIAL_PLACE_SPAN + 63) / 64 * 64;
+    /* aligned_alloc wants a multiple of the alignment (C11 7.22.3.1). */
+    const size_t bytes = (n * sizeof(float) + off + 2 * CPH_TRIAL_PLACE_SPAN - 1) /
+                         CPH_TRIAL_PLACE_SPAN * CPH_TRIAL_PLACE_SPAN;
     b->base = aligned_alloc(CPH_TRIAL_PLACE_SPAN, bytes);
     b->p = b->base ? (float *)((char *)b->base + off) : NULL;
     return b->base ? 0 : -1;

@@ -113,7 +113,11 @@ static int prepare(tune_state *t) {
     const uint64_t budget = job->max_memory ? job->max_memory
                                             : (uint64_t)t->m.memory_bytes / 100 *
                                                   CPH_MEM_DEFAULT_PERCENT;
-    if (cph_mem_check_selection("tune", job->sel, most, 1, budget) != 0) return CPH_EXIT_USAGE;
+    char mmsg[512];
+    if (cph_mem_check_selection(job->sel, most, 1, budget, mmsg, sizeof mmsg) != CP_OK) {
+        cph_err("tune: %s", mmsg);
+        return CPH_EXIT_USAGE;
+    }
     const cph_table_settings ts = settings(&t->o, t->counts, t->nt);
     const cp_status st = (t->exists && job->resume)
                              ? cph_table_doc_open(out, &t->m, &ts, &t->doc, msg, sizeof msg)

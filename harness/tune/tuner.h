@@ -29,7 +29,7 @@
 #include <signal.h>
 
 #include "convpick/convpick.h"
-#include "harness/select/select.h"
+#include "harness/select/layers.h"
 #include "harness/measure/timing.h"
 #include "harness/tune/race.h"
 

@@ -71,7 +71,11 @@ for r in apart["results"]: r["shape"]["k"] += 1
 json.dump(apart, open(out + "/apart.json", "w"))
 PY
 
-expect 1 "" -- "$CLI" diff "$tmp/base.json" "$tmp/new.json" --junit "$tmp/junit.xml" --markdown "$tmp/summary.md"
+expect 1 "" -- "$CLI" diff "$tmp/base.json" "$tmp/new.json"
+grep -q "^not in both: 1 measurements only in BASE, 1 only in NEW (--details lists them)" "$tmp/out" \
+  || { cat "$tmp/out"; fail "unmatched items not counted"; }
+grep -q "only in BASE:" "$tmp/out" && fail "unmatched items listed without --details"
+expect 1 "" -- "$CLI" diff "$tmp/base.json" "$tmp/new.json" --details --junit "$tmp/junit.xml" --markdown "$tmp/summary.md"
 grep -q "^slower .*stem <&\"'>.* direct " "$tmp/out" || { cat "$tmp/out"; fail "stem/direct should be slower"; }
 grep -q "^faster .* im2col_gemm " "$tmp/out" || fail "stem/im2col_gemm should be faster"
 grep -q "^unchanged .*mix .* direct " "$tmp/out" || fail "mix/direct should be unchanged"
@@ -162,12 +166,72 @@ json.dump(t, open(sys.argv[2], "w"))
 PY
 expect 0 "" -- "$CLI" diff "$DATA/diff_base.table.json" "$tmp/table_new.json" --markdown "$tmp/table.md"
 grep -q "^changed choices (1):" "$tmp/out" || { cat "$tmp/out"; fail "changed choice not reported"; }
+# By default two tables compare their choices only (one per entry; the changed
+# entry's choices differ, so they do not pair) and the network's time; --all
+# compares every candidate.
+nent="$($PY -c 'import json,sys; print(len(json.load(open(sys.argv[1]))["entries"]))' "$DATA/diff_base.table.json")"
+ncand="$($PY -c 'import json,sys; print(sum(1 for e in json.load(open(sys.argv[1]))["entries"] for c in e["candidates"] if c["status"] == "ok"))' "$DATA/diff_base.table.json")"
+grep -qE "^summary: $((nent - 1)) compared" "$tmp/out" || { cat "$tmp/out"; fail "choices only: expected $((nent - 1)) pairs"; }
+grep -qE "^network: $nent entries in both, sum of the chosen medians BASE [0-9.e+-]+ ms, NEW [0-9.e+-]+ ms, ratio [0-9.]+" "$tmp/out" \
+  || { cat "$tmp/out"; fail "network total not reported"; }
+# Reproduction of the confident choices, counted here from the two files with
+# Python's json module (an outside count of the same definition: confident =
+# runner_up.in_noise false; same = same algorithm; same params too).
+read -r conf same_algo same_all <<<"$($PY - "$DATA/diff_base.table.json" "$tmp/table_new.json" <<'PY'
+import json, sys
+a, b = (json.load(open(f))["entries"] for f in sys.argv[1:3])
+conf = same_algo = same_all = 0
+for x, y in zip(a, b):
+    if isinstance(x["runner_up"], dict) and x["runner_up"]["in_noise"] is False:
+        conf += 1
+        same_algo += x["choice"]["algo"] == y["choice"]["algo"]
+        same_all += x["choice"] == y["choice"]
+print(conf, same_algo, same_all)
+PY
+)"
+grep -qE "^choices: $nent entries in both; $conf of BASE's were confident \(over the best other algorithm\), of those NEW chose the same algorithm in $same_algo \([0-9]+ %\), with the same parameters in $same_all" "$tmp/out" \
+  || { cat "$tmp/out"; fail "choices line: expected $conf confident, $same_algo same algorithm, $same_all same"; }
+grep -qE "^changed choices, BASE's choice re-measured in NEW: worst [0-9.]+x NEW's choice, median [0-9.]+x" "$tmp/out" \
+  || fail "cost of the changed choices not summarised"
+expect 0 "" -- "$CLI" diff --all "$DATA/diff_base.table.json" "$tmp/table_new.json"
+grep -qE "^summary: $ncand compared" "$tmp/out" || { cat "$tmp/out"; fail "--all: expected $ncand pairs"; }
 grep -qE "BASE's choice now takes [0-9.e+-]+ ms, [0-9.e+-]+ times NEW's choice \([0-9.e+-]+ ms\)" "$tmp/out" || fail "old choice cost not reported"
 grep -q "### Changed choices" "$tmp/table.md" || fail "markdown changed choices"
 
 # A bench file against a table of the same device: pairs found across formats.
 expect 0 "" -- "$CLI" diff --tolerance 99 "$DATA/diff_base.bench.json" "$DATA/diff_base.table.json"
 grep -qE "^summary: [1-9][0-9]* compared" "$tmp/out" || fail "no pair across formats"
+
+# 3b. --paired: eight rounds per side whose whole-round speed swings by a
+#     lognormal factor (sigma 15 %, shared by BASE and NEW of the round, as a
+#     neighbour's load would), NEW 10 % slower on stem/direct only.  Paired by
+#     round, the regression is found and nothing else moves.  Expected p:
+#     eight positive log ratios, exact signed-rank two-sided p = 2/256 (common
+#     practice, no source), below alpha 0.01.
+$PY - "$DATA/diff_base.bench.json" "$tmp" <<'PY'
+import copy, json, random, sys
+src, out = sys.argv[1], sys.argv[2]
+doc = json.load(open(src))
+rng = random.Random(7)
+for r in range(8):
+    f = rng.lognormvariate(0.0, 0.15)
+    for side, slow in (("a", 1.0), ("b", 1.10)):
+        d = copy.deepcopy(doc)
+        for x in d["results"]:
+            k = slow if (x["layer"], x["algo"]) == ("stem", "direct") else 1.0
+            x["measurement"]["samples"] = [1e-4 * f * k * rng.lognormvariate(0.0, 0.005) for _ in range(10)]
+        json.dump(d, open("%s/round%d%s.json" % (out, r, side), "w"))
+PY
+A="$(ls "$tmp"/round?a.json | paste -sd,)"; B="$(ls "$tmp"/round?b.json | paste -sd,)"
+expect 1 "" -- "$CLI" diff --paired "$A" "$B" --junit "$tmp/paired.xml"
+grep -q "^method: rounds paired in order; two-sided Wilcoxon signed-rank" "$tmp/out" || fail "paired method line"
+grep -qE "^slower .* stem .* direct " "$tmp/out" || { cat "$tmp/out"; fail "paired: stem/direct should be slower"; }
+grep -qE "^summary: [0-9]+ compared: 1 slower, [0-9]+ inconclusive, [0-9]+ unchanged, 0 faster" "$tmp/out" \
+  || { cat "$tmp/out"; fail "paired: exactly one regression"; }
+grep -q "p = 0.0078" <(xmllint --xpath 'string(//failure/@message)' "$tmp/paired.xml") \
+  || fail "paired: exact p 2/256 not in the failure message"
+expect 2 "diff: --paired: BASE needs at least 2 rounds" -- "$CLI" diff --paired "$tmp/round0a.json" "$B"
+expect 2 "missing\.json" -- "$CLI" diff --paired "$A,$tmp/missing.json" "$B"
 
 # 4. Two real bench runs of this build: diff reads what bench wrote, and its
 #    exit code agrees with the JUnit report.  Whether two runs of one build

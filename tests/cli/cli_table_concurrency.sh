@@ -1,7 +1,7 @@
 #!/usr/bin/env bash
 # Two `convpick tune` processes writing one table at the same time, each
 # tuning its own layers: the advisory lock on TABLE.lock and the merge under
-# it (harness/table_write.c) must leave every entry of both in the table, and
+# it (harness/io/table_lock.c) must leave every entry of both in the table, and
 # the table valid JSON after every write (checked by Python's json module, an
 # outside parser).
 set -euo pipefail

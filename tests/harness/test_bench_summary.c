@@ -1,4 +1,4 @@
-/* The suite summaries of bench (harness/bench_summary.c) on invented rows
+/* The suite summaries of bench (harness/bench/bench_summary.c) on invented rows
  * whose figures are worked out by hand below (worked examples: sums of
  * count x median and their ratios, written out in each comment). */
 #include <math.h>

@@ -335,7 +335,7 @@ static void self_diff(const char *path, size_t min_items) {
     if (cph_results_read(path, &b, msg, sizeof msg) != CP_OK) fail_msg("%s", msg);
     assert_true(a.nitems >= min_items);
     cph_diff d;
-    assert_int_equal(cph_diff_build(&a, &b, 0.01, 0.05, &d), 0);
+    assert_int_equal(cph_diff_build(&a, &b, 0.01, 0.05, 0, &d), 0);
     assert_int_equal(d.npairs, a.nitems);
     assert_int_equal(d.nonly_base + d.nonly_next, 0);
     assert_int_equal(d.counts[CPH_SHIFT_SLOWER], 0);

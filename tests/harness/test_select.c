@@ -14,7 +14,11 @@
 #include <cmocka.h>
 
 #include "harness/cli/options.h"
-#include "harness/select/select.h"
+#include "harness/select/layers.h"
+#include "harness/select/selection.h"
+#include "harness/select/shape_spec.h"
+#include "harness/select/shapefile.h"
+#include "harness/select/suites.h"
 
 /* --- helpers -------------------------------------------------------------- */
 
@@ -68,7 +72,7 @@ static int total_count(const cph_layer_list *l) {
 
 static void test_spec_full(void **state) {
     (void)state;
-    /* The example of select.h. */
+    /* The example of shape_spec.h. */
     cp_shape s = parse_ok("n=1,c=64,h=56,w=56,k=64,r=3,s=3,stride=1,pad=1");
     assert_int_equal(s.n, 1);
     assert_int_equal(s.c, 64);
@@ -198,7 +202,7 @@ static void test_spec_syntax_errors(void **state) {
 }
 
 /* Each invalid class of cp_shape_validate comes back with its own message
- * (texts of algos/shape.c), naming the field at fault. */
+ * (texts of algos/core/shape.c), naming the field at fault. */
 static void test_spec_invalid_classes(void **state) {
     (void)state;
     parse_err("c=0,h=8,w=8,k=4,r=3", NULL, "c=0", "at least 1", NULL);

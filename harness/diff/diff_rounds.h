@@ -1,0 +1,23 @@
+/* Rounds of an A/B comparison: the same measurements taken several times on
+ * each side, interleaved in time (A B A B ... or in a shuffled order per
+ * round).  Each round's median of an item is one trial; the rounds of one
+ * side fold into one results set whose item samples ARE those trial medians,
+ * in round order, so that round r of BASE pairs with round r of NEW. */
+#ifndef CONVPICK_DIFF_ROUNDS_H
+#define CONVPICK_DIFF_ROUNDS_H
+
+#include <stddef.h>
+
+#include "harness/io/results_read.h"
+
+/* Folds rounds[0..n) into out: every item of rounds[0] whose point
+ * (cph_result_same_point) is found in every round gets n samples, sample r =
+ * that item's median in round r (its first occurrence there).  Items missing
+ * from a round are left out and counted in *dropped.  The path reads
+ * "FIRST (+n-1 rounds)"; the device is the first round's, and *other_device
+ * is set when a later round's fingerprint differs.  Returns 0, or -1 when out
+ * of memory.  Free out with cph_results_free. */
+int cph_results_fold_rounds(const cph_results *rounds, size_t n, cph_results *out,
+                            size_t *dropped, int *other_device);
+
+#endif

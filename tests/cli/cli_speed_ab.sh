@@ -1,0 +1,46 @@
+#!/usr/bin/env bash
+# scripts/ci-speed-check --ab end to end with given binaries (no build):
+# BASE = this build, NEW = the test-only build whose `direct` runs four times
+# as long (tests/CMakeLists.txt: convpick_slowed).  Eight rounds, interleaved
+# in a shuffled order, compared paired: the slowdown of `direct` is flagged
+# (exit 1, a JUnit failure on every direct row, each about 4x).  Other rows
+# are not asserted: the two binaries differ in code layout, which moves
+# microsecond kernels by real per cents (we saw 13 % on a 0.9 us im2col_gemm
+# row).  A 4x slowdown cannot hide in any noise a shared machine makes; whether the
+# check catches 10 % is a benchmark (docs/speed-check.md), not a test.  Then
+# the same binary on both sides: the plumbing only (the exit code agrees with
+# the JUnit file; whether it is 0 is the machine's noise, never asserted).
+set -euo pipefail
+CLI="$1"; SRC="$2"
+SLOWED="$(dirname "$CLI")/tests/convpick_slowed"
+[ -x "$SLOWED" ] || { echo "cli_speed_ab: SKIP: $SLOWED not built"; exit 77; }
+tmp="$(mktemp -d)"; trap 'rm -rf "$tmp"' EXIT
+fail() { echo "FAIL: $*"; exit 1; }
+cat >"$tmp/shapes.txt" <<'S'
+# two tiny layers of an invented network
+a: n=1,c=4,h=10,w=10,k=8,r=3,s=3,pad=1
+b: n=1,c=8,h=8,w=8,k=8,r=1,s=1
+S
+ab=("$SRC/scripts/ci-speed-check" --ab HEAD --convpick-base "$CLI" --shapes "$tmp/shapes.txt"
+    --algo direct,im2col_gemm --max-seconds 0.02 --rounds 8)
+
+set +e; "${ab[@]}" --convpick "$SLOWED" --out "$tmp/slow" >"$tmp/log" 2>&1; rc=$?; set -e
+[ "$rc" = 1 ] || { cat "$tmp/log"; fail "a 4x slowdown of direct: exit $rc, expected 1"; }
+[ "$(ls "$tmp/slow/ab"/round*.base.json | wc -l)" = 8 ] || fail "expected 8 BASE rounds"
+[ "$(ls "$tmp/slow/ab"/round*.new.json | wc -l)" = 8 ] || fail "expected 8 NEW rounds"
+grep -q "^method: rounds paired in order" "$tmp/slow/diff.txt" || fail "not a paired comparison"
+ndirect="$(grep -cE '^[a-z]+ +[ab] +no +1 +direct ' "$tmp/slow/diff.txt")"
+nd="$(xmllint --xpath 'count(//testcase/failure[contains(../@name, " direct")])' "$tmp/slow/junit.xml")"
+[ "$ndirect" = 2 ] && [ "$nd" = 2 ] || { cat "$tmp/slow/diff.txt"; fail "direct rows: $ndirect, flagged: $nd (expected both)"; }
+grep -E '^slower +[ab] +no +1 +direct ' "$tmp/slow/diff.txt" | awk '{ if ($9 < 2.5) bad = 1 } END { exit bad }' \
+  || { cat "$tmp/slow/diff.txt"; fail "a direct row's ratio is below 2.5 (the slowdown is 4x)"; }
+grep -q "A/B speed check FAILED: a regression against HEAD" "$tmp/log" || fail "verdict line"
+
+set +e; "${ab[@]}" --convpick "$CLI" --out "$tmp/same" >"$tmp/log" 2>&1; rc=$?; set -e
+[ "$rc" = 0 ] || [ "$rc" = 1 ] || { cat "$tmp/log"; fail "same binary: exit $rc"; }
+nf="$(xmllint --xpath 'count(//testcase/failure)' "$tmp/same/junit.xml")"
+[ "$(( rc == 1 ))" = "$(( nf > 0 ))" ] || fail "exit $rc disagrees with $nf JUnit failures"
+
+set +e; "$SRC/scripts/ci-speed-check" --ab HEAD --rounds 1 --convpick "$CLI" >"$tmp/log" 2>&1; rc=$?; set -e
+[ "$rc" = 2 ] && grep -q "rounds '1': expected a whole number >= 2" "$tmp/log" || fail "--rounds 1 accepted"
+echo "cli_speed_ab: all checks passed"
