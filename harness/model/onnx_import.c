@@ -116,6 +116,9 @@ cp_status cph_onnx_import_buffer(const uint8_t *data, size_t len, const char *na
         st = import_graph(&c, m);
     cponnx__model_proto__free_unpacked(m, NULL);
     if (!tensors) cph_onnx_tensors_free(&local);
+    /* Names in the model may hold any bytes: the message stays one line. */
+    for (char *p = msg; st != CP_OK && p && cap && *p; p++)
+        if ((unsigned char)*p < 0x20) *p = '?';
     return st;
 }
 
