@@ -200,8 +200,12 @@ int cph_bench_run(cph_bench_cfg *c, int argc, char **argv) {
                cph_clock_name(), c->timing.warmup, c->timing.min_samples, c->timing.max_samples,
                100.0 * c->timing.target_rel_ci, 100.0 * c->timing.confidence,
                1e3 * c->timing.max_seconds, c->timing.cold ? ", cold caches" : "");
+        printf("layers: %zu shape(s), %lld layer(s) in the network\n", c->sel.layers.n,
+               cph_layers_total(&c->sel.layers));
+        cph_layers_print(stdout, &c->sel.layers);
         rc = rows(r, c);
         roofs_end(r);
+        if (!r->oom) cph_bench_network_print(stdout, &r->recs, &c->sel.layers);
         json_t *sums = NULL;
         if (c->targets && !(sums = targets(r))) rc = CPH_EXIT_FAIL;
         if (c->json_path && write_document(r, c, argc, argv, sums) != CPH_EXIT_OK)

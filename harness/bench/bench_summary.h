@@ -28,6 +28,7 @@
 #include <jansson.h>
 
 #include "convpick/convpick.h"
+#include "harness/select/layers.h"
 
 /* What a timed row is. */
 typedef enum cph_row_kind {
@@ -108,5 +109,10 @@ void cph_summaries_print(FILE *f, const cph_summary *s, const cph_summary *fast,
 /* The summaries as a JSON array (new reference, NULL on failure); fast as
  * above adds "value_fastest" and "verdict_fastest". */
 json_t *cph_summaries_json(const cph_summary *s, const cph_summary *fast, size_t n);
+
+/* The network totals: per flip and thread count recorded, the sum over the
+ * layers of count x median for "chosen", each algorithm and the best of each
+ * layer (network.h), printed. */
+void cph_bench_network_print(FILE *f, const cph_bench_recs *r, const cph_layer_list *l);
 
 #endif

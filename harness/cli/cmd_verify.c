@@ -169,11 +169,7 @@ static int verify(const verify_opts *o) {
     }
     printf("verify: %zu layer(s), %zu algorithm(s), seed %llu\n", s->layers.n, s->nalgos,
            (unsigned long long)s->seed);
-    for (size_t i = 0; i < s->layers.n; i++) {
-        char spec[320];
-        cph_shape_format_short(&s->layers.v[i].shape, spec, sizeof spec);
-        printf("  %-*s  x%-3d %s\n", t.name_w, s->layers.v[i].name, s->layers.v[i].count, spec);
-    }
+    cph_layers_print(stdout, &s->layers);
     printf("\n%-*s  %-4s  %-*s  %-10s %-10s %-9s %s\n", t.name_w, "layer", "flip", t.algo_w,
            "algo", "max_abs", "max_rel", "tolerance", "result");
     for (size_t i = 0; i < s->layers.n && rc == CPH_EXIT_OK; i++) {

@@ -21,6 +21,7 @@ static const command commands[] = {
     {"bench", cph_cmd_bench, "time algorithms on layer shapes without choosing"},
     {"tune", cph_cmd_tune, "time every applicable algorithm and write a tuning table"},
     {"lookup", cph_cmd_lookup, "ask a tuning table which algorithm to run for a shape"},
+    {"model", cph_cmd_model, "write the Conv layers of an ONNX model as a shape file"},
     {"cache", cph_cmd_cache, "cache cost of true convolution vs cross-correlation (simulated, counted)"},
     {"diff", cph_cmd_diff, "compare two bench results or tables: faster, slower, unchanged"},
 };

@@ -14,6 +14,8 @@
 #include "harness/cli/cli.h"
 #include "harness/machine/membudget.h"
 #include "harness/machine/pool.h"
+#include "harness/model/onnx_import.h"
+#include "harness/select/layer_spec.h"
 #include "harness/select/shape_spec.h"
 #include "harness/select/shapefile.h"
 #include "harness/select/suites.h"
@@ -213,13 +215,39 @@ int cph_opt_selection(const char *cmd, cph_selection *sel, int opt, const char *
     switch (opt) {
     case CPH_OPT_SHAPE: {
         cp_shape s;
-        if (cph_parse_shape(arg, NULL, &s, msg, sizeof msg) != CP_OK)
+        char name[CPH_LAYER_NAME_MAX + 1];
+        int count = 1;
+        if (cph_parse_layer(arg, NULL, name, &count, &s, msg, sizeof msg) != CP_OK)
             return cph_opt_error(cmd, "--shape", "'%.60s%s': %s", arg,
                                  strlen(arg) > 60 ? "..." : "", msg);
-        char name[32];
-        snprintf(name, sizeof name, "shape%zu", sel->layers.n + 1);
-        if (cph_layers_add(&sel->layers, name, &s, 1) != CP_OK)
-            return cph_opt_error(cmd, "--shape", "out of memory");
+        if (!name[0]) snprintf(name, sizeof name, "shape%zu", sel->layers.n + 1);
+        if (cph_layers_add(&sel->layers, name, &s, count) != CP_OK)
+            return cph_opt_error(cmd, "--shape", "out of memory or count overflow");
+        return 0;
+    }
+    case CPH_OPT_MODEL:
+        if (sel->nmodels == CPH_SELECTION_MAX_MODELS)
+            return cph_opt_error(cmd, "--onnx", "more than %d models", CPH_SELECTION_MAX_MODELS);
+        sel->models[sel->nmodels++] = arg;
+        return 0;
+    case CPH_OPT_BATCH: {
+        long long n = 0;
+        if (cph_opt_int(cmd, "--batch", arg, 1, 65536, "an integer in [1, 65536]", &n))
+            return CPH_EXIT_USAGE;
+        sel->batch = n;
+        return 0;
+    }
+    case CPH_OPT_INPUT_SIZE: {
+        char *end = NULL;
+        errno = 0;
+        const long long h = isdigit((unsigned char)arg[0]) ? strtoll(arg, &end, 10) : 0;
+        const char *wp = end && *end == ',' ? end + 1 : NULL;
+        const long long w = wp && isdigit((unsigned char)*wp) ? strtoll(wp, &end, 10) : 0;
+        if (!wp || *end || errno || h < 1 || w < 1 || h > 1000000 || w > 1000000)
+            return cph_opt_error(cmd, "--input-size", "'%s' is not H,W (two integers in [1, 1000000])",
+                                 arg);
+        sel->input_h = h;
+        sel->input_w = w;
         return 0;
     }
     case CPH_OPT_SHAPES:
@@ -296,9 +324,22 @@ int cph_opt_shared(const cph_opt_dest *d, int opt, const char *arg) {
     return cph_opt_error(d->cmd, NULL, "internal: option code %d has no destination", opt);
 }
 
+int cph_opt_models(const char *cmd, cph_selection *sel) {
+    char msg[1024];
+    const cph_onnx_opts o = {sel->batch, sel->input_h, sel->input_w};
+    for (size_t i = 0; i < sel->nmodels; i++)
+        if (cph_onnx_import(sel->models[i], &o, &sel->layers, NULL, msg, sizeof msg) != CP_OK)
+            return cph_opt_error(cmd, "--onnx", "%s", msg);
+    sel->nmodels = 0;
+    if (sel->batch > 0 && cph_selection_set_batch(sel, sel->batch) != CP_OK)
+        return cph_opt_error(cmd, "--batch", "out of memory");
+    return 0;
+}
+
 int cph_opt_selection_finish(const char *cmd, cph_selection *sel, const cp_flip *default_flips,
                              int ndefault) {
     char msg[256];
+    if (cph_opt_models(cmd, sel)) return CPH_EXIT_USAGE;
     if (cph_selection_finish(sel, default_flips, ndefault, msg, sizeof msg) != CP_OK)
         return cph_opt_error(cmd, NULL, "%s", msg);
     return 0;
@@ -312,14 +353,21 @@ int cph_opt_no_operands(const char *cmd, int argc, char **argv) {
 }
 
 void cph_help_selection(FILE *f, const char *default_flip) {
-    fputs("shape selection (give at least one of --shape, --shapes, --suite):\n"
-          "  --shape SPEC        a layer, e.g. n=1,c=64,h=56,w=56,k=64,r=3,s=3,stride=1,pad=1\n"
+    fputs("shape selection (give at least one of --shape, --shapes, --suite, --onnx):\n"
+          "  --shape [NAME:]SPEC a layer, e.g. n=1,c=64,h=56,w=56,k=64,r=3,s=3,stride=1,pad=1\n"
           "                      (keys: n c h w k r s stride[_h|_w]\n"
           "                      pad[_h|_w|_top|_left|_bottom|_right] dilation[_h|_w] groups;\n"
-          "                      pad=valid|same|full); repeatable\n"
+          "                      pad=valid|same|full; count=N: times in the network);\n"
+          "                      repeatable\n"
           "  --shapes FILE       layers from a file: one spec a line, optional 'name:' first,\n"
           "                      '#' comments\n"
           "  --suite NAME        a built-in network: resnet50, vgg16, mobilenet_v1, demo\n"
+          "  --onnx FILE         the Conv layers of an ONNX model (convpick model writes\n"
+          "                      them as a shape file); repeatable\n"
+          "  --batch N           every layer's batch size n, a model's symbolic one too\n"
+          "                      (default: each layer's own)\n"
+          "  --input-size H,W    an ONNX input's symbolic height and width (default: none,\n"
+          "                      a symbolic size is refused)\n"
           "  --algo A,B          only these algorithms (default: all; see convpick algos)\n",
           f);
     if (default_flip)

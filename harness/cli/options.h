@@ -29,6 +29,9 @@ enum {
     CPH_OPT_SHAPE = 1000,
     CPH_OPT_SHAPES,
     CPH_OPT_SUITE,
+    CPH_OPT_MODEL,
+    CPH_OPT_BATCH,
+    CPH_OPT_INPUT_SIZE,
     CPH_OPT_ALGO,
     CPH_OPT_FLIP,
     CPH_OPT_SEED,
@@ -47,6 +50,9 @@ enum {
     {"shape", required_argument, NULL, CPH_OPT_SHAPE},                                      \
         {"shapes", required_argument, NULL, CPH_OPT_SHAPES},                                \
         {"suite", required_argument, NULL, CPH_OPT_SUITE},                                  \
+        {"onnx", required_argument, NULL, CPH_OPT_MODEL},                                  \
+        {"batch", required_argument, NULL, CPH_OPT_BATCH},                                  \
+        {"input-size", required_argument, NULL, CPH_OPT_INPUT_SIZE},                        \
         {"algo", required_argument, NULL, CPH_OPT_ALGO},                                    \
         {"flip", required_argument, NULL, CPH_OPT_FLIP},                                    \
         {"seed", required_argument, NULL, CPH_OPT_SEED}, CPH_OPT_PLUGIN_ENTRY
@@ -103,6 +109,11 @@ int cph_opt_threads_read(const char *cmd, const char *arg, int cores, int *out, 
 int cph_opt_plugin(const char *cmd, const char *path);
 /* --max-memory: bytes (K, M, G) or a percentage of the machine's memory. */
 int cph_opt_max_memory(const char *cmd, const char *arg, uint64_t *out);
+
+/* Imports the --onnx files (after --batch and --input-size are known) and
+ * applies --batch to every layer; 0, or CPH_EXIT_USAGE after the error line.
+ * cph_opt_selection_finish calls it. */
+int cph_opt_models(const char *cmd, cph_selection *sel);
 
 /* Where the shared options of a command go; NULL for a group it does not take. */
 typedef struct cph_opt_dest {

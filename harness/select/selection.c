@@ -2,6 +2,7 @@
 #include "harness/select/selection.h"
 #include "algos/core/cpa.h"
 
+#include <stdio.h>
 #include <string.h>
 
 void cph_selection_init(cph_selection *sel) {
@@ -10,6 +11,24 @@ void cph_selection_init(cph_selection *sel) {
 }
 
 void cph_selection_free(cph_selection *sel) { cph_layers_free(&sel->layers); }
+
+cp_status cph_selection_set_batch(cph_selection *sel, int64_t batch) {
+    cph_layer_list nl = {0};
+    cp_status st = CP_OK;
+    for (size_t i = 0; i < sel->layers.n && st == CP_OK; i++) {
+        const cph_layer *L = &sel->layers.v[i];
+        cp_shape s = L->shape;
+        s.n = batch;
+        st = cph_layers_add_names(&nl, cph_layer_names(L), &s, L->count);
+    }
+    if (st != CP_OK) {
+        cph_layers_free(&nl);
+        return st;
+    }
+    cph_layers_free(&sel->layers);
+    sel->layers = nl;
+    return CP_OK;
+}
 
 cp_status cph_selection_finish(cph_selection *sel, const cp_flip *default_flips, int ndefault,
                                char *msg, size_t cap) {
@@ -26,7 +45,7 @@ cp_status cph_selection_finish(cph_selection *sel, const cp_flip *default_flips,
     }
     if (sel->layers.n == 0)
         return cpa_fail(CP_EINVAL, msg, cap,
-                        "no layers selected (give --shape, --shapes or --suite)");
+                        "no layers selected (give --shape, --shapes, --suite or --onnx)");
     return CP_OK;
 }
 

@@ -10,6 +10,7 @@
 #include "harness/select/layers.h"
 
 #define CPH_SELECTION_MAX_ALGOS 32
+#define CPH_SELECTION_MAX_MODELS 8
 
 typedef struct cph_selection {
     cph_layer_list layers;
@@ -18,9 +19,17 @@ typedef struct cph_selection {
     cp_flip flips[2];
     int nflips;           /* 0 until finished = the command's default */
     uint64_t seed;        /* default 1 */
+    /* Models (--onnx) are imported when the options are finished, after
+     * --batch and --input-size are known; their layers come after the others. */
+    const char *models[CPH_SELECTION_MAX_MODELS];
+    size_t nmodels;
+    int64_t batch;        /* > 0: every layer's n (--batch) */
+    int64_t input_h, input_w; /* > 0: a model input's symbolic H and W */
 } cph_selection;
 
 void cph_selection_init(cph_selection *sel);
+/* Sets every layer's n to batch (layers that become identical merge). */
+cp_status cph_selection_set_batch(cph_selection *sel, int64_t batch);
 /* Fills what was not given (all algorithms; flips = default_flips) and fails
  * if no layer was selected. */
 cp_status cph_selection_finish(cph_selection *sel, const cp_flip *default_flips, int ndefault,

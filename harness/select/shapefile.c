@@ -16,6 +16,7 @@
 #include <unistd.h>
 
 #include "harness/select/shapefile.h"
+#include "harness/select/layer_spec.h"
 #include "harness/select/shape_spec.h"
 #include "algos/core/cpa.h"
 
@@ -24,29 +25,6 @@
  * generated lines (a pipe, /dev/urandom) ends in an error, not in minutes of
  * de-duplication (cph_layers_add is linear in the list). */
 #define CPH_SHAPE_FILE_MAX_LAYERS 10000
-
-/* Splits "name: spec" off; a name is [A-Za-z0-9_.-], 1..63 characters. */
-static cp_status split_name(char *line, const char *ctx, char **name, char **spec, char *msg,
-                            size_t cap) {
-    char *colon = strchr(line, ':');
-    *name = NULL;
-    *spec = line;
-    if (!colon) return CP_OK;
-    *colon = '\0';
-    char *nm = cph_trim(line);
-    if (!*nm) return cpa_fail(CP_EFORMAT, msg, cap, "%s: empty layer name before ':'", ctx);
-    if (strlen(nm) >= sizeof(((cph_layer *)0)->name))
-        return cpa_fail(CP_EFORMAT, msg, cap, "%s: layer name '%.20s...' is longer than %zu characters",
-                    ctx, nm, sizeof(((cph_layer *)0)->name) - 1);
-    for (const char *c = nm; *c; c++)
-        if (!isalnum((unsigned char)*c) && *c != '_' && *c != '.' && *c != '-')
-            return cpa_fail(CP_EFORMAT, msg, cap,
-                        "%s: layer name '%s' may hold only letters, digits, '_', '.' and '-'",
-                        ctx, nm);
-    *name = nm;
-    *spec = colon + 1;
-    return CP_OK;
-}
 
 /* Reads the lines of f (a file, a pipe or a memory stream); path names it in
  * messages.  Does not close f. */
@@ -77,27 +55,22 @@ static cp_status load_stream(FILE *f, const char *path, cph_layer_list *out, cha
         if (!*text) continue;
         char ctx[CPH_SHAPE_LINE_MAX / 2];
         snprintf(ctx, sizeof ctx, "%.400s:%ld", path, lineno);
-        char *name = NULL, *spec = NULL;
-        st = split_name(text, ctx, &name, &spec, msg, cap);
-        if (st != CP_OK) break;
+        char name[CPH_LAYER_NAME_MAX + 1];
+        int count = 1;
         cp_shape s;
-        st = cph_parse_shape(spec, ctx, &s, msg, cap);
+        st = cph_parse_layer(text, ctx, name, &count, &s, msg, cap);
         if (st != CP_OK) {
-            st = CP_EFORMAT;
+            if (st != CP_ENOMEM) st = CP_EFORMAT;
             break;
         }
-        char autoname[32];
-        if (!name) {
-            snprintf(autoname, sizeof autoname, "layer%zu", added + 1);
-            name = autoname;
-        }
+        if (!name[0]) snprintf(name, sizeof name, "layer%zu", added + 1);
         if (added >= CPH_SHAPE_FILE_MAX_LAYERS) {
             st = cpa_fail(CP_EFORMAT, msg, cap, "%s:%ld: more than %d layers in one file", path,
                       lineno, CPH_SHAPE_FILE_MAX_LAYERS);
             break;
         }
-        if (cph_layers_add(out, name, &s, 1) != CP_OK) {
-            st = cpa_fail(CP_ENOMEM, msg, cap, "%s:%ld: out of memory", path, lineno);
+        if (cph_layers_add(out, name, &s, count) != CP_OK) {
+            st = cpa_fail(CP_ENOMEM, msg, cap, "%s:%ld: out of memory or count overflow", path, lineno);
             break;
         }
         added++;

@@ -76,6 +76,7 @@ typedef struct tune_state {
     cph_progress pr;
     int nwork, done_work, measured_work, failures;
     double measured_seconds;
+    cph_net_total nets[CPH_TABLE_MAX_THREADS][2]; /* per thread count x flip */
 } tune_state;
 
 /* The output checked, the machine, the thread counts, the memory check and
@@ -137,7 +138,7 @@ static int prepare(tune_state *t) {
  * written.  Returns 0 to go on, 1 when interrupted, or the exit code of a
  * failed write (reported). */
 static int tune_one(tune_state *t, const cph_layer *L, cp_flip flip, int threads,
-                    const cp_exec *exec) {
+                    const cp_exec *exec, cph_net_total *net) {
     const cph_selection *sel = t->job->sel;
     char msg[512];
     t->done_work++;
@@ -184,6 +185,7 @@ static int tune_one(tune_state *t, const cph_layer *L, cp_flip flip, int threads
     st = cph_table_doc_put(t->doc, &e, &en, msg, sizeof msg);
     free(cnotes);
     cph_tune_report_free(&rep);
+    if (st == CP_OK) cph_tune_network_add(net, L, &e);
     if (st == CP_OK) st = cph_table_doc_write(t->doc, t->job->out, msg, sizeof msg);
     char pbuf[128];
     cp_params_format(e.algo, &e.params, pbuf, sizeof pbuf);
@@ -222,7 +224,8 @@ static int tune_threads(tune_state *t, int ti) {
     int rc = 0;
     for (size_t li = 0; li < sel->layers.n && !stop_requested && !rc; li++)
         for (int mi = 0; mi < sel->nflips && !stop_requested && !rc; mi++) {
-            rc = tune_one(t, &sel->layers.v[li], sel->flips[mi], t->counts[ti], &exec);
+            rc = tune_one(t, &sel->layers.v[li], sel->flips[mi], t->counts[ti], &exec,
+                          &t->nets[ti][mi]);
             if (rc == 1) rc = 0; /* interrupted: stop_requested is set */
         }
     cph_pool_destroy(pool);
@@ -249,6 +252,10 @@ int cph_tune_run(const cph_tune_job *job) {
         sigaction(SIGTERM, &sa, NULL);
         cph_progress_init(&t->pr, stderr, job->quiet);
         t->nwork = (int)job->sel->layers.n * job->sel->nflips * t->nt;
+        for (int ti = 0; ti < t->nt; ti++)
+            for (int mi = 0; mi < job->sel->nflips && mi < 2; mi++)
+                cph_net_init(&t->nets[ti][mi], job->sel->flips[mi], t->counts[ti],
+                             job->sel->layers.n, cph_layers_total(&job->sel->layers));
         rc = CPH_EXIT_OK;
         for (int ti = 0; ti < t->nt && !stop_requested && rc == CPH_EXIT_OK; ti++)
             rc = tune_threads(t, ti);
@@ -263,6 +270,9 @@ int cph_tune_run(const cph_tune_job *job) {
                         cph_table_doc_count(t->doc));
             if (t->failures) rc = CPH_EXIT_FAIL;
         }
+        /* What the whole network costs, also after an interruption (then partial). */
+        for (int ti = 0; ti < t->nt; ti++)
+            for (int mi = 0; mi < job->sel->nflips && mi < 2; mi++) cph_net_print(stdout, &t->nets[ti][mi]);
     }
     if (t->doc) cph_table_doc_free(t->doc);
     if (t->have_machine) cph_machine_free(&t->m);

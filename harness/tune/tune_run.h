@@ -7,6 +7,7 @@
 
 #include <stdint.h>
 
+#include "harness/measure/network.h"
 #include "harness/select/selection.h"
 #include "harness/tune/tuner.h"
 
@@ -25,5 +26,11 @@ typedef struct cph_tune_job {
  * exit code: 0 done, 1 a layer had no qualifying candidate, 2 bad input or a
  * write failed, 130 interrupted (the table holds every finished layer). */
 int cph_tune_run(const cph_tune_job *job);
+
+/* The network total's share of one tuned entry (tune_network.c): L's count x
+ * the chosen median to "chosen", and x the fastest qualified candidate's
+ * median of each algorithm to that algorithm's row.  cph_tune_run prints the
+ * totals on standard output at the end. */
+void cph_tune_network_add(cph_net_total *t, const cph_layer *L, const cp_table_entry *e);
 
 #endif

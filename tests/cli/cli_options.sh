@@ -47,9 +47,9 @@ for cmd in verify run algos probe bench tune lookup cache diff; do
   done
   [ ! -s err ] || { echo "FAIL: $cmd --help wrote to stderr"; fails=$((fails+1)); }
   # Every option states its default or that it is required (the layer
-  # options --shape, --shapes, --suite: "give at least one" above them).
+  # options --shape, --shapes, --suite, --onnx: "give at least one" above them).
   awk '
-    function check() { if (opt != "" && opt !~ /^(-h,|--shape|--shapes|--suite)$/ && txt !~ /default|required/) print opt }
+    function check() { if (opt != "" && opt !~ /^(-h,|--shape|--shapes|--suite|--onnx)$/ && txt !~ /default|required/) print opt }
     /^  -/ { check(); opt = $1; txt = $0; next }
     /^                      / { txt = txt $0; next }
     { check(); opt = "" }
