@@ -43,5 +43,5 @@ expect2 "version: 3 is not supported" "$tmp/v3.json" --shape n=1,c=3,h=16,w=16,k
 expect2 "--shape" "$T" --shape n=1,c=3,h=16,w=16,k=8,r=3,bogus=2
 expect2 "convpick lookup: --flip: 'sideways' is not no or yes" "$T" --shape n=1,c=3,h=16,w=16,k=8,r=3 --flip sideways
 expect2 "expected one TABLE" --shape n=1,c=3,h=16,w=16,k=8,r=3
-"$CLI" lookup --help | grep -q -- "--strict-device" || fail "help"
+grep -q -- "--strict-device" <<<"$("$CLI" lookup --help)" || fail "help"
 echo "cli_lookup: all checks passed"

@@ -62,7 +62,7 @@ for cmd in verify bench tune cache; do
   one_line "convpick $cmd: --seed: 'x' is not an integer in [0, 2^64)" "$cmd" --shape $S --seed x
   one_line "convpick $cmd: --algo: unknown algorithm 'nope' (known: $("$CLI" algos | awk 'NR>1 && /^[a-z]/ {printf "%s%s", s, $1; s=", "}'))" \
     "$cmd" --shape $S --algo nope
-  "$CLI" "$cmd" --help | grep -q '^shape selection' || { echo "FAIL: $cmd --help: no shape selection block"; fails=$((fails+1)); }
+  help_text="$("$CLI" "$cmd" --help)"; grep -q '^shape selection' <<<"$help_text" || { echo "FAIL: $cmd --help: no shape selection block"; fails=$((fails+1)); }
 done
 for cmd in verify run bench tune lookup; do
   case $cmd in
@@ -71,7 +71,7 @@ for cmd in verify run bench tune lookup; do
   esac
   one_line "convpick $cmd: --flip: 'conv' is not $want" "$cmd" --shape $S --flip conv
   # The help states the default orientation.
-  "$CLI" "$cmd" --help | grep -A3 -- '--flip F' | grep -q '(default: [a-z]*)' ||
+  grep -A3 -- '--flip F' <<<"$("$CLI" "$cmd" --help)" | grep -q '(default: [a-z]*)' ||
     { echo "FAIL: $cmd --help does not state the default --flip"; fails=$((fails+1)); }
 done
 for cmd in verify run bench tune; do
