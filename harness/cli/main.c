@@ -23,6 +23,8 @@ static const command commands[] = {
     {"lookup", cph_cmd_lookup, "ask a tuning table which algorithm to run for a shape"},
     {"cache", cph_cmd_cache, "cache cost of true convolution vs cross-correlation (simulated, counted)"},
     {"diff", cph_cmd_diff, "compare two bench results or tables: faster, slower, unchanged"},
+    {"show", cph_cmd_show, "print a tuning table: every entry's choice, margin, and the totals"},
+    {"report", cph_cmd_report, "write one HTML page of tables, bench results, roofs, cache study"},
 };
 
 static void usage(FILE *f) {
