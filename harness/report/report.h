@@ -104,6 +104,8 @@ double cph_rep_gflops(const cp_shape *s, double seconds);
 /* The highest compute roof and the bandwidth roof measured with exactly
  * threads, else the nearest thread count; 0 when none. */
 double cph_rep_roof_for(const cph_report *r, int compute, int threads);
+/* Every entry of this shape occurs count times in the network. */
+void cph_rep_set_count(cph_report *r, const cp_shape *shape, int count);
 /* The sorted distinct thread counts of every table and bench entry (max 64). */
 int cph_rep_thread_counts(const cph_report *r, int *out, int max);
 

@@ -62,11 +62,17 @@ static int describe_device(const json_t *dev, cph_rep_source *s) {
     return cores > 0 ? cores : 1;
 }
 
-static cp_status from_table(const char *data, size_t len, const char *path, const json_t *root,
+static cp_status from_table(const char *data, size_t len, const char *path, json_t *root,
                             cph_rep_source *s, char *msg, size_t cap) {
     cp_table *t;
     cp_status st = cp_table_load_buffer(data, len, path, 0, &t, msg, cap);
     if (st != CP_OK) return st;
+    cpl_jctx jc = {path, msg, cap};
+    int from;
+    if ((st = cpl_table_migrate(&jc, root, &from)) != CP_OK) { /* the device's current spelling */
+        cp_table_free(t);
+        return st;
+    }
     snprintf(s->fingerprint, sizeof s->fingerprint, "%s", cp_table_fingerprint(t));
     describe_device(json_object_get(root, "device"), s);
     const size_t n = cp_table_count(t);
@@ -241,16 +247,9 @@ cp_status cph_report_collect(const char *const *paths, size_t npaths, cph_report
     /* Bench results tell how often each shape occurs; tables do not record it. */
     for (size_t i = 0; i < out->n; i++)
         for (size_t k = 0; k < out->src[i].nentries; k++) {
-            cph_rep_entry *e = &out->src[i].entries[k];
-            for (size_t j = 0; j < out->n && !e->count_known; j++)
-                for (size_t m = 0; m < out->src[j].nentries; m++) {
-                    const cph_rep_entry *b = &out->src[j].entries[m];
-                    if (b->count_known && cp_shape_equal(&b->shape, &e->shape)) {
-                        e->count = b->count;
-                        e->count_known = 1;
-                        break;
-                    }
-                }
+            const cph_rep_entry *b = &out->src[i].entries[k];
+            if (out->src[i].kind == CPH_REP_BENCH && b->count_known)
+                cph_rep_set_count(out, &b->shape, b->count);
         }
     return CP_OK;
 }

@@ -100,3 +100,13 @@ int cph_rep_algos(const cph_rep_source *s, int threads, const char **out, int ma
     }
     return n;
 }
+
+void cph_rep_set_count(cph_report *r, const cp_shape *shape, int count) {
+    for (size_t i = 0; i < r->n; i++)
+        for (size_t k = 0; k < r->src[i].nentries; k++) {
+            cph_rep_entry *e = &r->src[i].entries[k];
+            if (!cp_shape_equal(&e->shape, shape)) continue;
+            e->count = count;
+            e->count_known = 1;
+        }
+}

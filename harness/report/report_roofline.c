@@ -92,7 +92,10 @@ static void extent(const cph_report *r, int threads, int rt, double *x, double *
         }
     }
     const double peak = cph_rep_roof_for(r, 1, threads), bw = cph_rep_roof_for(r, 0, threads);
-    if (peak > 0 && bw > 0) x[1] = fmax(x[1], 2 * peak / bw);
+    if (peak > 0 && bw > 0) { /* the ridge and some of the slope in view */
+        x[0] = fmin(x[0], peak / bw / 4);
+        x[1] = fmax(x[1], 2 * peak / bw);
+    }
     if (!(x[0] < INFINITY)) x[0] = 1, x[1] = 100;
     if (!(y[0] < INFINITY)) y[0] = 1, y[1] = 100;
 }
