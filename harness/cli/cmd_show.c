@@ -40,9 +40,10 @@ int cph_cmd_show(int argc, char **argv) {
     int tables = 0;
     for (size_t i = 0; i < r.n; i++) tables += r.src[i].kind == CPH_REP_TABLE;
     if (!tables) {
+        const cph_rep_kind k = r.src[0].kind;
         cph_report_free(&r);
         return cph_opt_error("show", NULL, "%s is %s, not a tuning table", argv[optind],
-                             cph_rep_kind_name(r.src[0].kind));
+                             cph_rep_kind_name(k));
     }
     cph_rep_summary(stdout, &r);
     cph_report_free(&r);

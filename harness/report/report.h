@@ -74,6 +74,7 @@ typedef struct cph_rep_source {
     cph_rep_roof roofs[CPH_REP_MAX_ROOFS];
     int nroofs;
     char *cache_json;          /* CPH_REP_CACHE: the document's text (owned) */
+    size_t cache_len;
 } cph_rep_source;
 
 typedef struct cph_report {

@@ -12,7 +12,7 @@ void cph_rep_cache_html(cph_textbuf *b, const cph_rep_source *s) {
     cph_tb_printf(b, "</h2><p class=\"note\">Does reading the kernel flipped change the cache "
                   "misses? Each bar: a true-convolution variant's simulated misses over those of "
                   "cross-correlation in the same family (1 = no change).</p>");
-    json_t *study = json_loads(s->cache_json, 0, NULL);
+    json_t *study = json_loadb(s->cache_json, s->cache_len, 0, NULL);
     if (study) cph_cache_chart_svg(b, study); /* parsed once already when collected */
     json_decref(study);
 }

@@ -212,6 +212,7 @@ static cp_status read_one(const char *path, cph_rep_source *s, char *msg, size_t
         s->kind = CPH_REP_CACHE;
         describe_device(json_object_get(root, "machine"), s);
         s->cache_json = data;
+        s->cache_len = len;
         data = NULL;
     } else if (!fmt && jstr(root, "fingerprint") && json_object_get(root, "roofs")) {
         s->kind = CPH_REP_PROBE; /* convpick probe --json: the device object itself */
