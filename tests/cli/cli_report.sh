@@ -10,12 +10,9 @@
 set -euo pipefail
 CLI="$1"; SRC="$2"
 PY=/usr/bin/python3
-CHROMIUM="${CHROMIUM:-$(command -v chromium || true)}"
-[ -n "$CHROMIUM" ] || { echo "cli_report: SKIP: chromium not installed (scripts/deps)"; exit 77; }
+command -v "${CHROMIUM:-chromium}" >/dev/null || { echo "cli_report: SKIP: chromium not installed (scripts/deps)"; exit 77; }
 T="$(mktemp -d /tmp/convpick_cli_report.XXXXXX)"
-CPID=""
-cleanup() { if [ -n "$CPID" ]; then kill "$CPID" 2>/dev/null || true; fi; rm -rf "$T"; }
-trap cleanup EXIT
+trap 'rm -rf "$T"' EXIT
 die() { echo "FAIL: $*"; exit 1; }
 
 # 1. A small tune of an invented network: layer a occurs twice.
@@ -88,29 +85,15 @@ for i, s in enumerate(svgs):
 PYEOF
 for f in "$T"/svg*.svg; do xmllint --noout "$f" || die "$f does not parse"; done
 
-# 6. Headless Chromium: a screenshot, then the DOM, logging to stderr.  Each
-# instance is started in the background and killed by its process id.
-flags=(--headless --no-sandbox --disable-gpu --disable-quic --no-first-run
-       --disable-background-networking --disable-component-update --disable-sync
-       --enable-logging=stderr --v=0 --window-size=1280,2000)
-run_chromium() { # OUT ERR ARGS...
-  local out="$1" err="$2"; shift 2
-  "$CHROMIUM" "${flags[@]}" --user-data-dir="$T/profile.$RANDOM" "$@" "file://$T/r.html" \
-      >"$out" 2>"$err" &
-  CPID=$!
-  for _ in $(seq 1 120); do kill -0 "$CPID" 2>/dev/null || break; sleep 0.5; done
-  if kill -0 "$CPID" 2>/dev/null; then kill "$CPID"; wait "$CPID" || true; CPID=""; return 1; fi
-  wait "$CPID" || { CPID=""; return 1; }
-  CPID=""
-}
-if ! run_chromium "$T/shot.out" "$T/shot.err" --screenshot="$T/r.png" || [ ! -s "$T/r.png" ]; then
-  tail -5 "$T/shot.err"; echo "cli_report: SKIP: chromium could not run here"; exit 77
-fi
-run_chromium "$T/dom.html" "$T/dom.err" --dump-dom || die "chromium --dump-dom failed"
+# 6. Headless Chromium (scripts/headless-chromium: a screenshot, then the DOM,
+# logging to stderr, each instance killed by its process id).
+set +e; "$SRC/scripts/headless-chromium" "$T/r.html" "$T/r"; rc=$?; set -e
+[ "$rc" = 77 ] && { echo "cli_report: SKIP: chromium could not run here"; exit 77; }
+[ "$rc" = 0 ] || die "headless-chromium exited $rc"
 # The console: Chromium logs page errors as "Uncaught ..." and console
 # messages as "CONSOLE" lines (common practice, no source).
-if grep -Eiq "Uncaught|CONSOLE\(|console" "$T/shot.err" "$T/dom.err"; then
-  grep -Ei "Uncaught|console" "$T/shot.err" "$T/dom.err" | head; die "the page logged console errors"
+if grep -Eiq "Uncaught|console" "$T/r.shot.log" "$T/r.dom.log"; then
+  grep -Ei "Uncaught|console" "$T/r.shot.log" "$T/r.dom.log" | head; die "the page logged console errors"
 fi
 
 # 7. The screenshot is not blank: decode the PNG (RFC 2083 / PNG spec: zlib
@@ -164,7 +147,7 @@ PYEOF
 # 2 n k (c/groups) r s P Q, bytes = 4 (input + weights + output elements)),
 # placed by the log mapping the <svg> states; the network totals (count x
 # median, summed) match the page's and the summaries'.
-$PY - "$T/dom.html" "$T/a.table.json" "$T/b.table.json" "$T/tune.out" "$T/show.out" <<'PYEOF'
+$PY - "$T/r.dom.html" "$T/a.table.json" "$T/b.table.json" "$T/tune.out" "$T/show.out" <<'PYEOF'
 import json, math, re, sys
 from html.parser import HTMLParser
 
