@@ -126,7 +126,8 @@ long cph_rep_best_of(const cph_rep_entry *e, const char *algo);
 
 /* ---- report_roofline.c / report_html.c / report_compare.c ---- */
 struct cph_textbuf;
-void cph_rep_roofline_svg(struct cph_textbuf *b, const cph_report *r, int threads);
+/* The roofline of source src's entries at threads. */
+void cph_rep_roofline_svg(struct cph_textbuf *b, const cph_report *r, size_t src, int threads);
 /* Entries of a with an entry of the same shape, flip and threads in b. */
 size_t cph_rep_common(const cph_rep_source *a, const cph_rep_source *b);
 void cph_rep_compare_html(struct cph_textbuf *b, const cph_rep_source *a, const cph_rep_source *c);

@@ -13,7 +13,7 @@ static const char *const css =
     "h3{font-size:15px}table{border-collapse:collapse;margin:8px 0}"
     "td,th{border:1px solid #bbb;padding:2px 6px;text-align:left;vertical-align:top}"
     "td.num,th.num{text-align:right;font-variant-numeric:tabular-nums}"
-    "tr.chosen td{font-weight:bold}.note{color:#444;font-size:13px}"
+    "tr.chosen td{font-weight:bold}details table{font-size:12px}summary{cursor:pointer}.note{color:#444;font-size:13px}"
     "svg text{font:11px 'DejaVu Sans',sans-serif;fill:#111}"
     "svg .grid{stroke:#ddd;stroke-width:1}svg .frame{fill:none;stroke:#333}"
     "svg .roof{stroke:#000;stroke-width:2}svg .roof.bw{stroke-dasharray:6 3}"
@@ -57,63 +57,86 @@ static void device(cph_textbuf *b, const cph_report *r) {
                   "rooflines below show the points only.</p>");
 }
 
-static void interval_ms(cph_textbuf *b, const cph_rep_cand *c) {
-    cph_tb_printf(b, "<td class=\"num\">%.4f</td><td class=\"num\">[%.4f, %.4f]%s</td>",
-                  c->median * 1e3, c->ci_lo * 1e3, c->ci_hi * 1e3, c->noisy ? " noisy" : "");
+static void cand_cells(cph_textbuf *b, const cph_rep_entry *e, const cph_rep_cand *x) {
+    cph_tb_printf(b, "<td>");
+    esc(b, x->algo);
+    if (x->params[0]) {
+        cph_tb_printf(b, " <span class=\"note\">");
+        esc(b, x->params);
+        cph_tb_printf(b, "</span>");
+    }
+    cph_tb_printf(b, "</td><td class=\"num\">%.4f</td><td class=\"num\">[%.4f, %.4f]%s</td>"
+                  "<td class=\"num\">%.1f</td>", x->median * 1e3, x->ci_lo * 1e3,
+                  x->ci_hi * 1e3, x->noisy ? " noisy" : "", cph_rep_gflops(&e->shape, x->median));
+    if (isfinite(x->rel_err))
+        cph_tb_printf(b, "<td class=\"num\">%.2e</td>", x->rel_err);
+    else
+        cph_tb_printf(b, "<td class=\"num\">not recorded</td>");
 }
 
+static const char *const cand_head =
+    "<th>algorithm, parameters</th><th class=\"num\">median ms</th><th class=\"num\">"
+    "interval ms</th><th class=\"num\">GFLOP/s</th><th class=\"num\">error vs oracle</th>";
+
+/* Every candidate of e, fastest first, in a nested table that opens on click. */
+static void all_candidates(cph_textbuf *b, const cph_rep_entry *e) {
+    cph_tb_printf(b, "<td><details><summary>%zu measured</summary><table><tr>%s</tr>",
+                  e->ncands, cand_head);
+    size_t done[256];
+    size_t nd = 0;
+    while (nd < e->ncands && nd < 256) {
+        long best = -1;
+        for (size_t c = 0; c < e->ncands; c++) {
+            int used = 0;
+            for (size_t k = 0; k < nd; k++) used |= done[k] == c;
+            if (!used && (best < 0 || e->cands[c].median < e->cands[best].median)) best = (long)c;
+        }
+        done[nd++] = (size_t)best;
+        cph_tb_printf(b, "<tr%s>", e->choice == best ? " class=\"chosen\"" : "");
+        cand_cells(b, e, &e->cands[best]);
+        cph_tb_printf(b, "</tr>");
+    }
+    cph_tb_printf(b, "</table></details></td>");
+}
+
+static void runner_up(cph_textbuf *b, const cph_rep_entry *e) {
+    cph_tb_printf(b, "<td>");
+    if (e->runner[0]) {
+        esc(b, e->runner);
+        cph_tb_printf(b, ": %+.1f%%", 100 * e->margin);
+        if (isfinite(e->margin_lo))
+            cph_tb_printf(b, " [%+.1f%%, %+.1f%%]", 100 * e->margin_lo, 100 * e->margin_hi);
+        cph_tb_printf(b, ", %s", e->confident ? "confident" : "in the noise");
+    } else {
+        cph_tb_printf(b, e->choice >= 0 ? "none (one candidate qualified)" : "-");
+    }
+    cph_tb_printf(b, "</td>");
+}
+
+/* One row per layer: the choice (or, in bench results, the fastest) with its
+ * interval and error, the runner-up and margin, every candidate on click. */
 static void entries(cph_textbuf *b, const cph_rep_source *s, size_t si, int threads) {
-    cph_tb_printf(b, "<h3>Per layer: ");
-    esc(b, s->path);
-    cph_tb_printf(b, "</h3><table class=\"layers\"><tr><th>layer</th><th class=\"num\">count</th>"
-                  "<th>candidate</th><th class=\"num\">GFLOP/s</th><th class=\"num\">median ms"
-                  "</th><th class=\"num\">interval ms</th><th class=\"num\">error vs oracle</th>"
-                  "<th>runner-up, margin [interval]</th></tr>");
+    cph_tb_printf(b, "<h3>Per layer</h3><table class=\"layers\"><tr><th>layer</th>"
+                  "<th class=\"num\">count</th><th>%s</th><th class=\"num\">median ms</th>"
+                  "<th class=\"num\">interval ms</th><th class=\"num\">GFLOP/s</th>"
+                  "<th class=\"num\">error vs oracle</th><th>runner-up: margin [interval]</th>"
+                  "<th>candidates</th></tr>",
+                  s->kind == CPH_REP_TABLE ? "choice" : "fastest measured (no choice recorded)");
     for (size_t k = 0; k < s->nentries; k++) {
         const cph_rep_entry *e = &s->entries[k];
-        if (e->threads != threads) continue;
-        for (size_t c = 0; c < e->ncands; c++) {
-            const cph_rep_cand *x = &e->cands[c];
-            cph_tb_printf(b, "<tr%s data-src=\"%zu\" data-entry=\"%zu\">",
-                          e->choice == (long)c ? " class=\"chosen\"" : "", si, k);
-            if (c == 0) {
-                cph_tb_printf(b, "<td rowspan=\"%zu\">", e->ncands);
-                esc(b, e->layer);
-                cph_tb_printf(b, "%s</td><td class=\"num\" rowspan=\"%zu\">%d%s</td>",
-                              e->flip == CP_CONV ? " (flipped)" : "", e->ncands, e->count,
-                              e->count_known ? "" : "*");
-            }
-            cph_tb_printf(b, "<td>%s", e->choice == (long)c ? "&#9654; " : "");
-            esc(b, x->algo);
-            if (x->params[0]) {
-                cph_tb_printf(b, " <span class=\"note\">");
-                esc(b, x->params);
-                cph_tb_printf(b, "</span>");
-            }
-            cph_tb_printf(b, "</td><td class=\"num\">%.1f</td>",
-                          cph_rep_gflops(&e->shape, x->median));
-            interval_ms(b, x);
-            if (isfinite(x->rel_err))
-                cph_tb_printf(b, "<td class=\"num\">%.2e</td>", x->rel_err);
-            else
-                cph_tb_printf(b, "<td class=\"num\">not recorded</td>");
-            if (c == 0) {
-                cph_tb_printf(b, "<td rowspan=\"%zu\">", e->ncands);
-                if (e->runner[0]) {
-                    esc(b, e->runner);
-                    cph_tb_printf(b, ": %+.1f%%", 100 * e->margin);
-                    if (isfinite(e->margin_lo))
-                        cph_tb_printf(b, " [%+.1f%%, %+.1f%%]", 100 * e->margin_lo,
-                                      100 * e->margin_hi);
-                    cph_tb_printf(b, ", %s", e->confident ? "confident" : "in the noise");
-                } else {
-                    cph_tb_printf(b, e->choice >= 0 ? "none (one candidate qualified)"
-                                                    : "bench results: no choice");
-                }
-                cph_tb_printf(b, "</td>");
-            }
-            cph_tb_printf(b, "</tr>\n");
-        }
+        if (e->threads != threads || !e->ncands) continue;
+        long show = e->choice;
+        if (show < 0) show = cph_rep_best_of(e, e->cands[0].algo);
+        for (size_t c = 0; c < e->ncands && e->choice < 0; c++)
+            if (e->cands[c].median < e->cands[show].median) show = (long)c;
+        cph_tb_printf(b, "<tr data-src=\"%zu\" data-entry=\"%zu\"><td>", si, k);
+        esc(b, e->layer);
+        cph_tb_printf(b, "%s</td><td class=\"num\">%d%s</td>",
+                      e->flip == CP_CONV ? " (flipped)" : "", e->count, e->count_known ? "" : "*");
+        cand_cells(b, e, &e->cands[show]);
+        runner_up(b, e);
+        all_candidates(b, e);
+        cph_tb_printf(b, "</tr>\n");
     }
     cph_tb_printf(b, "</table>");
 }
@@ -131,9 +154,7 @@ static void total_row(cph_textbuf *b, size_t si, int threads, const char *what,
 }
 
 static void totals(cph_textbuf *b, const cph_rep_source *s, size_t si, int threads) {
-    cph_tb_printf(b, "<h3>Network total: ");
-    esc(b, s->path);
-    cph_tb_printf(b, "</h3><p class=\"note\">Sum over layers of count &times; median time. An "
+    cph_tb_printf(b, "<h3>Network total</h3><p class=\"note\">Sum over layers of count &times; median time. An "
                   "algorithm's total takes its fastest parameter set on each layer.</p>"
                   "<table class=\"totals\"><tr><th>running</th><th class=\"num\">total ms</th>"
                   "<th class=\"num\">layers</th><th></th></tr>");
@@ -164,12 +185,15 @@ void cph_rep_html(cph_textbuf *b, const cph_report *r) {
     const int nt = cph_rep_thread_counts(r, th, 64);
     for (int t = 0; t < nt; t++) {
         cph_tb_printf(b, "<h2>%d thread(s)</h2>", th[t]);
-        cph_rep_roofline_svg(b, r, th[t]);
         for (size_t i = 0; i < r->n; i++) {
             const cph_rep_source *s = &r->src[i];
             int has = 0;
             for (size_t k = 0; k < s->nentries && !has; k++) has = s->entries[k].threads == th[t];
             if (!has) continue;
+            cph_tb_printf(b, "<h3>%d thread(s): ", th[t]);
+            esc(b, s->path);
+            cph_tb_printf(b, " (%s)</h3>", cph_rep_kind_name(s->kind));
+            cph_rep_roofline_svg(b, r, i, th[t]);
             entries(b, s, i, th[t]);
             totals(b, s, i, th[t]);
         }

@@ -4,6 +4,7 @@
  * point whose shape and colour name its algorithm (shapes alone tell them
  * apart in greyscale), the choice ringed, noisy measurements dashed.
  *
+ * One source's points (a table or bench results), every source's roofs.
  * Each point is <g class="rl-pt" transform="translate(X,Y)" data-ai data-gflops
  * ...>; the <svg> carries its mapping (data-px0, data-py0, data-pw, data-ph and
  * the decades data-lx0..data-lx1, data-ly0..data-ly1) so a reader can check
@@ -72,11 +73,11 @@ static int roof_threads(const cph_report *r, int threads) {
     return best;
 }
 
-static void extent(const cph_report *r, int threads, int rt, double *x, double *y) {
+static void extent(const cph_report *r, size_t src, int threads, int rt, double *x, double *y) {
     x[0] = y[0] = INFINITY;
     x[1] = y[1] = 0;
     for (size_t i = 0; i < r->n; i++) {
-        for (size_t k = 0; k < r->src[i].nentries; k++) {
+        for (size_t k = 0; k < r->src[i].nentries && i == src; k++) {
             const cph_rep_entry *e = &r->src[i].entries[k];
             if (e->threads != threads) continue;
             const double ai = cph_rep_intensity(&e->shape);
@@ -130,8 +131,8 @@ static void roofs(cph_textbuf *b, const cph_report *r, const axes *a, int rt) {
             if (f->compute) {
                 const double y = ypix(a, f->value);
                 cph_tb_printf(b, "<line class=\"roof\" x1=\"%d\" y1=\"%.1f\" x2=\"%d\" "
-                              "y2=\"%.1f\"/><text class=\"rooflabel\" x=\"%d\" y=\"%.1f\" "
-                              "text-anchor=\"end\">", PX0, y, PX0 + PW, y, PX0 + PW - 4, y - 4);
+                              "y2=\"%.1f\"/><text class=\"rooflabel\" x=\"%d\" y=\"%.1f\">",
+                              PX0, y, PX0 + PW, y, PX0 + 4, y - 4);
                 cph_tb_escaped(b, f->name);
                 cph_tb_printf(b, " %.1f GFLOP/s</text>", f->value);
             } else {
@@ -152,42 +153,41 @@ static void roofs(cph_textbuf *b, const cph_report *r, const axes *a, int rt) {
         }
 }
 
-static void points(cph_textbuf *b, const cph_report *r, const axes *a, int threads,
+static void points(cph_textbuf *b, const cph_report *r, size_t i, const axes *a, int threads,
                    const char **names, int *nnames) {
-    for (size_t i = 0; i < r->n; i++)
-        for (size_t k = 0; k < r->src[i].nentries; k++) {
-            const cph_rep_entry *e = &r->src[i].entries[k];
-            if (e->threads != threads) continue;
-            const double ai = cph_rep_intensity(&e->shape);
-            for (size_t c = 0; c < e->ncands; c++) {
-                const cph_rep_cand *x = &e->cands[c];
-                const double g = cph_rep_gflops(&e->shape, x->median);
-                const int ai_i = algo_index(names, nnames, x->algo);
-                const int chosen = e->choice == (long)c;
-                cph_tb_printf(b, "<g class=\"rl-pt\" transform=\"translate(%.2f,%.2f)\" "
-                              "data-src=\"%zu\" data-entry=\"%zu\" data-layer=\"", xpix(a, ai),
-                              ypix(a, g), i, k);
-                cph_tb_escaped(b, e->layer);
-                cph_tb_printf(b, "\" data-algo=\"");
-                cph_tb_escaped(b, x->algo);
-                cph_tb_printf(b, "\" data-params=\"");
-                cph_tb_escaped(b, x->params);
-                cph_tb_printf(b, "\" data-ai=\"%.6g\" data-gflops=\"%.6g\" data-chosen=\"%d\" "
-                              "data-noisy=\"%d\"><title>", ai, g, chosen, x->noisy);
-                cph_tb_escaped(b, e->layer);
-                cph_tb_printf(b, ": ");
-                cph_tb_escaped(b, x->algo);
-                cph_tb_printf(b, "%s", x->params[0] ? " (" : "");
-                cph_tb_escaped(b, x->params);
-                cph_tb_printf(b, "%s, %.3f ms, %.1f GFLOP/s, %.2f FLOP/byte%s%s</title>",
-                              x->params[0] ? ")" : "", x->median * 1e3, g, ai,
-                              chosen ? ", the choice" : "", x->noisy ? ", noisy" : "");
-                marker(b, ai_i, colours[ai_i % 8]);
-                if (chosen) cph_tb_printf(b, "<circle class=\"chosen\" r=\"9\"/>");
-                if (x->noisy) cph_tb_printf(b, "<circle class=\"noisy\" r=\"12\"/>");
-                cph_tb_printf(b, "</g>\n");
-            }
+    for (size_t k = 0; k < r->src[i].nentries; k++) {
+        const cph_rep_entry *e = &r->src[i].entries[k];
+        if (e->threads != threads) continue;
+        const double ai = cph_rep_intensity(&e->shape);
+        for (size_t c = 0; c < e->ncands; c++) {
+            const cph_rep_cand *x = &e->cands[c];
+            const double g = cph_rep_gflops(&e->shape, x->median);
+            const int ai_i = algo_index(names, nnames, x->algo);
+            const int chosen = e->choice == (long)c;
+            cph_tb_printf(b, "<g class=\"rl-pt\" transform=\"translate(%.2f,%.2f)\" "
+                          "data-src=\"%zu\" data-entry=\"%zu\" data-layer=\"", xpix(a, ai),
+                          ypix(a, g), i, k);
+            cph_tb_escaped(b, e->layer);
+            cph_tb_printf(b, "\" data-algo=\"");
+            cph_tb_escaped(b, x->algo);
+            cph_tb_printf(b, "\" data-params=\"");
+            cph_tb_escaped(b, x->params);
+            cph_tb_printf(b, "\" data-ai=\"%.6g\" data-gflops=\"%.6g\" data-chosen=\"%d\" "
+                          "data-noisy=\"%d\"><title>", ai, g, chosen, x->noisy);
+            cph_tb_escaped(b, e->layer);
+            cph_tb_printf(b, ": ");
+            cph_tb_escaped(b, x->algo);
+            cph_tb_printf(b, "%s", x->params[0] ? " (" : "");
+            cph_tb_escaped(b, x->params);
+            cph_tb_printf(b, "%s, %.3f ms, %.1f GFLOP/s, %.2f FLOP/byte%s%s</title>",
+                          x->params[0] ? ")" : "", x->median * 1e3, g, ai,
+                          chosen ? ", the choice" : "", x->noisy ? ", noisy" : "");
+            marker(b, ai_i, colours[ai_i % 8]);
+            if (chosen) cph_tb_printf(b, "<circle class=\"chosen\" r=\"9\"/>");
+            if (x->noisy) cph_tb_printf(b, "<circle class=\"noisy\" r=\"12\"/>");
+            cph_tb_printf(b, "</g>\n");
         }
+    }
 }
 
 static void legend(cph_textbuf *b, const char **names, int n) {
@@ -206,10 +206,10 @@ static void legend(cph_textbuf *b, const char **names, int n) {
                   PX0 + PW + 18, y + 6, PX0 + PW + 18, y + 30);
 }
 
-void cph_rep_roofline_svg(cph_textbuf *b, const cph_report *r, int threads) {
+void cph_rep_roofline_svg(cph_textbuf *b, const cph_report *r, size_t src, int threads) {
     const int rt = roof_threads(r, threads);
     double x[2], y[2];
-    extent(r, threads, rt, x, y);
+    extent(r, src, threads, rt, x, y);
     axes a = {floor(log10(x[0])), ceil(log10(x[1])), floor(log10(y[0])), ceil(log10(y[1]))};
     if (a.lx1 <= a.lx0) a.lx1 = a.lx0 + 1;
     if (a.ly1 <= a.ly0) a.ly1 = a.ly0 + 1;
@@ -224,7 +224,7 @@ void cph_rep_roofline_svg(cph_textbuf *b, const cph_report *r, int threads) {
     roofs(b, r, &a, rt);
     const char *names[MAX_ALGOS];
     int nnames = 0;
-    points(b, r, &a, threads, names, &nnames);
+    points(b, r, src, &a, threads, names, &nnames);
     legend(b, names, nnames);
     cph_tb_printf(b, "</svg>\n");
 }
