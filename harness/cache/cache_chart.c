@@ -40,7 +40,8 @@ static void scan(const json_t *layers, chart *c) {
         for (size_t j = 0; j < json_array_size(vs); j++) {
             const json_t *v = json_array_get(vs, j);
             const char *kind = str(v, "kind", "?");
-            if (strcmp(kind, "xcorr") == 0) continue;
+            /* no bar, no legend entry: missing() names it with the reason */
+            if (strcmp(kind, "xcorr") == 0 || !json_is_object(json_object_get(v, "sim"))) continue;
             char id[48];
             snprintf(id, sizeof id, "%s %s", str(v, "family", "?"), kind);
             int k = 0;
@@ -143,7 +144,7 @@ static void panel(cph_textbuf *b, const chart *c, const json_t *layers, int lvl,
     cph_tb_escaped(b, c->level[lvl]);
     cph_tb_printf(b, ": simulated misses, ratio to cross-correlation</text>\n"
                   "<text transform=\"translate(16,%d) rotate(-90)\" text-anchor=\"middle\">"
-                  "ratio (log scale)</text>\n", top + PANEL_H / 2);
+                  "misses / xcorr misses (log)</text>\n", top + PANEL_H / 2);
     ticks(b, c, top, width);
     for (size_t g = 0; g < ng; g++) {
         const json_t *L = json_array_get(layers, g);

@@ -242,6 +242,10 @@ PYEOF
 
 # The comparison marks the swapped entry as changed.
 grep -q 'class="changed"' "$T/r.html" || die "the swapped choice is not marked changed"
+# The cache chart names the variants it cannot show (the AVX2 tile kernel is
+# timed only, never traced: harness/cache/cache_traced.h) and lists only bars it draws.
+grep -q "not shown: blocked.avx2 (all kinds): " "$T/r.html" || die "missing cache variants not explained"
+grep -q ">blocked.avx2 preflip<" "$T/r.html" && die "a legend entry without bars"
 # Every roof of the probe output is listed, the unknown width too.
 for roof in peak_1core_gflops peak_all_gflops bw_1core_gbs bw_all_gbs wide.peak_1core_gflops; do
   grep -q ">$roof<" "$T/r.html" || die "roof $roof not listed"
