@@ -128,14 +128,15 @@ oom:
     return CP_ENOMEM;
 }
 
-/* The entry of it's point in s, appended when new. */
-static cph_rep_entry *bench_entry(cph_rep_source *s, const cph_result_item *it, size_t cap) {
+/* The index of it's point among s's entries, appended (without candidates)
+ * when new. */
+static size_t bench_entry(cph_rep_source *s, const cph_result_item *it) {
     for (size_t i = 0; i < s->nentries; i++) {
-        cph_rep_entry *e = &s->entries[i];
+        const cph_rep_entry *e = &s->entries[i];
         if (e->threads == it->threads && e->flip == it->flip && cp_shape_equal(&e->shape, &it->shape))
-            return e;
+            return i;
     }
-    cph_rep_entry *e = &s->entries[s->nentries++];
+    cph_rep_entry *e = &s->entries[s->nentries];
     snprintf(e->layer, sizeof e->layer, "%s", it->layer);
     e->shape = it->shape;
     e->flip = it->flip;
@@ -144,9 +145,11 @@ static cph_rep_entry *bench_entry(cph_rep_source *s, const cph_result_item *it, 
     e->count_known = it->count > 0;
     e->choice = -1;
     e->margin = e->margin_lo = e->margin_hi = NAN;
-    e->cands = calloc(cap, sizeof *e->cands);
-    return e->cands ? e : NULL;
+    return s->nentries++;
 }
+
+/* Rows of algorithms (the SGEMM reference rows are not: no registry name). */
+static int bench_row(const cph_result_item *it) { return cp_algo_find(it->algo) != NULL; }
 
 static cp_status from_bench(const char *data, size_t len, const char *path, const json_t *root,
                             cph_rep_source *s, char *msg, size_t cap) {
@@ -157,16 +160,21 @@ static cp_status from_bench(const char *data, size_t len, const char *path, cons
     const int cores = describe_device(json_object_get(root, "device"), s);
     cph_rep_roofs_read(json_object_get(root, "roofs"), cores, s);
     cph_rep_roofs_read(json_object_get(json_object_get(root, "device"), "roofs"), cores, s);
+    /* Two passes: the entries and their sizes, then the candidates. */
     s->entries = r.nitems ? calloc(r.nitems, sizeof *s->entries) : NULL;
-    st = r.nitems && !s->entries ? CP_ENOMEM : CP_OK;
+    size_t *at = r.nitems ? calloc(r.nitems, sizeof *at) : NULL;
+    st = r.nitems && (!s->entries || !at) ? CP_ENOMEM : CP_OK;
+    for (size_t i = 0; i < r.nitems && st == CP_OK; i++)
+        if (bench_row(&r.items[i])) s->entries[at[i] = bench_entry(s, &r.items[i])].ncands++;
+    for (size_t k = 0; k < s->nentries && st == CP_OK; k++) {
+        s->entries[k].cands = calloc(s->entries[k].ncands, sizeof *s->entries[k].cands);
+        if (!s->entries[k].cands) st = CP_ENOMEM;
+        s->entries[k].ncands = 0;
+    }
     for (size_t i = 0; i < r.nitems && st == CP_OK; i++) {
         const cph_result_item *it = &r.items[i];
-        if (strcmp(it->algo, "sgemm_ref") == 0 || !cp_algo_find(it->algo)) continue;
-        cph_rep_entry *e = bench_entry(s, it, r.nitems);
-        if (!e) {
-            st = CP_ENOMEM;
-            break;
-        }
+        if (!bench_row(it)) continue;
+        cph_rep_entry *e = &s->entries[at[i]];
         cph_rep_cand *c = &e->cands[e->ncands++];
         snprintf(c->algo, sizeof c->algo, "%s", it->algo);
         snprintf(c->params, sizeof c->params, "%s", it->params);
@@ -176,6 +184,7 @@ static cp_status from_bench(const char *data, size_t len, const char *path, cons
         c->noisy = it->timing.noisy;
         c->rel_err = NAN;
     }
+    free(at);
     cph_results_free(&r);
     if (st == CP_ENOMEM) snprintf(msg, cap, "%s: out of memory", path);
     return st;

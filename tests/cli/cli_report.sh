@@ -240,6 +240,28 @@ assert len(lines) == len(table0["entries"]), "show: one line per entry"
 print("cli_report: %d roofline points and the totals checked" % checked)
 PYEOF
 
+# 8b. Bench results beside the table: their points and their layer counts
+# (layer a occurs twice); the table's total then counts a twice, as tune's
+# summary does.
+"$CLI" bench --shapes "$T/layers.txt" --threads 1 --max-seconds 0.03 --json "$T/b.bench.json" \
+    >/dev/null 2>&1 || die "bench exited $?"
+"$CLI" report --out "$T/rb.html" "$T/a.table.json" "$T/b.bench.json" 2>/dev/null || die "report with bench"
+$PY - "$T/rb.html" "$T/b.bench.json" "$T/tune.out" <<'PYEOF'
+import json, re, sys
+page = open(sys.argv[1]).read()
+d = json.load(open(sys.argv[2]))
+ok = [r for r in d["results"] if r["status"] == "ok" and r["kind"] == "algorithm"]
+pts = re.findall(r'<g class="rl-pt"[^>]*data-src="1"', page)
+assert len(pts) == len(ok), "bench: %d points for %d results" % (len(pts), len(ok))
+counts = {r["layer"]: r["layer_count"] for r in ok}
+assert counts.get("a") == 2, counts
+m = re.search(r'data-src="0" data-threads="1" data-what="the table&#39;s choice" data-seconds="([^"]+)"', page)
+tune = re.search(r"network total, 1 thread\(s\): the choice ([\d.]+) ms", open(sys.argv[3]).read())
+assert m and tune, "totals missing"
+assert abs(float(m.group(1)) * 1e3 - float(tune.group(1))) <= 0.0005 + 1e-9, (m.group(1), tune.group(1))
+print("cli_report: %d bench points; counts from bench results match tune's summary" % len(pts))
+PYEOF
+
 # The comparison marks the swapped entry as changed.
 grep -q 'class="changed"' "$T/r.html" || die "the swapped choice is not marked changed"
 # The cache chart names the variants it cannot show (the AVX2 tile kernel is
