@@ -29,20 +29,20 @@ static void entry_line(FILE *f, const cph_report *r, const cph_rep_entry *e) {
     snprintf(runner, sizeof runner, "%.39s", e->runner[0] ? e->runner : "-");
     char *paren = strchr(runner, ' ');
     if (paren) *paren = '\0'; /* the algorithm; its parameters are in the report */
-    fprintf(f, "%-20.20s %5d%s %3d %-14.14s %10.3f %8.1f %6s  %-14.14s %-26s %s\n", e->layer,
+    fprintf(f, "%-20.20s %5d%s %3d %-18.18s %10.4f %8.1f %6s  %-18.18s %-26s %s\n", e->layer,
             e->count, e->count_known ? " " : "*", e->threads, choice, ms, g, roof, runner, margin,
             e->runner[0] ? (e->confident ? "confident" : "in noise") : "no runner-up");
 }
 
 static void totals(FILE *f, const cph_rep_source *s, int threads) {
     const cph_rep_total t = cph_rep_total_choice(s, threads);
-    fprintf(f, "network total, %d thread(s): the choice %.3f ms over %zu layer(s)", threads,
+    fprintf(f, "network total, %d thread(s): the choice %.4f ms over %zu layer(s)", threads,
             t.seconds * 1e3, t.layers);
     const char *algos[32];
     const int n = cph_rep_algos(s, threads, algos, 32);
     for (int i = 0; i < n; i++) {
         const cph_rep_total a = cph_rep_total_algo(s, threads, algos[i]);
-        fprintf(f, "; %s %.3f ms", algos[i], a.seconds * 1e3);
+        fprintf(f, "; %s %.4f ms", algos[i], a.seconds * 1e3);
         if (a.missing) fprintf(f, " (not measured on %zu layer(s))", a.missing);
     }
     fputc('\n', f);
@@ -56,7 +56,7 @@ void cph_rep_summary(FILE *f, const cph_report *r) {
         if (s->kind != CPH_REP_TABLE) continue;
         fprintf(f, "%s: %s, fingerprint %s, %zu entries\n", s->path, s->model, s->fingerprint,
                 s->nentries);
-        fprintf(f, "%-20s %6s %3s %-14s %10s %8s %6s  %-14s %-26s %s\n", "layer", "count", "thr",
+        fprintf(f, "%-20s %6s %3s %-18s %10s %8s %6s  %-18s %-26s %s\n", "layer", "count", "thr",
                 "choice", "time ms", "GFLOP/s", "%roof", "runner-up", "margin % [interval]",
                 "verdict");
         int assumed = 0;

@@ -232,9 +232,9 @@ for e in table0["entries"]:
          and c["params"] == e["choice"]["params"]][0]
     tc += counts[e["name"]] * c["timing"]["stats"]["median"]
 tune_total = summary_total(open(sys.argv[4]).read())
-assert abs(tune_total - tc) <= 0.0005e-3 + 1e-9, (tune_total, tc)
+assert abs(tune_total - tc) <= 0.00005e-3 + 1e-12, (tune_total, tc)
 show_total = summary_total(open(sys.argv[5]).read())
-assert abs(show_total - total0) <= 0.0005e-3 + 1e-9, (show_total, total0)
+assert abs(show_total - total0) <= 0.00005e-3 + 1e-12, (show_total, total0)
 lines = [l for l in open(sys.argv[5]) if re.match(r"^(a|b) ", l)]
 assert len(lines) == len(table0["entries"]), "show: one line per entry"
 print("cli_report: %d roofline points and the totals checked" % checked)
@@ -258,7 +258,7 @@ assert counts.get("a") == 2, counts
 m = re.search(r'data-src="0" data-threads="1" data-what="the table&#39;s choice" data-seconds="([^"]+)"', page)
 tune = re.search(r"network total, 1 thread\(s\): the choice ([\d.]+) ms", open(sys.argv[3]).read())
 assert m and tune, "totals missing"
-assert abs(float(m.group(1)) * 1e3 - float(tune.group(1))) <= 0.0005 + 1e-9, (m.group(1), tune.group(1))
+assert abs(float(m.group(1)) * 1e3 - float(tune.group(1))) <= 0.00005 + 1e-9, (m.group(1), tune.group(1))
 print("cli_report: %d bench points; counts from bench results match tune's summary" % len(pts))
 PYEOF
 
