@@ -93,9 +93,10 @@ const char *cph_rep_kind_name(cph_rep_kind k);
 
 /* ---- report_roofs.c ---- */
 /* roofs (a JSON object, may be NULL or null): every number whose key ends in
- * "_gflops" (compute) or "_gbs" (bandwidth), nested objects included (their
- * keys joined with '.'); the thread count from "1core" (1) or else the
- * object's "cores_used" (else cores).  Appends to s->roofs. */
+ * "gflops" (compute) or "gbs" (bandwidth), nested objects and arrays of
+ * objects included; the thread count from the enclosing object's "threads",
+ * else "1core" in the name (1), else "cores_used" (else cores).  Appends to
+ * s->roofs. */
 struct json_t;
 void cph_rep_roofs_read(const struct json_t *roofs, int cores, cph_rep_source *s);
 

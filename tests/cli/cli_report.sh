@@ -59,6 +59,7 @@ import json, sys
 d = json.load(open(sys.argv[1]))
 d["roofs"] = {"peak_1core_gflops": 60.0, "peak_all_gflops": 110.0, "bw_1core_gbs": 12.0,
               "bw_all_gbs": 15.0, "cores_used": 2, "wide": {"peak_1core_gflops": 90.0},
+              "by_width": [{"isa": "w512", "threads": 1, "gflops": 95.0}],
               "a_future_field": [1, 2]}
 json.dump(d, open(sys.argv[2], "w"))
 PYEOF
@@ -269,7 +270,8 @@ grep -q 'class="changed"' "$T/r.html" || die "the swapped choice is not marked c
 grep -q "not shown: blocked.avx2 (all kinds): " "$T/r.html" || die "missing cache variants not explained"
 grep -q ">blocked.avx2 preflip<" "$T/r.html" && die "a legend entry without bars"
 # Every roof of the probe output is listed, the unknown width too.
-for roof in peak_1core_gflops peak_all_gflops bw_1core_gbs bw_all_gbs wide.peak_1core_gflops; do
+for roof in peak_1core_gflops peak_all_gflops bw_1core_gbs bw_all_gbs wide.peak_1core_gflops \
+    by_width.w512.gflops; do
   grep -q ">$roof<" "$T/r.html" || die "roof $roof not listed"
 done
 
