@@ -2,7 +2,9 @@
  * machine/ code adds roofs (vector widths, thread counts) over time, and any
  * number named *gflops or *gbs is one, wherever it sits in the object: in
  * nested objects (names joined with '.') and in arrays of objects (named by
- * the element's "isa", "name" or "width" when it has one, else its index). */
+ * the element's "isa", "name" or "width" when it has one, else its index).
+ * A value already read under another name at the same thread count (the
+ * peak and the widest width's peak) is kept once, under its first name. */
 #include <jansson.h>
 #include <stdio.h>
 #include <string.h>
@@ -61,6 +63,11 @@ static void walk(const json_t *o, const char *prefix, int threads, cph_rep_sourc
         if ((!compute && !bw) || !json_is_number(v) || !(json_number_value(v) > 0) ||
             s->nroofs >= CPH_REP_MAX_ROOFS)
             continue;
+        int dup = 0; /* the same roof under two names (the peak and its width's) */
+        for (int k = 0; k < s->nroofs; k++)
+            dup |= s->roofs[k].compute == compute && s->roofs[k].value == json_number_value(v) &&
+                   s->roofs[k].threads == (own ? threads : strstr(name, "1core") ? 1 : all);
+        if (dup) continue;
         cph_rep_roof *r = &s->roofs[s->nroofs++];
         snprintf(r->name, sizeof r->name, "%s", name);
         r->compute = compute;
