@@ -244,7 +244,7 @@ PYEOF
 # 8b. Bench results beside the table: their points and their layer counts
 # (layer a occurs twice); the table's total then counts a twice, as tune's
 # summary does.
-"$CLI" bench --shapes "$T/layers.txt" --threads 1 --max-seconds 0.03 --json "$T/b.bench.json" \
+"$CLI" bench --shapes "$T/layers.txt" --threads 1 --max-seconds 0.03 --no-roofs --json "$T/b.bench.json" \
     >/dev/null 2>&1 || die "bench exited $?"
 "$CLI" report --out "$T/rb.html" "$T/a.table.json" "$T/b.bench.json" 2>/dev/null || die "report with bench"
 $PY - "$T/rb.html" "$T/b.bench.json" "$T/tune.out" <<'PYEOF'
