@@ -67,7 +67,7 @@ json_t *cph_bench_row_json(const cph_bench_row *x, const char *status) {
 static json_t *roofs_json(const cph_bench_state *r, int end) {
     if (end ? !r->have_roofs_end : !r->have_roofs) return json_null();
     const cph_roofs *f = end ? &r->roofs_end : &r->roofs;
-    return json_pack("{s:o, s:o, s:i, s:o, s:o, s:o, s:o, s:o, s:o, s:o, s:i, s:o}",
+    return json_pack("{s:o, s:o, s:i, s:o, s:o, s:o, s:o, s:o, s:o, s:i, s:o}",
                      "peak_1core_gflops", cph_json_number(f->peak_1core_gflops),
                      "peak_all_gflops", cph_json_number(f->peak_all_gflops), "roof_bits",
                      f->roof_bits, "widths", cph_roofs_widths_json(f), "ratio_512_256",

@@ -1,5 +1,7 @@
 /* Text, JSON and SVG reports of the cache study (see cache_report.h). */
 #include "harness/cache/cache_report.h"
+#include "harness/cache/cache_chart.h"
+#include "harness/io/textbuf.h"
 #include "harness/select/shape_spec.h"
 #include "harness/io/report_json.h"
 
@@ -232,117 +234,17 @@ json_t *cph_cache_report_json(const cph_cache_report *r) {
     return root;
 }
 
-/* --- SVG ------------------------------------------------------------------- */
-
-typedef struct {
-    char *buf;
-    size_t len, cap;
-    int failed;
-} sbuf;
-
-__attribute__((format(printf, 2, 3))) static void sb_printf(sbuf *b, const char *fmt, ...) {
-    if (b->failed) return;
-    for (;;) {
-        va_list ap;
-        va_start(ap, fmt);
-        const int n = vsnprintf(b->buf + b->len, b->cap - b->len, fmt, ap);
-        va_end(ap);
-        if (n < 0) {
-            b->failed = 1;
-            return;
-        }
-        if ((size_t)n < b->cap - b->len) {
-            b->len += (size_t)n;
-            return;
-        }
-        const size_t nc = (b->cap + (size_t)n + 1) * 2;
-        char *p = realloc(b->buf, nc);
-        if (!p) {
-            b->failed = 1;
-            return;
-        }
-        b->buf = p;
-        b->cap = nc;
-    }
-}
-
-static const char *kind_color(cph_flip_kind k) {
-    return k == CPH_FLIP_KIND_XCORR     ? "#4477aa"
-           : k == CPH_FLIP_KIND_FLIPIDX ? "#ee6677"
-                                        : "#228833";
-}
+/* --- SVG: the shared chart (cache_chart.h), drawn from the study's JSON ----- */
 
 char *cph_cache_report_svg(const cph_cache_report *r) {
-    const cph_study_opts *o = r->opts;
-    enum { PW = 330, PH = 190, TOP = 70, LEFT = 60 };
-    int nbars = 0;
-    for (size_t k = 0; k < r->nlayers; k++) {
-        int n = 0;
-        for (size_t j = 0; j < r->layers[k].nres; j++) n += r->layers[k].res[j].simulated;
-        if (n > nbars) nbars = n;
-    }
-    const int width = LEFT + o->nlevels * PW + 20;
-    const int height = TOP + (int)r->nlayers * (PH + 70) + 20;
-    sbuf b = {malloc(4096), 0, 4096, 0};
-    if (!b.buf) return NULL;
-    b.buf[0] = '\0';
-    sb_printf(&b, "<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n"
-                  "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"%d\" height=\"%d\" "
-                  "font-family=\"sans-serif\" font-size=\"11\">\n"
-                  "<rect width=\"100%%\" height=\"100%%\" fill=\"white\"/>\n",
-              width, height);
-    char g[256];
-    cph_geom_format(o->geom, o->nlevels, g, sizeof g);
-    sb_printf(&b, "<text x=\"10\" y=\"20\" font-size=\"14\">convpick cache: simulated misses per "
-                  "output element (%s, %s)</text>\n", g, r->geom_source);
-    const char *kinds[3] = {"xcorr (kernel read forwards)", "flipidx (reversed in the loops)",
-                            "preflip (weights flipped once)"};
-    for (int i = 0; i < 3; i++)
-        sb_printf(&b, "<rect x=\"%d\" y=\"32\" width=\"12\" height=\"12\" fill=\"%s\"/>"
-                      "<text x=\"%d\" y=\"42\">%s</text>\n",
-                  10 + i * 230, kind_color((cph_flip_kind)i), 26 + i * 230, kinds[i]);
-    for (size_t k = 0; k < r->nlayers; k++) {
-        const cph_layer_result *L = &r->layers[k];
-        const int y0 = TOP + (int)k * (PH + 70);
-        sb_printf(&b, "<text x=\"10\" y=\"%d\" font-size=\"12\">%s (first %lld of %lld output "
-                      "channels simulated)</text>\n",
-                  y0 + 4, L->layer->name, (long long)L->k_sim, (long long)L->layer->shape.k);
-        for (int lvl = 0; lvl < o->nlevels; lvl++) {
-            const int x0 = LEFT + lvl * PW, top = y0 + 20, bottom = y0 + 20 + PH - 40;
-            double vmax = 0.0;
-            for (size_t j = 0; j < L->nres; j++)
-                if (L->res[j].simulated) {
-                    const double v = per_out(L, L->res[j].lv[lvl].misses);
-                    if (v > vmax) vmax = v;
-                }
-            sb_printf(&b, "<text x=\"%d\" y=\"%d\">%s misses / output (max %.4g)</text>\n", x0,
-                      top - 4, o->geom[lvl].name, vmax);
-            sb_printf(&b, "<line x1=\"%d\" y1=\"%d\" x2=\"%d\" y2=\"%d\" stroke=\"black\"/>\n", x0,
-                      bottom, x0 + PW - 30, bottom);
-            const int bw = nbars ? (PW - 40) / nbars : 10;
-            int i = 0;
-            for (size_t j = 0; j < L->nres; j++) {
-                const cph_variant_result *v = &L->res[j];
-                if (!v->simulated) continue;
-                const double val = per_out(L, v->lv[lvl].misses);
-                const double h = vmax > 0 ? (double)(bottom - top - 10) * val / vmax : 0.0;
-                const int bx = x0 + 4 + i * bw;
-                sb_printf(&b, "<rect x=\"%d\" y=\"%.1f\" width=\"%d\" height=\"%.1f\" fill=\"%s\">"
-                              "<title>%s: %.6g misses per output</title></rect>\n",
-                          bx, (double)bottom - h, bw - 3, h, kind_color(v->v->kind), v->v->id, val);
-                sb_printf(&b, "<text x=\"%d\" y=\"%.1f\" font-size=\"7\" text-anchor=\"middle\">%.3g"
-                              "</text>\n",
-                          bx + (bw - 3) / 2, (double)bottom - h - 2.0, val);
-                sb_printf(&b, "<text x=\"%d\" y=\"%d\" font-size=\"8\" transform=\"rotate(60 %d %d)\">"
-                              "%s</text>\n",
-                          bx + 2, bottom + 8, bx + 2, bottom + 8, v->v->family);
-                i++;
-            }
-        }
-    }
-    sb_printf(&b, "</svg>\n");
+    json_t *study = cph_cache_report_json(r);
+    if (!study) return NULL;
+    cph_textbuf b = {NULL, 0, 0, 0};
+    cph_tb_printf(&b, "<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n");
+    cph_cache_chart_svg(&b, study);
+    json_decref(study);
     if (b.failed) {
-        free(b.buf);
+        cph_tb_free(&b);
         return NULL;
     }
     return b.buf;

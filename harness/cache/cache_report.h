@@ -1,5 +1,6 @@
 /* Reports of the cache study: a text table, a JSON document and an SVG bar
- * chart of simulated misses per output element, per level and variant.
+ * chart of each flipped variant's misses as a ratio to cross-correlation, per
+ * level (drawn from the JSON by cache_chart.h).
  *
  * JSON (format "convpick-cache-study", version 2): machine (the device
  * object, docs/table-format.md), geometry (levels with name, size, ways, line

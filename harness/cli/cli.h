@@ -38,5 +38,7 @@ int cph_cmd_algos(int argc, char **argv);
 int cph_cmd_cache(int argc, char **argv);
 int cph_cmd_diff(int argc, char **argv);
 int cph_cmd_model(int argc, char **argv);
+int cph_cmd_show(int argc, char **argv);
+int cph_cmd_report(int argc, char **argv);
 
 #endif

@@ -35,6 +35,12 @@ static cp_status read_result(cph_rctx *c, const json_t *e, cph_result_item *it, 
     if ((st = cpl_decode_timing(j, meas, sub, &t, &it->samples, &it->nsamples))) return st;
     if (!it->nsamples) return cpl_jfail(j, CP_EFORMAT, "%s.samples: status \"ok\" without samples", sub);
     it->median = cph_results_median(it->samples, it->nsamples);
+    it->timing = t;
+    const json_t *count = json_object_get(e, "layer_count"); /* lenient: for totals only */
+    it->count = json_is_integer(count) && json_integer_value(count) > 0 &&
+                        json_integer_value(count) <= 1000000
+                    ? (int)json_integer_value(count)
+                    : 0;
     return CP_OK;
 }
 

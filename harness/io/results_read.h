@@ -36,6 +36,8 @@ typedef struct cph_result_item {
     double *samples;    /* seconds, in run order (owned); NULL when none were recorded */
     size_t nsamples;
     double median;      /* seconds: of the samples, else the recorded median */
+    cp_timing timing;   /* as recorded: median, interval, noisy (seconds) */
+    int count;          /* bench results: the layer's "layer_count" (0 when absent) */
     int chosen;         /* tables: this candidate is its entry's choice */
     size_t entry;       /* tables: index of its entry in "entries" */
     char where[96];     /* its JSON path: "results[3]" or "entries[2].candidates[1]" */

@@ -39,6 +39,7 @@ static cp_status read_candidate(cph_rctx *c, const json_t *cand, cph_result_item
                                 &it->nsamples)))
         return st;
     it->median = it->nsamples ? cph_results_median(it->samples, it->nsamples) : t.median;
+    it->timing = t;
     *usable = 1;
     return CP_OK;
 }

@@ -18,6 +18,7 @@
 #include "harness/machine/pool.h"
 #include "harness/measure/progress.h"
 #include "harness/tune/tradeoff.h"
+#include "harness/report/report.h"
 
 static volatile sig_atomic_t stop_requested = 0;
 
@@ -232,6 +233,22 @@ static int tune_threads(tune_state *t, int ti) {
     return rc;
 }
 
+/* The table just written, one line per entry and the totals, on stdout
+ * (harness/report/report_summary.c); the counts from the layer list. */
+static void print_summary(const tune_state *t) {
+    char msg[512];
+    cph_report r;
+    const char *path = t->job->out;
+    if (cph_report_collect(&path, 1, &r, msg, sizeof msg) != CP_OK) {
+        cph_warn("tune: no summary: %s", msg);
+        return;
+    }
+    for (size_t i = 0; i < t->job->sel->layers.n; i++)
+        cph_rep_set_count(&r, &t->job->sel->layers.v[i].shape, t->job->sel->layers.v[i].count);
+    cph_rep_summary(stdout, &r);
+    cph_report_free(&r);
+}
+
 int cph_tune_run(const cph_tune_job *job) {
     tune_state *t = calloc(1, sizeof *t);
     if (!t) {
@@ -268,6 +285,7 @@ int cph_tune_run(const cph_tune_job *job) {
             if (!job->quiet)
                 fprintf(stderr, "convpick tune: wrote %s (%zu entries)\n", job->out,
                         cph_table_doc_count(t->doc));
+            print_summary(t);
             if (t->failures) rc = CPH_EXIT_FAIL;
         }
         /* What the whole network costs, also after an interruption (then partial). */
