@@ -138,8 +138,12 @@ cp_status cpl_decode_entry(const cpl_jctx *c, const json_t *e, size_t idx, cp_ta
     if (st != CP_OK) return st;
     if ((st = decode_choice(c, e, where, caches, out)) != CP_OK) return st;
 
+    /* A lean table (docs/table-format.md) leaves out "candidates" and "tried":
+     * the evidence lives in its side file. */
     json_t *cands = NULL, *tried = NULL;
-    if ((st = cpl_jfield(c, e, where, "candidates", JSON_ARRAY, 0, &cands)) != CP_OK) return st;
+    if (json_object_get(e, "candidates") &&
+        (st = cpl_jfield(c, e, where, "candidates", JSON_ARRAY, 0, &cands)) != CP_OK)
+        return st;
     out->ncandidates = json_array_size(cands);
     if (out->ncandidates) {
         out->candidates = calloc(out->ncandidates, sizeof *out->candidates);
@@ -152,6 +156,8 @@ cp_status cpl_decode_entry(const cpl_jctx *c, const json_t *e, size_t idx, cp_ta
                                    &out->candidates[i])) != CP_OK)
             return st;
     }
-    if ((st = cpl_jfield(c, e, where, "tried", JSON_OBJECT, 0, &tried)) != CP_OK) return st;
+    if (json_object_get(e, "tried") &&
+        (st = cpl_jfield(c, e, where, "tried", JSON_OBJECT, 0, &tried)) != CP_OK)
+        return st;
     return cpl_jtext(c, e, where, "settings_key", key, keycap);
 }

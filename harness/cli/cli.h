@@ -37,5 +37,6 @@ int cph_cmd_lookup(int argc, char **argv);
 int cph_cmd_algos(int argc, char **argv);
 int cph_cmd_cache(int argc, char **argv);
 int cph_cmd_diff(int argc, char **argv);
+int cph_cmd_gather(int argc, char **argv);
 
 #endif

@@ -22,6 +22,7 @@ static const command commands[] = {
     {"tune", cph_cmd_tune, "time every applicable algorithm and write a tuning table"},
     {"lookup", cph_cmd_lookup, "ask a tuning table which algorithm to run for a shape"},
     {"cache", cph_cmd_cache, "cache cost of true convolution vs cross-correlation (simulated, counted)"},
+    {"gather", cph_cmd_gather, "combine the tables of a sharded tune into one table"},
     {"diff", cph_cmd_diff, "compare two bench results or tables: faster, slower, unchanged"},
 };
 
