@@ -17,6 +17,7 @@
 #include "convpick/algo.h"
 #include "convpick/oracle.h"
 #include "convpick/table.h"
+#include "convpick/bundle.h"
 
 #define CONVPICK_VERSION_MAJOR 0
 #define CONVPICK_VERSION_MINOR 1
