@@ -24,11 +24,13 @@
 #include "harness/machine/machine.h"
 
 /* Invented machines: 16 PUs with big caches, 8 PUs with the same caches,
- * 4 PUs with small caches. */
+ * 16 and 4 PUs with small caches. */
 static const char *const big16 =
     "pack:1 [numa(memory=8GiB)] l3:1(size=32MiB) l2:8(size=1MiB) l1d:1(size=48KiB) core:1 pu:2";
 static const char *const big8 =
     "pack:1 [numa(memory=8GiB)] l3:1(size=32MiB) l2:4(size=1MiB) l1d:1(size=48KiB) core:1 pu:2";
+static const char *const small16 =
+    "pack:1 [numa(memory=8GiB)] l3:1(size=8MiB) l2:8(size=512KiB) l1d:1(size=32KiB) core:1 pu:2";
 static const char *const small4 =
     "pack:1 [numa(memory=8GiB)] l3:1(size=8MiB) l2:4(size=512KiB) l1d:1(size=32KiB) core:1 pu:1";
 
@@ -160,6 +162,12 @@ static void test_caches_then_cpus(void **state) {
     /* Equal on every rule: the file name that sorts first. */
     table_for("0_twin_of_c.json", big16, HASWELLISH, "dddddddddddddddd");
     assert_string_equal(pick(big16, HASWELLISH, "ffffffffffffffff", &p), "0_twin_of_c.json");
+    /* Caches before CPUs: a big16 machine takes the 8-CPU table with its
+     * caches over the 16-CPU table with small ones. */
+    clear_dir();
+    table_for("x_big8.json", big8, HASWELLISH, "aaaaaaaaaaaaaaaa");
+    table_for("y_small16.json", small16, HASWELLISH, "bbbbbbbbbbbbbbbb");
+    assert_string_equal(pick(big16, HASWELLISH, "ffffffffffffffff", &p), "x_big8.json");
 }
 
 static void test_no_match(void **state) {
