@@ -16,6 +16,7 @@
 #include "harness/io/table_gather.h"
 
 typedef struct shard {
+    const char *path;
     json_t *root;
     char fp[17];
     char *head;     /* the header without entries and created: compact, keys sorted */
@@ -117,6 +118,20 @@ static json_t *mismatches(const shard *s, size_t n) {
         }
     }
     return lines;
+}
+
+/* The refusal of mismatched shards: the first pair that differs, by file. */
+static cp_status refuse(const shard *s, size_t n, char *msg, size_t cap) {
+    for (size_t i = 1; i < n; i++) {
+        if (strcmp(s[i].fp, s[0].fp) != 0)
+            return cpa_fail(CP_EDEVICE, msg, cap, "%s (device %s) and %s (device %s): shards of "
+                            "different devices (--mixed gathers them anyway)", s[0].path,
+                            s[0].fp, s[i].path, s[i].fp);
+        if (strcmp(s[i].settings, s[0].settings) != 0)
+            return cpa_fail(CP_EINVAL, msg, cap, "%s and %s: shards measured with different "
+                            "settings (--mixed gathers them anyway)", s[0].path, s[i].path);
+    }
+    return CP_OK;
 }
 
 /* The entries of every shard by key, conflicts resolved; a sorted array. */
@@ -237,6 +252,7 @@ static cp_status write_out(json_t *doc, const char *out, const cph_gather_opts *
 static cp_status read_shards(const char *const *inputs, size_t n, shard *s, char *msg,
                              size_t cap) {
     for (size_t i = 0; i < n; i++) {
+        s[i].path = inputs[i];
         cp_status st = cph_table_read_tree(inputs[i], &s[i].root, s[i].fp, msg, cap);
         if (st != CP_OK) return st;
         s[i].head = canon_without(s[i].root, "entries", "created");
@@ -261,13 +277,7 @@ cp_status cph_table_gather(const char *const *inputs, size_t n, const char *out,
         mixed = mismatches(s, n);
         if (!mixed) st = cpa_fail(CP_ENOMEM, msg, cap, "gather: out of memory");
     }
-    if (st == CP_OK && json_array_size(mixed) && !o->allow_mixed)
-        st = cpa_fail(json_is_string(json_array_get(mixed, 0)) &&
-                              !strncmp(json_string_value(json_array_get(mixed, 0)), "device", 6)
-                          ? CP_EDEVICE
-                          : CP_EINVAL,
-                      msg, cap, "%s (--mixed gathers them anyway)",
-                      json_string_value(json_array_get(mixed, 0)));
+    if (st == CP_OK && json_array_size(mixed) && !o->allow_mixed) st = refuse(s, n, msg, cap);
     if (st == CP_OK) st = gather_entries(s, n, &entries, &res->conflicts, msg, cap);
     if (st == CP_OK && !(doc = build_doc(s, n, entries, res->conflicts, mixed)))
         st = cpa_fail(CP_ENOMEM, msg, cap, "gather: out of memory");

@@ -59,6 +59,13 @@ assert sorted(g) == sorted(a) and len(set(g)) == len(g), (g, a)
 assert json.load(open(sys.argv[1]))["created"] == "2031-01-01T00:00:00Z"
 PY
 
+# An empty shard (more shards than shapes) still writes its table, and
+# gathering it changes nothing.
+"$CLI" tune --suite demo --shard 9/9 "${fast[@]}" --out "$tmp/empty.json"
+"$CLI" gather "$tmp/s1.json" "$tmp/empty.json" "$tmp/s2.json" "$tmp/s3.json" --quiet --out "$tmp/g_empty.json"
+$PY -c 'import json,sys; a,b=(json.load(open(p)) for p in sys.argv[1:]); assert a["entries"]==b["entries"]' \
+  "$tmp/g_empty.json" "$tmp/g_123.json" || fail "an empty shard changed the gathered entries"
+
 # 3. Conflicts: s2's first entry again in a fourth shard, renamed, with a
 # lower median: it wins whichever file comes first; with an equal median the
 # entry whose key-sorted text sorts first ("aaa" before the real name) wins.
