@@ -4,8 +4,9 @@
  * the tile kernel walks each channel's taps backwards (for the cache study).
  *
  * The loops here are portable C and never name a processor; the register
- * tile (6 output channels x 16 output pixels, blocked_tile.h) is called
- * through a function pointer chosen at run time.
+ * tile (6 output channels x 2 segments of 8 pixels with AVX2, x 4 segments of
+ * 16 with AVX-512; blocked_tile.h) is called through a function pointer chosen
+ * at run time, and the loops take its segment length nv and count from it.
  *
  * Data movement inside run():
  *  - Input: unless padding is 0 and stride_w is 1, each image is copied into
@@ -15,15 +16,22 @@
  *    dilation.  Otherwise x is read in place.  A strided 1x1 layer without
  *    padding copies only the pixels it reads, as dense P x Q planes, and is
  *    then computed as a stride-1 1x1 layer (a quarter of the copy at stride
- *    2, and whole 8-pixel segments).
- *  - Pixels: a tile takes two segments of up to 8 consecutive output pixels
- *    of a row block; for 1x1 stride-1 unpadded layers the block's rows are
- *    one run of pixels, so Q = 14 or 7 still fills the vectors.
+ *    2, and whole segments).
+ *  - Pixels: a tile takes nseg segments of up to nv consecutive output pixels
+ *    of a row block.  "Run" mode: the output plane is read as one run of
+ *    virtual pixels v = p * L + q over rows of L = stride_h * wrow (the row
+ *    length of the buffer read), of which the q < Q are outputs, so that
+ *    segments cross rows and 7x7 or 14x14 planes still fill the vectors; the
+ *    L - Q padding lanes of a row are computed and dropped (keep masks,
+ *    compressed stores).  Taken when L == Q (1x1 stride-1 unpadded layers: no
+ *    lane dropped) or when the kernel takes masks and L is at most the lanes
+ *    row segments would use (a 7x7 plane padded to 9: 49 outputs in 64 lanes
+ *    instead of 7 of every 16).  Otherwise each row is cut into segments.
  *  - Weights (prepare): per group, per tile of 6 output channels, [c][r][s][6]
  *    with zero channels past K/groups; flipped for CP_CONV by `blocked`.
  * Loops, outermost first: image n; then in parallel over tasks
  * (group, block of kb channel tiles, block of pb output rows): input-channel
- * blocks of cb, channel tiles, pairs of 8-pixel row segments, tile kernel.
+ * blocks of cb, channel tiles, groups of nseg pixel segments, tile kernel.
  * The weights of one tile for cb channels are sized to stay in L1 while the
  * pixels of the row block stream past; the input rows of a block stay in L2
  * while the kb channel tiles reuse them.  Tasks write disjoint (channel tile,
@@ -37,7 +45,7 @@
 #include "algos/core/cpa.h"
 
 enum { P_KB = 0, P_CB, P_PB, P_TILE_ISA, P_ORDER, NPARAMS };
-enum { MR = CPA_BLOCKED_MR, NV = CPA_BLOCKED_NV, SLACK = 2 * CPA_BLOCKED_NV };
+enum { MR = CPA_BLOCKED_MR, SLACK = CPA_BLOCKED_SEGS * CPA_BLOCKED_NV_MAX };
 
 static const cp_param_desc blocked_params[NPARAMS] = {
     {"kb", "output-channel tiles of 6 per cache block; default: weights of the block "
@@ -46,8 +54,9 @@ static const cp_param_desc blocked_params[NPARAMS] = {
            "its input vectors in the other half, split into equal blocks", 1,
      (int64_t)1 << 30},
     {"pb", "output rows per cache block; default: the block's input rows in half of L2, "
-           "halved until there are 8 tasks, one more if the 8-pixel segments are odd", 1, (int64_t)1 << 30},
-    {"tile_isa", "tile kernel: 0 = best the CPU supports, 1 = portable C", 0, 1},
+           "halved until there are 8 tasks, one more if its segments are not whole tiles", 1, (int64_t)1 << 30},
+    {"tile_isa", "tile kernel: 0 = best the CPU supports, 1 = portable C, 2 = AVX2 6x16, "
+                 "3 = AVX-512 6x64 (a level the CPU lacks runs the widest below it)", 0, 3},
     {"order", "inside an input-channel block: 0 = channel tiles outer (a tile's weights stay "
               "in L1), 1 = pixel pairs outer (a pair's input vectors stay in L1); default 1 "
               "for 1x1 layers, else 0", 0, 1},
@@ -58,13 +67,15 @@ typedef struct {
     int64_t P, Q, cg, kg, ntk, ntap;
     int copy;                /* 1: pad/phase-split the input into the workspace */
     int sub;                 /* 1: 1x1, no pad, strided: copy only the pixels read (P x Q) */
-    int flat;                /* 1: 1x1 read densely: pixel f of a plane reads x[f] */
     int64_t sh;              /* input rows between output rows in the buffer read */
     int64_t wph, wrow, hrow; /* floats per phase, per row; rows per channel */
     int64_t cs;              /* floats per channel of the input read */
+    int nv, nseg;            /* the tile kernel's segment length and count */
+    int run;                 /* 1: segments run along virtual rows (top of file) */
+    int64_t vl, vtot;        /* virtual row length L; virtual pixels of a plane */
 } blk_geom;
 
-static blk_geom geom(const cp_shape *s) {
+static blk_geom geom(const cp_shape *s, const cpa_blocked_kernel *kn) {
     blk_geom g;
     g.P = cp_shape_out_h(s);
     g.Q = cp_shape_out_w(s);
@@ -76,7 +87,6 @@ static blk_geom geom(const cp_shape *s) {
         s->pad_top == 0 && s->pad_left == 0 && s->pad_bottom == 0 && s->pad_right == 0;
     g.sub = nopad && s->r == 1 && s->s == 1 && (s->stride_h > 1 || s->stride_w > 1);
     g.copy = g.sub || !(nopad && s->stride_w == 1);
-    g.flat = (!g.copy && s->r == 1 && s->s == 1 && s->stride_h == 1) || g.sub;
     g.sh = g.sub ? 1 : s->stride_h;
     if (g.sub) { /* the strided 1x1 layer becomes a dense one on P x Q planes */
         g.wph = g.wrow = g.Q;
@@ -91,25 +101,33 @@ static blk_geom geom(const cp_shape *s) {
         g.hrow = s->h;
     }
     g.cs = g.hrow * g.wrow;
+    g.nv = kn->nv;
+    g.nseg = kn->nseg;
+    g.vl = g.sh * g.wrow;
+    g.vtot = (g.P - 1) * g.vl + g.Q;
+    g.run = g.vl == g.Q || (kn->masks && g.vl <= (g.Q + g.nv - 1) / g.nv * g.nv);
     return g;
 }
 
-/* Segments of 8 output pixels in a block of pb rows: each row split into
- * ceil(Q/8); for a flat layer the plane is one run of P*Q pixels cut into
- * blocks of pb*Q pixels' worth of segments, rounded up to an even count, so
- * that Q = 14 or 7 still fills whole tiles. */
+/* The portable kernel's shape: for the sizes that do not depend on the tile. */
+static const cpa_blocked_kernel any_kernel = {cpa_blocked_tile_ref_6x16, CPA_BLOCKED_NV, 2,
+                                              0, 1, CPA_ISA_PORTABLE};
+
+/* Segments of nv pixels in a block of pb rows: each row split into
+ * ceil(Q/nv); in run mode the plane is one run of virtual pixels cut into
+ * blocks of pb rows' worth of segments, rounded up to whole tiles. */
 static int64_t block_segments(const blk_geom *g, int64_t pb) {
-    if (g->flat) {
-        const int64_t n = (pb * g->Q + NV - 1) / NV;
-        return n + (n & 1);
+    if (g->run) {
+        const int64_t n = (pb * g->vl + g->nv - 1) / g->nv;
+        return (n + g->nseg - 1) / g->nseg * g->nseg;
     }
-    return pb * ((g->Q + NV - 1) / NV);
+    return pb * ((g->Q + g->nv - 1) / g->nv);
 }
 
 /* Number of pixel blocks of a plane. */
 static int64_t pixel_blocks(const blk_geom *g, int64_t pb) {
-    if (g->flat) {
-        const int64_t total = (g->P * g->Q + NV - 1) / NV;
+    if (g->run) {
+        const int64_t total = (g->vtot + g->nv - 1) / g->nv;
         const int64_t per = block_segments(g, pb);
         return (total + per - 1) / per;
     }
@@ -120,17 +138,21 @@ static int64_t clamp64(int64_t v, int64_t lo, int64_t hi) { return v < lo ? lo :
 
 /* --- parameters ------------------------------------------------------------ */
 
-static void blocked_defaults(const cp_shape *s, const cp_cache_sizes *caches, cp_params *out) {
-    const blk_geom g = geom(s);
+/* The defaults for the tile kernel of level isa (CPA_ISA_*, resolved). */
+static void defaults_for(const cp_shape *s, const cp_cache_sizes *caches, int isa,
+                         cp_params *out) {
+    const cpa_blocked_kernel kn = cpa_blocked_tile_select(isa);
+    const blk_geom g = geom(s, &kn);
     const int64_t l1 = (int64_t)caches->l1d, l2 = (int64_t)caches->l2;
     const int64_t tile_w_per_c = g.ntap * MR * (int64_t)sizeof(float);
-    /* One tile's weights in half of L1, and its input (2 segments of NV floats
-     * per channel, what bounds 1x1 layers) in the other half.  The segments'
-     * channel stride is rarely a multiple of a line, so two segments touch
-     * up to four lines a channel: counted as 4 x 8 floats.  Measured on one
+    /* One tile's weights in half of L1, and its input (nseg segments of nv
+     * floats per channel, what bounds 1x1 layers) in the other half.  The
+     * segments' channel stride is rarely a multiple of a line, so they touch
+     * up to 16 floats more a channel: counted as nseg * nv + 16 floats (32
+     * floats, four lines, for the AVX2 tile).  Measured on one
      * Zen 3 core (fastest sample): c=1024 k=256 14x14 1.09 ms at cb=128 vs
      * 1.17 ms at cb=256; c=2048 k=512 7x7 1.40 vs 1.57 ms. */
-    const int64_t x_per_c = 4 * NV * (int64_t)sizeof(float);
+    const int64_t x_per_c = (g.nseg * g.nv + 16) * (int64_t)sizeof(float);
     int64_t cbmax = (l1 / 2) / tile_w_per_c;
     if ((l1 / 2) / x_per_c < cbmax) cbmax = (l1 / 2) / x_per_c;
     cbmax = clamp64(cbmax, 1, g.cg);
@@ -159,13 +181,17 @@ static void blocked_defaults(const cp_shape *s, const cp_cache_sizes *caches, cp
      * to share, by halving the row blocks. */
     while (pb > 1 && s->groups * ((g.ntk + kb - 1) / kb) * pixel_blocks(&g, pb) < 8)
         pb = (pb + 1) / 2;
-    /* An odd number of segments per block leaves half a tile empty. */
-    if (!g.flat && block_segments(&g, pb) % 2 == 1 && pb < g.P) pb++;
+    /* A block of segments that is not whole tiles leaves part of a tile empty. */
+    if (!g.run && block_segments(&g, pb) % g.nseg != 0 && pb < g.P) pb++;
     out->v[P_KB] = kb;
     out->v[P_CB] = cb;
     out->v[P_PB] = pb;
     out->v[P_TILE_ISA] = 0;
     out->v[P_ORDER] = s->r == 1 && s->s == 1;
+}
+
+static void blocked_defaults(const cp_shape *s, const cp_cache_sizes *caches, cp_params *out) {
+    defaults_for(s, caches, cpa_isa_resolve(CPA_ISA_BEST), out);
 }
 
 static int same_params(const cp_params *a, const cp_params *b) {
@@ -175,10 +201,11 @@ static int same_params(const cp_params *a, const cp_params *b) {
 /* Defaults first, then halving/doubling each block size around them. */
 static int blocked_candidates(const cp_shape *s, const cp_cache_sizes *caches, cp_params *out,
                               int max) {
-    const blk_geom g = geom(s);
+    const blk_geom g = geom(s, &any_kernel);
     cp_params d;
     memset(&d, 0, sizeof d);
     blocked_defaults(s, caches, &d);
+    const int best = cpa_isa_resolve(CPA_ISA_BEST);
     const int64_t cbs[3] = {d.v[P_CB], clamp64(d.v[P_CB] / 2, 1, g.cg), g.cg};
     const int64_t pbs[2] = {d.v[P_PB], clamp64(d.v[P_PB] * 2, 1, g.P)};
     const int64_t kbs[2] = {d.v[P_KB], clamp64(d.v[P_KB] / 2, 1, g.ntk)};
@@ -187,6 +214,11 @@ static int blocked_candidates(const cp_shape *s, const cp_cache_sizes *caches, c
         out[n++] = d;
         out[n] = d;
         out[n++].v[P_ORDER] = !d.v[P_ORDER];
+    }
+    if (best == CPA_ISA_AVX512 && n < max) { /* the AVX2 tile with its own defaults */
+        memset(&out[n], 0, sizeof out[n]);
+        defaults_for(s, caches, CPA_ISA_AVX2, &out[n]);
+        out[n++].v[P_TILE_ISA] = CPA_ISA_AVX2;
     }
     for (int i = 0; i < 3; i++)
         for (int j = 0; j < 2; j++)
@@ -225,7 +257,7 @@ static size_t tap_table_bytes(const blk_geom *g) {
 static size_t blocked_workspace_size(const cp_shape *s, cp_flip flip, const cp_params *p,
                                      int nthreads) {
     (void)flip; (void)p; (void)nthreads; /* no per-worker scratch: tiles live in registers */
-    const blk_geom g = geom(s);
+    const blk_geom g = geom(s, &any_kernel);
     size_t bytes = tap_table_bytes(&g);
     if (g.copy) bytes += (size_t)(s->c * g.cs + SLACK) * sizeof(float);
     return bytes;
@@ -233,12 +265,12 @@ static size_t blocked_workspace_size(const cp_shape *s, cp_flip flip, const cp_p
 
 static size_t blocked_prepared_size(const cp_shape *s, cp_flip flip, const cp_params *p) {
     (void)flip; (void)p;
-    const blk_geom g = geom(s);
+    const blk_geom g = geom(s, &any_kernel);
     return (size_t)(s->groups * g.ntk * g.cg * g.ntap * MR) * sizeof(float);
 }
 
 static void pack(const cp_shape *s, int flip, const float *w, float *out) {
-    const blk_geom g = geom(s);
+    const blk_geom g = geom(s, &any_kernel);
     const int64_t R = s->r, S = s->s;
     for (int64_t gr = 0; gr < s->groups; gr++)
         for (int64_t kt = 0; kt < g.ntk; kt++) {
@@ -283,8 +315,7 @@ typedef struct {
     int64_t max_off;
     int flipidx;
     int order;            /* P_ORDER */
-    cpa_blocked_tile_fn tile_fn;
-    int full_reads;
+    cpa_blocked_kernel kern;
 } blk_job;
 
 /* Zero-pads and phase-splits channels [b, e) of image n into the workspace. */
@@ -319,59 +350,75 @@ static void pad_task(void *arg, int64_t b, int64_t e, int worker) {
     }
 }
 
-/* Segment i of pixel block pbi (blocks of pb rows): its output row p, column
- * q0 and length nv (a flat segment may run on into the next rows; p*Q + q0
- * is its first pixel).  Returns the block's number of segments when i < 0. */
-static int64_t segment(const blk_geom *g, int64_t pb, int64_t pbi, int64_t i, int64_t *p,
-                       int64_t *q0, int *nv) {
-    int64_t left;
-    if (g->flat) {
-        const int64_t per = block_segments(g, pb), total = (g->P * g->Q + NV - 1) / NV;
-        if (i < 0) return clamp64(total - pbi * per, 0, per);
-        const int64_t f0 = (pbi * per + i) * NV;
-        *p = f0 / g->Q;
-        *q0 = f0 % g->Q;
-        left = g->P * g->Q - f0;
-    } else {
-        const int64_t p0 = pbi * pb, nseg = (g->Q + NV - 1) / NV;
-        if (i < 0) return (clamp64(p0 + pb, 0, g->P) - p0) * nseg;
-        *p = p0 + i / nseg;
-        *q0 = (i % nseg) * NV;
-        left = g->Q - *q0;
+/* Where segment i of pixel block pbi (blocks of pb rows) reads and writes:
+ * input offset xo of its lane 0 in a channel of the buffer read, output
+ * offset yoff of its first kept lane in a plane, and its keep mask. */
+typedef struct {
+    int64_t xo, yoff;
+    uint32_t keep;
+} seg_pos;
+
+/* The block's number of segments. */
+static int64_t block_nsegs(const blk_geom *g, int64_t pb, int64_t pbi) {
+    if (g->run) {
+        const int64_t per = block_segments(g, pb), total = (g->vtot + g->nv - 1) / g->nv;
+        return clamp64(total - pbi * per, 0, per);
     }
-    *nv = (int)(left < NV ? left : NV);
-    return 0;
+    const int64_t p0 = pbi * pb;
+    return (clamp64(p0 + pb, 0, g->P) - p0) * ((g->Q + g->nv - 1) / g->nv);
 }
 
-/* Where the two segments of pair i of pixel block pbi start (channel xc0 of
- * the input read, offset of the output in a plane), their lengths, and
- * whether full-vector reads stay inside the input buffer. */
-typedef struct {
-    const float *x[2];
-    int64_t yoff[2];
-    int n[2];
-    int safe;
-} seg_pair;
+static seg_pos segment(const blk_geom *g, int64_t pb, int64_t pbi, int64_t i) {
+    seg_pos sp = {0, 0, 0};
+    if (g->run) {
+        const int64_t v0 = (pbi * block_segments(g, pb) + i) * g->nv;
+        sp.xo = v0; /* p * L + q: the row stride of the buffer read is L */
+        int first = 1;
+        for (int jl = 0; jl < g->nv; jl++) {
+            const int64_t v = v0 + jl, q = v % g->vl;
+            if (v >= g->vtot || q >= g->Q) continue;
+            if (first) sp.yoff = v / g->vl * g->Q + q;
+            first = 0;
+            sp.keep |= 1u << jl;
+        }
+        return sp;
+    }
+    const int64_t nseg = (g->Q + g->nv - 1) / g->nv;
+    const int64_t p = pbi * pb + i / nseg, q0 = (i % nseg) * g->nv;
+    const int64_t left = g->Q - q0;
+    sp.xo = p * g->sh * g->wrow + q0;
+    sp.yoff = p * g->Q + q0;
+    sp.keep = (1u << (left < g->nv ? left : g->nv)) - 1u;
+    return sp;
+}
 
-static void pair_setup(const blk_job *j, int64_t pbi, int64_t i, int64_t nsegs, int64_t nc,
-                       int64_t xc0, seg_pair *sp) {
+/* The segments i .. i + nseg - 1 of a tile (channel xc0 of the input read,
+ * output offsets in a plane, keep masks), and whether full-vector reads stay
+ * inside the input buffer. */
+typedef struct {
+    const float *x[CPA_BLOCKED_SEGS];
+    int64_t yoff[CPA_BLOCKED_SEGS];
+    uint32_t keep[CPA_BLOCKED_SEGS];
+    int safe;
+} seg_group;
+
+static void group_setup(const blk_job *j, int64_t pbi, int64_t i, int64_t nsegs, int64_t nc,
+                        int64_t xc0, seg_group *sg) {
     const blk_geom *g = &j->g;
-    int64_t p, q0;
-    int nv;
-    sp->safe = 1;
-    for (int v = 0; v < 2; v++) {
-        if (i + v >= nsegs) {
-            sp->x[1] = sp->x[0];
-            sp->yoff[1] = sp->yoff[0];
-            sp->n[1] = 0;
+    sg->safe = 1;
+    for (int v = 0; v < CPA_BLOCKED_SEGS; v++) {
+        if (v >= g->nseg || i + v >= nsegs) {
+            sg->x[v] = sg->x[0];
+            sg->yoff[v] = sg->yoff[0];
+            sg->keep[v] = 0;
             continue;
         }
-        segment(g, j->pb, pbi, i + v, &p, &q0, &nv);
-        const int64_t xo = xc0 * g->cs + p * g->sh * g->wrow + q0;
-        sp->x[v] = j->xb + xo;
-        sp->yoff[v] = p * g->Q + q0;
-        sp->n[v] = nv;
-        if (xo + (nc - 1) * g->cs + j->max_off + NV > j->xb_len) sp->safe = 0;
+        const seg_pos sp = segment(g, j->pb, pbi, i + v);
+        const int64_t xo = xc0 * g->cs + sp.xo;
+        sg->x[v] = j->xb + xo;
+        sg->yoff[v] = sp.yoff;
+        sg->keep[v] = sp.keep;
+        if (xo + (nc - 1) * g->cs + j->max_off + g->nv > j->xb_len) sg->safe = 0;
     }
 }
 
@@ -400,14 +447,14 @@ static void tile_setup(const blk_job *j, int64_t gr, int64_t kt, int64_t c0, int
     *yk = a->y + (j->n * s->k + k0) * g->P * g->Q;
 }
 
-static void call_tile(const blk_job *j, cpa_blocked_tile *t, float *yk, const seg_pair *sp) {
-    for (int v = 0; v < 2; v++) {
-        t->x[v] = sp->x[v];
-        t->y[v] = yk + sp->yoff[v];
-        t->n[v] = sp->n[v];
+static void call_tile(const blk_job *j, cpa_blocked_tile *t, float *yk, const seg_group *sg) {
+    for (int v = 0; v < CPA_BLOCKED_SEGS; v++) {
+        t->x[v] = sg->x[v];
+        t->y[v] = yk + sg->yoff[v];
+        t->keep[v] = sg->keep[v];
     }
-    if (j->full_reads && sp->safe)
-        j->tile_fn(t);
+    if (!j->kern.full_reads || sg->safe)
+        j->kern.fn(t);
     else
         cpa_blocked_tile_ref_6x16(t);
 }
@@ -420,29 +467,27 @@ static void compute_task(void *arg, int64_t b, int64_t e, int worker) {
         const int64_t gr = task / (j->nkb * j->npb);
         const int64_t kbi = (task / j->npb) % j->nkb, pbi = task % j->npb;
         const int64_t kt0 = kbi * j->kb, kt1 = clamp64(kt0 + j->kb, 0, g->ntk);
-        int64_t p, q0;
-        int nv;
-        const int64_t nsegs = segment(g, j->pb, pbi, -1, &p, &q0, &nv);
+        const int64_t nsegs = block_nsegs(g, j->pb, pbi), ns = g->nseg;
         for (int64_t c0 = 0; c0 < g->cg; c0 += j->cb) {
             const int64_t nc = clamp64(g->cg - c0, 1, j->cb);
             const int64_t xc0 = gr * g->cg + c0; /* first input channel of the block */
             cpa_blocked_tile t;
             float *yk;
-            seg_pair sp;
+            seg_group sg;
             if (j->order == 0) { /* a tile's weights stay in L1 while the pixels pass */
                 for (int64_t kt = kt0; kt < kt1; kt++) {
                     tile_setup(j, gr, kt, c0, nc, &t, &yk);
-                    for (int64_t i = 0; i < nsegs; i += 2) {
-                        pair_setup(j, pbi, i, nsegs, nc, xc0, &sp);
-                        call_tile(j, &t, yk, &sp);
+                    for (int64_t i = 0; i < nsegs; i += ns) {
+                        group_setup(j, pbi, i, nsegs, nc, xc0, &sg);
+                        call_tile(j, &t, yk, &sg);
                     }
                 }
-            } else { /* a pair's input vectors stay in L1 while the tiles pass */
-                for (int64_t i = 0; i < nsegs; i += 2) {
-                    pair_setup(j, pbi, i, nsegs, nc, xc0, &sp);
+            } else { /* a group's input vectors stay in L1 while the tiles pass */
+                for (int64_t i = 0; i < nsegs; i += ns) {
+                    group_setup(j, pbi, i, nsegs, nc, xc0, &sg);
                     for (int64_t kt = kt0; kt < kt1; kt++) {
                         tile_setup(j, gr, kt, c0, nc, &t, &yk);
-                        call_tile(j, &t, yk, &sp);
+                        call_tile(j, &t, yk, &sg);
                     }
                 }
             }
@@ -455,14 +500,14 @@ static cp_status run_common(const cp_run_args *a, int flipidx) {
     blk_job j;
     memset(&j, 0, sizeof j);
     j.a = a;
-    j.g = geom(s);
+    j.kern = cpa_blocked_tile_select(a->params->v[P_TILE_ISA]);
+    j.g = geom(s, &j.kern);
     const blk_geom *g = &j.g;
     j.kb = clamp64(a->params->v[P_KB], 1, g->ntk);
     j.cb = clamp64(a->params->v[P_CB], 1, g->cg);
     j.pb = clamp64(a->params->v[P_PB], 1, g->P);
     j.nkb = (g->ntk + j.kb - 1) / j.kb;
     j.npb = pixel_blocks(g, j.pb);
-    j.tile_fn = cpa_blocked_tile_select(a->params->v[P_TILE_ISA], &j.full_reads);
     j.order = (int)a->params->v[P_ORDER];
 
     int64_t *taps = a->workspace;
@@ -497,6 +542,11 @@ static cp_status run_common(const cp_run_args *a, int flipidx) {
 }
 
 static cp_status blocked_run(const cp_run_args *a) { return run_common(a, 0); }
+
+static const char *blocked_isa(const cp_shape *s, const cp_params *p) {
+    (void)s;
+    return cpa_isa_name(cpa_isa_resolve(p->v[P_TILE_ISA]));
+}
 static cp_status flipidx_run(const cp_run_args *a) { return run_common(a, 1); }
 
 /* Tolerance: each output is one float32 sum over C/groups*R*S products, split
@@ -508,7 +558,8 @@ static cp_status flipidx_run(const cp_run_args *a) { return run_common(a, 1); }
  * deeper reductions (C*R*S up to 2^16 at the n*eps bound). */
 const cp_algo cpa_blocked = {
     .name = "blocked",
-    .summary = "cache- and register-blocked direct convolution (6x16 tile, run-time ISA choice)",
+    .summary = "cache- and register-blocked direct convolution (AVX-512 6x64 or AVX2 6x16 tile, "
+               "run-time ISA choice)",
     .tolerance = 1e-5,
     .nparams = NPARAMS,
     .params = blocked_params,
@@ -519,6 +570,7 @@ const cp_algo cpa_blocked = {
     .prepared_size = blocked_prepared_size,
     .prepare = blocked_prepare,
     .run = blocked_run,
+    .isa = blocked_isa,
 };
 
 const cp_algo cpa_blocked_flipidx = {
@@ -534,4 +586,5 @@ const cp_algo cpa_blocked_flipidx = {
     .prepared_size = blocked_prepared_size,
     .prepare = flipidx_prepare,
     .run = flipidx_run,
+    .isa = blocked_isa,
 };

@@ -26,7 +26,7 @@
 #include "algos/kernels/winograd_kernels.h"
 
 enum { WINO_TILE_BLOCK = 0, WINO_KERNELS = 1, WINO_GEMM = 2, WINO_NPARAMS };
-enum { MR = CPA_BLOCKED_MR, NV = CPA_BLOCKED_NV };
+enum { MR = CPA_BLOCKED_MR };
 
 /* At most this many tiles in the whole layer and the default GEMM is the
  * packed tile kernel: with so few columns OpenBLAS spends its time re-packing
@@ -40,8 +40,9 @@ enum { MR = CPA_BLOCKED_MR, NV = CPA_BLOCKED_NV };
 static const cp_param_desc wino_params[] = {
     {"tile_block", "2x2 output tiles per block; default: the block's 16 V and 16 M "
                    "matrices fill L2, at least 64 tiles", 1, 4096},
-    {"kernels", "transform loops and packed GEMM tile kernel: 0 = AVX2 builds when the CPU "
-                "has AVX2+FMA, else portable; 1 = portable; default 0", 0, 1},
+    {"kernels", "transform loops and packed GEMM tile kernel: 0 = the widest builds the CPU "
+                "has (AVX-512, AVX2+FMA, portable); 1 = portable; 2 = AVX2; 3 = AVX-512 (a "
+                "level the CPU lacks runs the widest below it); default 0", 0, 3},
     {"gemm", "element-wise stage: 0 = OpenBLAS sgemm on U as 16 K x C matrices; 1 = the "
              "blocked 6x16 tile kernel on U pre-packed in 6-channel panels; default 1 when "
              "the layer has at most 64 tiles, else 0", 0, 1},
@@ -117,12 +118,19 @@ static int wino_candidates(const cp_shape *s, const cp_cache_sizes *caches, cp_p
     memset(&d, 0, sizeof d);
     wino_defaults(s, caches, &d);
     int n = 0;
+    if (cpa_isa_resolve(CPA_ISA_BEST) == CPA_ISA_AVX512 && max >= 2) {
+        /* the defaults with the AVX2 builds, against the AVX-512 ones */
+        out[n++] = d;
+        out[n] = d;
+        out[n++].v[WINO_KERNELS] = CPA_ISA_AVX2;
+    }
     for (int g = 0; g < 2; g++) { /* the default GEMM first, then the other */
         const int64_t gemm = g == 0 ? d.v[WINO_GEMM] : !d.v[WINO_GEMM];
         for (size_t i = 0; i < sizeof tries / sizeof tries[0] && n < max; i++) {
             int dup = 0;
             for (int j = 0; j < n; j++)
-                dup |= out[j].v[WINO_TILE_BLOCK] == tries[i] && out[j].v[WINO_GEMM] == gemm;
+                dup |= out[j].v[WINO_TILE_BLOCK] == tries[i] && out[j].v[WINO_GEMM] == gemm &&
+                       out[j].v[WINO_KERNELS] == 0;
             if (dup) continue;
             memset(&out[n], 0, sizeof out[n]);
             out[n].v[WINO_TILE_BLOCK] = tries[i];
@@ -195,7 +203,7 @@ typedef struct {
     float *v, *m, *rows;
     size_t rows_per_worker;
     const cpa_wino_kernels *kern;
-    cpa_blocked_tile_fn tile_fn; /* the packed GEMM's tile kernel */
+    cpa_blocked_kernel tile;     /* the packed GEMM's tile kernel */
 } wino_block;
 
 /* Runs body for each segment of the block: a run of tiles [tx0, tx1) of tile
@@ -304,18 +312,19 @@ static void wino_output_task(void *arg, int64_t begin, int64_t end, int worker) 
 }
 
 /* The packed GEMM: task (xi, kt) computes rows 6 kt .. 6 kt + 5 of M[xi] =
- * U[xi] V[xi] over the block's columns with the blocked 6x16 tile kernel (a
- * 1x1 "convolution" of V's C rows: one tap, channel stride ld).  Its U panel
- * (C x 6 floats) stays in L1 across the column pairs; V[xi] is shared by the
- * ktiles tasks of the point.  Full 8-float reads stay inside a row: columns
- * start at multiples of 8 and ld is a multiple of 16 >= nt. */
+ * U[xi] V[xi] over the block's columns with the blocked tile kernel (6 x 2x8
+ * AVX2, 6 x 4x16 AVX-512: a 1x1 "convolution" of V's C rows, one tap, channel
+ * stride ld).  Its U panel (C x 6 floats) stays in L1 across the column
+ * groups; V[xi] is shared by the ktiles tasks of the point.  Full nv-float
+ * reads stay inside a row: columns start at multiples of nv (8 or 16) and ld
+ * is a multiple of 16 >= nt. */
 static void wino_packed_task(void *arg, int64_t begin, int64_t end, int worker) {
     (void)worker;
     static const int64_t tap0[1] = {0};
     const wino_block *blk = arg;
     const cp_shape *s = blk->a->shape;
     const int64_t C = s->c, K = s->k, ntk = wino_ktiles(s), ld = blk->ld;
-    const cpa_blocked_tile_fn tile_fn = blk->tile_fn;
+    const cpa_blocked_kernel kn = blk->tile;
     const float *u = blk->a->weights;
     for (int64_t task = begin; task < end; task++) {
         const int64_t xi = task / ntk, kt = task % ntk;
@@ -333,15 +342,15 @@ static void wino_packed_task(void *arg, int64_t begin, int64_t end, int worker) 
         t.first = 1;
         const float *vx = blk->v + xi * C * ld;
         float *mx = blk->m + xi * K * ld + kt * MR * ld;
-        for (int64_t col = 0; col < blk->nt; col += 2 * NV) {
-            const int64_t left = blk->nt - col;
-            t.x[0] = vx + col;
-            t.y[0] = mx + col;
-            t.n[0] = (int)(left < NV ? left : NV);
-            t.n[1] = (int)(left - NV <= 0 ? 0 : left - NV < NV ? left - NV : NV);
-            t.x[1] = t.n[1] ? vx + col + NV : t.x[0];
-            t.y[1] = t.n[1] ? mx + col + NV : t.y[0];
-            tile_fn(&t);
+        for (int64_t col = 0; col < blk->nt; col += kn.nseg * kn.nv) {
+            for (int v = 0; v < CPA_BLOCKED_SEGS; v++) {
+                const int64_t left = blk->nt - col - v * kn.nv;
+                const int nl = v >= kn.nseg || left <= 0 ? 0 : left < kn.nv ? (int)left : kn.nv;
+                t.keep[v] = (1u << nl) - 1u;
+                t.x[v] = nl ? vx + col + v * kn.nv : t.x[0];
+                t.y[v] = nl ? mx + col + v * kn.nv : t.y[0];
+            }
+            kn.fn(&t);
         }
     }
 }
@@ -359,11 +368,9 @@ static cp_status wino_run(const cp_run_args *a) {
         .v = (float *)ws,
         .m = (float *)(ws + cpa_align64((size_t)(16 * C * ld) * sizeof(float))),
         .rows_per_worker = wino_rowbuf_floats(s, tb),
-        .kern = a->params->v[WINO_KERNELS] == 1 ? &cpa_wino_kernels_ref
-                                                 : cpa_wino_kernels_select(),
+        .kern = cpa_wino_kernels_select(a->params->v[WINO_KERNELS]),
+        .tile = cpa_blocked_tile_select(a->params->v[WINO_KERNELS]), /* reads stay inside */
     };
-    int full_reads = 0; /* either kernel is safe here (see wino_packed_task) */
-    blk.tile_fn = cpa_blocked_tile_select(a->params->v[WINO_KERNELS], &full_reads);
     blk.rows = (float *)(ws + cpa_align64((size_t)(16 * C * ld) * sizeof(float)) +
                          cpa_align64((size_t)(16 * K * ld) * sizeof(float)));
     for (int64_t t0 = 0; t0 < all; t0 += tb) {
@@ -399,6 +406,14 @@ static cp_status wino_run(const cp_run_args *a) {
  * here; 5e-5 keeps direct's room for deep reductions with a margin for that
  * factor, and is still tight enough to catch a wrong transform: scaling one
  * row of G by 1.0001 gave rel_err 1.04e-4 on the test grid. */
+static const char *wino_isa(const cp_shape *s, const cp_params *p) {
+    (void)s;
+    static const char *const names[2][4] = {
+        {"portable", "portable", "avx2", "avx512"},
+        {"portable+blas", "portable+blas", "avx2+blas", "avx512+blas"}};
+    return names[p->v[WINO_GEMM] == 0][cpa_isa_resolve(p->v[WINO_KERNELS])];
+}
+
 const cp_algo cpa_winograd_2x2_3x3 = {
     .name = "winograd_2x2_3x3",
     .summary = "Winograd F(2x2,3x3), element-wise stage as 16 GEMMs (3x3, stride 1)",
@@ -412,4 +427,5 @@ const cp_algo cpa_winograd_2x2_3x3 = {
     .prepared_size = wino_prepared_size,
     .prepare = wino_prepare,
     .run = wino_run,
+    .isa = wino_isa,
 };

@@ -1,63 +1,96 @@
 /* The register-tile kernel of the blocked direct convolution: one contract,
  * one portable C version always built, ISA versions chosen at run time.
  *
- * A tile is MR = 6 output channels x 2 segments of up to NV = 8 output pixels
- * each (12 accumulators of 8 floats: sized for 16 vector registers, leaving
- * two for input vectors and one for a broadcast weight).  A segment is a run
- * of consecutive output pixels of one output row; the two segments of a tile
- * may lie in different rows, so that short rows (Q = 7, 14, 28) still fill the
- * tile.
+ * A tile is MR = 6 output channels x up to CPA_BLOCKED_SEGS segments of up to
+ * nv output pixels each.  The kernel chosen fixes nv and the segments per
+ * tile (cpa_blocked_kernel below):
+ *   AVX2     6 x (2 x 8):  12 YMM accumulators of 16 registers, leaving two
+ *            for input vectors and one for a broadcast weight;
+ *   AVX-512  6 x (4 x 16): 24 ZMM accumulators of 32, four input vectors and
+ *            the weights as embedded broadcasts.  Per channel and tap: 4 vector
+ *            loads + 6 broadcasts for 24 FMAs (a 14x32 tile needs 2 + 14 for 28),
+ *            and the weight packing stays the 6-channel panels of the AVX2 tile.
+ * A segment is a run of lanes of one "virtual row": lane j of segment v reads
+ * input x[v][c*x_cs + tap_off[t] + j]; only the lanes whose bit is set in
+ * keep[v] are outputs, written compressed: the i-th kept lane goes to
+ * y[v][kk*y_ks + i].  So a run over rows of a padded plane (row length wrow,
+ * Q valid outputs each) skips the wrow - Q padding lanes of each row and the
+ * outputs land densely in the P x Q plane; a plain segment is keep = 2^n - 1.
  *
- * For segment v in {0, 1}, pixel j < n[v] and channel kk < nk the kernel sets
- *   acc = (first ? (bias ? bias[kk] : 0) : y[v][kk*y_ks + j])
+ * For kept lane j (rank i) of segment v and channel kk < nk the kernel sets
+ *   acc = (first ? (bias ? bias[kk] : 0) : y[v][kk*y_ks + i])
  *         + sum over c < nc, t < ntap of
  *             x[v][c*x_cs + tap_off[t] + j] * w[c*ntap*MR + t*w_step + kk]
- *   y[v][kk*y_ks + j] = acc
+ *   y[v][kk*y_ks + i] = acc
  * and writes nothing else.  w holds MR channels interleaved (channels >= nk
- * are zero padding), which is the order the packing in blocked.c produces;
- * w_step = MR walks a channel's taps forward, w_step = -MR (with w at the
- * last tap of channel 0) walks them in reverse: true convolution by flipped
- * indexing on unflipped weights.
+ * are zero padding), the order the packing in blocked.c produces; w_step = MR
+ * walks a channel's taps forward, w_step = -MR (with w at the last tap of
+ * channel 0) walks them in reverse: true convolution by flipped indexing.
  *
- * Reads: the portable kernel reads x only for j < n[v]; ISA kernels read all
- * NV floats x[v][c*x_cs + tap_off[t] + 0..NV-1] for every segment (n[v] == 0
- * included), so the caller gives x[1] = x[0] for an empty segment and calls
- * the portable kernel when those full reads would leave the input buffer.
+ * Reads: the portable and AVX-512 kernels read x only for kept lanes (masked
+ * loads); the AVX2 kernel reads all 8 floats of segments 0 and 1 (keep == 0
+ * included), so the caller gives x[v] = x[0] for an empty segment and calls the
+ * portable kernel when those full reads would leave the input buffer
+ * (`full_reads` below).  The AVX2 kernel takes keep = 2^n - 1 only (it has no
+ * compress); `masks` says which kernels take any mask.
  * Kernels never allocate, time or print; they are pure functions of *t. */
 #ifndef CPA_BLOCKED_UKR_H
 #define CPA_BLOCKED_UKR_H
 
 #include <stdint.h>
 
-#define CPA_BLOCKED_MR 6 /* output channels per tile */
-#define CPA_BLOCKED_NV 8 /* output pixels per segment (one 8-float vector) */
+#define CPA_BLOCKED_MR 6    /* output channels per tile */
+#define CPA_BLOCKED_NV 8    /* pixels per segment of the AVX2 and portable tiles */
+#define CPA_BLOCKED_SEGS 4  /* most segments per tile (AVX-512: 4 x 16) */
+#define CPA_BLOCKED_NV_MAX 16
 
 typedef struct cpa_blocked_tile {
     int64_t nc;             /* input channels to reduce over (>= 1) */
     int64_t ntap;           /* kernel taps R*S (>= 1) */
     int64_t x_cs;           /* floats between consecutive input channels */
     const int64_t *tap_off; /* ntap offsets (floats) of each tap from a pixel's base */
-    const float *x[2];      /* base of pixel 0 of each segment, channel 0 */
+    const float *x[CPA_BLOCKED_SEGS]; /* base of lane 0 of each segment, channel 0 */
     const float *w;         /* packed weights of channel 0, tap 0 (see w_step) */
     int64_t w_step;         /* floats between the weights of taps t and t+1: MR or -MR */
-    float *y[2];            /* output of pixel 0 of each segment, channel 0 */
+    float *y[CPA_BLOCKED_SEGS]; /* output of the first kept lane of each segment */
     int64_t y_ks;           /* floats between consecutive output channels */
     const float *bias;      /* nk values or NULL; read only when first */
-    int n[2];               /* valid pixels of each segment, 0..NV (n[0] >= 1) */
+    uint32_t keep[CPA_BLOCKED_SEGS]; /* kept lanes of each segment (bit j: lane j) */
     int nk;                 /* valid output channels, 1..MR */
     int first;              /* 1: start from bias (or 0); 0: add onto y */
 } cpa_blocked_tile;
 
 typedef void (*cpa_blocked_tile_fn)(const cpa_blocked_tile *t);
 
-/* Portable C, exact reads (always available). */
+/* The tile kernels.  ref: portable C, exact reads, any nv <= 16, any keep,
+ * always available.  avx2: AVX2 + FMA, nv 8, 2 segments.  avx512: AVX-512F,
+ * nv 16, 4 segments; each only where the CPU (and OS) has the ISA. */
 void cpa_blocked_tile_ref_6x16(const cpa_blocked_tile *t);
-/* AVX2 + FMA intrinsics; call only where the CPU has both. */
 void cpa_blocked_tile_avx2_6x16(const cpa_blocked_tile *t);
+void cpa_blocked_tile_avx512_6x64(const cpa_blocked_tile *t);
 
-/* The kernel to use: tile_isa 1 forces the portable one; 0 picks the best the
- * running CPU supports.  *full_reads is set to 1 when the chosen kernel reads
- * full NV-float vectors (see above). */
-cpa_blocked_tile_fn cpa_blocked_tile_select(int64_t tile_isa, int *full_reads);
+/* Instruction-set levels, the values of the tile_isa / kernels parameters. */
+enum { CPA_ISA_BEST = 0, CPA_ISA_PORTABLE = 1, CPA_ISA_AVX2 = 2, CPA_ISA_AVX512 = 3 };
+
+/* The widest level the running CPU and OS support (cpuid + xgetbv). */
+int cpa_isa_best(void);
+/* The level a request runs at: CPA_ISA_BEST -> cpa_isa_best(); a forced
+ * level the CPU lacks falls to the widest below it that it has. */
+int cpa_isa_resolve(int64_t request);
+/* "portable", "avx2" or "avx512". */
+const char *cpa_isa_name(int level);
+
+/* A tile kernel and its shape. */
+typedef struct cpa_blocked_kernel {
+    cpa_blocked_tile_fn fn;
+    int nv;         /* lanes per segment */
+    int nseg;       /* segments per tile */
+    int full_reads; /* 1: reads all nv floats of segments 0..nseg-1 */
+    int masks;      /* 1: takes any keep mask (compressed outputs) */
+    int isa;        /* CPA_ISA_* it runs at */
+} cpa_blocked_kernel;
+
+/* The kernel for a tile_isa request (CPA_ISA_*), resolved as above. */
+cpa_blocked_kernel cpa_blocked_tile_select(int64_t tile_isa);
 
 #endif

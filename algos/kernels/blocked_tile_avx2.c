@@ -1,6 +1,7 @@
 /* AVX2 + FMA tile kernel of the blocked direct convolution: 6 output channels
  * x 2 segments of 8 output pixels = 12 YMM accumulators (contract in
- * blocked_tile.h); a tile with an empty second segment runs a 6 x 8 loop.  Per input channel and tap: two unaligned 8-float input
+ * blocked_tile.h; segments 2 and 3 are not read, keep masks are 2^n - 1); a
+ * tile with an empty second segment runs a 6 x 8 loop.  Per input channel and tap: two unaligned 8-float input
  * loads, six weight broadcasts, twelve FMAs.  Built with -mavx2 -mfma; only
  * called after cpa_blocked_tile_select() saw both features. */
 #include "algos/kernels/blocked_tile.h"
@@ -12,17 +13,22 @@ static inline __m256i lane_mask(int n) {
     return _mm256_cmpgt_epi32(_mm256_set1_epi32(n), _mm256_setr_epi32(0, 1, 2, 3, 4, 5, 6, 7));
 }
 
+/* Valid pixels of segment v: keep is 2^n - 1 for this kernel (blocked_tile.h). */
+static inline int seg_n(const cpa_blocked_tile *t, int v) {
+    return __builtin_popcount(t->keep[v]);
+}
+
 static inline __m256 load_start(const cpa_blocked_tile *t, int v, int kk, __m256i m) {
-    if (kk >= t->nk || t->n[v] <= 0) return _mm256_setzero_ps();
+    if (kk >= t->nk || t->keep[v] == 0) return _mm256_setzero_ps();
     if (t->first) return t->bias ? _mm256_set1_ps(t->bias[kk]) : _mm256_setzero_ps();
     const float *p = t->y[v] + kk * t->y_ks;
-    return t->n[v] == CPA_BLOCKED_NV ? _mm256_loadu_ps(p) : _mm256_maskload_ps(p, m);
+    return seg_n(t, v) == CPA_BLOCKED_NV ? _mm256_loadu_ps(p) : _mm256_maskload_ps(p, m);
 }
 
 static inline void store_acc(const cpa_blocked_tile *t, int v, int kk, __m256i m, __m256 a) {
-    if (kk >= t->nk || t->n[v] <= 0) return;
+    if (kk >= t->nk || t->keep[v] == 0) return;
     float *p = t->y[v] + kk * t->y_ks;
-    if (t->n[v] == CPA_BLOCKED_NV)
+    if (seg_n(t, v) == CPA_BLOCKED_NV)
         _mm256_storeu_ps(p, a);
     else
         _mm256_maskstore_ps(p, m, a);
@@ -31,7 +37,7 @@ static inline void store_acc(const cpa_blocked_tile *t, int v, int kk, __m256i m
 /* A tile whose second segment is empty (the last, odd segment of a block):
  * 6 accumulators, half the FMAs of the full tile for the same result. */
 static void tile_6x8(const cpa_blocked_tile *t) {
-    const __m256i m0 = lane_mask(t->n[0]);
+    const __m256i m0 = lane_mask(seg_n(t, 0));
     __m256 a0 = load_start(t, 0, 0, m0), a1 = load_start(t, 0, 1, m0);
     __m256 a2 = load_start(t, 0, 2, m0), a3 = load_start(t, 0, 3, m0);
     __m256 a4 = load_start(t, 0, 4, m0), a5 = load_start(t, 0, 5, m0);
@@ -55,11 +61,11 @@ static void tile_6x8(const cpa_blocked_tile *t) {
 }
 
 void cpa_blocked_tile_avx2_6x16(const cpa_blocked_tile *t) {
-    if (t->n[1] <= 0) {
+    if (t->keep[1] == 0) {
         tile_6x8(t);
         return;
     }
-    const __m256i m0 = lane_mask(t->n[0]), m1 = lane_mask(t->n[1]);
+    const __m256i m0 = lane_mask(seg_n(t, 0)), m1 = lane_mask(seg_n(t, 1));
     __m256 a00 = load_start(t, 0, 0, m0), a10 = load_start(t, 1, 0, m1);
     __m256 a01 = load_start(t, 0, 1, m0), a11 = load_start(t, 1, 1, m1);
     __m256 a02 = load_start(t, 0, 2, m0), a12 = load_start(t, 1, 2, m1);

@@ -1,10 +1,10 @@
 /* The inner loops of winograd_2x2_3x3's input and output transforms, kept
- * apart from the blocking and tiling loops so that they can be compiled twice:
- * once portable (winograd_kernels_ref.c) and once with AVX2 + FMA
- * (winograd_kernels_avx2.c), from the same source (winograd_kernels_body.h).
+ * apart from the blocking and tiling loops so that they can be compiled three
+ * times from the same source (winograd_kernels_body.h): portable
+ * (winograd_kernels_ref.c), AVX2 + FMA (winograd_kernels_avx2.c, 8 floats a
+ * vector) and AVX-512 (winograd_kernels_avx512.c, 16 floats a vector).
  * cpa_wino_kernels_select() picks one from the CPU's features at run time, so
- * a binary built for any x86-64 never executes an AVX2 instruction on a CPU
- * without it.  Each loop runs over tiles (or input columns) innermost with
+ * a binary built for any x86-64 never executes an instruction its CPU lacks.  Each loop runs over tiles (or input columns) innermost with
  * unit-stride reads or writes and no branches, which the compiler vectorises. */
 #ifndef CPA_WINOGRAD_KERNELS_H
 #define CPA_WINOGRAD_KERNELS_H
@@ -32,8 +32,11 @@ typedef struct cpa_wino_kernels {
 
 extern const cpa_wino_kernels cpa_wino_kernels_ref;
 extern const cpa_wino_kernels cpa_wino_kernels_avx2;
+extern const cpa_wino_kernels cpa_wino_kernels_avx512;
 
-/* The AVX2 set when the CPU has AVX2 and FMA, else the portable one. */
-const cpa_wino_kernels *cpa_wino_kernels_select(void);
+/* The set for a level request (CPA_ISA_* of blocked_tile.h: 0 the widest the
+ * CPU has, 1 portable, 2 AVX2, 3 AVX-512; a level the CPU lacks gives the
+ * widest below it). */
+const cpa_wino_kernels *cpa_wino_kernels_select(int64_t request);
 
 #endif

@@ -1,5 +1,5 @@
 /* Template of the transform loops (contract in winograd_kernels.h).  Included
- * by winograd_kernels_ref.c and winograd_kernels_avx2.c with
+ * by winograd_kernels_ref.c, winograd_kernels_avx2.c and winograd_kernels_avx512.c with
  *   CPA_WINO_K(name)  the name of each function to define
  *   CPA_WINO_SET      the name of the cpa_wino_kernels table to define
  * The matrices are those of Lavin & Gray 2016 (see winograd_2x2_3x3.c). */

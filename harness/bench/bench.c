@@ -72,10 +72,20 @@ static void roofs_start(cph_bench_state *r) {
         return;
     }
     r->have_roofs = 1;
-    printf("roofs: FMA peak %.1f GFLOP/s (1 core), %.1f GFLOP/s (%d cores); "
-           "bandwidth %.1f / %.1f GB/s\n",
+    printf("roofs: FMA peak %.1f GFLOP/s (1 core), %.1f GFLOP/s (%d cores) at %d bits, the "
+           "device roof every %%peak is against; bandwidth %.1f / %.1f GB/s\n",
            r->roofs.peak_1core_gflops, r->roofs.peak_all_gflops, r->roofs.cores_used,
-           r->roofs.bw_1core_gbs, r->roofs.bw_all_gbs);
+           r->roofs.roof_bits, r->roofs.bw_1core_gbs, r->roofs.bw_all_gbs);
+    for (int i = 1; i < r->roofs.nwidths; i++)
+        printf("roofs: FMA peak %.1f GFLOP/s (1 core), %.1f GFLOP/s (%d cores) at %d bits (%s)\n",
+               r->roofs.widths[i].peak_1core_gflops, r->roofs.widths[i].peak_all_gflops,
+               r->roofs.cores_used, r->roofs.widths[i].bits, r->roofs.widths[i].isa);
+    if (r->roofs.ratio_512_256 > 0)
+        printf("roofs: 512/256-bit ratio %.2f\n", r->roofs.ratio_512_256);
+    else
+        printf("roofs: the widest vector width here is %d bits\n", r->roofs.roof_bits);
+    printf("isa column: the kernels each row ran (\"blas\": OpenBLAS, kernel type %s)\n",
+           r->m.blas_core);
     const double ratio = r->roofs.peak_all_gflops / r->roofs.peak_1core_gflops;
     if (r->roofs.cores_used > 1 && ratio < 0.9 * r->roofs.cores_used)
         printf("roofs: the %d-core peak is only %.2fx the 1-core peak: other work is "

@@ -9,9 +9,12 @@
  *     "convpick": {"version": "0.1.0", "git": "..."},
  *     "command_line": ["bench", ...],
  *     "device": {device object + "algorithm_caches", "llc_total_bytes", "roofs"},
- *     "roofs": null | {"peak_1core_gflops", "peak_all_gflops", "bw_1core_gbs",
- *                      "bw_all_gbs", "ridge_1core", "ridge_all", "cores_used",
- *                      "budget_seconds"},
+ *     "roofs": null | {"peak_1core_gflops", "peak_all_gflops" (the device roof: the
+ *                      widest width, what every peak_fraction is against),
+ *                      "roof_bits", "widths": [{"bits", "isa", "peak_1core_gflops",
+ *                      "peak_all_gflops"}, widest first], "ratio_512_256" | null,
+ *                      "bw_1core_gbs", "bw_all_gbs", "ridge_1core", "ridge_all",
+ *                      "cores_used", "budget_seconds"},
  *     "settings": {"timing": {timing settings object},
  *                  "threads": [1, 2], "flipped": [false, true], "seed": 1,
  *                  "caches": {"l1d", "l2", "l3", "line"}},
@@ -23,7 +26,10 @@
  *        "chosen_algo": "blocked" (chosen rows), "flops_performed": 2mnk (SGEMM rows),
  *        "status": "ok" | "unsupported" | "error", "reason": "..." (not ok),
  *        "params": {"kb": 64}, "params_text": "kb=64", "flops": 2.3e9,
- *        "gflops": 41.2, "peak_gflops": 90.1 | null, "peak_fraction": 0.457 | null,
+ *        "gflops": 41.2, "isa": "avx512" (the kernels the row ran; "blas" for SGEMM
+ *        rows, "-" when the algorithm does not say),
+ *        "peak_gflops": 90.1 | null, "peak_fraction": 0.457 | null,
+ *        "peak_bits": 512 | null (the vector width of the roof the fraction is against),
  *        "measurement": {measurement object, report_json.h}}      (ok only)
  *     ],
  *     "summaries": [{"id": "blocked_peak", "target_text", "comparison": ">=",
@@ -61,10 +67,12 @@ json_t *cph_bench_row_json(const cph_bench_row *x, const char *status) {
 static json_t *roofs_json(const cph_bench_state *r, int end) {
     if (end ? !r->have_roofs_end : !r->have_roofs) return json_null();
     const cph_roofs *f = end ? &r->roofs_end : &r->roofs;
-    return json_pack("{s:o, s:o, s:o, s:o, s:o, s:o, s:i, s:o}", "peak_1core_gflops",
-                     cph_json_number(f->peak_1core_gflops), "peak_all_gflops",
-                     cph_json_number(f->peak_all_gflops), "bw_1core_gbs",
-                     cph_json_number(f->bw_1core_gbs), "bw_all_gbs",
+    return json_pack("{s:o, s:o, s:i, s:o, s:o, s:o, s:o, s:o, s:o, s:o, s:i, s:o}",
+                     "peak_1core_gflops", cph_json_number(f->peak_1core_gflops),
+                     "peak_all_gflops", cph_json_number(f->peak_all_gflops), "roof_bits",
+                     f->roof_bits, "widths", cph_roofs_widths_json(f), "ratio_512_256",
+                     f->ratio_512_256 > 0 ? json_real(f->ratio_512_256) : json_null(),
+                     "bw_1core_gbs", cph_json_number(f->bw_1core_gbs), "bw_all_gbs",
                      cph_json_number(f->bw_all_gbs), "ridge_1core",
                      cph_json_number(f->ridge_1core), "ridge_all", cph_json_number(f->ridge_all),
                      "cores_used", f->cores_used, "budget_seconds",

@@ -37,9 +37,9 @@ static double peak_for(const cph_bench_state *r, int threads) {
 
 
 void cph_bench_print_header(const cph_bench_state *r) {
-    printf("\n%-*s  %-4s  %3s  %-*s  %-26s %10s %10s %10s %6s %5s %8s %6s  %s\n", r->name_w,
-           "layer", "flip", "thr", r->algo_w, "algo", "params", "median_ms", "ci_lo_ms",
-           "ci_hi_ms", "+-%", "n", "GFLOP/s", "%peak", "note");
+    printf("\n%-*s  %-4s  %3s  %-*s  %-26s %10s %10s %10s %6s %5s %8s %6s %-12s  %s\n",
+           r->name_w, "layer", "flip", "thr", r->algo_w, "algo", "params", "median_ms",
+           "ci_lo_ms", "ci_hi_ms", "+-%", "n", "GFLOP/s", "%peak", "isa", "note");
 }
 
 static void print_row(const cph_bench_state *r, const cph_bench_row *x, const char *rest) {
@@ -70,7 +70,7 @@ static void row_not_timed(cph_bench_state *r, const cph_bench_row *x, const char
  * or 0 when the work failed (*st tells why). */
 static double time_row(cph_bench_state *r, const cph_timing_opts *to, const cph_bench_row *x,
                        cph_work_fn fn, void *arg, const cp_status *st, const char *ptext,
-                       json_t *params, double flops_used) {
+                       json_t *params, double flops_used, const char *isa) {
     char why[256], line[512];
     cph_measurement m;
     const int rc = cph_measure(to, fn, arg, &m);
@@ -89,9 +89,9 @@ static double time_row(cph_bench_state *r, const cph_timing_opts *to, const cph_
     const double peak = peak_for(r, x->threads);
     char pk[16] = "-";
     if (peak > 0) snprintf(pk, sizeof pk, "%.1f", 100.0 * gflops / peak);
-    snprintf(line, sizeof line, "%-26s %10.4f %10.4f %10.4f %6.2f %5zu %8.2f %6s  %s%s",
+    snprintf(line, sizeof line, "%-26s %10.4f %10.4f %10.4f %6.2f %5zu %8.2f %6s %-12s  %s%s",
              ptext[0] ? ptext : "-", s->median * 1e3, s->ci_lo * 1e3, s->ci_hi * 1e3,
-             100.0 * s->rel_ci, m.n, gflops, pk, s->noisy ? "noisy" : "",
+             100.0 * s->rel_ci, m.n, gflops, pk, isa, s->noisy ? "noisy" : "",
              m.stop == CPH_STOP_TIME_CAP ? (s->noisy ? ",cap" : "cap") : "");
     print_row(r, x, line);
     if (r->results) {
@@ -101,7 +101,11 @@ static double time_row(cph_bench_state *r, const cph_timing_opts *to, const cph_
             params = NULL;
             json_object_set_new(res, "params_text", json_string(ptext));
             json_object_set_new(res, "gflops", cph_json_number(gflops));
+            json_object_set_new(res, "isa", json_string(isa));
             json_object_set_new(res, "peak_gflops", peak > 0 ? json_real(peak) : json_null());
+            /* which roof the fraction is against: the widest width's */
+            json_object_set_new(res, "peak_bits",
+                                peak > 0 ? json_integer(r->roofs.roof_bits) : json_null());
             json_object_set_new(res, "peak_fraction",
                                 peak > 0 ? json_real(gflops / peak) : json_null());
             if (flops_used > 0) json_object_set_new(res, "flops_performed", json_real(flops_used));
@@ -145,7 +149,9 @@ static void time_plan(cph_bench_state *r, const cph_timing_opts *to, const cph_b
     else
         snprintf(shown, sizeof shown, "%s", ptext);
     work_arg wa = {plan, xin, bias, y, exec, CP_OK};
-    time_row(r, to, x, run_plan, &wa, &wa.st, shown, cph_json_params(a, cp_plan_params(plan)), 0);
+    const char *isa = a->isa ? a->isa(&x->L->shape, cp_plan_params(plan)) : "-";
+    time_row(r, to, x, run_plan, &wa, &wa.st, shown, cph_json_params(a, cp_plan_params(plan)), 0,
+             isa);
 }
 
 /* Plans and times one algorithm on one layer x flip x thread count; the
@@ -202,7 +208,7 @@ static void bench_sgemm(cph_bench_state *r, const cph_timing_opts *to, cph_bench
      * (the pool keeps it at one thread for the algorithms, pool.h). */
     const int blas_before = openblas_get_num_threads();
     openblas_set_num_threads(x->threads);
-    time_row(r, to, x, cph_gemm_ref_run, &g, NULL, ptext, params, cph_gemm_ref_flops(&g));
+    time_row(r, to, x, cph_gemm_ref_run, &g, NULL, ptext, params, cph_gemm_ref_flops(&g), "blas");
     openblas_set_num_threads(blas_before);
     cph_gemm_ref_free(&g);
 }

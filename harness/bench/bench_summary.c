@@ -188,7 +188,8 @@ static void blocked_peak(sumlist *l, const cph_bench_recs *r, size_t nl, cp_flip
     if (!s) return;
     snprintf(s->what, sizeof s->what,
              "blocked, 1 thread, 1x1 and 3x3 layers with C,K >= 64: GFLOP/s >= 70 %% of the "
-             "measured 1-core FMA peak (suite, count-weighted)");
+             "measured 1-core FMA peak at the widest vector width, the device roof (suite, "
+             "count-weighted)");
     if (peak <= 0) {
         snprintf(s->note, sizeof s->note, "roofs not measured");
         return;

@@ -14,8 +14,8 @@
 #include "algos/kernels/blocked_tile_ref.c"
 #include "algos/blocked.c"
 
-cpa_blocked_tile_fn cph_traced_blocked_tile_select(int64_t tile_isa, int *full_reads) {
+cpa_blocked_kernel cph_traced_blocked_tile_select(int64_t tile_isa) {
     (void)tile_isa;
-    *full_reads = 0;
-    return cph_traced_blocked_tile_ref_6x16;
+    return (cpa_blocked_kernel){cph_traced_blocked_tile_ref_6x16, CPA_BLOCKED_NV, 2, 0, 1,
+                                CPA_ISA_PORTABLE};
 }

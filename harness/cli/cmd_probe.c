@@ -14,7 +14,9 @@ static void usage(FILE *f) {
     fputs("usage: convpick probe [OPTIONS]\n\n"
           "Describes this machine (topology and caches from hwloc, ISA from cpuid, the BLAS\n"
           "library, the compiler and flags of this build, the device fingerprint) and measures\n"
-          "its roofs: FP32 FMA peak and triad bandwidth on one core and on all physical cores.\n"
+          "its roofs: FP32 FMA peak at every vector width the CPU and the OS support (the widest\n"
+          "is the device roof, what every % of peak is against) and triad bandwidth, on one\n"
+          "core and on all physical cores.\n"
           "Bandwidth is counted as STREAM counts the triad a = b + s*c: 12 bytes per float\n"
           "element, the write-allocate read of a not counted.\n\n"
           "options:\n"
@@ -41,6 +43,28 @@ static void print_size(char *buf, size_t cap, double bytes) {
 }
 
 static const char *plural(int n, const char *one, const char *many) { return n == 1 ? one : many; }
+
+/* One line per vector width, widest (the device roof) first, then the ratio. */
+static void print_peaks(const cph_roofs *r) {
+    for (int i = 0; i < r->nwidths; i++) {
+        const cph_roof_width *w = &r->widths[i];
+        char name[32];
+        if (w->bits) snprintf(name, sizeof name, "%d-bit FMA", w->bits);
+        else snprintf(name, sizeof name, "portable loop");
+        printf("%-12s %-13s %.1f GFLOP/s on 1 core, %.1f GFLOP/s on %d %s (%s)%s\n",
+               i ? "" : "peak FP32", name, w->peak_1core_gflops, w->peak_all_gflops,
+               r->cores_used, plural(r->cores_used, "core", "cores"), w->isa,
+               i ? "" : ", the device roof (every % of peak)");
+    }
+    if (r->ratio_512_256 > 0)
+        printf("             512/256-bit ratio %.2f (%s)\n", r->ratio_512_256,
+               r->ratio_512_256 > 1.5 ? "full-width 512-bit FMA units"
+                                      : "512-bit operations run at about the 256-bit rate");
+    else
+        printf("             widest vector width: %d bits (%s)\n", r->roof_bits ? r->roof_bits : 32,
+               r->roof_bits == 256 ? "no AVX-512 in the CPU or the OS"
+                                   : "no AVX2 FMA in the CPU or the OS");
+}
 
 static void print_text(const cph_machine *m, const cph_roofs *r) {
     char sz[32];
@@ -84,9 +108,7 @@ static void print_text(const cph_machine *m, const cph_roofs *r) {
     printf("build        %s, flags %s\n", m->compiler, m->build_flags[0] ? m->build_flags : "(none)");
     printf("fingerprint  %s\n", m->fingerprint);
     if (!r) return;
-    printf("peak FP32    %.1f GFLOP/s on 1 core, %.1f GFLOP/s on %d %s%s\n", r->peak_1core_gflops,
-           r->peak_all_gflops, r->cores_used, plural(r->cores_used, "core", "cores"),
-           r->portable_peak ? " (portable loop: no AVX2 FMA here)" : " (AVX2 FMA)");
+    print_peaks(r);
     printf("bandwidth    %.1f GB/s on 1 core, %.1f GB/s on %d %s (triad, 3 x ", r->bw_1core_gbs,
            r->bw_all_gbs, r->cores_used, plural(r->cores_used, "core", "cores"));
     print_size(sz, sizeof sz, (double)r->triad_bytes);

@@ -63,16 +63,32 @@ cp_cache_sizes cph_machine_caches(const cph_machine *m);
 /* Size of the last-level cache (bytes), all instances together. */
 size_t cph_machine_llc_total(const cph_machine *m);
 
-/* Roofs measured on the spot. */
+/* The FMA peak of one vector width. */
+typedef struct cph_roof_width {
+    int bits;                    /* 512, 256; 0 = the portable scalar loop */
+    const char *isa;             /* "avx512f", "avx2_fma", "portable" */
+    double peak_1core_gflops;
+    double peak_all_gflops;
+} cph_roof_width;
+
+#define CPH_ROOF_MAX_WIDTHS 2
+
+/* Roofs measured on the spot.  The device's roof is the FMA peak of the
+ * widest vector the CPU and the OS support (peak_*_gflops below, what every
+ * "% of peak" is against); widths[] holds every width measured, widest first. */
 typedef struct cph_roofs {
-    double peak_1core_gflops;    /* FP32 FMA peak, one core */
-    double peak_all_gflops;      /* all physical cores */
+    double peak_1core_gflops;    /* the device roof: FP32 FMA peak of the widest width, one core */
+    double peak_all_gflops;      /* the same on all physical cores */
     double bw_1core_gbs;         /* triad-style stream bandwidth, one core, GB/s (1e9) */
     double bw_all_gbs;           /* all physical cores */
     double ridge_1core;          /* FLOP/byte: peak / bandwidth */
     double ridge_all;
     int cores_used;
-    int portable_peak;           /* 1: the AVX2 FMA loop could not run here */
+    int portable_peak;           /* 1: no vector FMA loop could run here */
+    int roof_bits;               /* width of the device roof: 512, 256 or 0 (portable) */
+    int nwidths;
+    cph_roof_width widths[CPH_ROOF_MAX_WIDTHS];
+    double ratio_512_256;        /* 1-core 512-bit peak / 256-bit peak; 0 unless both ran */
     int pinned;                  /* 1: the all-core workers were pinned */
     size_t triad_bytes;          /* bytes of one triad array */
     double seconds_spent;
@@ -86,10 +102,18 @@ json_t *cph_device_json(const cph_machine *m);
  * "llc_total_bytes" and "roofs" (null when not given). */
 json_t *cph_machine_to_json(const cph_machine *m, const cph_roofs *roofs);
 
+/* The "roofs" object of probe's JSON and of bench results: the device roof,
+ * every width, the 512/256 ratio, bandwidth and ridge (a new reference). */
+json_t *cph_roofs_json(const cph_roofs *r);
+/* The "widths" array alone (bench results embed it in their own roofs). */
+json_t *cph_roofs_widths_json(const cph_roofs *r);
+
 /* Measures the roofs, about `seconds` in total (at least a few runs of each
  * kernel whatever the budget).  Peak: best of several timed runs of an FP32
- * FMA loop with 12 independent AVX2 chains (FLOPs = 2 per lane per FMA); a
- * portable loop when the CPU or OS lacks AVX2/FMA (roofs->portable_peak = 1).
+ * FMA loop per vector width the CPU and the OS support (cpuid + xgetbv, not
+ * the compiler's flags): 16 independent 512-bit chains with AVX-512F, 12
+ * 256-bit chains with AVX2 + FMA (FLOPs = 2 per lane per FMA); a portable loop
+ * when neither runs (roofs->portable_peak = 1).
  * Bandwidth: best of several passes of the triad a[i] = b[i] + s*c[i] over
  * float arrays of at least 4x the last-level cache each, counted as STREAM
  * counts it: 12 bytes per element (read b, read c, write a), the

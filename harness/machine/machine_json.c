@@ -54,14 +54,30 @@ json_t *cph_device_json(const cph_machine *m) {
                      "build", "compiler", m->compiler, "flags", m->build_flags);
 }
 
-static json_t *roofs_json(const cph_roofs *r) {
-    return json_pack("{s:f, s:f, s:f, s:f, s:f, s:f, s:i, s:b, s:b, s:I, s:s}",
-                     "peak_1core_gflops", r->peak_1core_gflops, "peak_all_gflops",
-                     r->peak_all_gflops, "bw_1core_gbs", r->bw_1core_gbs, "bw_all_gbs",
-                     r->bw_all_gbs, "ridge_1core", r->ridge_1core, "ridge_all", r->ridge_all,
-                     "cores_used", r->cores_used, "portable_peak", r->portable_peak, "pinned",
-                     r->pinned, "triad_array_bytes", (json_int_t)r->triad_bytes,
-                     "bandwidth_counting", "stream: 12 bytes/element, write-allocate not counted");
+json_t *cph_roofs_widths_json(const cph_roofs *r) {
+    json_t *a = json_array();
+    for (int i = 0; a && i < r->nwidths; i++) {
+        const cph_roof_width *w = &r->widths[i];
+        json_array_append_new(a, json_pack("{s:i, s:s, s:f, s:f}", "bits", w->bits, "isa", w->isa,
+                                           "peak_1core_gflops", w->peak_1core_gflops,
+                                           "peak_all_gflops", w->peak_all_gflops));
+    }
+    return a;
+}
+
+json_t *cph_roofs_json(const cph_roofs *r) {
+    json_t *o = json_pack("{s:f, s:f, s:i, s:o, s:o, s:f, s:f, s:f, s:f, s:i, s:b, s:b, s:I, s:s}",
+                          "peak_1core_gflops", r->peak_1core_gflops, "peak_all_gflops",
+                          r->peak_all_gflops, "roof_bits", r->roof_bits, "widths",
+                          cph_roofs_widths_json(r), "ratio_512_256",
+                          r->ratio_512_256 > 0 ? json_real(r->ratio_512_256) : json_null(),
+                          "bw_1core_gbs", r->bw_1core_gbs, "bw_all_gbs", r->bw_all_gbs,
+                          "ridge_1core", r->ridge_1core, "ridge_all", r->ridge_all, "cores_used",
+                          r->cores_used, "portable_peak", r->portable_peak, "pinned", r->pinned,
+                          "triad_array_bytes", (json_int_t)r->triad_bytes, "bandwidth_counting",
+                          "stream: 12 bytes/element, write-allocate not counted");
+    if (o) json_object_set_new(o, "peak_basis", json_string("the widest width (roof_bits)"));
+    return o;
 }
 
 json_t *cph_machine_to_json(const cph_machine *m, const cph_roofs *roofs) {
@@ -73,7 +89,7 @@ json_t *cph_machine_to_json(const cph_machine *m, const cph_roofs *roofs) {
     if (json_object_set_new(o, "algorithm_caches", ac) != 0 ||
         json_object_set_new(o, "llc_total_bytes",
                             json_integer((json_int_t)cph_machine_llc_total(m))) != 0 ||
-        json_object_set_new(o, "roofs", roofs ? roofs_json(roofs) : json_null()) != 0) {
+        json_object_set_new(o, "roofs", roofs ? cph_roofs_json(roofs) : json_null()) != 0) {
         json_decref(o);
         return NULL;
     }

@@ -45,7 +45,7 @@ void cph_roof_triad(float *a, const float *b, const float *c, float s, size_t be
 /* --- peak ------------------------------------------------------------------ */
 
 typedef struct peak_job {
-    int avx2;
+    int bits; /* 512, 256 or 0 (portable) */
     int64_t iters;
     float sink[MAX_WORKERS * 16]; /* one cache line per worker */
 } peak_job;
@@ -53,13 +53,16 @@ typedef struct peak_job {
 static void peak_task(void *arg, int64_t begin, int64_t end, int worker) {
     peak_job *j = arg;
     for (int64_t i = begin; i < end; i++)
-        j->sink[(worker % MAX_WORKERS) * 16] +=
-            j->avx2 ? cph_roof_fma_avx2(j->iters) : cph_roof_fma_portable(j->iters);
+        j->sink[(worker % MAX_WORKERS) * 16] += j->bits == 512   ? cph_roof_fma_avx512(j->iters)
+                                                : j->bits == 256 ? cph_roof_fma_avx2(j->iters)
+                                                                 : cph_roof_fma_portable(j->iters);
 }
 
 /* GFLOP/s of the best run of `workers` cores running the loop at once. */
 static double peak_gflops(const cp_exec *ex, int workers, peak_job *j, double budget) {
-    const double per_iter = j->avx2 ? CPH_ROOF_AVX2_FLOPS_PER_ITER : CPH_ROOF_PORTABLE_FLOPS_PER_ITER;
+    const double per_iter = j->bits == 512   ? CPH_ROOF_AVX512_FLOPS_PER_ITER
+                            : j->bits == 256 ? CPH_ROOF_AVX2_FLOPS_PER_ITER
+                                             : CPH_ROOF_PORTABLE_FLOPS_PER_ITER;
     /* One run's length: short (at most 2 ms, under a scheduler time slice), so
      * that on a shared machine some runs land in a window where nothing else
      * runs on the cores; the best run is kept. */
@@ -164,14 +167,28 @@ cp_status cph_roofs_measure(const cph_machine *m, double seconds, cph_roofs *out
         if (msg && cap) snprintf(msg, cap, "roofs: cannot allocate 3 x %zu bytes", bytes);
         return CP_ENOMEM;
     }
-    pj->avx2 = id.avx2 && id.fma && id.os_avx;
-    out->portable_peak = !pj->avx2;
+    /* The widths to measure, widest first: what cpuid and xgetbv say the CPU
+     * and the OS support (avx512f is set only with the ZMM state saved). */
+    if (id.avx512f) out->widths[out->nwidths++] = (cph_roof_width){512, "avx512f", 0, 0};
+    if (id.avx2 && id.fma && id.os_avx)
+        out->widths[out->nwidths++] = (cph_roof_width){256, "avx2_fma", 0, 0};
+    if (out->nwidths == 0) out->widths[out->nwidths++] = (cph_roof_width){0, "portable", 0, 0};
+    out->portable_peak = out->widths[0].bits == 0;
+    out->roof_bits = out->widths[0].bits;
     out->pinned = pinned;
     out->cores_used = cores;
     out->triad_bytes = bytes;
 
-    out->peak_1core_gflops = peak_gflops(&one, 1, pj, 0.2 * seconds);
-    out->peak_all_gflops = peak_gflops(&all, cores, pj, 0.2 * seconds);
+    for (int w = 0; w < out->nwidths; w++) {
+        cph_roof_width *rw = &out->widths[w];
+        pj->bits = rw->bits;
+        rw->peak_1core_gflops = peak_gflops(&one, 1, pj, 0.2 * seconds / out->nwidths);
+        rw->peak_all_gflops = peak_gflops(&all, cores, pj, 0.2 * seconds / out->nwidths);
+    }
+    out->peak_1core_gflops = out->widths[0].peak_1core_gflops;
+    out->peak_all_gflops = out->widths[0].peak_all_gflops;
+    if (out->nwidths == 2 && out->widths[1].bits == 256)
+        out->ratio_512_256 = out->widths[0].peak_1core_gflops / out->widths[1].peak_1core_gflops;
     cp_parallel_for(&all, (int64_t)n, triad_task, &tj); /* first touch */
     out->bw_1core_gbs = triad_gbs(&one, &tj, n, 0.3 * seconds);
     out->bw_all_gbs = triad_gbs(&all, &tj, n, 0.3 * seconds);

@@ -104,6 +104,10 @@ typedef struct cp_algo {
                          const float *w, void *out);
     /* Computes the layer. */
     cp_status (*run)(const cp_run_args *a);
+    /* The instruction set run() uses with these parameters on the running CPU
+     * ("avx512", "avx2", "portable"; "+blas" when a stage is OpenBLAS's), for
+     * reports.  May be NULL: the algorithm does not say. */
+    const char *(*isa)(const cp_shape *s, const cp_params *p);
 } cp_algo;
 
 /* --- The registry --------------------------------------------------------- */

@@ -1,14 +1,16 @@
-/* Tests of the blocked direct convolution (blocked, blocked_flipidx): both
- * tile kernels (best available and forced portable) in both modes against the
- * fp64 oracle over a grid of awkward shapes, every tuner candidate, flipped
- * indexing against flipped packing, a multi-threaded run against the serial
- * one, and a worked example whose values come from SciPy. */
+/* Tests of the blocked direct convolution (blocked, blocked_flipidx): the
+ * tile kernels (portable and AVX2; built again as test_blocked_avx512 with
+ * CPT_ISA_ONLY=3 for the AVX-512 one, which exits 77 on a CPU without it) in
+ * both modes against the fp64 oracle over a grid of awkward shapes, every tuner
+ * candidate, flipped indexing against flipped packing, a multi-threaded run
+ * against the serial one, and a worked example whose values come from SciPy. */
 #include <math.h>
 #include <pthread.h>
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>
 #include <stdint.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -17,6 +19,14 @@
 #include "algos/kernels/blocked_tile.h"
 #include "convpick/algo.h"
 #include "convpick/oracle.h"
+
+/* The tile_isa levels every test runs (CPA_ISA_*). */
+#ifdef CPT_ISA_ONLY
+static const int64_t levels[] = {CPT_ISA_ONLY};
+#else
+static const int64_t levels[] = {CPA_ISA_PORTABLE, CPA_ISA_AVX2};
+#endif
+#define NLEVELS ((int64_t)(sizeof levels / sizeof levels[0]))
 
 typedef struct {
     int64_t n, c, h, w, k, r, s, sh, sw, pt, pl, pb, pr, dh, dw, groups;
@@ -131,7 +141,7 @@ static cp_params defaults_with_tile_isa(const cp_algo *a, const cp_shape *s, int
     return p;
 }
 
-/* Every grid shape x {best, portable} kernel x {xcorr, conv} (blocked) and
+/* Every grid shape x kernel level x loop order x {xcorr, conv} (blocked) and
  * conv (blocked_flipidx), bias on every other shape. */
 static void test_grid_vs_oracle(void **state) {
     (void)state;
@@ -143,17 +153,18 @@ static void test_grid_vs_oracle(void **state) {
             const cp_flip flip = m ? CP_CONV : CP_XCORR;
             layer L;
             layer_make(&L, &s, flip, (int)(i % 2));
-            for (int64_t e = 0; e <= 3; e++) { /* bit 0: portable kernel; bit 1: other order */
-                const int64_t uk = e & 1;
+            for (int64_t e = 0; e < 2 * NLEVELS; e++) { /* level; other loop order */
+                const int64_t uk = levels[e % NLEVELS];
+                const char *what = cpa_isa_name(cpa_isa_resolve(uk));
                 cp_params p = defaults_with_tile_isa(blk, &s, uk);
                 const int oi = cp_algo_param_index(blk, "order");
-                if (e & 2) p.v[oi] = !p.v[oi];
+                if (e >= NLEVELS) p.v[oi] = !p.v[oi];
                 float *y = run_algo(blk, &L, flip, &p, NULL, 1);
-                expect_accurate(blk, &L, y, uk ? "portable" : "best");
+                expect_accurate(blk, &L, y, what);
                 free(y);
                 if (flip == CP_CONV) {
                     y = run_algo(flp, &L, flip, &p, NULL, 1);
-                    expect_accurate(flp, &L, y, uk ? "portable" : "best");
+                    expect_accurate(flp, &L, y, what);
                     free(y);
                 }
             }
@@ -174,6 +185,12 @@ static void test_candidates_all_correct(void **state) {
         int nc = blk->candidates(&s, &cs, cand, 16);
         assert_true(nc >= 1);
         if (pi == 0) assert_true(nc >= 4); /* 160 channels: several distinct cb, kb, pb */
+        /* Where the CPU has AVX-512 the tuner also races the AVX2 tile (issue:
+         * the tuner tries each kernel the CPU has). */
+        int has_avx2 = 0;
+        for (int i = 0; i < nc; i++)
+            has_avx2 |= cand[i].v[cp_algo_param_index(blk, "tile_isa")] == CPA_ISA_AVX2;
+        assert_int_equal(has_avx2, cpa_isa_best() == CPA_ISA_AVX512);
         for (int m = 0; m < 2; m++) {
             const cp_flip flip = m ? CP_CONV : CP_XCORR;
             layer L;
@@ -181,9 +198,9 @@ static void test_candidates_all_correct(void **state) {
             for (int i = 0; i < nc; i++) {
                 char msg[128];
                 assert_int_equal(cp_params_check(blk, &cand[i], msg, sizeof msg), CP_OK);
-                for (int64_t uk = 0; uk <= 1; uk++) {
+                for (int64_t li = 0; li < NLEVELS; li++) {
                     cp_params p = cand[i];
-                    p.v[cp_algo_param_index(blk, "tile_isa")] = uk;
+                    p.v[cp_algo_param_index(blk, "tile_isa")] = levels[li];
                     float *y = run_algo(blk, &L, flip, &p, NULL, 1);
                     expect_accurate(blk, &L, y, "candidate");
                     free(y);
@@ -243,14 +260,23 @@ static void test_flipidx_refuses_xcorr(void **state) {
     assert_int_equal(blk->supports(&s, CP_CONV, why, sizeof why), 1);
 }
 
-/* tile_isa=1 must give the portable kernel whatever the CPU. */
-static void test_select_portable(void **state) {
+/* tile_isa=1 must give the portable kernel whatever the CPU; 0 the widest the
+ * CPU has; a forced level never runs above what the CPU has (common practice,
+ * no source: a binary must not execute an instruction its CPU lacks). */
+static void test_select_levels(void **state) {
     (void)state;
-    int full = -1;
-    assert_ptr_equal(cpa_blocked_tile_select(1, &full), cpa_blocked_tile_ref_6x16);
-    assert_int_equal(full, 0);
-    cpa_blocked_tile_fn best = cpa_blocked_tile_select(0, &full);
-    assert_true(best == cpa_blocked_tile_ref_6x16 ? full == 0 : full == 1);
+    const cpa_blocked_kernel ref = cpa_blocked_tile_select(CPA_ISA_PORTABLE);
+    assert_ptr_equal(ref.fn, cpa_blocked_tile_ref_6x16);
+    assert_int_equal(ref.full_reads, 0);
+    const int best = cpa_isa_best();
+    assert_int_equal(cpa_blocked_tile_select(CPA_ISA_BEST).isa, best);
+    for (int64_t l = CPA_ISA_PORTABLE; l <= CPA_ISA_AVX512; l++) {
+        const cpa_blocked_kernel k = cpa_blocked_tile_select(l);
+        assert_true(k.isa <= best && k.isa <= l);
+        assert_true(k.nv * k.nseg <= CPA_BLOCKED_SEGS * CPA_BLOCKED_NV_MAX);
+        if (k.isa == CPA_ISA_AVX512) assert_ptr_equal(k.fn, cpa_blocked_tile_avx512_6x64);
+        if (k.isa == CPA_ISA_AVX2) assert_ptr_equal(k.fn, cpa_blocked_tile_avx2_6x16);
+    }
 }
 
 /* --- a tiny pthread executor: [0, count) in nthreads contiguous ranges ---- */
@@ -327,8 +353,8 @@ static void test_scipy_worked_example(void **state) {
                 if (!algos[ai]->supports(&s, flip, NULL, 0)) continue;
                 if (pad && flip == CP_CONV) continue;
                 const float *want = pad ? xcorr_same : m ? conv_valid : xcorr_valid;
-                for (int64_t uk = 0; uk <= 1; uk++) {
-                    cp_params p = defaults_with_tile_isa(algos[ai], &s, uk);
+                for (int64_t li = 0; li < NLEVELS; li++) {
+                    cp_params p = defaults_with_tile_isa(algos[ai], &s, levels[li]);
                     cp_plan *plan = NULL;
                     assert_int_equal(cp_plan_create(algos[ai], &s, flip, &p, NULL, 1, wv, &plan,
                                                     NULL, 0), CP_OK);
@@ -344,6 +370,12 @@ static void test_scipy_worked_example(void **state) {
 }
 
 int main(void) {
+#ifdef CPT_ISA_ONLY
+    if (cpa_isa_best() < CPT_ISA_ONLY) {
+        printf("skipped: the CPU (or OS) lacks %s\n", cpa_isa_name(CPT_ISA_ONLY));
+        return 77;
+    }
+#endif
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_scipy_worked_example),
         cmocka_unit_test(test_grid_vs_oracle),
@@ -351,7 +383,7 @@ int main(void) {
         cmocka_unit_test(test_smallest_blocks),
         cmocka_unit_test(test_flipidx_equals_blocked_conv),
         cmocka_unit_test(test_flipidx_refuses_xcorr),
-        cmocka_unit_test(test_select_portable),
+        cmocka_unit_test(test_select_levels),
         cmocka_unit_test(test_threads_equal_serial),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);

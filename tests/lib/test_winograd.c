@@ -12,6 +12,7 @@
 #include <stdarg.h>
 #include <stddef.h>
 #include <stdint.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -20,6 +21,7 @@
 #include "convpick/algo.h"
 #include "convpick/oracle.h"
 #include "algos/core/cpa.h"
+#include "algos/kernels/blocked_tile.h"
 #include "algos/kernels/winograd_kernels.h"
 #include "tests/support/winograd_tile.h"
 
@@ -206,15 +208,16 @@ static void check_kernel_set(const cpa_wino_kernels *kern) {
 
 static void test_kernel_sets(void **state) {
     (void)state;
+    const int best = cpa_isa_best();
     check_kernel_set(&cpa_wino_kernels_ref);
-#if defined(__x86_64__) || defined(__i386__)
-    if (__builtin_cpu_supports("avx2") && __builtin_cpu_supports("fma")) {
-        check_kernel_set(&cpa_wino_kernels_avx2);
-        assert_ptr_equal(cpa_wino_kernels_select(), &cpa_wino_kernels_avx2);
-    } else {
-        assert_ptr_equal(cpa_wino_kernels_select(), &cpa_wino_kernels_ref);
-    }
-#endif
+    assert_ptr_equal(cpa_wino_kernels_select(CPA_ISA_PORTABLE), &cpa_wino_kernels_ref);
+    if (best >= CPA_ISA_AVX2) check_kernel_set(&cpa_wino_kernels_avx2);
+    if (best >= CPA_ISA_AVX512) check_kernel_set(&cpa_wino_kernels_avx512);
+    const cpa_wino_kernels *widest = best == CPA_ISA_AVX512 ? &cpa_wino_kernels_avx512
+                                     : best == CPA_ISA_AVX2 ? &cpa_wino_kernels_avx2
+                                                            : &cpa_wino_kernels_ref;
+    assert_ptr_equal(cpa_wino_kernels_select(CPA_ISA_BEST), widest);
+    assert_ptr_equal(cpa_wino_kernels_select(CPA_ISA_AVX512), widest);
 }
 
 /* --- (3) against the oracle ------------------------------------------------ */
@@ -286,11 +289,17 @@ static void check_case(const grid_case *gc, cp_flip flip, int with_bias) {
     cp_algo_defaults(a, &s, NULL, &defaults);
     const int64_t blocks[] = {defaults.v[0], 1, 3, 16};
     for (size_t bi = 0; bi < sizeof blocks / sizeof blocks[0]; bi++)
-        for (int e = 0; e < 8; e++) { /* bit 0: two workers; bit 1: portable kernels;
-                                         bit 2: the other GEMM (OpenBLAS / packed) */
+        for (int e = 0; e < 8; e++) { /* bit 0: two workers; bit 1: the other kernel
+                                         level; bit 2: the other GEMM (OpenBLAS / packed) */
+#ifdef CPT_ISA_ONLY
+            if (e & 2) continue; /* one level only: AVX-512 */
+            const int64_t lv[2] = {CPT_ISA_ONLY, CPT_ISA_ONLY};
+#else
+            const int64_t lv[2] = {CPA_ISA_AVX2, CPA_ISA_PORTABLE};
+#endif
             cp_params p = defaults;
             p.v[0] = blocks[bi];
-            p.v[1] = (e >> 1) & 1;
+            p.v[1] = lv[(e >> 1) & 1];
             p.v[2] = (e >> 2) ? !defaults.v[2] : defaults.v[2];
             cp_plan *plan = NULL;
             assert_int_equal(cp_plan_create(a, &s, flip, &p, NULL, (e & 1) ? 2 : 1, w, &plan, msg,
@@ -395,13 +404,20 @@ static void test_candidates(void **state) {
         for (int j = 0; j < n; j++) {
             assert_int_equal(cp_params_check(a, &cand[j], msg, sizeof msg), CP_OK);
             for (int k = 0; k < j; k++)
-                assert_true(cand[j].v[0] != cand[k].v[0] || cand[j].v[2] != cand[k].v[2]);
+                assert_true(cand[j].v[0] != cand[k].v[0] || cand[j].v[1] != cand[k].v[1] ||
+                            cand[j].v[2] != cand[k].v[2]);
         }
         assert_int_equal(a->candidates(&s, &caches, cand, 1), 1);
     }
 }
 
 int main(void) {
+#ifdef CPT_ISA_ONLY
+    if (cpa_isa_best() < CPT_ISA_ONLY) {
+        printf("skipped: the CPU (or OS) lacks %s\n", cpa_isa_name(CPT_ISA_ONLY));
+        return 77;
+    }
+#endif
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_f2_3_worked),      cmocka_unit_test(test_f2x2_3x3_worked),
         cmocka_unit_test(test_layer_worked),     cmocka_unit_test(test_mult_count),

@@ -1,0 +1,106 @@
+/* AVX-512F tile kernel of the blocked direct convolution: 6 output channels x
+ * 4 segments of 16 lanes = 24 ZMM accumulators of the 32 (contract and the
+ * choice of tile in blocked_tile.h).  Per input channel and tap: four
+ * unaligned 16-float input loads, masked by keep (so the kernel reads exactly
+ * the lanes it keeps, like the portable one, and never needs the portable
+ * fallback at the end of a buffer: masked-off lanes do not fault), six weight
+ * broadcasts, 24 FMAs.  Tiles with fewer non-empty segments run a
+ * 6 x 16 or 6 x 32 body.  Kept lanes are compressed on store and expanded on
+ * load (register forms plus a masked contiguous access: the memory forms of
+ * compress/expand are slow on some cores).  Built with -mavx512f; only called
+ * after cpa_blocked_tile_select() saw AVX-512F and the OS's ZMM state. */
+#include "algos/kernels/blocked_tile.h"
+
+#if defined(__AVX512F__)
+#include <immintrin.h>
+
+enum { MR = CPA_BLOCKED_MR };
+
+static inline __mmask16 low_mask(uint32_t keep) {
+    return (__mmask16)((1u << __builtin_popcount(keep)) - 1u);
+}
+
+static inline __m512 load_start(const cpa_blocked_tile *t, int v, int kk) {
+    const uint32_t keep = t->keep[v];
+    if (kk >= t->nk || keep == 0) return _mm512_setzero_ps();
+    if (t->first) return t->bias ? _mm512_set1_ps(t->bias[kk]) : _mm512_setzero_ps();
+    const float *p = t->y[v] + kk * t->y_ks;
+    if (keep == 0xffffu) return _mm512_loadu_ps(p);
+    return _mm512_maskz_expand_ps((__mmask16)keep, _mm512_maskz_loadu_ps(low_mask(keep), p));
+}
+
+static inline void store_acc(const cpa_blocked_tile *t, int v, int kk, __m512 a) {
+    const uint32_t keep = t->keep[v];
+    if (kk >= t->nk || keep == 0) return;
+    float *p = t->y[v] + kk * t->y_ks;
+    if (keep == 0xffffu)
+        _mm512_storeu_ps(p, a);
+    else
+        _mm512_mask_storeu_ps(p, low_mask(keep), _mm512_maskz_compress_ps((__mmask16)keep, a));
+}
+
+/* The tile body for NS segments (1, 2 or 4: a constant after inlining, so the
+ * tests on it fold away).  Named accumulators rather than an array: GCC 12
+ * kept an array of them mirrored on the stack inside the loop. */
+#define CPA_Z4(m) m(0) m(1) m(2) m(3) m(4) m(5)
+static inline __attribute__((always_inline)) void tile_ns(const cpa_blocked_tile *t, const int NS) {
+#define CPA_INIT(kk)                                                   \
+    __m512 a0##kk = load_start(t, 0, kk);                              \
+    __m512 a1##kk = NS > 1 ? load_start(t, 1, kk) : _mm512_setzero_ps(); \
+    __m512 a2##kk = NS > 2 ? load_start(t, 2, kk) : _mm512_setzero_ps(); \
+    __m512 a3##kk = NS > 2 ? load_start(t, 3, kk) : _mm512_setzero_ps();
+    CPA_Z4(CPA_INIT)
+#undef CPA_INIT
+    const __mmask16 k0 = (__mmask16)t->keep[0], k1 = (__mmask16)t->keep[1];
+    const __mmask16 k2 = (__mmask16)t->keep[2], k3 = (__mmask16)t->keep[3];
+    const float *x0 = t->x[0], *x1 = t->x[1], *x2 = t->x[2], *x3 = t->x[3];
+    const int64_t ntap = t->ntap, cs = t->x_cs, step = t->w_step;
+    const int64_t *off = t->tap_off;
+    for (int64_t c = 0; c < t->nc; c++, x0 += cs, x1 += cs, x2 += cs, x3 += cs) {
+        const float *w = t->w + c * ntap * MR;
+        for (int64_t i = 0; i < ntap; i++, w += step) {
+            const int64_t o = off[i];
+            const __m512 v0 = _mm512_maskz_loadu_ps(k0, x0 + o);
+            const __m512 v1 = NS > 1 ? _mm512_maskz_loadu_ps(k1, x1 + o) : _mm512_setzero_ps();
+            const __m512 v2 = NS > 2 ? _mm512_maskz_loadu_ps(k2, x2 + o) : _mm512_setzero_ps();
+            const __m512 v3 = NS > 2 ? _mm512_maskz_loadu_ps(k3, x3 + o) : _mm512_setzero_ps();
+#define CPA_FMA(kk)                                                \
+    {                                                              \
+        const __m512 b = _mm512_set1_ps(w[kk]);                    \
+        a0##kk = _mm512_fmadd_ps(v0, b, a0##kk);                   \
+        if (NS > 1) a1##kk = _mm512_fmadd_ps(v1, b, a1##kk);       \
+        if (NS > 2) a2##kk = _mm512_fmadd_ps(v2, b, a2##kk);       \
+        if (NS > 2) a3##kk = _mm512_fmadd_ps(v3, b, a3##kk);       \
+    }
+            CPA_Z4(CPA_FMA)
+#undef CPA_FMA
+        }
+    }
+#define CPA_STORE(kk)                                 \
+    store_acc(t, 0, kk, a0##kk);                      \
+    if (NS > 1) store_acc(t, 1, kk, a1##kk);          \
+    if (NS > 2) store_acc(t, 2, kk, a2##kk);          \
+    if (NS > 2) store_acc(t, 3, kk, a3##kk);
+    CPA_Z4(CPA_STORE)
+#undef CPA_STORE
+}
+#undef CPA_Z4
+
+static void tile_1(const cpa_blocked_tile *t) { tile_ns(t, 1); }
+static void tile_2(const cpa_blocked_tile *t) { tile_ns(t, 2); }
+static void tile_4(const cpa_blocked_tile *t) { tile_ns(t, 4); }
+
+void cpa_blocked_tile_avx512_6x64(const cpa_blocked_tile *t) {
+    if (t->keep[1] == 0 && t->keep[2] == 0 && t->keep[3] == 0)
+        tile_1(t);
+    else if (t->keep[2] == 0 && t->keep[3] == 0)
+        tile_2(t);
+    else
+        tile_4(t);
+}
+
+#else
+/* Not an x86 build with AVX-512: keep the symbol so the selector links; it is
+ * never chosen there. */
+void cpa_blocked_tile_avx512_6x64(const cpa_blocked_tile *t) { cpa_blocked_tile_ref_6x16(t); }
+#endif
