@@ -111,6 +111,10 @@ for spec in n=1,c=3,h=96,w=96,k=16,r=5,s=5,stride=2,pad=2 n=1,c=32,h=24,w=24,k=6
   grep -q '"match":"exact"' "$tmp/l1" || fail "lookup on the lean table found no exact entry for $spec"
 done
 
+# diff reads a lean table's candidates from its evidence file.
+"$CLI" diff "$tmp/lean.json" "$tmp/g_123.json" > "$tmp/diff.out" || fail "diff of the lean table failed"
+grep -q "^BASE .*lean.evidence.json: tuning table" "$tmp/diff.out" || fail "diff did not read the evidence file: $(head -2 "$tmp/diff.out")"
+
 # 6. Every output against the schema.
 $PY - "$SRC/docs/table.schema.json" "$tmp/g_123.json" "$tmp/mixed.json" "$tmp/lean.json" "$tmp/lean.evidence.json" <<'PY' || fail "an output does not match the schema"
 import json, sys, jsonschema
