@@ -70,22 +70,19 @@ cp_status cpl_bundle_read_device(const char *path, cp_device_desc *d, char *msg,
     cpl_jctx c = {path, msg, cap};
     memset(d, 0, sizeof *d);
     char *data;
-    size_t len, open, close, count;
+    size_t len;
     cp_status st = cpl_read_file(&c, path, CPT_MAX_BYTES, "table", CP_TABLE_FORMAT, &data, &len);
     if (st != CP_OK) return st;
-    json_error_t err;
-    json_t *root;
-    if (cpl_find_entries(data, len, &open, &close, &count)) {
-        /* the header alone: the document with "entries" emptied */
-        memmove(data + open + 2, data + close + 1, len - close - 1);
-        data[open] = '[';
-        data[open + 1] = ']';
-        len = open + 2 + (len - close - 1);
+    json_t *root = cpl_parse_header(data, len);
+    if (!root) { /* not the expected layout: the whole document, for jansson's message */
+        json_error_t err;
+        root = json_loadb(data, len, JSON_REJECT_DUPLICATES, &err);
+        if (!root) {
+            free(data);
+            return cpl_jfail(&c, CP_EFORMAT, "%d:%d: %s", err.line, err.column, err.text);
+        }
     }
-    root = json_loadb(data, len, JSON_REJECT_DUPLICATES, &err);
     free(data);
-    if (!root)
-        return cpl_jfail(&c, CP_EFORMAT, "%d:%d: %s", err.line, err.column, err.text);
     const char *fmt = json_string_value(json_object_get(root, "format"));
     int from;
     if (!fmt || strcmp(fmt, CP_TABLE_FORMAT) != 0)

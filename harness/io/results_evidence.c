@@ -11,17 +11,7 @@
 
 int cph_results_evidence_path(const char *path, const char *data, size_t len, char *out,
                               size_t cap) {
-    size_t open, close, count;
-    if (!cpl_find_entries(data, len, &open, &close, &count)) return 0;
-    /* the header alone: the document with "entries" emptied */
-    const size_t hlen = open + 2 + (len - close - 1);
-    char *head = malloc(hlen);
-    if (!head) return 0;
-    memcpy(head, data, open);
-    memcpy(head + open, "[]", 2);
-    memcpy(head + open + 2, data + close + 1, len - close - 1);
-    json_t *root = json_loadb(head, hlen, 0, NULL);
-    free(head);
+    json_t *root = cpl_parse_header(data, len);
     const char *ev = json_string_value(json_object_get(root, "evidence"));
     int found = 0;
     if (ev && ev[0] && !strchr(ev, '/')) {
