@@ -22,7 +22,7 @@ double cpl_entry_chosen_err(const cp_table_entry *e) {
     for (size_t i = 0; i < e->ncandidates; i++)
         if (cp_candidate_timed(&e->candidates[i]) && is_chosen(e, &e->candidates[i]))
             return e->candidates[i].rel_err;
-    return NAN;
+    return e->rel_err; /* a lean table: recorded with the choice */
 }
 
 cp_status cp_table_lookup_bounded(const cp_table *t, const cp_shape *s, cp_flip flip,

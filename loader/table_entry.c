@@ -92,6 +92,11 @@ static cp_status decode_choice(const cpl_jctx *c, const json_t *e, const char *w
     if ((st = cpl_decode_algo(c, ch, sub, &out->algo)) != CP_OK ||
         (st = cpl_decode_params(c, ch, sub, out->algo, &out->shape, caches, &out->params)) != CP_OK)
         return st;
+    /* choice.rel_err: optional (tables before it, or the error was not finite). */
+    out->rel_err = NAN;
+    const json_t *re = json_object_get(ch, "rel_err");
+    if (re && !json_is_null(re) && (st = cpl_jreal(c, ch, sub, "rel_err", &out->rel_err)) != CP_OK)
+        return st;
     char why[200];
     if (!out->algo->supports(&out->shape, out->flip, why, sizeof why))
         return cpl_jfail(c, CP_EFORMAT, "%s.algo: %s does not support this entry's shape: %s", sub,
@@ -138,8 +143,12 @@ cp_status cpl_decode_entry(const cpl_jctx *c, const json_t *e, size_t idx, cp_ta
     if (st != CP_OK) return st;
     if ((st = decode_choice(c, e, where, caches, out)) != CP_OK) return st;
 
+    /* A lean table (docs/table-format.md) leaves out "candidates" and "tried":
+     * the evidence lives in its side file. */
     json_t *cands = NULL, *tried = NULL;
-    if ((st = cpl_jfield(c, e, where, "candidates", JSON_ARRAY, 0, &cands)) != CP_OK) return st;
+    if (json_object_get(e, "candidates") &&
+        (st = cpl_jfield(c, e, where, "candidates", JSON_ARRAY, 0, &cands)) != CP_OK)
+        return st;
     out->ncandidates = json_array_size(cands);
     if (out->ncandidates) {
         out->candidates = calloc(out->ncandidates, sizeof *out->candidates);
@@ -152,6 +161,8 @@ cp_status cpl_decode_entry(const cpl_jctx *c, const json_t *e, size_t idx, cp_ta
                                    &out->candidates[i])) != CP_OK)
             return st;
     }
-    if ((st = cpl_jfield(c, e, where, "tried", JSON_OBJECT, 0, &tried)) != CP_OK) return st;
+    if (json_object_get(e, "tried") &&
+        (st = cpl_jfield(c, e, where, "tried", JSON_OBJECT, 0, &tried)) != CP_OK)
+        return st;
     return cpl_jtext(c, e, where, "settings_key", key, keycap);
 }

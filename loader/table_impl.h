@@ -75,6 +75,12 @@ void cpl_table_clear(cp_table *t);                         /* frees the contents
  * document does not look as expected). */
 int cpl_is_ws(char ch);
 int cpl_find_entries(const char *d, size_t len, size_t *open, size_t *close, size_t *count);
+/* The text d[0..len) with the entries array at [open, close] emptied (a
+ * malloc'ed copy, *hlen bytes; NULL when out of memory). */
+char *cpl_header_text(const char *d, size_t len, size_t open, size_t close, size_t *hlen);
+/* The document's header: everything but the entries (parsed with "entries":
+ * []), or NULL when the text does not look like a table or is malformed. */
+json_t *cpl_parse_header(const char *d, size_t len);
 
 /* table_load.c: a table from a document already parsed (and migrated in
  * place to the current version), for the harness's table writer, which keeps

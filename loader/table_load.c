@@ -82,13 +82,9 @@ static cp_status load_fast(const cpl_jctx *c, const char *d, size_t len, unsigne
     size_t open, close, count;
     if (!cpl_find_entries(d, len, &open, &close, &count)) return CP_EFORMAT;
     /* The document with "entries": [] */
-    const size_t hlen = open + 2 + (len - close - 1);
-    char *head = malloc(hlen);
+    size_t hlen;
+    char *head = cpl_header_text(d, len, open, close, &hlen);
     if (!head) return CP_ENOMEM;
-    memcpy(head, d, open);
-    head[open] = '[';
-    head[open + 1] = ']';
-    memcpy(head + open + 2, d + close + 1, len - close - 1);
     json_error_t err;
     json_t *root = json_loadb(head, hlen, JSON_REJECT_DUPLICATES, &err);
     free(head);

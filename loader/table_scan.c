@@ -1,5 +1,6 @@
 /* Finding a table's "entries" array in the raw text, for the loader's fast
  * path (table_load.c). */
+#include <stdlib.h>
 #include <string.h>
 
 #include "loader/table_impl.h"
@@ -97,3 +98,23 @@ int cpl_find_entries(const char *d, size_t len, size_t *open, size_t *close, siz
     return 0;
 }
 
+
+char *cpl_header_text(const char *d, size_t len, size_t open, size_t close, size_t *hlen) {
+    *hlen = open + 2 + (len - close - 1);
+    char *head = malloc(*hlen);
+    if (!head) return NULL;
+    memcpy(head, d, open);
+    head[open] = '[';
+    head[open + 1] = ']';
+    memcpy(head + open + 2, d + close + 1, len - close - 1);
+    return head;
+}
+
+json_t *cpl_parse_header(const char *d, size_t len) {
+    size_t open, close, count, hlen;
+    if (!cpl_find_entries(d, len, &open, &close, &count)) return NULL;
+    char *head = cpl_header_text(d, len, open, close, &hlen);
+    json_t *root = head ? json_loadb(head, hlen, JSON_REJECT_DUPLICATES, NULL) : NULL;
+    free(head);
+    return root;
+}

@@ -40,5 +40,6 @@ int cph_cmd_diff(int argc, char **argv);
 int cph_cmd_model(int argc, char **argv);
 int cph_cmd_show(int argc, char **argv);
 int cph_cmd_report(int argc, char **argv);
+int cph_cmd_gather(int argc, char **argv);
 
 #endif

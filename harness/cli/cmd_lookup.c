@@ -6,6 +6,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 
 #include "harness/cli/cli.h"
 #include "harness/cli/options.h"
@@ -13,10 +14,13 @@
 #include "harness/select/shape_spec.h"
 
 static void usage(FILE *f) {
-    fputs("usage: convpick lookup TABLE --shape SPEC [OPTIONS]\n\n"
+    fputs("usage: convpick lookup TABLE|BUNDLE --shape SPEC [OPTIONS]\n\n"
           "Prints the algorithm and parameters the table gives for the layer SPEC\n"
           "(e.g. n=1,c=64,h=56,w=56,k=64,r=3,s=3,pad=1) and whether the answer is\n"
-          "exact, approximate (nearest compatible entry) or the default.\n\n"
+          "exact, approximate (nearest compatible entry) or the default.  Given a BUNDLE\n"
+          "(a directory of tables for several machines), it first picks the table for\n"
+          "this machine (exact fingerprint, else the nearest by ISA features, cache sizes\n"
+          "and CPU count; docs/table-format.md) and says which and why.\n\n"
           "the layer:\n"
           "  --shape SPEC        the layer (key=value list, see convpick verify --help;\n"
           "                      required)\n"
@@ -36,8 +40,9 @@ static void usage(FILE *f) {
                     "the answer could not be printed, 2 bad usage or input");
 }
 
-static void print_text(const cp_table *t, const cp_choice *c) {
+static void print_text(const cp_table *t, const cp_choice *c, const char *bundle_why) {
     char params[256];
+    if (bundle_why) printf("table:     %s\n", bundle_why);
     cp_params_format(c->algo, &c->params, params, sizeof params);
     printf("algorithm: %s\n", c->algo->name);
     printf("params:    %s\n", params[0] ? params : "(none)");
@@ -47,12 +52,12 @@ static void print_text(const cp_table *t, const cp_choice *c) {
         printf("bound:     rel_err <= %.3g (the answer's recorded rel_err %.3g)\n",
                c->max_rel_err, c->rel_err);
     printf("why:       %s\n", c->why);
-    if (!cp_table_device_matches(t))
+    if (t && !cp_table_device_matches(t))
         printf("note:      the table was made on another device (fingerprint %s)\n",
                cp_table_fingerprint(t));
 }
 
-static int print_json(const cp_table *t, const cp_choice *c) {
+static int print_json(const cp_table *t, const cp_choice *c, const char *bundle_why) {
     json_t *params = json_object();
     for (int i = 0; i < c->algo->nparams; i++)
         json_object_set_new(params, c->algo->params[i].name, json_integer((json_int_t)c->params.v[i]));
@@ -60,11 +65,12 @@ static int print_json(const cp_table *t, const cp_choice *c) {
                           params, "match", cp_match_str(c->match), "entry",
                           c->entry ? json_string(c->entry->name) : json_null(), "threads",
                           c->entry ? c->entry->threads : 0, "why", c->why, "device_matches",
-                          cp_table_device_matches(t));
+                          t ? cp_table_device_matches(t) : 0);
     if (!o) return 1;
     json_object_set_new(o, "max_rel_err",
                         isfinite(c->max_rel_err) ? json_real(c->max_rel_err) : json_null());
     json_object_set_new(o, "rel_err", isfinite(c->rel_err) ? json_real(c->rel_err) : json_null());
+    if (bundle_why) json_object_set_new(o, "bundle", json_string(bundle_why));
     char *s = json_dumps(o, JSON_COMPACT);
     json_decref(o);
     if (!s) return 1;
@@ -139,31 +145,38 @@ static int lookup(const lookup_opts *o) {
     cp_shape shape;
     if (cph_parse_shape(o->spec, NULL, &shape, msg, sizeof msg) != CP_OK)
         return cph_opt_error("lookup", "--shape", "'%s': %s", o->spec, msg);
-    cp_table *t;
-    if (cp_table_load(o->path, o->flags, &t, msg, sizeof msg) != CP_OK) {
+    cp_table *t = NULL;
+    struct stat sb;
+    const int is_bundle = stat(o->path, &sb) == 0 && S_ISDIR(sb.st_mode);
+    cp_bundle_pick pick;
+    pick.kind = CP_PICK_EXACT;
+    cp_status st = is_bundle ? cp_bundle_load(o->path, o->flags, &t, &pick, msg, sizeof msg)
+                             : cp_table_load(o->path, o->flags, &t, msg, sizeof msg);
+    if (st != CP_OK && !(is_bundle && pick.kind == CP_PICK_NONE)) {
         cph_err("%s", msg);
         return CPH_EXIT_USAGE;
     }
+    const char *bundle_why = is_bundle ? pick.why : NULL;
     cp_choice c;
     int rc = CPH_EXIT_OK;
-    const cp_status st =
+    const cp_status lst =
         isfinite(o->max_rel_err)
             ? cp_table_lookup_bounded(t, &shape, o->flip, o->threads, o->max_rel_err, &c, msg,
                                       sizeof msg)
             : cp_table_lookup(t, &shape, o->flip, o->threads, &c, msg, sizeof msg);
-    if (st == CP_ENOTFOUND) {
+    if (lst == CP_ENOTFOUND) {
         cph_err("lookup: %s", msg);
         rc = CPH_EXIT_FAIL;
-    } else if (st != CP_OK) {
+    } else if (lst != CP_OK) {
         cph_err("lookup: %s", msg);
         rc = CPH_EXIT_USAGE;
     } else if (o->json) {
-        if (print_json(t, &c) != 0) {
+        if (print_json(t, &c, bundle_why) != 0) {
             cph_err("lookup: cannot format the answer as JSON");
             rc = CPH_EXIT_FAIL;
         }
     } else {
-        print_text(t, &c);
+        print_text(t, &c, bundle_why);
     }
     cp_table_free(t);
     return rc;

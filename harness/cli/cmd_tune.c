@@ -5,6 +5,7 @@
 
 #include "harness/cli/cli.h"
 #include "harness/cli/options.h"
+#include "harness/select/shard.h"
 #include "harness/tune/tune_run.h"
 
 static void usage(FILE *f) {
@@ -42,7 +43,11 @@ static void usage(FILE *f) {
           f);
     cph_help_max_memory(f);
     cph_help_isolate(f);
-    fputs("  --quiet             no progress on stderr (default: progress)\n", f);
+    fputs("  --shard I/N         tune only shard I (1..N) of the selection: layers dealt,\n"
+          "                      heaviest first, to the shard with the fewest FLOPs so far\n"
+          "                      (deterministic; merge the shard tables with 'convpick gather')\n"
+          "                      (default: every layer)\n"
+          "  --quiet             no progress on stderr (default: progress)\n", f);
     cph_help_end(f, "0 done, 1 a layer had no qualifying candidate, 2 bad usage or input,\n"
                     "130 interrupted (the table holds every finished layer)");
 }
@@ -50,13 +55,25 @@ static void usage(FILE *f) {
 typedef struct tune_cli {
     cph_selection sel;
     cph_tune_job job;
+    int shard, nshards; /* 0-based; nshards 0: no --shard */
 } tune_cli;
+
+/* "I/N" with 1 <= I <= N <= 10000 -> 0-based shard, count. */
+static int parse_shard(const char *arg, tune_cli *t) {
+    int i = 0, n = 0, used = 0;
+    if (sscanf(arg, "%d/%d%n", &i, &n, &used) != 2 || arg[used] != '\0' || n < 1 || n > 10000 ||
+        i < 1 || i > n)
+        return cph_opt_error("tune", "--shard", "'%s' is not I/N with 1 <= I <= N <= 10000", arg);
+    t->shard = i - 1;
+    t->nshards = n;
+    return 0;
+}
 
 /* Returns -1 to go on, else the exit code (the error already reported). */
 static int parse(int argc, char **argv, tune_cli *t) {
     enum {
         OPT_OUT = 1, OPT_RESUME, OPT_FORCE, OPT_BUDGET, OPT_MAXERR, OPT_MAXC, OPT_QUIET,
-        OPT_TRIAL_SAMPLES, OPT_MIN_ROUNDS, OPT_MAX_ROUNDS, OPT_ALPHA, OPT_NO_PLACE
+        OPT_TRIAL_SAMPLES, OPT_MIN_ROUNDS, OPT_MAX_ROUNDS, OPT_ALPHA, OPT_NO_PLACE, OPT_SHARD
     };
     static const struct option longopts[] = {
         CPH_OPTS_SELECTION,
@@ -73,6 +90,7 @@ static int parse(int argc, char **argv, tune_cli *t) {
         {"max-rounds", required_argument, NULL, OPT_MAX_ROUNDS},
         {"alpha", required_argument, NULL, OPT_ALPHA},
         {"no-place", no_argument, NULL, OPT_NO_PLACE},
+        {"shard", required_argument, NULL, OPT_SHARD},
         CPH_OPT_MAX_MEMORY_ENTRY,
         CPH_OPT_ISOLATE_ENTRY,
         CPH_OPTS_HELP_END,
@@ -124,6 +142,7 @@ static int parse(int argc, char **argv, tune_cli *t) {
                                 &o->race.alpha);
             break;
         case OPT_NO_PLACE: o->place = 0; break;
+        case OPT_SHARD: rc = parse_shard(optarg, t); break;
         case CPH_OPT_TARGET_CI:
             rc = cph_opt_error("tune", "--target-ci",
                                "not used by tune (a trial is a fixed batch: --trial-samples)");
@@ -135,7 +154,11 @@ static int parse(int argc, char **argv, tune_cli *t) {
     if (cph_opt_no_operands("tune", argc, argv)) return CPH_EXIT_USAGE;
     if (!j->out) return cph_opt_error("tune", "--out", "required (see convpick tune --help)");
     static const cp_flip no_flip[] = {CP_XCORR};
-    return cph_opt_selection_finish("tune", &t->sel, no_flip, 1) ? CPH_EXIT_USAGE : -1;
+    if (cph_opt_selection_finish("tune", &t->sel, no_flip, 1)) return CPH_EXIT_USAGE;
+    char msg[256];
+    if (t->nshards && cph_shard_keep(&t->sel.layers, t->shard, t->nshards, msg, sizeof msg) != CP_OK)
+        return cph_opt_error("tune", "--shard", "%s", msg);
+    return -1;
 }
 
 int cph_cmd_tune(int argc, char **argv) {

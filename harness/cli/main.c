@@ -23,6 +23,7 @@ static const command commands[] = {
     {"lookup", cph_cmd_lookup, "ask a tuning table which algorithm to run for a shape"},
     {"model", cph_cmd_model, "write the Conv layers of an ONNX model as a shape file"},
     {"cache", cph_cmd_cache, "cache cost of true convolution vs cross-correlation (simulated, counted)"},
+    {"gather", cph_cmd_gather, "combine the tables of a sharded tune into one table"},
     {"diff", cph_cmd_diff, "compare two bench results or tables: faster, slower, unchanged"},
     {"show", cph_cmd_show, "print a tuning table: every entry's choice, margin, and the totals"},
     {"report", cph_cmd_report, "write one HTML page of tables, bench results, roofs, cache study"},

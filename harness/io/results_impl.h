@@ -33,4 +33,9 @@ cp_status cph_results_read_table(cph_rctx *c, json_t *root);
 /* Bench results of an older version -> the current spelling, in place. */
 cp_status cph_bench_migrate(const cpl_jctx *c, json_t *root);
 
+/* results_evidence.c: 1 when the document data (read from path) is a lean
+ * table naming an evidence file; out: that file's path (beside path). */
+int cph_results_evidence_path(const char *path, const char *data, size_t len, char *out,
+                              size_t cap);
+
 #endif

@@ -17,6 +17,16 @@ cp_status cph_results_read(const char *path, cph_results *out, char *msg, size_t
     cp_status st = cpl_read_file(&c, path, RESULTS_MAX_BYTES, "results file", "convpick", &data,
                                  &len);
     if (st != CP_OK) return st;
+    char evidence[4096];
+    if (cph_results_evidence_path(path, data, len, evidence, sizeof evidence)) {
+        /* a lean table: its candidates are in the evidence file beside it */
+        free(data);
+        c.file = evidence;
+        st = cpl_read_file(&c, evidence, RESULTS_MAX_BYTES, "evidence file of a lean table",
+                           "convpick", &data, &len);
+        if (st != CP_OK) return st;
+        path = evidence;
+    }
     st = cph_results_read_buffer(data, len, path, out, msg, cap);
     free(data);
     return st;

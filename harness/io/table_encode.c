@@ -8,6 +8,7 @@
 #include "harness/io/table_doc_impl.h"
 #include "loader/codec.h"
 #include "loader/device.h"
+#include "loader/table_impl.h"
 
 void cph_table_settings_key(const cph_table_settings *s, char out[17]) {
     /* Hash the printed values, not the struct bytes: no padding, same on every
@@ -85,9 +86,12 @@ json_t *cph_table_entry_json(const cp_table_entry *e, const cph_entry_notes *n, 
                       "in_noise", e->margin_in_noise ? 1 : 0),
             e->runner_up);
     }
+    /* The choice's own error, so that a lean table (no candidates) keeps it. */
+    const double err = cpl_entry_chosen_err(e);
     json_t *choice =
-        cph_json_add_plugin(json_pack("{s:s, s:o}", "algo", e->algo ? e->algo->name : "",
-                                      "params", cph_json_params(e->algo, &e->params)),
+        cph_json_add_plugin(json_pack("{s:s, s:o, s:o}", "algo", e->algo ? e->algo->name : "",
+                                      "params", cph_json_params(e->algo, &e->params), "rel_err",
+                                      isfinite(err) ? json_real(err) : json_null()),
                             e->algo);
     return json_pack("{s:s, s:o, s:o, s:i, s:o, s:o, s:o, s:o, s:o, s:s}", "name", e->name,
                      "shape", cph_json_shape(&e->shape), "flipped", cph_json_flipped(e->flip),

@@ -277,6 +277,15 @@ int cph_tune_run(const cph_tune_job *job) {
         for (int ti = 0; ti < t->nt && !stop_requested && rc == CPH_EXIT_OK; ti++)
             rc = tune_threads(t, ti);
         cph_progress_done(&t->pr);
+        if (rc == CPH_EXIT_OK && job->sel->layers.n == 0) {
+            /* an empty shard (tune --shard with more shards than shapes):
+             * its table is written all the same, for the gather */
+            char msg[512];
+            if (cph_table_doc_write(t->doc, job->out, msg, sizeof msg) != CP_OK) {
+                cph_err("tune: %s", msg);
+                rc = CPH_EXIT_USAGE;
+            }
+        }
         if (rc == CPH_EXIT_OK && stop_requested) {
             fprintf(stderr, "convpick tune: interrupted; %s holds %zu finished entries (--resume "
                             "completes it)\n", job->out, cph_table_doc_count(t->doc));

@@ -18,6 +18,7 @@
 #include "convpick/oracle.h"
 #include "convpick/table.h"
 #include "convpick/plugin.h"
+#include "convpick/bundle.h"
 
 #define CONVPICK_VERSION_MAJOR 0
 #define CONVPICK_VERSION_MINOR 1

@@ -49,6 +49,8 @@ typedef struct cp_table_entry {
     int threads;
     const cp_algo *algo;    /* the chosen algorithm (resolved against the registry) */
     cp_params params;
+    double rel_err;         /* the choice's recorded error against the oracle: from its
+                               candidate, or choice.rel_err in a lean table; NaN unknown */
     cp_timing timing;
     const cp_algo *runner_up; /* NULL when only one candidate qualified */
     cp_params runner_up_params;

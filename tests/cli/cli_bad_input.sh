@@ -81,7 +81,8 @@ raw = open("good.json", "rb").read()
 open("utf8.json", "wb").write(raw.replace(b'"name": "', b'"name": "\xff', 1))
 P
 check T1 2 "missing.json: cannot read: No such file or directory" lookup missing.json "${S[@]}"
-check T2 2 "adir: cannot read: is a directory" lookup adir "${S[@]}"
+# a directory is a bundle (convpick/bundle.h): an empty one is refused
+check T2 2 "adir: no tables (*.json) in the bundle" lookup adir "${S[@]}"
 check T3 2 "empty: empty file" lookup empty "${S[@]}"
 check T4 2 "trunc.json:" lookup trunc.json "${S[@]}"
 check T5 2 "format: 'x' is not a convpick-tuning-table" lookup fmt.json "${S[@]}"
