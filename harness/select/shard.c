@@ -48,8 +48,14 @@ cp_status cph_shard_keep(cph_layer_list *l, int index, int nshards, char *msg, s
     if (!to) return cpa_fail(CP_ENOMEM, msg, cap, "shard: out of memory");
     cp_status st = cph_shard_assign(l, nshards, to, msg, cap);
     size_t k = 0;
-    for (size_t i = 0; st == CP_OK && i < l->n; i++)
-        if (to[i] == index) l->v[k++] = l->v[i];
+    for (size_t i = 0; st == CP_OK && i < l->n; i++) {
+        if (to[i] == index) {
+            l->v[k++] = l->v[i];
+        } else {
+            free(l->v[i].names); /* the layer leaves the list: its joined names too */
+            l->v[i].names = NULL;
+        }
+    }
     if (st == CP_OK) l->n = k;
     free(to);
     return st;
