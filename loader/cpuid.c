@@ -3,6 +3,8 @@
  * vol. 3 (CPUID Fn0000_0001, Fn0000_0007, Fn8000_001D, Fn8000_0005/6). */
 #include "loader/cpuid.h"
 
+#include "algos/core/cpa.h"
+
 #include <string.h>
 
 #if defined(__x86_64__) || defined(__i386__)
@@ -17,13 +19,6 @@ static uint64_t xcr0(void) {
     uint32_t lo, hi;
     __asm__ volatile("xgetbv" : "=a"(lo), "=d"(hi) : "c"(0));
     return ((uint64_t)hi << 32) | lo;
-}
-
-static void trim(char *s) {
-    size_t n = strlen(s), b = 0;
-    while (n && s[n - 1] == ' ') s[--n] = '\0';
-    while (s[b] == ' ') b++;
-    memmove(s, s + b, n - b + 1);
 }
 
 void cpl_cpuid_read(cpl_cpu_id *out) {
@@ -76,7 +71,8 @@ void cpl_cpuid_read(cpl_cpu_id *out) {
             memcpy(b + 16 * i, r, 16);
         }
         b[48] = '\0';
-        trim(b);
+        const char *t = cpa_trim(b);
+        memmove(b, t, strlen(t) + 1);
         memcpy(out->brand, b, sizeof out->brand);
     }
 }

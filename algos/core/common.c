@@ -1,5 +1,6 @@
 /* Helpers every algorithm may use: messages, parameters, the weight flip and
  * the pre-flip prepare. */
+#include <ctype.h>
 #include <stdarg.h>
 #include <stdio.h>
 #include <string.h>
@@ -92,4 +93,11 @@ void cp_weights_flip(const cp_shape *s, const float *w, float *wf) {
         for (int64_t r = 0; r < R; r++)
             for (int64_t q = 0; q < S; q++) dst[r * S + q] = src[(R - 1 - r) * S + (S - 1 - q)];
     }
+}
+
+char *cpa_trim(char *s) {
+    while (*s && isspace((unsigned char)*s)) s++;
+    size_t len = strlen(s);
+    while (len && isspace((unsigned char)s[len - 1])) s[--len] = '\0';
+    return s;
 }

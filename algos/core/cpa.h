@@ -24,6 +24,11 @@ int cpa_refuse(char *why, size_t cap, const char *fmt, ...)
 cp_status cpa_fail(cp_status st, char *msg, size_t cap, const char *fmt, ...)
     __attribute__((format(printf, 4, 5)));
 
+/* Strips leading and trailing white space in place: returns the first
+ * non-space character of s (the end is cut with a NUL).  The one trim of
+ * the project (the CPU brand string, shape specs, shape files, options). */
+char *cpa_trim(char *s);
+
 /* Rounds n up to a multiple of 64 (workspace sub-buffers stay aligned). */
 static inline size_t cpa_align64(size_t n) { return (n + 63u) & ~(size_t)63u; }
 

@@ -15,7 +15,8 @@ static void usage(FILE *f) {
           "confident (the margin's interval lies above 0); then the network totals\n"
           "(sum of count x median) of the choice and of every algorithm, per thread\n"
           "count.  Probe output (probe --json) or bench results given as INPUT add the\n"
-          "roofs and the layer counts (tables do not record them; else 1, marked *).\n",
+          "roofs and the layer counts (tables do not record them; else 1, marked *).\n\n"
+          "options:\n",
           f);
     cph_help_end(f, "0 printed, 2 bad usage or input");
 }

@@ -1,6 +1,7 @@
 /* The shared options of the command line (options.h): one error line, one
  * getopt loop step, the value parsers and the help blocks. */
 #define _POSIX_C_SOURCE 200809L /* strdup */
+#include "algos/core/cpa.h"
 #include "harness/cli/options.h"
 
 #include <ctype.h>
@@ -184,7 +185,7 @@ static int add_algos(const char *cmd, cph_selection *sel, const char *arg) {
         char *comma = strchr(p, ',');
         save = comma ? comma + 1 : NULL;
         if (comma) *comma = '\0';
-        const char *name = cph_trim(p);
+        const char *name = cpa_trim(p);
         const cp_algo *a = cp_algo_find(name);
         if (!a) {
             char known[512] = "";

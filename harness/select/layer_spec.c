@@ -28,7 +28,7 @@ static cp_status split_name(char *text, const char *ctx, char *name, char **spec
     *spec = text;
     if (!colon) return CP_OK;
     *colon = '\0';
-    char *nm = cph_trim(text);
+    char *nm = cpa_trim(text);
     if (!*nm) return cpa_fail(CP_EFORMAT, msg, cap, "%s%sempty layer name before ':'", CTX(ctx));
     if (strlen(nm) > CPH_LAYER_NAME_MAX)
         return cpa_fail(CP_EFORMAT, msg, cap,
@@ -63,7 +63,7 @@ static cp_status take_count(char *spec, const char *ctx, int *count, char *msg, 
                 char val[32];
                 size_t vl = (size_t)((comma ? comma : q + strlen(q)) - (q + 1));
                 snprintf(val, sizeof val, "%.*s", (int)(vl < sizeof val ? vl : sizeof val - 1), q + 1);
-                char *v = cph_trim(val), *end = NULL;
+                char *v = cpa_trim(val), *end = NULL;
                 errno = 0;
                 long long n = isdigit((unsigned char)*v) ? strtoll(v, &end, 10) : 0;
                 if (!end || *end || errno || n < 1 || n > 1000000)

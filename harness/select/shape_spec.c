@@ -73,13 +73,6 @@ static void set_fields(cp_shape *s, unsigned fields, int64_t v) {
     if (fields & F_G) s->groups = v;
 }
 
-char *cph_trim(char *t) {
-    while (*t && isspace((unsigned char)*t)) t++;
-    size_t len = strlen(t);
-    while (len && isspace((unsigned char)t[len - 1])) t[--len] = '\0';
-    return t;
-}
-
 /* Decimal integer in int range; writes a message naming the key otherwise. */
 static cp_status parse_int_value(const char *key, const char *val, int64_t *out, char *msg,
                                  size_t cap) {
@@ -103,7 +96,7 @@ static cp_status parse_spec(char *buf, cp_shape *out, char *msg, size_t cap) {
     unsigned seen_fields = 0;
     unsigned seen_keys = 0; /* bit i: keys[i] given */
     int pad_mode = -1;      /* a cp_pad_mode, applied after all keys */
-    if (!*cph_trim(buf)) return cpa_fail(CP_EINVAL, msg, cap, "empty shape spec (expected key=value,...)");
+    if (!*cpa_trim(buf)) return cpa_fail(CP_EINVAL, msg, cap, "empty shape spec (expected key=value,...)");
     char *save = NULL;
     int item = 0;
     /* A manual split (not strtok) keeps empty items visible as errors. */
@@ -112,13 +105,13 @@ static cp_status parse_spec(char *buf, cp_shape *out, char *msg, size_t cap) {
         save = comma ? comma + 1 : NULL;
         if (comma) *comma = '\0';
         item++;
-        char *tok = cph_trim(p);
+        char *tok = cpa_trim(p);
         if (!*tok)
             return cpa_fail(CP_EINVAL, msg, cap, "item %d is empty (stray ',')", item);
         char *eq = strchr(tok, '=');
         if (!eq) return cpa_fail(CP_EINVAL, msg, cap, "%s: missing '=' (expected key=value)", tok);
         *eq = '\0';
-        char *key = cph_trim(tok), *val = cph_trim(eq + 1);
+        char *key = cpa_trim(tok), *val = cpa_trim(eq + 1);
         if (!*key) return cpa_fail(CP_EINVAL, msg, cap, "item %d: missing key before '='", item);
         size_t ki = NKEYS;
         for (size_t i = 0; i < NKEYS; i++)

@@ -24,8 +24,4 @@ cp_status cph_parse_shape(const char *spec, const char *ctx, cp_shape *out, char
  * Returns the length the full text needs (like snprintf). */
 int cph_shape_format_short(const cp_shape *s, char *buf, size_t cap);
 
-/* Strips leading and trailing white space in place; returns the first
- * non-space character (the text readers of specs, files and lists share it). */
-char *cph_trim(char *t);
-
 #endif

@@ -51,7 +51,7 @@ static cp_status load_stream(FILE *f, const char *path, cph_layer_list *out, cha
         }
         char *hash = strchr(line, '#');
         if (hash) *hash = '\0';
-        char *text = cph_trim(line);
+        char *text = cpa_trim(line);
         if (!*text) continue;
         char ctx[CPH_SHAPE_LINE_MAX / 2];
         snprintf(ctx, sizeof ctx, "%.400s:%ld", path, lineno);

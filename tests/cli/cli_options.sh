@@ -30,8 +30,9 @@ one_line() {
 
 # A value-taking option of each command, for the missing-value check.
 declare -A valued=([verify]=--shape [run]=--shape [algos]="" [probe]=--seconds [bench]=--shape
-                   [tune]=--shape [lookup]=--shape [cache]=--shape [diff]=--alpha)
-for cmd in verify run algos probe bench tune lookup cache diff; do
+                   [tune]=--shape [lookup]=--shape [cache]=--shape [diff]=--alpha
+                   [model]=--output [show]="" [report]=--out [gather]=--out)
+for cmd in verify run algos probe bench tune lookup cache diff model show report gather; do
   one_line "convpick $cmd: unknown option '--frob'" "$cmd" --frob
   one_line "convpick $cmd: unknown option '--frob'" "$cmd" --frob=3
   one_line "convpick $cmd: unknown option '-q'" "$cmd" -q
