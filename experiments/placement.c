@@ -31,6 +31,7 @@
 #include "harness/measure/stats.h"
 #include "harness/measure/timing.h"
 #include "harness/select/shape_spec.h"
+#include "harness/tune/trial.h"
 
 #define HUGE_PAGE ((size_t)2 << 20)
 
@@ -63,18 +64,6 @@ static int region_alloc(region *r, size_t n, size_t off, int thp) {
 static void region_free(region *r) {
     if (r->map && r->map != MAP_FAILED) munmap(r->map, r->len);
     memset(r, 0, sizeof *r);
-}
-
-typedef struct {
-    cp_plan *plan;
-    const float *x, *bias;
-    float *y;
-    const cp_exec *exec;
-} run_arg;
-
-static int run_once(void *arg) {
-    run_arg *a = arg;
-    return cp_plan_run(a->plan, a->x, a->bias, a->y, a->exec) == CP_OK ? 0 : -1;
 }
 
 typedef struct {
@@ -182,9 +171,9 @@ int main(int argc, char **argv) {
                 }
             }
             if (threads == 1 && set_pin(c->pin) != 0) perror("sched_setaffinity");
-            run_arg ra = {b->plan, b->x.p, bias, b->y.p, &exec};
+            cph_plan_work ra = {b->plan, b->x.p, bias, b->y.p, &exec};
             cph_measurement me;
-            if (cph_measure(&to, run_once, &ra, &me) != 0) {
+            if (cph_measure(&to, cph_plan_work_run, &ra, &me) != 0) {
                 fprintf(stderr, "run failed\n");
                 return 1;
             }

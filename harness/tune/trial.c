@@ -24,15 +24,8 @@ static int place_alloc(placed *b, size_t n, int random_offset, uint64_t *rng) {
     return b->base ? 0 : -1;
 }
 
-typedef struct {
-    cp_plan *plan;
-    const float *x, *bias;
-    float *y;
-    const cp_exec *exec;
-} run_arg;
-
-static int run_once(void *arg) {
-    run_arg *r = arg;
+int cph_plan_work_run(void *arg) {
+    const cph_plan_work *r = arg;
     return cp_plan_run(r->plan, r->x, r->bias, r->y, r->exec) == CP_OK ? 0 : 1;
 }
 
@@ -52,9 +45,9 @@ int cph_trial_run(const cph_trial_setup *t, const cp_algo *a, const cp_params *p
     if (cp_plan_create(a, t->shape, t->flip, p, t->caches, t->threads, t->w, &plan, msg, cap) !=
         CP_OK)
         goto out;
-    run_arg ra = {plan, x.p, t->bias, y.p, t->exec};
+    cph_plan_work ra = {plan, x.p, t->bias, y.p, t->exec};
     cph_measurement m;
-    const int mrc = cph_measure(&t->timing, run_once, &ra, &m);
+    const int mrc = cph_measure(&t->timing, cph_plan_work_run, &ra, &m);
     if (mrc == 0) {
         *median = m.stats.median;
         rc = 0;

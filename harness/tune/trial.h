@@ -34,6 +34,16 @@ typedef struct cph_trial_setup {
     int place;                    /* 1: random offsets; 0: every buffer 64-byte aligned */
 } cph_trial_setup;
 
+/* The work a measurement times: one run of a plan (a cph_work_fn for
+ * cph_measure; returns non-zero when the run failed). */
+typedef struct cph_plan_work {
+    cp_plan *plan;
+    const float *x, *bias;
+    float *y;
+    const cp_exec *exec;
+} cph_plan_work;
+int cph_plan_work_run(void *arg);
+
 /* Runs one trial of algorithm a with parameters p.  rng: the placement
  * generator's state (advanced).  Fills *median (seconds) and *wall (seconds
  * spent, plan and buffers included).  Returns 0, or -1 with a reason in msg
