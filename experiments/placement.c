@@ -31,7 +31,7 @@
 #include "harness/measure/stats.h"
 #include "harness/measure/timing.h"
 #include "harness/select/shape_spec.h"
-#include "harness/tune/trial.h"
+#include "harness/measure/plan_work.h"
 
 #define HUGE_PAGE ((size_t)2 << 20)
 

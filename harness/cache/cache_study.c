@@ -5,6 +5,7 @@
  * layer (first K' output channels) in a cold simulator of its own.  The
  * harness computes nothing itself: every output comes from an algorithm's
  * plan (plain or traced copy). */
+#include "harness/measure/plan_work.h"
 #include "harness/cache/cache_study.h"
 
 #include <math.h>
@@ -64,17 +65,6 @@ const cph_variant_result *cph_study_baseline(const cph_layer_result *r,
             strcmp(r->res[i].v->family, v->v->family) == 0)
             return &r->res[i];
     return NULL;
-}
-
-typedef struct {
-    cp_plan *plan;
-    const float *x;
-    float *y;
-} run_arg;
-
-static int run_once(void *arg) {
-    run_arg *r = arg;
-    return cp_plan_run(r->plan, r->x, NULL, r->y, NULL) == CP_OK ? 0 : 1;
 }
 
 static int family_selected(const cph_variant *v, const char *const *fam, size_t nf) {
@@ -179,8 +169,8 @@ static void check_variant(const cph_study_opts *o, const cph_variant *v, const c
         return;
     const size_t ny = cp_shape_output_elems(s);
     for (size_t i = 0; i < ny; i++) y[i] = (float)NAN;
-    run_arg ra = {vs->plan, x, y};
-    if (run_once(&ra) == 0) {
+    cph_plan_work ra = {vs->plan, x, NULL, y, NULL};
+    if (cph_plan_work_run(&ra) == 0) {
         const cp_error e = cp_error_measure(y, ref[v->flip], mag[v->flip], ny);
         r->rel_err = e.nonfinite ? INFINITY : e.rel_err;
         r->pass = e.nonfinite == 0 && e.rel_err <= a->tolerance;
@@ -205,8 +195,8 @@ static void time_round(const cph_study_opts *o, vstate *vs, const float *x, floa
     to.min_samples = 3;
     cph_measurement m;
     memset(&m, 0, sizeof m);
-    run_arg ra = {vs->plan, x, y};
-    if (cph_measure(&to, run_once, &ra, &m) == 0 && m.n > 0) {
+    cph_plan_work ra = {vs->plan, x, NULL, y, NULL};
+    if (cph_measure(&to, cph_plan_work_run, &ra, &m) == 0 && m.n > 0) {
         if (vs->ns + m.n > vs->cap) {
             const size_t nc = (vs->ns + m.n) * 2;
             double *p = realloc(vs->samples, nc * sizeof *p);
@@ -288,10 +278,10 @@ cp_status cph_study_layer(const cph_study_opts *o, const cph_layer *L,
     for (size_t j = 0; j < out->nres; j++) {
         cph_variant_result *r = &out->res[j];
         if (r->pass && o->use_counters && o->counters) {
-            run_arg ra = {vs[j].plan, x, y};
-            run_once(&ra); /* warm, like the timed samples */
+            cph_plan_work ra = {vs[j].plan, x, NULL, y, NULL};
+            cph_plan_work_run(&ra); /* warm, like the timed samples */
             cph_counters_start(o->counters);
-            run_once(&ra);
+            cph_plan_work_run(&ra);
             cph_counters_stop(o->counters, &r->ctr);
             r->have_counters = 1;
         }

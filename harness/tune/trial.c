@@ -24,11 +24,6 @@ static int place_alloc(placed *b, size_t n, int random_offset, uint64_t *rng) {
     return b->base ? 0 : -1;
 }
 
-int cph_plan_work_run(void *arg) {
-    const cph_plan_work *r = arg;
-    return cp_plan_run(r->plan, r->x, r->bias, r->y, r->exec) == CP_OK ? 0 : 1;
-}
-
 int cph_trial_run(const cph_trial_setup *t, const cp_algo *a, const cp_params *p, uint64_t *rng,
                   double *median, double *wall, char *msg, size_t cap) {
     const double t0 = cph_now();

@@ -18,6 +18,7 @@
 #include <stdint.h>
 
 #include "convpick/convpick.h"
+#include "harness/measure/plan_work.h"
 #include "harness/measure/timing.h"
 
 /* Largest offset a trial gives a buffer: a page, in 64-byte steps. */
@@ -33,16 +34,6 @@ typedef struct cph_trial_setup {
     cph_timing_opts timing;       /* per trial: warm-up, samples, time cap */
     int place;                    /* 1: random offsets; 0: every buffer 64-byte aligned */
 } cph_trial_setup;
-
-/* The work a measurement times: one run of a plan (a cph_work_fn for
- * cph_measure; returns non-zero when the run failed). */
-typedef struct cph_plan_work {
-    cp_plan *plan;
-    const float *x, *bias;
-    float *y;
-    const cp_exec *exec;
-} cph_plan_work;
-int cph_plan_work_run(void *arg);
 
 /* Runs one trial of algorithm a with parameters p.  rng: the placement
  * generator's state (advanced).  Fills *median (seconds) and *wall (seconds

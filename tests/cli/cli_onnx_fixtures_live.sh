@@ -8,11 +8,8 @@
 # Usage: bash cli_onnx_fixtures_live.sh CLI SRCDIR (CLI unused: this checks data).
 set -u
 src=${2:?usage: cli_onnx_fixtures_live.sh CLI SRCDIR}
-py=${CP_TEST_PYTHON:-/usr/bin/python3}
-if ! [ -x "$py" ] || ! "$py" -c "import onnx, numpy" 2>/dev/null; then
-    echo "SKIP: $py with onnx and numpy is not present"
-    exit 77
-fi
+. "$(dirname "$0")/live_fixture.sh"
+live_require_python "onnx, numpy"
 tmp=$(mktemp -d) || exit 1
 trap 'rm -rf "$tmp"' EXIT
 if ! "$py" "$src/scripts/gen_onnx_fixtures.py" "$tmp/onnx" 2>"$tmp/stderr"; then

@@ -10,17 +10,23 @@
 # skip path is tried (CP_TEST_PYTHON=/nonexistent ctest -R _live).  Without
 # the interpreter or its modules the test exits 77: CTest reports it skipped.
 
+# live_require_python MODULES: sets py to the interpreter, or exits 77 (the
+# test is skipped, never passed) when it or one of MODULES is missing.
+live_require_python() {
+    py=${CP_TEST_PYTHON:-/usr/bin/python3}
+    if ! [ -x "$py" ] || ! "$py" -c "import $1" 2>/dev/null; then
+        echo "SKIP: $py with $1 is not present"
+        exit 77
+    fi
+}
+
 # live_fixture SRCDIR GENERATOR FIXTURE MODULES VERSION_LINE_REGEX COUNT_REGEX
 #   GENERATOR, FIXTURE: paths below SRCDIR; MODULES: what the generator imports
 #   ("scipy.stats, numpy"); VERSION_LINE_REGEX: the line naming the versions;
 #   COUNT_REGEX: the lines counted in the OK message (one per fixture case).
 live_fixture() {
     local src=$1 gen=$2 fixture=$3 modules=$4 version_line=$5 count=$6
-    local py=${CP_TEST_PYTHON:-/usr/bin/python3}
-    if ! [ -x "$py" ] || ! "$py" -c "import $modules" 2>/dev/null; then
-        echo "SKIP: $py with $modules is not present"
-        exit 77
-    fi
+    live_require_python "$modules"
     live_tmp=$(mktemp -d) || exit 1
     trap 'rm -rf "$live_tmp"' EXIT
     local fresh="$live_tmp/$(basename "$fixture")"
@@ -37,5 +43,4 @@ live_fixture() {
     fi
     echo "OK: $(grep -c "$count" "$fresh") cases of $fixture match a fresh run" \
          "($(grep -m1 "$version_line" "$fresh"))"
-    exit 0
 }
