@@ -117,6 +117,23 @@ static cp_status decode_choice(const cpl_jctx *c, const json_t *e, const char *w
     return cpl_jbool(c, ru, sub, "in_noise", &out->margin_in_noise);
 }
 
+cp_status cpl_decode_candidates(const cpl_jctx *c, const json_t *cands, const char *where,
+                                const cp_cache_sizes *caches, cp_table_entry *out) {
+    out->ncandidates = json_array_size(cands);
+    if (out->ncandidates) {
+        out->candidates = calloc(out->ncandidates, sizeof *out->candidates);
+        if (!out->candidates) return cpl_jfail(c, CP_ENOMEM, "%s: out of memory", where);
+    }
+    for (size_t i = 0; i < out->ncandidates; i++) {
+        char sub[96];
+        snprintf(sub, sizeof sub, "%s.candidates[%zu]", where, i);
+        cp_status st = decode_candidate(c, json_array_get(cands, i), sub, &out->shape, caches,
+                                        &out->candidates[i]);
+        if (st != CP_OK) return st;
+    }
+    return CP_OK;
+}
+
 cp_status cpl_decode_entry_head(const cpl_jctx *c, const json_t *e, size_t idx, char where[48],
                                 char *name, size_t namecap, cp_shape *shape, cp_flip *flip,
                                 int *threads) {
@@ -147,20 +164,9 @@ cp_status cpl_decode_entry(const cpl_jctx *c, const json_t *e, size_t idx, cp_ta
      * the evidence lives in its side file. */
     json_t *cands = NULL, *tried = NULL;
     if (json_object_get(e, "candidates") &&
-        (st = cpl_jfield(c, e, where, "candidates", JSON_ARRAY, 0, &cands)) != CP_OK)
+        ((st = cpl_jfield(c, e, where, "candidates", JSON_ARRAY, 0, &cands)) != CP_OK ||
+         (st = cpl_decode_candidates(c, cands, where, caches, out)) != CP_OK))
         return st;
-    out->ncandidates = json_array_size(cands);
-    if (out->ncandidates) {
-        out->candidates = calloc(out->ncandidates, sizeof *out->candidates);
-        if (!out->candidates) return cpl_jfail(c, CP_ENOMEM, "%s: out of memory", where);
-    }
-    for (size_t i = 0; i < out->ncandidates; i++) {
-        char sub[96];
-        snprintf(sub, sizeof sub, "%s.candidates[%zu]", where, i);
-        if ((st = decode_candidate(c, json_array_get(cands, i), sub, &out->shape, caches,
-                                   &out->candidates[i])) != CP_OK)
-            return st;
-    }
     if (json_object_get(e, "tried") &&
         (st = cpl_jfield(c, e, where, "tried", JSON_OBJECT, 0, &tried)) != CP_OK)
         return st;

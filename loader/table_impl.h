@@ -64,6 +64,22 @@ double cpl_entry_chosen_err(const cp_table_entry *e);
 
 cp_status cpl_decode_entry(const cpl_jctx *c, const json_t *e, size_t idx, cp_table_entry *out,
                            char *key, size_t keycap, const cp_cache_sizes *caches);
+/* The evidence of an entry: its "candidates" array (already checked to be an
+ * array) -> out->candidates (where: "entries[i]"). */
+cp_status cpl_decode_candidates(const cpl_jctx *c, const json_t *cands, const char *where,
+                                const cp_cache_sizes *caches, cp_table_entry *out);
+
+/* table_read.c: the entry reader of the load (why and what it accepts: its
+ * header comment).  Reads the entry at d[0..len) (d[0] is its first byte)
+ * into t->entries[i] and its settings_key; 1 and *used = the bytes it took
+ * when it read it, 0 when it declines: it never words an error, the entry is
+ * then read by cpl_table_add (the tree decoder), which says what is wrong.
+ * *rd: its reusable scratch, NULL at first, freed by cpl_entry_reader_free. */
+typedef struct cpl_entry_reader cpl_entry_reader;
+int cpl_read_entry(cpl_entry_reader **rd, const cpl_jctx *c, const char *d, size_t len,
+                   cp_table *t, size_t i, size_t *used);
+void cpl_entry_reader_free(cpl_entry_reader *rd);
+
 /* table_index.c */
 cp_status cpl_table_alloc(const cpl_jctx *c, cp_table *t, size_t n);
 cp_status cpl_table_add(const cpl_jctx *c, cp_table *t, const json_t *e, size_t i);
@@ -73,7 +89,9 @@ void cpl_table_clear(cp_table *t);                         /* frees the contents
 /* table_scan.c: JSON white space; the top-level "entries" array of the text
  * d[0..len): d[*open] == '[', d[*close] == ']', *count elements (0 when the
  * document does not look as expected). */
-int cpl_is_ws(char ch);
+static inline int cpl_is_ws(char ch) {
+    return ch == ' ' || ch == '\t' || ch == '\n' || ch == '\r';
+}
 int cpl_find_entries(const char *d, size_t len, size_t *open, size_t *close, size_t *count);
 /* The text d[0..len) with the entries array at [open, close] emptied (a
  * malloc'ed copy, *hlen bytes; NULL when out of memory). */

@@ -35,7 +35,12 @@ static int order_cmp(const void *pa, const void *pb) {
 cp_status cpl_table_index(const cpl_jctx *c, cp_table *t) {
     const size_t n = t->n;
     sort_base = t->entries;
-    if (n) qsort(t->order, n, sizeof *t->order, order_cmp);
+    /* Tables gather writes are already in key order: checked in one pass, the
+     * sort is then skipped. */
+    size_t sorted = 1;
+    while (sorted < n && cpl_entry_cmp(&t->entries[sorted - 1], &t->entries[sorted]) < 0)
+        sorted++;
+    if (n && sorted < n) qsort(t->order, n, sizeof *t->order, order_cmp);
     for (size_t i = 1; i < n; i++)
         if (cpl_entry_cmp(&t->entries[t->order[i - 1]], &t->entries[t->order[i]]) == 0)
             return cpl_jfail(c, CP_EFORMAT,

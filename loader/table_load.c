@@ -71,9 +71,10 @@ static cp_status load_whole(const cpl_jctx *c, const char *data, size_t len, uns
     return st;
 }
 
-/* The fast path (why: table_scan.c): the header parsed with the entries
- * emptied, then each entry on its own.  JSON_DISABLE_EOF_CHECK gives where an
- * entry ended.  Anything unexpected, and any error at all, falls back to
+/* The fast path (why: table_scan.c, table_read.c): the header parsed with the
+ * entries emptied, then each entry on its own: by the entry reader
+ * (table_read.c), or, when it declines, as a jansson tree
+ * (JSON_DISABLE_EOF_CHECK gives where the entry ended).  Anything unexpected, and any error at all, falls back to
  * load_whole, so that messages and results are exactly the reference path's
  * (fuzz_table_load checks both agree). */
 /* CP_OK, or anything else meaning "use load_whole". */
@@ -94,23 +95,31 @@ static cp_status load_fast(const cpl_jctx *c, const char *d, size_t len, unsigne
     cp_status st = build_header(c, root, flags, t, &entries, &from);
     json_decref(root);
     if (st == CP_OK) st = cpl_table_alloc(c, t, count);
+    cpl_entry_reader *rd = NULL;
     size_t p = open + 1;
     for (size_t i = 0; i < count && st == CP_OK; i++) {
         while (p < close && cpl_is_ws(d[p])) p++;
-        json_t *e = json_loadb(d + p, close - p,
-                               JSON_REJECT_DUPLICATES | JSON_DISABLE_EOF_CHECK | JSON_DECODE_ANY,
-                               &err);
-        if (!e) {
-            st = CP_EFORMAT;
-            break;
+        size_t used;
+        if (from == CP_TABLE_VERSION && cpl_read_entry(&rd, c, d + p, close - p, t, i, &used)) {
+            p += used;
+        } else { /* declined (version 1, or not as the reader takes it): the tree */
+            json_t *e = json_loadb(d + p, close - p,
+                                   JSON_REJECT_DUPLICATES | JSON_DISABLE_EOF_CHECK |
+                                       JSON_DECODE_ANY,
+                                   &err);
+            if (!e) {
+                st = CP_EFORMAT;
+                break;
+            }
+            p += (size_t)err.position;
+            st = cpl_table_migrate_entry(e, from) ? cpl_table_add(c, t, e, i) : CP_ENOMEM;
+            json_decref(e);
         }
-        p += (size_t)err.position;
-        st = cpl_table_migrate_entry(e, from) ? cpl_table_add(c, t, e, i) : CP_ENOMEM;
-        json_decref(e);
         while (p < close && cpl_is_ws(d[p])) p++;
         if (st == CP_OK && i + 1 < count && (p >= close || d[p] != ',')) st = CP_EFORMAT;
         p++;
     }
+    cpl_entry_reader_free(rd);
     if (st == CP_OK && count && p != close + 1) st = CP_EFORMAT;
     if (st == CP_OK) st = cpl_table_index(c, t);
     return st;

@@ -16,8 +16,6 @@
  * error at all, falls back to load_whole, so that messages and results are
  * exactly the reference path's (fuzz_table_load checks both agree). */
 
-int cpl_is_ws(char ch) { return ch == ' ' || ch == '\t' || ch == '\n' || ch == '\r'; }
-
 /* Index just past the string starting at d[i] == '"', or 0 if unterminated. */
 static size_t skip_string(const char *d, size_t len, size_t i) {
     for (i++; i < len; i++) {
@@ -53,17 +51,25 @@ int cpl_find_entries(const char *d, size_t len, size_t *open, size_t *close, siz
                 if (is_entries) {
                     if (j >= len || d[j] != '[') return 0;
                     *open = j;
+                    /* Counted at one table lookup per byte: only the bytes that
+                     * matter to the nesting stop the inner loop (this pass reads
+                     * the whole table before any entry is decoded). */
+                    static const unsigned char stop[256] = {
+                        ['"'] = 1, ['['] = 1, [']'] = 1, ['{'] = 1, ['}'] = 1, [','] = 1};
+                    size_t first = j + 1;
+                    while (first < len && cpl_is_ws(d[first])) first++;
+                    const int any = first < len && d[first] != ']';
                     size_t n = 0;
-                    int ad = 0, any = 0;
+                    int ad = 0;
                     for (size_t k = j; k < len; k++) {
+                        while (k < len && !stop[(unsigned char)d[k]]) k++;
+                        if (k >= len) break;
                         const char a = d[k];
                         if (a == '"') {
                             size_t e = skip_string(d, len, k);
                             if (!e) return 0;
                             k = e - 1;
-                            any = 1;
                         } else if (a == '[' || a == '{') {
-                            if (ad == 1) any = 1;
                             ad++;
                         } else if (a == ']' || a == '}') {
                             ad--;
@@ -73,10 +79,8 @@ int cpl_find_entries(const char *d, size_t len, size_t *open, size_t *close, siz
                                 *count = any ? n + 1 : 0;
                                 return 1;
                             }
-                        } else if (a == ',' && ad == 1) {
+                        } else if (ad == 1) { /* ',' */
                             n++;
-                        } else if (!cpl_is_ws(a) && ad == 1) {
-                            any = 1;
                         }
                     }
                     return 0;
