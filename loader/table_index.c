@@ -13,6 +13,24 @@ cp_status cpl_table_alloc(const cpl_jctx *c, cp_table *t, size_t n) {
     t->order = calloc(n, sizeof *t->order);
     if (!t->entries || !t->settings_keys || !t->order)
         return cpl_jfail(c, CP_ENOMEM, "out of memory for %zu entries", n);
+    t->cap = n;
+    return CP_OK;
+}
+
+cp_status cpl_table_reserve(const cpl_jctx *c, cp_table *t, size_t n) {
+    if (n <= t->cap) return CP_OK;
+    size_t nc = t->cap ? t->cap : 64;
+    while (nc < n) nc *= 2;
+    cp_table_entry *e = realloc(t->entries, nc * sizeof *e);
+    if (e) t->entries = e;
+    char(*k)[CPT_KEY_MAX] = e ? realloc(t->settings_keys, nc * sizeof *k) : NULL;
+    if (k) t->settings_keys = k;
+    size_t *o = k ? realloc(t->order, nc * sizeof *o) : NULL;
+    if (!o) return cpl_jfail(c, CP_ENOMEM, "out of memory for %zu entries", nc);
+    t->order = o;
+    memset(t->entries + t->cap, 0, (nc - t->cap) * sizeof *e);
+    memset(t->settings_keys + t->cap, 0, (nc - t->cap) * sizeof *k);
+    t->cap = nc;
     return CP_OK;
 }
 

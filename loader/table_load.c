@@ -71,38 +71,24 @@ static cp_status load_whole(const cpl_jctx *c, const char *data, size_t len, uns
     return st;
 }
 
-/* The fast path (why: table_scan.c, table_read.c): the header parsed with the
- * entries emptied, then each entry on its own: by the entry reader
- * (table_read.c), or, when it declines, as a jansson tree
- * (JSON_DISABLE_EOF_CHECK gives where the entry ended).  Anything unexpected, and any error at all, falls back to
- * load_whole, so that messages and results are exactly the reference path's
- * (fuzz_table_load checks both agree). */
-/* CP_OK, or anything else meaning "use load_whole". */
-static cp_status load_fast(const cpl_jctx *c, const char *d, size_t len, unsigned flags,
-                           cp_table *t) {
-    size_t open, close, count;
-    if (!cpl_find_entries(d, len, &open, &close, &count)) return CP_EFORMAT;
-    /* The document with "entries": [] */
-    size_t hlen;
-    char *head = cpl_header_text(d, len, open, close, &hlen);
-    if (!head) return CP_ENOMEM;
-    json_error_t err;
-    json_t *root = json_loadb(head, hlen, JSON_REJECT_DUPLICATES, &err);
-    free(head);
-    if (!root) return CP_EFORMAT;
-    json_t *entries = NULL;
-    int from = CP_TABLE_VERSION;
-    cp_status st = build_header(c, root, flags, t, &entries, &from);
-    json_decref(root);
-    if (st == CP_OK) st = cpl_table_alloc(c, t, count);
+/* The entries of d[open..close] (count of them, or 0 when not counted: then
+ * the arrays grow as entries are read, and the entries must end exactly at
+ * close).  Each entry by the entry reader (table_read.c), or, when it
+ * declines, as a jansson tree (JSON_DISABLE_EOF_CHECK gives where it ended). */
+static cp_status load_entries(const cpl_jctx *c, const char *d, size_t open, size_t close,
+                              size_t count, int from, cp_table *t) {
+    cp_status st = count ? cpl_table_alloc(c, t, count) : CP_OK;
     cpl_entry_reader *rd = NULL;
     size_t p = open + 1;
-    for (size_t i = 0; i < count && st == CP_OK; i++) {
-        while (p < close && cpl_is_ws(d[p])) p++;
+    while (p < close && cpl_is_ws(d[p])) p++;
+    const int empty = p == close;
+    for (size_t i = 0; st == CP_OK && !empty && (count ? i < count : p < close); i++) {
+        if (!count && (st = cpl_table_reserve(c, t, i + 1)) != CP_OK) break;
         size_t used;
         if (from == CP_TABLE_VERSION && cpl_read_entry(&rd, c, d + p, close - p, t, i, &used)) {
             p += used;
         } else { /* declined (version 1, or not as the reader takes it): the tree */
+            json_error_t err;
             json_t *e = json_loadb(d + p, close - p,
                                    JSON_REJECT_DUPLICATES | JSON_DISABLE_EOF_CHECK |
                                        JSON_DECODE_ANY,
@@ -116,13 +102,48 @@ static cp_status load_fast(const cpl_jctx *c, const char *d, size_t len, unsigne
             json_decref(e);
         }
         while (p < close && cpl_is_ws(d[p])) p++;
-        if (st == CP_OK && i + 1 < count && (p >= close || d[p] != ',')) st = CP_EFORMAT;
-        p++;
+        if (st == CP_OK && p < close) {
+            if (d[p] != ',') st = CP_EFORMAT;
+            p++;
+            while (p < close && cpl_is_ws(d[p])) p++;
+            if (p >= close) st = CP_EFORMAT; /* a ',' before the ']' */
+        }
     }
     cpl_entry_reader_free(rd);
-    if (st == CP_OK && count && p != close + 1) st = CP_EFORMAT;
-    if (st == CP_OK) st = cpl_table_index(c, t);
+    if (st == CP_OK && p != close) st = CP_EFORMAT;
+    if (st == CP_OK && count && t->n != count) st = CP_EFORMAT;
     return st;
+}
+
+/* The fast path (why: table_scan.c, table_read.c): the header parsed with the
+ * entries emptied, then each entry on its own (load_entries).  The entries
+ * are first taken to be the document's last member (cpl_entries_last: no pass
+ * over them before they are read); when that guess fails, they are found and
+ * counted by a scan, and read again.  Anything unexpected, and any error at
+ * all, falls back to load_whole, so that messages and results are exactly the
+ * reference path's (fuzz_table_load checks both agree). */
+/* CP_OK, or anything else meaning "use load_whole". */
+static cp_status load_fast(const cpl_jctx *c, const char *d, size_t len, unsigned flags,
+                           cp_table *t) {
+    size_t open, close, count = 0;
+    if (!cpl_scan_entries(d, len, &open, NULL, NULL)) return CP_EFORMAT;
+    for (int guess = cpl_entries_last(d, len, open, &close);; guess = 0) {
+        if (!guess && !cpl_scan_entries(d, len, &open, &close, &count)) return CP_EFORMAT;
+        /* The document with "entries": [] */
+        size_t hlen;
+        char *head = cpl_header_text(d, len, open, close, &hlen);
+        if (!head) return CP_ENOMEM;
+        json_t *root = json_loadb(head, hlen, JSON_REJECT_DUPLICATES, NULL);
+        free(head);
+        json_t *entries = NULL;
+        int from = CP_TABLE_VERSION;
+        cp_status st = root ? build_header(c, root, flags, t, &entries, &from) : CP_EFORMAT;
+        json_decref(root);
+        if (st == CP_OK) st = load_entries(c, d, open, close, count, from, t);
+        if (st == CP_OK) return cpl_table_index(c, t);
+        if (!guess) return st;
+        cpl_table_clear(t);
+    }
 }
 
 cp_status cp_table_load(const char *path, unsigned flags, cp_table **out, char *msg, size_t cap) {

@@ -34,11 +34,13 @@ enum { K_NULL, K_FALSE, K_TRUE, K_INT, K_REAL, K_STR, K_ARR, K_OBJ, K_SPAN };
 
 typedef struct node {
     uint8_t kind;
-    uint32_t skip;  /* index just past this node's subtree */
-    uint32_t n;     /* elements (array) or key/value pairs (object) */
-    size_t off, len; /* string: its bytes without quotes; K_SPAN: the value's text */
-    int64_t i;
-    double x;       /* K_INT and K_REAL */
+    uint32_t skip;     /* index just past this node's subtree */
+    uint32_t n;        /* elements (array) or key/value pairs (object) */
+    uint32_t off, len; /* string: its bytes without quotes; K_SPAN: the value's text */
+    union {
+        int64_t i; /* K_INT */
+        double x;  /* K_REAL */
+    } v;
 } node;
 
 struct cpl_entry_reader {
@@ -50,12 +52,17 @@ struct cpl_entry_reader {
 };
 
 static int is_ws(char ch) { return ch == ' ' || ch == '\t' || ch == '\n' || ch == '\r'; }
-static void skip_ws(cpl_entry_reader *r) {
-    while (r->p < r->len && is_ws(r->d[r->p])) r->p++;
+static inline void skip_ws(cpl_entry_reader *r) {
+    const char *d = r->d;
+    size_t p = r->p;
+    const size_t len = r->len;
+    while (p < len && is_ws(d[p])) p++;
+    r->p = p;
 }
 
-static long new_node(cpl_entry_reader *r, int kind) {
+static inline long new_node(cpl_entry_reader *r, int kind) {
     if (r->nn == r->cap) {
+        if (r->len > UINT32_MAX) return -1; /* offsets are 32-bit */
         const size_t nc = r->cap ? 2 * r->cap : 256;
         node *nb = nc < UINT32_MAX ? realloc(r->nodes, nc * sizeof *nb) : NULL;
         if (!nb) return -1;
@@ -63,26 +70,26 @@ static long new_node(cpl_entry_reader *r, int kind) {
         r->cap = nc;
     }
     node *n = &r->nodes[r->nn];
-    memset(n, 0, sizeof *n);
     n->kind = (uint8_t)kind;
+    n->n = 0;
     return (long)r->nn++;
 }
 
 /* A string without escapes, control or non-ASCII bytes (the rest declines). */
-static long read_string(cpl_entry_reader *r) {
-    const size_t start = ++r->p;
-    while (r->p < r->len) {
-        const unsigned char ch = (unsigned char)r->d[r->p];
-        if (ch == '"') break;
-        if (ch == '\\' || ch < 0x20 || ch >= 0x80) return -1;
-        r->p++;
+static inline long read_string(cpl_entry_reader *r) {
+    const unsigned char *d = (const unsigned char *)r->d;
+    const size_t start = r->p + 1, len = r->len;
+    size_t p = start;
+    while (p < len && d[p] != '"') {
+        if (d[p] == '\\' || d[p] < 0x20 || d[p] >= 0x80) return -1;
+        p++;
     }
-    if (r->p >= r->len) return -1;
+    if (p >= len) return -1;
     const long k = new_node(r, K_STR);
     if (k < 0) return -1;
-    r->nodes[k].off = start;
-    r->nodes[k].len = r->p - start;
-    r->p++;
+    r->nodes[k].off = (uint32_t)start;
+    r->nodes[k].len = (uint32_t)(p - start);
+    r->p = p + 1;
     r->nodes[k].skip = (uint32_t)r->nn;
     return k;
 }
@@ -91,7 +98,7 @@ static int is_digit(char ch) { return ch >= '0' && ch <= '9'; }
 
 /* RFC 8259 numbers; an integer of at most 18 digits (exact in int64), a real
  * strtod reads whole to a finite value.  Others decline. */
-static long read_number(cpl_entry_reader *r) {
+static inline long read_number(cpl_entry_reader *r) {
     const char *d = r->d;
     const size_t start = r->p;
     size_t p = r->p;
@@ -124,16 +131,15 @@ static long read_number(cpl_entry_reader *r) {
         if (ndigits > 18) return -1;
         int64_t v = 0;
         for (size_t q = digits; q < p; q++) v = v * 10 + (d[q] - '0');
-        n->i = d[start] == '-' ? -v : v;
-        n->x = (double)n->i;
+        n->v.i = d[start] == '-' ? -v : v;
     } else {
         char buf[64];
         if (p - start >= sizeof buf) return -1;
         memcpy(buf, d + start, p - start);
         buf[p - start] = '\0';
         char *end;
-        n->x = strtod(buf, &end);
-        if (end != buf + (p - start) || !isfinite(n->x)) return -1;
+        n->v.x = strtod(buf, &end);
+        if (end != buf + (p - start) || !isfinite(n->v.x)) return -1;
     }
     r->p = p;
     n->skip = (uint32_t)r->nn;
@@ -160,8 +166,8 @@ static long read_span(cpl_entry_reader *r) {
     if (r->p >= r->len) return -1;
     const long k = new_node(r, K_SPAN);
     if (k < 0) return -1;
-    r->nodes[k].off = start;
-    r->nodes[k].len = ++r->p - start;
+    r->nodes[k].off = (uint32_t)start;
+    r->nodes[k].len = (uint32_t)(++r->p - start);
     r->nodes[k].skip = (uint32_t)r->nn;
     return k;
 }
@@ -180,6 +186,7 @@ static long read_object(cpl_entry_reader *r, int depth) {
     skip_ws(r);
     long keys[MAX_KEYS];
     uint32_t n = 0;
+    uint64_t seen = 0;
     if (r->p < r->len && r->d[r->p] == '}') {
         r->p++;
     } else {
@@ -188,8 +195,15 @@ static long read_object(cpl_entry_reader *r, int depth) {
             if (r->p >= r->len || r->d[r->p] != '"' || n == MAX_KEYS) return -1;
             const long key = read_string(r);
             if (key < 0) return -1;
-            for (uint32_t j = 0; j < n; j++) /* jansson: JSON_REJECT_DUPLICATES */
-                if (same_key(r, &r->nodes[keys[j]], &r->nodes[key])) return -1;
+            /* jansson: JSON_REJECT_DUPLICATES.  A 64-bit filter of (length, last
+             * byte) leaves the pairwise comparison to keys that may collide. */
+            const node *kn0 = &r->nodes[key];
+            const unsigned char last = (unsigned char)r->d[kn0->off + kn0->len - (kn0->len > 0)];
+            const uint64_t bit = 1ull << ((kn0->len * 7u + last) & 63u);
+            if (seen & bit)
+                for (uint32_t j = 0; j < n; j++)
+                    if (same_key(r, &r->nodes[keys[j]], kn0)) return -1;
+            seen |= bit;
             keys[n++] = key;
             skip_ws(r);
             if (r->p >= r->len || r->d[r->p] != ':') return -1;
@@ -270,12 +284,13 @@ static long read_value(cpl_entry_reader *r, int depth) {
 /* ---- the fields (the checks are the codec's; see table_entry.c) ---------- */
 
 /* obj.key (obj an object node), NULL when absent. */
-static const node *get(const cpl_entry_reader *r, const node *obj, const char *key) {
-    const size_t klen = strlen(key);
+static inline const node *get(const cpl_entry_reader *r, const node *obj, const char *key) {
+    const size_t klen = strlen(key); /* inlined: a constant for a literal key */
     size_t i = (size_t)(obj - r->nodes) + 1;
     for (uint32_t j = 0; j < obj->n; j++) {
         const node *kn = &r->nodes[i], *v = &r->nodes[i + 1];
-        if (kn->len == klen && memcmp(r->d + kn->off, key, klen) == 0) return v;
+        if (kn->len == klen && r->d[kn->off] == key[0] && memcmp(r->d + kn->off, key, klen) == 0)
+            return v;
         i = v->skip;
     }
     return NULL;
@@ -287,19 +302,23 @@ static const node *get_kind(const cpl_entry_reader *r, const node *obj, const ch
     return v && v->kind == kind ? v : NULL;
 }
 
+/* A number node's value as a double (json_number_value). */
+static double num(const node *v) { return v->kind == K_INT ? (double)v->v.i : v->v.x; }
+static int is_num(const node *v) { return v->kind == K_INT || v->kind == K_REAL; }
+
 /* A number (integer or real), finite, >= 0: cpl_jreal. */
 static int get_real(const cpl_entry_reader *r, const node *obj, const char *key, double *out) {
     const node *v = get(r, obj, key);
-    if (!v || (v->kind != K_INT && v->kind != K_REAL) || !(v->x >= 0.0)) return 0;
-    *out = v->x;
+    if (!v || !is_num(v) || !(num(v) >= 0.0)) return 0;
+    *out = num(v);
     return 1;
 }
 
 static int get_int(const cpl_entry_reader *r, const node *obj, const char *key, int64_t lo,
                    int64_t hi, int64_t *out) {
     const node *v = get_kind(r, obj, key, K_INT);
-    if (!v || v->i < lo || v->i > hi) return 0;
-    *out = v->i;
+    if (!v || v->v.i < lo || v->v.i > hi) return 0;
+    *out = v->v.i;
     return 1;
 }
 
@@ -320,16 +339,43 @@ static int get_text(const cpl_entry_reader *r, const node *obj, const char *key,
     return 1;
 }
 
+/* The key node kn spells k. */
+static int key_is(const cpl_entry_reader *r, const node *kn, const char *k) {
+    const char *t = r->d + kn->off;
+    for (uint32_t i = 0; i < kn->len; i++)
+        if (t[i] != k[i]) return 0; /* also when k ends first */
+    return k[kn->len] == '\0';
+}
+
+/* Read in the object's own order, each key tried first as the one after the
+ * last found (the writer's order): no search per field. */
 static int read_shape(const cpl_entry_reader *r, const node *e, cp_shape *out) {
     const node *sh = get_kind(r, e, "shape", K_OBJ);
     if (!sh) return 0;
     *out = cp_shape_init();
     int64_t *dst[CPL_SHAPE_NKEYS];
     cpl_shape_fields(out, dst);
-    for (size_t i = 0; i < CPL_SHAPE_NKEYS; i++)
-        if (!get_int(r, sh, cpl_shape_keys[i], INT64_MIN, INT64_MAX, dst[i])) return 0;
-    char layout[16];
-    return get_text(r, sh, "layout", layout, sizeof layout) && strcmp(layout, CPL_LAYOUT) == 0 &&
+    uint32_t have = 0;
+    int layout = 0, next = 0;
+    size_t i = (size_t)(sh - r->nodes) + 1;
+    for (uint32_t j = 0; j < sh->n; j++) {
+        const node *kn = &r->nodes[i], *v = &r->nodes[i + 1];
+        int f = -1;
+        for (int t = 0; t < CPL_SHAPE_NKEYS && f < 0; t++)
+            if (key_is(r, kn, cpl_shape_keys[(next + t) % CPL_SHAPE_NKEYS]))
+                f = (next + t) % CPL_SHAPE_NKEYS;
+        if (f >= 0) {
+            if (v->kind != K_INT) return 0;
+            *dst[f] = v->v.i;
+            have |= 1u << f;
+            next = f + 1;
+        } else if (key_is(r, kn, "layout")) {
+            if (v->kind != K_STR || !key_is(r, v, CPL_LAYOUT)) return 0;
+            layout = 1;
+        }
+        i = v->skip;
+    }
+    return have == (1u << CPL_SHAPE_NKEYS) - 1 && layout &&
            cp_shape_validate(out, NULL, 0) == CP_SHAPE_OK;
 }
 
@@ -362,7 +408,7 @@ static int read_algo(const cpl_entry_reader *r, const node *obj, const cp_shape 
             continue;
         }
         if (v->kind != K_INT) return 0;
-        p->v[k] = v->i;
+        p->v[k] = v->v.i;
     }
     return cp_params_check(*a, p, NULL, 0) == CP_OK;
 }
@@ -394,11 +440,10 @@ static int read_runner_up(const cpl_entry_reader *r, const node *e, const cp_cac
     const node *mi = get(r, ru, "margin_interval");
     if (mi && mi->kind != K_NULL) {
         const node *lo = mi + 1, *hi = lo + 1;
-        if (mi->kind != K_ARR || mi->n != 2 || (lo->kind != K_INT && lo->kind != K_REAL) ||
-            (hi->kind != K_INT && hi->kind != K_REAL) || lo->x > hi->x)
+        if (mi->kind != K_ARR || mi->n != 2 || !is_num(lo) || !is_num(hi) || num(lo) > num(hi))
             return 0;
-        out->margin_lo = lo->x;
-        out->margin_hi = hi->x;
+        out->margin_lo = num(lo);
+        out->margin_hi = num(hi);
     }
     return get_bool(r, ru, "in_noise", &out->margin_in_noise);
 }

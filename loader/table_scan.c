@@ -28,9 +28,22 @@ static size_t skip_string(const char *d, size_t len, size_t i) {
     return 0;
 }
 
-/* Finds the top-level "entries" array: d[*open] == '[', d[*close] == ']',
- * *count elements.  0 when the document does not look as expected. */
 int cpl_find_entries(const char *d, size_t len, size_t *open, size_t *close, size_t *count) {
+    return cpl_scan_entries(d, len, open, close, count);
+}
+
+int cpl_entries_last(const char *d, size_t len, size_t open, size_t *close) {
+    size_t k = len;
+    while (k > open && cpl_is_ws(d[k - 1])) k--;
+    if (k <= open || d[k - 1] != '}') return 0;
+    k--;
+    while (k > open && cpl_is_ws(d[k - 1])) k--;
+    if (k <= open + 1 || d[k - 1] != ']') return 0;
+    *close = k - 1;
+    return 1;
+}
+
+int cpl_scan_entries(const char *d, size_t len, size_t *open, size_t *close, size_t *count) {
     size_t i = 0;
     while (i < len && cpl_is_ws(d[i])) i++;
     if (i >= len || d[i] != '{') return 0;
@@ -51,6 +64,7 @@ int cpl_find_entries(const char *d, size_t len, size_t *open, size_t *close, siz
                 if (is_entries) {
                     if (j >= len || d[j] != '[') return 0;
                     *open = j;
+                    if (!close) return 1;
                     /* Counted at one table lookup per byte: only the bytes that
                      * matter to the nesting stop the inner loop (this pass reads
                      * the whole table before any entry is decoded). */
