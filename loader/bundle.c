@@ -1,4 +1,5 @@
-/* Table bundles (convpick/bundle.h): the directory read, each table's device
+/* Table bundles (convpick/bundle.h): the directory read (a bundle file:
+ * bundle_file.c), each table's device
  * taken from its header alone (the entries are skipped by the scanner of
  * table_scan.c), and this machine described the way tables record it. */
 #define _GNU_SOURCE
@@ -6,6 +7,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
 #include "algos/core/cpa.h"
@@ -68,21 +70,26 @@ static cp_status device_of(const cpl_jctx *c, json_t *root, cp_device_desc *d) {
 
 cp_status cpl_bundle_read_device(const char *path, cp_device_desc *d, char *msg, size_t cap) {
     cpl_jctx c = {path, msg, cap};
-    memset(d, 0, sizeof *d);
     char *data;
     size_t len;
     cp_status st = cpl_read_file(&c, path, CPT_MAX_BYTES, "table", CP_TABLE_FORMAT, &data, &len);
     if (st != CP_OK) return st;
+    st = cpl_bundle_text_device(&c, data, len, d);
+    free(data);
+    return st;
+}
+
+cp_status cpl_bundle_text_device(const cpl_jctx *cx, const char *data, size_t len,
+                                 cp_device_desc *d) {
+    const cpl_jctx c = *cx;
+    cp_status st;
+    memset(d, 0, sizeof *d);
     json_t *root = cpl_parse_header(data, len);
     if (!root) { /* not the expected layout: the whole document, for jansson's message */
         json_error_t err;
         root = json_loadb(data, len, JSON_REJECT_DUPLICATES, &err);
-        if (!root) {
-            free(data);
-            return cpl_jfail(&c, CP_EFORMAT, "%d:%d: %s", err.line, err.column, err.text);
-        }
+        if (!root) return cpl_jfail(&c, CP_EFORMAT, "%d:%d: %s", err.line, err.column, err.text);
     }
-    free(data);
     const char *fmt = json_string_value(json_object_get(root, "format"));
     int from;
     if (!fmt || strcmp(fmt, CP_TABLE_FORMAT) != 0)
@@ -103,8 +110,31 @@ static int name_cmp(const void *a, const void *b) {
     return strcmp(*(char *const *)a, *(char *const *)b);
 }
 
+int cp_bundle_is(const char *path) {
+    struct stat sb;
+    if (!path || stat(path, &sb) != 0) return 0;
+    if (S_ISDIR(sb.st_mode)) return 1;
+    char head[32];
+    FILE *f = S_ISREG(sb.st_mode) ? fopen(path, "rb") : NULL;
+    const size_t n = f ? fread(head, 1, sizeof head, f) : 0;
+    if (f) fclose(f);
+    return cpl_bundle_file_magic(head, n);
+}
+
 cp_status cp_bundle_open(const char *dir, cp_bundle **out, char *msg, size_t cap) {
     *out = NULL;
+    struct stat sb;
+    if (dir && stat(dir, &sb) == 0 && !S_ISDIR(sb.st_mode)) { /* a bundle file */
+        cp_bundle *b = calloc(1, sizeof *b);
+        if (!b) return cpa_fail(CP_ENOMEM, msg, cap, "%s: out of memory", dir);
+        const cp_status st = cpl_bundle_read_file(dir, b, msg, cap);
+        if (st != CP_OK) {
+            cp_bundle_free(b);
+            return st;
+        }
+        *out = b;
+        return CP_OK;
+    }
     DIR *dp = dir ? opendir(dir) : NULL;
     if (!dp) return cpa_fail(CP_EIO, msg, cap, "%s: cannot open the bundle directory", dir);
     cp_bundle *b = calloc(1, sizeof *b);
@@ -156,6 +186,9 @@ void cp_bundle_free(cp_bundle *b) {
     for (size_t i = 0; i < b->n; i++) free(b->paths[i]);
     free(b->paths);
     free(b->devs);
+    free(b->data);
+    free(b->off);
+    free(b->size);
     free(b);
 }
 
@@ -163,6 +196,15 @@ size_t cp_bundle_count(const cp_bundle *b) { return b->n; }
 const char *cp_bundle_path(const cp_bundle *b, size_t i) { return i < b->n ? b->paths[i] : ""; }
 const cp_device_desc *cp_bundle_device(const cp_bundle *b, size_t i) {
     return i < b->n ? &b->devs[i] : NULL;
+}
+
+cp_status cp_bundle_table(const cp_bundle *b, size_t i, unsigned flags, cp_table **out,
+                          char *msg, size_t cap) {
+    *out = NULL;
+    if (i >= b->n) return cpa_fail(CP_EINVAL, msg, cap, "bundle table %zu of %zu", i, b->n);
+    if (!b->data) return cp_table_load(b->paths[i], flags, out, msg, cap);
+    return cp_table_load_buffer(b->data + b->off[i], b->size[i], b->paths[i], flags, out, msg,
+                                cap);
 }
 
 cp_status cp_bundle_load(const char *dir, unsigned flags, cp_table **out, cp_bundle_pick *pick,
@@ -177,7 +219,7 @@ cp_status cp_bundle_load(const char *dir, unsigned flags, cp_table **out, cp_bun
     cp_device_describe(&here);
     st = cp_bundle_pick_for(b, &here, pick);
     if (st == CP_OK)
-        st = cp_table_load(cp_bundle_path(b, pick->index), flags, out, msg, cap);
+        st = cp_bundle_table(b, pick->index, flags, out, msg, cap);
     else if (msg && cap)
         snprintf(msg, cap, "%s", pick->why);
     cp_bundle_free(b);

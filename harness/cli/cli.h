@@ -41,5 +41,6 @@ int cph_cmd_model(int argc, char **argv);
 int cph_cmd_show(int argc, char **argv);
 int cph_cmd_report(int argc, char **argv);
 int cph_cmd_gather(int argc, char **argv);
+int cph_cmd_pack(int argc, char **argv);
 
 #endif

@@ -18,7 +18,8 @@ static void usage(FILE *f) {
           "Prints the algorithm and parameters the table gives for the layer SPEC\n"
           "(e.g. n=1,c=64,h=56,w=56,k=64,r=3,s=3,pad=1) and whether the answer is\n"
           "exact, approximate (nearest compatible entry) or the default.  Given a BUNDLE\n"
-          "(a directory of tables for several machines), it first picks the table for\n"
+          "(a directory of tables for several machines, or one bundle file written by\n"
+          "convpick pack), it first picks the table for\n"
           "this machine (exact fingerprint, else the nearest by ISA features, cache sizes\n"
           "and CPU count; docs/table-format.md) and says which and why.\n\n"
           "the layer:\n"
@@ -146,8 +147,7 @@ static int lookup(const lookup_opts *o) {
     if (cph_parse_shape(o->spec, NULL, &shape, msg, sizeof msg) != CP_OK)
         return cph_opt_error("lookup", "--shape", "'%s': %s", o->spec, msg);
     cp_table *t = NULL;
-    struct stat sb;
-    const int is_bundle = stat(o->path, &sb) == 0 && S_ISDIR(sb.st_mode);
+    const int is_bundle = cp_bundle_is(o->path); /* a directory or a bundle file */
     cp_bundle_pick pick;
     pick.kind = CP_PICK_EXACT;
     cp_status st = is_bundle ? cp_bundle_load(o->path, o->flags, &t, &pick, msg, sizeof msg)

@@ -24,6 +24,7 @@ static const command commands[] = {
     {"model", cph_cmd_model, "write the Conv layers of an ONNX model as a shape file"},
     {"cache", cph_cmd_cache, "cache cost of true convolution vs cross-correlation (simulated, counted)"},
     {"gather", cph_cmd_gather, "combine the tables of a sharded tune into one table"},
+    {"pack", cph_cmd_pack, "pack tables of several machines into one bundle file"},
     {"diff", cph_cmd_diff, "compare two bench results or tables: faster, slower, unchanged"},
     {"show", cph_cmd_show, "print a tuning table: every entry's choice, margin, and the totals"},
     {"report", cph_cmd_report, "write one HTML page of tables, bench results, roofs, cache study"},

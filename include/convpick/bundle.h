@@ -1,7 +1,10 @@
 /* Table bundles: one program shipped with tuning tables for several kinds of
- * machine.  A bundle is a directory holding tables (*.json, full or lean,
- * each of one device; *.evidence.json side files are not tables and are
- * skipped).  The library picks the table for the running machine:
+ * machine.  A bundle is either a directory holding tables (*.json, full or
+ * lean, each of one device; *.evidence.json side files are not tables and are
+ * skipped), or one bundle file holding several tables (line-framed, written by
+ * `convpick pack`; docs/table-format.md, "Bundle files").  Both are read by
+ * the functions below, given the directory or the file.  The library picks
+ * the table for the running machine:
  *
  *  1. exact: a table whose device fingerprint is this machine's;
  *  2. nearest: among tables whose ISA features are all present here (a table
@@ -40,13 +43,19 @@ void cp_device_describe(cp_device_desc *out);
 
 typedef struct cp_bundle cp_bundle;
 
-/* Reads the device of every table in dir (headers only).  A file that is
- * not a valid table is an error naming it (CP_EFORMAT ...); an empty bundle
- * is CP_ENOTFOUND. */
+/* 1 when path is a directory or a bundle file (its first line says so). */
+int cp_bundle_is(const char *path);
+
+/* Reads the device of every table in the bundle dir (a directory or a bundle
+ * file; headers only).  A table that is not valid is an error naming it
+ * (CP_EFORMAT "dir/t.json: ..." or "file.bundle:t.json: ..."); a bundle file
+ * whose framing is wrong says the line ("file.bundle:7: ..."); an empty
+ * bundle is CP_ENOTFOUND. */
 cp_status cp_bundle_open(const char *dir, cp_bundle **out, char *msg, size_t cap);
 void cp_bundle_free(cp_bundle *b);
 size_t cp_bundle_count(const cp_bundle *b);
-/* The i-th table's path (sorted by file name) and device. */
+/* The i-th table's path (sorted by file name; "file.bundle:name" in a bundle
+ * file) and device. */
 const char *cp_bundle_path(const cp_bundle *b, size_t i);
 const cp_device_desc *cp_bundle_device(const cp_bundle *b, size_t i);
 
@@ -62,7 +71,12 @@ typedef struct cp_bundle_pick {
  * CP_ENOTFOUND for CP_PICK_NONE. */
 cp_status cp_bundle_pick_for(const cp_bundle *b, const cp_device_desc *dev, cp_bundle_pick *out);
 
-/* Opens dir, picks for this machine and loads the table picked (flags as
+/* Loads the i-th table of the bundle (flags as cp_table_load; messages name
+ * it as cp_bundle_path does). */
+cp_status cp_bundle_table(const cp_bundle *b, size_t i, unsigned flags, cp_table **out,
+                          char *msg, size_t cap);
+
+/* Opens dir (a directory or a bundle file), picks for this machine and loads the table picked (flags as
  * cp_table_load).  pick (may be NULL) says which and why; with no match,
  * *out is NULL and the status CP_ENOTFOUND. */
 cp_status cp_bundle_load(const char *dir, unsigned flags, cp_table **out, cp_bundle_pick *pick,

@@ -4,7 +4,9 @@
  * machines.  Every expected pick is worked by hand from the rules written in
  * convpick/bundle.h (exact fingerprint; else ISA features a subset, most
  * features; then cache distance; then CPU count; then file name), no
- * outside source. */
+ * outside source.  The same picks from a bundle file (convpick pack of the
+ * directory), and the bundle file's framing errors with the line each names,
+ * counted by hand from the format of docs/table-format.md, "Bundle files". */
 #define _GNU_SOURCE
 #include <setjmp.h>
 #include <stdarg.h>
@@ -20,6 +22,7 @@
 #include "tests/support/suite.h"
 
 #include "convpick/convpick.h"
+#include "harness/io/bundle_pack.h"
 #include "harness/io/table_write.h"
 #include "harness/machine/machine.h"
 
@@ -94,6 +97,19 @@ static void clear_dir(void) {
     assert_int_equal(system(cmd), 0);
 }
 
+/* The bundle the picks read: the directory, or a bundle file packed from it. */
+static char packed[96];
+static int use_file;
+
+static const char *bundle_path(void) {
+    if (!use_file) return dir;
+    char msg[512];
+    const char *in[] = {dir};
+    size_t n;
+    assert_int_equal(cph_bundle_pack(in, 1, packed, &n, msg, sizeof msg), CP_OK);
+    return packed;
+}
+
 /* Picks for the invented machine; returns the file picked ("" for none). */
 static const char *pick(const char *topo, uint32_t isa, const char *fp, cp_bundle_pick *p) {
     static char name[64];
@@ -104,12 +120,17 @@ static const char *pick(const char *topo, uint32_t isa, const char *fp, cp_bundl
     cph_machine_free(&m);
     cp_bundle *b;
     char msg[512];
-    assert_int_equal(cp_bundle_open(dir, &b, msg, sizeof msg), CP_OK);
+    assert_int_equal(cp_bundle_open(bundle_path(), &b, msg, sizeof msg), CP_OK);
     const cp_status st = cp_bundle_pick_for(b, &here, p);
     name[0] = '\0';
     if (st == CP_OK) {
         const char *path = cp_bundle_path(b, p->index);
-        snprintf(name, sizeof name, "%s", strrchr(path, '/') + 1);
+        snprintf(name, sizeof name, "%s", strrchr(path, use_file ? ':' : '/') + 1);
+        /* the table picked loads, and is the device's */
+        cp_table *t;
+        assert_int_equal(cp_bundle_table(b, p->index, 0, &t, msg, sizeof msg), CP_OK);
+        assert_string_equal(cp_table_fingerprint(t), cp_bundle_device(b, p->index)->fingerprint);
+        cp_table_free(t);
     } else {
         assert_int_equal(st, CP_ENOTFOUND);
     }
@@ -198,18 +219,137 @@ static void test_bundle_errors(void **state) {
     assert_non_null(strstr(msg, "broken.json"));
 }
 
+/* The picks of every test above, from a bundle file packed from the
+ * directory: the same answers. */
+static void test_bundle_file_picks(void **state) {
+    use_file = 1;
+    test_exact_fingerprint_first(state);
+    test_isa_before_caches(state);
+    test_caches_then_cpus(state);
+    test_no_match(state);
+    use_file = 0;
+}
+
+/* Writes text to the bundle file path, opens it, expects st and the message
+ * to contain want. */
+static void expect_bad(const char *text, size_t len, cp_status want_st, const char *want) {
+    FILE *f = fopen(packed, "wb");
+    assert_non_null(f);
+    assert_int_equal(fwrite(text, 1, len, f), len);
+    fclose(f);
+    cp_bundle *b = NULL;
+    char msg[512] = "";
+    const cp_status st = cp_bundle_open(packed, &b, msg, sizeof msg);
+    printf("  %s\n", msg);
+    assert_null(b);
+    assert_int_equal(st, want_st);
+    char full[256];
+    snprintf(full, sizeof full, "%s%s", packed, want);
+    assert_non_null(strstr(msg, full));
+}
+
+/* Framing errors.  The table used is a real one (a.json below), whose line
+ * count n the expected line numbers add. */
+static void test_bundle_file_errors(void **state) {
+    (void)state;
+    clear_dir();
+    table_for("a.json", big16, HASWELLISH, "aaaaaaaaaaaaaaaa");
+    char path[128];
+    snprintf(path, sizeof path, "%s/a.json", dir);
+    FILE *f = fopen(path, "rb");
+    assert_non_null(f);
+    static char tab[1 << 16];
+    const size_t tlen = fread(tab, 1, sizeof tab, f);
+    fclose(f);
+    assert_true(tlen > 0 && tlen < sizeof tab);
+    size_t lines = 0; /* newlines in the table */
+    for (size_t i = 0; i < tlen; i++) lines += tab[i] == '\n';
+    static char buf[1 << 17];
+    char want[160];
+#define FRAME(...) (size_t) snprintf(buf, sizeof buf, __VA_ARGS__)
+    /* line 1 */
+    expect_bad("convpick-tuning-table 1\nend\n", 26, CP_EFORMAT,
+               ":1: not a convpick table bundle");
+    expect_bad("convpick-table-bundle 2\nend\n", 28, CP_EVERSION,
+               ":1: bundle version '2' is not supported");
+    /* the frame line */
+    size_t n = FRAME("convpick-table-bundle 1\ntabel a.json 3\n");
+    expect_bad(buf, n, CP_EFORMAT, ":2: expected 'table NAME BYTES' or 'end', found 'tabel a.json 3'");
+    n = FRAME("convpick-table-bundle 1\ntable ../a.json 3\n");
+    expect_bad(buf, n, CP_EFORMAT, ":2: table name '../a.json': expected a plain file name");
+    n = FRAME("convpick-table-bundle 1\ntable a.json 3x\n");
+    expect_bad(buf, n, CP_EFORMAT, ":2: table 'a.json': size '3x' is not a byte count");
+    /* sizes that do not fit the bytes */
+    n = FRAME("convpick-table-bundle 1\ntable a.json %zu\n%.*s\nend\n", tlen + 100, (int)tlen, tab);
+    snprintf(want, sizeof want, ":2: table 'a.json': %zu bytes declared, only %zu left", tlen + 100,
+             tlen + 5);
+    expect_bad(buf, n, CP_EFORMAT, want);
+    /* (the table file ends in a newline: two bytes short ends the frame on its "}") */
+    n = FRAME("convpick-table-bundle 1\ntable a.json %zu\n%.*s\nend\n", tlen - 2, (int)tlen, tab);
+    expect_bad(buf, n, CP_EFORMAT, ":2: table 'a.json': its");
+    /* order, ending, trailing bytes: lines after a table count its lines */
+    n = FRAME("convpick-table-bundle 1\ntable b.json %zu\n%.*s\ntable a.json %zu\n%.*s\nend\n",
+              tlen, (int)tlen, tab, tlen, (int)tlen, tab);
+    snprintf(want, sizeof want, ":%zu: table 'a.json' after 'b.json'", 2 + lines + 2);
+    expect_bad(buf, n, CP_EFORMAT, want);
+    n = FRAME("convpick-table-bundle 1\ntable a.json %zu\n%.*s\n", tlen, (int)tlen, tab);
+    snprintf(want, sizeof want, ":%zu: no 'end' line", 2 + lines + 2);
+    expect_bad(buf, n, CP_EFORMAT, want);
+    n = FRAME("convpick-table-bundle 1\ntable a.json %zu\n%.*s\nend\nx", tlen, (int)tlen, tab);
+    snprintf(want, sizeof want, ":%zu: 1 bytes after the 'end' line", 2 + lines + 3);
+    expect_bad(buf, n, CP_EFORMAT, want);
+    /* no tables; a table that is not one (named FILE:NAME, its own message) */
+    expect_bad("convpick-table-bundle 1\nend\n", 28, CP_ENOTFOUND, ": no tables in the bundle");
+    n = FRAME("convpick-table-bundle 1\ntable a.json 7\n{\"a\":1}\nend\n");
+    expect_bad(buf, n, CP_EFORMAT, ":a.json: format: not a convpick-tuning-table");
+    /* and the well-formed file loads */
+    n = FRAME("convpick-table-bundle 1\ntable a.json %zu\n%.*s\nend\n", tlen, (int)tlen, tab);
+    f = fopen(packed, "wb");
+    assert_non_null(f);
+    assert_int_equal(fwrite(buf, 1, n, f), n);
+    fclose(f);
+    cp_bundle *b;
+    char msg[512];
+    assert_int_equal(cp_bundle_open(packed, &b, msg, sizeof msg), CP_OK);
+    assert_int_equal(cp_bundle_count(b), 1);
+    assert_string_equal(cp_bundle_device(b, 0)->fingerprint, "aaaaaaaaaaaaaaaa");
+    cp_bundle_free(b);
+#undef FRAME
+}
+
+/* pack refuses two tables of one device, and writes nothing then. */
+static void test_pack_refusals(void **state) {
+    (void)state;
+    clear_dir();
+    unlink(packed);
+    table_for("a.json", big16, HASWELLISH, "aaaaaaaaaaaaaaaa");
+    table_for("b.json", big8, HASWELLISH, "aaaaaaaaaaaaaaaa");
+    const char *in[] = {dir};
+    size_t n;
+    char msg[512];
+    assert_int_equal(cph_bundle_pack(in, 1, packed, &n, msg, sizeof msg), CP_EFORMAT);
+    printf("  %s\n", msg);
+    assert_non_null(strstr(msg, "two tables of device aaaaaaaaaaaaaaaa"));
+    assert_int_equal(access(packed, F_OK), -1);
+}
+
 int main(void) {
     snprintf(dir, sizeof dir, "/tmp/cp_bundle_XXXXXX");
     if (!mkdtemp(dir)) return 1;
+    snprintf(packed, sizeof packed, "%s.bundle", dir); /* beside, not in, the directory */
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_exact_fingerprint_first),
         cmocka_unit_test(test_isa_before_caches),
         cmocka_unit_test(test_caches_then_cpus),
         cmocka_unit_test(test_no_match),
         cmocka_unit_test(test_bundle_errors),
+        cmocka_unit_test(test_bundle_file_picks),
+        cmocka_unit_test(test_bundle_file_errors),
+        cmocka_unit_test(test_pack_refusals),
     };
     const int failures = cmocka_run_group_tests(tests, NULL, NULL);
     clear_dir();
     rmdir(dir);
+    unlink(packed);
     return cpt_suite_status(failures, sizeof tests / sizeof tests[0]);
 }
