@@ -16,6 +16,10 @@
 /* Internal loader flag (beside the CP_TABLE_ flags): parse the whole document
  * as one tree, the reference the fast path is checked against (fuzz). */
 #define CPT_LOAD_WHOLE (1u << 30)
+/* Internal loader flag: each entry as a jansson tree, the entry reader
+ * (table_read.c) off: the loader as it was before the reader, for the load
+ * benchmark's ratio (experiments/table_load_bench.c). */
+#define CPT_LOAD_TREES (1u << 29)
 
 struct cp_table {
     char fingerprint[17];

@@ -76,7 +76,8 @@ static cp_status load_whole(const cpl_jctx *c, const char *data, size_t len, uns
  * close).  Each entry by the entry reader (table_read.c), or, when it
  * declines, as a jansson tree (JSON_DISABLE_EOF_CHECK gives where it ended). */
 static cp_status load_entries(const cpl_jctx *c, const char *d, size_t open, size_t close,
-                              size_t count, int from, cp_table *t) {
+                              size_t count, int from, unsigned flags, cp_table *t) {
+    const int reader = from == CP_TABLE_VERSION && !(flags & CPT_LOAD_TREES);
     cp_status st = count ? cpl_table_alloc(c, t, count) : CP_OK;
     cpl_entry_reader *rd = NULL;
     size_t p = open + 1;
@@ -85,7 +86,7 @@ static cp_status load_entries(const cpl_jctx *c, const char *d, size_t open, siz
     for (size_t i = 0; st == CP_OK && !empty && (count ? i < count : p < close); i++) {
         if (!count && (st = cpl_table_reserve(c, t, i + 1)) != CP_OK) break;
         size_t used;
-        if (from == CP_TABLE_VERSION && cpl_read_entry(&rd, c, d + p, close - p, t, i, &used)) {
+        if (reader && cpl_read_entry(&rd, c, d + p, close - p, t, i, &used)) {
             p += used;
         } else { /* declined (version 1, or not as the reader takes it): the tree */
             json_error_t err;
@@ -139,7 +140,7 @@ static cp_status load_fast(const cpl_jctx *c, const char *d, size_t len, unsigne
         int from = CP_TABLE_VERSION;
         cp_status st = root ? build_header(c, root, flags, t, &entries, &from) : CP_EFORMAT;
         json_decref(root);
-        if (st == CP_OK) st = load_entries(c, d, open, close, count, from, t);
+        if (st == CP_OK) st = load_entries(c, d, open, close, count, from, flags, t);
         if (st == CP_OK) return cpl_table_index(c, t);
         if (!guess) return st;
         cpl_table_clear(t);
@@ -171,7 +172,7 @@ cp_status cp_table_load_buffer(const void *data, size_t len, const char *name, u
     cp_status st = (flags & CPT_LOAD_WHOLE) ? CP_EFORMAT : load_fast(&c, data, len, flags, t);
     if (st != CP_OK) {
         cpl_table_clear(t);
-        st = load_whole(&c, data, len, flags & ~(unsigned)CPT_LOAD_WHOLE, t);
+        st = load_whole(&c, data, len, flags & ~(unsigned)(CPT_LOAD_WHOLE | CPT_LOAD_TREES), t);
     }
     if (st != CP_OK) {
         cp_table_free(t);

@@ -51,12 +51,21 @@ struct cpl_entry_reader {
     size_t cand_span; /* node index of the entry's "candidates" span, 0 none */
 };
 
-static int is_ws(char ch) { return ch == ' ' || ch == '\t' || ch == '\n' || ch == '\r'; }
+/* Byte classes, one lookup per byte in the two loops that see most bytes:
+ * white space between tokens, and string contents (which stop at '"' and at
+ * what this reader declines: '\\', control bytes, bytes outside ASCII). */
+enum { C_WS = 1, C_STR_STOP = 2 };
+static const unsigned char byte_class[256] = {
+    [0x00 ... 0x08] = C_STR_STOP, ['\t'] = C_WS | C_STR_STOP, ['\n'] = C_WS | C_STR_STOP,
+    [0x0b ... 0x0c] = C_STR_STOP, ['\r'] = C_WS | C_STR_STOP, [0x0e ... 0x1f] = C_STR_STOP,
+    [' '] = C_WS, ['"'] = C_STR_STOP, ['\\'] = C_STR_STOP, [0x80 ... 0xff] = C_STR_STOP,
+};
+
 static inline void skip_ws(cpl_entry_reader *r) {
-    const char *d = r->d;
+    const unsigned char *d = (const unsigned char *)r->d;
     size_t p = r->p;
     const size_t len = r->len;
-    while (p < len && is_ws(d[p])) p++;
+    while (p < len && (byte_class[d[p]] & C_WS)) p++;
     r->p = p;
 }
 
@@ -80,11 +89,8 @@ static inline long read_string(cpl_entry_reader *r) {
     const unsigned char *d = (const unsigned char *)r->d;
     const size_t start = r->p + 1, len = r->len;
     size_t p = start;
-    while (p < len && d[p] != '"') {
-        if (d[p] == '\\' || d[p] < 0x20 || d[p] >= 0x80) return -1;
-        p++;
-    }
-    if (p >= len) return -1;
+    while (p < len && !(byte_class[d[p]] & C_STR_STOP)) p++;
+    if (p >= len || d[p] != '"') return -1;
     const long k = new_node(r, K_STR);
     if (k < 0) return -1;
     r->nodes[k].off = (uint32_t)start;
