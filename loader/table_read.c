@@ -185,18 +185,34 @@ static int same_key(const cpl_entry_reader *r, const node *a, const node *b) {
 
 static long read_value(cpl_entry_reader *r, int depth);
 
+/* After '{' or '[': 1 when the container closes at once (consumed). */
+static int opens_empty(cpl_entry_reader *r, char close) {
+    r->p++;
+    skip_ws(r);
+    if (r->p < r->len && r->d[r->p] == close) {
+        r->p++;
+        return 1;
+    }
+    return 0;
+}
+
+/* After a member: 1 when the container closes (consumed), 0 after a ','
+ * (another member follows), -1 otherwise. */
+static int member_end(cpl_entry_reader *r, char close) {
+    skip_ws(r);
+    if (r->p >= r->len) return -1;
+    const char ch = r->d[r->p++];
+    return ch == close ? 1 : ch == ',' ? 0 : -1;
+}
+
 static long read_object(cpl_entry_reader *r, int depth) {
     const long k = new_node(r, K_OBJ);
     if (k < 0) return -1;
-    r->p++;
-    skip_ws(r);
     long keys[MAX_KEYS];
     uint32_t n = 0;
     uint64_t seen = 0;
-    if (r->p < r->len && r->d[r->p] == '}') {
-        r->p++;
-    } else {
-        for (;;) {
+    if (!opens_empty(r, '}')) {
+        for (int end = 0; !end;) {
             skip_ws(r);
             if (r->p >= r->len || r->d[r->p] != '"' || n == MAX_KEYS) return -1;
             const long key = read_string(r);
@@ -222,14 +238,7 @@ static long read_object(cpl_entry_reader *r, int depth) {
             const long v = cands ? read_span(r) : read_value(r, depth + 1);
             if (v < 0) return -1;
             if (cands) r->cand_span = (size_t)v;
-            skip_ws(r);
-            if (r->p >= r->len) return -1;
-            if (r->d[r->p] == '}') {
-                r->p++;
-                break;
-            }
-            if (r->d[r->p] != ',') return -1;
-            r->p++;
+            if ((end = member_end(r, '}')) < 0) return -1;
         }
     }
     r->nodes[k].n = n;
@@ -240,24 +249,11 @@ static long read_object(cpl_entry_reader *r, int depth) {
 static long read_array(cpl_entry_reader *r, int depth) {
     const long k = new_node(r, K_ARR);
     if (k < 0) return -1;
-    r->p++;
-    skip_ws(r);
     uint32_t n = 0;
-    if (r->p < r->len && r->d[r->p] == ']') {
-        r->p++;
-    } else {
-        for (;;) {
+    if (!opens_empty(r, ']')) {
+        for (int end = 0; !end; n++) {
             skip_ws(r);
-            if (read_value(r, depth + 1) < 0) return -1;
-            n++;
-            skip_ws(r);
-            if (r->p >= r->len) return -1;
-            if (r->d[r->p] == ']') {
-                r->p++;
-                break;
-            }
-            if (r->d[r->p] != ',') return -1;
-            r->p++;
+            if (read_value(r, depth + 1) < 0 || (end = member_end(r, ']')) < 0) return -1;
         }
     }
     r->nodes[k].n = n;
