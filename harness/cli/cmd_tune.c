@@ -32,7 +32,7 @@ static void usage(FILE *f) {
           "  --max-rounds N      rounds at most (default: 40)\n"
           "  --alpha A           level of the race's drop test and of the margin's interval\n"
           "                      (1 - A) (default: 0.05)\n"
-          "  --no-place          trial buffers page-aligned instead of at random offsets\n"
+          "  --no-place          trial buffers and plans on the heap, 64-byte aligned, instead of at\n                      random offsets on huge-page regions (docs/measurement.md)\n"
           "                      (default: random offsets)\n"
           "  --max-rel-err X     disqualify candidates whose error exceeds X (default: 1e-4)\n"
           "  --max-candidates N  parameter sets per algorithm (default: 16)\n",

@@ -103,15 +103,14 @@ typedef struct {
     const cph_tune_request *rq;
     cph_trial_setup setup;
     const cph_planned **who; /* qualified candidates, by race index */
-    uint64_t rng;            /* buffer placement */
 } race_ctx;
 
 static int race_trial(void *arg, size_t cand, size_t round, double *median, double *wall) {
     race_ctx *r = arg;
     (void)round;
     char why[256];
-    return cph_trial_run(&r->setup, r->who[cand]->algo, &r->who[cand]->params, &r->rng, median,
-                         wall, why, sizeof why);
+    return cph_trial_run(&r->setup, r->who[cand]->algo, &r->who[cand]->params, median, wall, why,
+                         sizeof why);
 }
 
 /* What the race did with one candidate, for the table's notes. */
@@ -181,6 +180,7 @@ cp_status cph_tune_layer(const cph_tune_request *rq, cp_table_entry *entry,
     const cph_planned **who = NULL; /* qualified candidates' plans, by race index */
     size_t *slot_of = NULL;         /* their slot in cands */
     cph_race_result race = {0};
+    cph_placer *placer = NULL;
     size_t np = 0, nc = 0, nq = 0;
     cp_status st = CP_OK;
     if (!plan || tensors_make(&t, s, rq->flip, o->seed) != 0) {
@@ -259,10 +259,15 @@ cp_status cph_tune_layer(const cph_tune_request *rq, cp_table_entry *entry,
     }
 
     /* 2. The race, on what the budget has left. */
+    placer = o->place ? cph_placer_create(CPH_PLACE_SPAN_DEFAULT, o->seed ^ 0x5eed) : NULL;
+    if (o->place && !placer) {
+        st = cpa_fail(CP_ENOMEM, msg, cap, "%s: out of memory for the trials' buffers", layer->name);
+        goto out;
+    }
     race_ctx rc = {rq,
                    {s, rq->flip, rq->threads, caches, rq->exec, t.x, t.w, t.bias, o->timing,
-                    o->place},
-                   who, o->seed ^ 0x5eed};
+                    placer},
+                   who};
     cph_race_opts ro = o->race;
     ro.budget_seconds = o->budget_seconds - (cph_now() - t0);
     ro.seed = o->seed;
@@ -334,6 +339,7 @@ out:
         free(cands);
     }
     cph_race_free(&race);
+    cph_placer_destroy(placer);
     free(who);
     free(slot_of);
     free(plan);

@@ -41,7 +41,7 @@ typedef struct cph_tune_opts {
     uint64_t seed;           /* test data */
     int max_candidates;      /* per algorithm, including its defaults */
     cph_race_opts race;      /* rounds and drop level; its budget and seed are set per layer */
-    int place;               /* 1: trial buffers at random offsets (default); 0: aligned */
+    int place;               /* 1: every block of a trial placed by a placer (placer.h, default); 0: heap */
     int isolate;             /* 1: a plugin candidate's checking run in a child process */
 } cph_tune_opts;
 
