@@ -18,6 +18,7 @@
 #include "harness/machine/pool.h"
 #include "harness/measure/data.h"
 #include "harness/select/shape_spec.h"
+#include "harness/measure/control.h"
 #include "harness/tune/trial.h"
 
 int main(int argc, char **argv) {
@@ -82,16 +83,23 @@ int main(int argc, char **argv) {
     cph_timing_defaults(&t.timing);
     t.timing.warmup = 1;
     t.timing.min_samples = t.timing.max_samples = 5;
+    cph_control ctl;
+    if (cph_control_init(&ctl, m.avx512f, m.avx2 && m.fma) != CP_OK) {
+        fprintf(stderr, "out of memory for the control\n");
+        return 1;
+    }
     int rc = 0;
     for (int i = 0; i < trials && rc == 0; i++) {
-        double med, wall;
+        double med, wall, fma, gemm;
         if (cph_trial_run(&t, algo, &params, &med, &wall, msg, sizeof msg) != 0) {
             fprintf(stderr, "%s\n", msg);
             rc = 1;
         } else {
-            printf("%s,%d,%.9g\n", argv[5], i, med);
+            cph_control_trial(&ctl, 5, &fma, &gemm);
+            printf("%s,%d,%.9g,%.9g,%.9g\n", argv[5], i, med, fma, gemm);
         }
     }
+    cph_control_free(&ctl);
     if (pl) {
         cph_placer_stats st;
         cph_placer_stats_get(pl, &st);
