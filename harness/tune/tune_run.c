@@ -301,16 +301,21 @@ int cph_tune_run(const cph_tune_job *job) {
             fprintf(stderr, "convpick tune: interrupted; %s holds %zu finished entries (--resume "
                             "completes it)\n", job->out, cph_table_doc_count(t->doc));
             rc = 130;
-        } else if (rc == CPH_EXIT_OK) {
+        }
+        if (rc == CPH_EXIT_OK) {
             if (!job->quiet)
                 fprintf(stderr, "convpick tune: wrote %s (%zu entries)\n", job->out,
                         cph_table_doc_count(t->doc));
+            /* the table's summary, its network totals included */
             print_summary(t);
             if (t->failures) rc = CPH_EXIT_FAIL;
+        } else {
+            /* No summary of a table left unfinished: what the network cost
+             * so far, from the entries measured. */
+            for (int ti = 0; ti < t->nt; ti++)
+                for (int mi = 0; mi < job->sel->nflips && mi < 2; mi++)
+                    cph_net_print(stdout, &t->nets[ti][mi]);
         }
-        /* What the whole network costs, also after an interruption (then partial). */
-        for (int ti = 0; ti < t->nt; ti++)
-            for (int mi = 0; mi < job->sel->nflips && mi < 2; mi++) cph_net_print(stdout, &t->nets[ti][mi]);
     }
     if (t->doc) cph_table_doc_free(t->doc);
     if (t->have_ctl) cph_control_free(&t->ctl);
