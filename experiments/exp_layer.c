@@ -26,16 +26,15 @@ int exp_layer_open(exp_layer *e, const char *shape, const char *algo, int thread
         return 1;
     }
     e->caches = cph_machine_caches(&e->m);
-    e->exec = cp_exec_serial();
-    if (threads > 1) {
-        int pinned = 0;
-        if (cph_pool_create(&e->m, threads, &e->pool, &pinned, msg, sizeof msg) != CP_OK) {
-            fprintf(stderr, "%s\n", msg);
-            cph_machine_free(&e->m);
-            return 1;
-        }
-        e->exec = cph_pool_exec(e->pool);
+    /* A pool at one thread too, as tune and bench make it: it pins the
+     * workers and holds OpenBLAS at one thread (pool.h). */
+    int pinned = 0;
+    if (cph_pool_create(&e->m, threads, &e->pool, &pinned, msg, sizeof msg) != CP_OK) {
+        fprintf(stderr, "%s\n", msg);
+        cph_machine_free(&e->m);
+        return 1;
     }
+    e->exec = cph_pool_exec(e->pool);
     const size_t nx = cp_shape_input_elems(&e->s), nw = cp_shape_weight_elems(&e->s);
     e->x = malloc(nx * sizeof *e->x);
     e->w = malloc(nw * sizeof *e->w);

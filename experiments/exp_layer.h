@@ -1,6 +1,7 @@
 /* What both measurement experiments set up the same way: one layer, one
- * algorithm, the machine, a pinned pool for more than one thread, and the
- * layer's test tensors.  Not part of the product. */
+ * algorithm, the machine, a pinned pool (at one thread too, as tune and bench
+ * make it: it also holds OpenBLAS at one thread), and the layer's test
+ * tensors.  Not part of the product. */
 #ifndef CONVPICK_EXP_LAYER_H
 #define CONVPICK_EXP_LAYER_H
 
@@ -15,7 +16,7 @@ typedef struct exp_layer {
     cph_machine m;
     cp_cache_sizes caches;
     cph_pool *pool;
-    cp_exec exec;          /* the pool's, or serial */
+    cp_exec exec;          /* the pool's */
     float *x, *w, *bias;   /* the layer's tensors, uniform random */
 } exp_layer;
 

@@ -105,7 +105,9 @@ int main(int argc, char **argv) {
     const size_t nx = cp_shape_input_elems(&s), ny = cp_shape_output_elems(&s);
     const float *x0 = L.x, *w = L.w, *bias = L.bias;
     const cp_cache_sizes caches = L.caches;
-    cp_exec exec = L.exec;
+    /* One thread: on the calling thread, whose pinning is a factor here (the
+     * pool still holds OpenBLAS at one thread). */
+    cp_exec exec = threads == 1 ? cp_exec_serial() : L.exec;
 
     /* The grid; pinning varies only at one thread (the pool pins its workers). */
     config cfg[NYOFF * 8];
