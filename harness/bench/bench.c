@@ -16,6 +16,7 @@
 #include "harness/io/report_json.h"
 #include "harness/machine/membudget.h"
 #include "harness/machine/pool.h"
+#include "harness/measure/stats.h"
 
 /* The machine, the thread counts, the memory check, the table; the exit code
  * of a failure, or -1. */
@@ -48,6 +49,11 @@ static int setup(cph_bench_state *r, cph_bench_cfg *c) {
                      cp_table_fingerprint(r->table));
     }
     if (c->timing.cold) c->timing.flush_bytes = 2 * cph_machine_llc_total(&r->m);
+    cph_control_init(&r->control);
+    if (c->place && !(r->placer = cph_placer_create(CPH_PLACE_SPAN_DEFAULT, c->sel.seed ^ 0x5eed))) {
+        cph_err("bench: out of memory for the trials' buffers");
+        return CPH_EXIT_FAIL;
+    }
     if (c->json_path && !(r->results = json_array())) {
         cph_err("bench: out of memory");
         return CPH_EXIT_FAIL;
@@ -116,6 +122,7 @@ static int rows(cph_bench_state *r, const cph_bench_cfg *c) {
     char msg[512];
     int rc = CPH_EXIT_OK;
     cph_bench_print_header(r);
+    r->t0 = cph_now();
     for (int ti = 0; ti < r->nthreads && rc == CPH_EXIT_OK; ti++) {
         cph_pool *pool = NULL;
         int pinned = 0;
@@ -131,6 +138,26 @@ static int rows(cph_bench_state *r, const cph_bench_cfg *c) {
         cph_pool_destroy(pool);
     }
     return rc == CPH_EXIT_OK && r->failures ? CPH_EXIT_FAIL : rc;
+}
+
+/* The control's trials in one line per series: their spread over the run
+ * says how much the machine moved while the rows ran. */
+static void control_print(const cph_bench_state *r) {
+    for (int s = 0; s < CPH_CONTROL_NSERIES; s++) {
+        const cph_control_trial *t = r->control.t[s];
+        const size_t n = r->control.n[s];
+        if (!n) continue;
+        double *v = malloc(n * sizeof *v);
+        if (!v) return;
+        for (size_t i = 0; i < n; i++) v[i] = t[i].median;
+        cph_sort_doubles(v, n);
+        printf("%scontrol %-5s %zu trials: median %.4f ms, fastest %.4f ms, slowest %.4f ms "
+               "(%.2fx the fastest)\n",
+               s ? "" : "\n", cph_control_series_name((cph_control_series)s), n,
+               1e3 * cph_median_sorted(v, n), 1e3 * v[0], 1e3 * v[n - 1], v[n - 1] / v[0]);
+        free(v);
+    }
+    if (r->oom_control) printf("control: some trials failed or could not be recorded\n");
 }
 
 /* The project's performance targets over the recorded rows: printed, and
@@ -195,15 +222,22 @@ int cph_bench_run(cph_bench_cfg *c, int argc, char **argv) {
     if (rc < 0) {
         printf("bench: %s, %d cores, device %s\n", r->m.model, r->m.cores, r->m.fingerprint);
         if (c->roofs) roofs_start(r);
-        printf("timing: %s, warm-up %d, samples %zu..%zu, target +-%.2g %% at %.0f %%, "
-               "cap %.4g ms%s\n",
-               cph_clock_name(), c->timing.warmup, c->timing.min_samples, c->timing.max_samples,
-               100.0 * c->timing.target_rel_ci, 100.0 * c->timing.confidence,
-               1e3 * c->timing.max_seconds, c->timing.cold ? ", cold caches" : "");
+        printf("timing: %s; every row in %zu rounds of trials, shuffled each round, with the "
+               "control (a %dx%dx%d SGEMM and the %d-bit FMA loop); a trial = fresh plan and "
+               "buffers%s, 1 warm-up run, %zu samples, its median; cap %.4g ms a trial (%.4g ms "
+               "a row); median and %.0f %% CI of the trial medians%s\n",
+               cph_clock_name(), c->rounds, CPH_CONTROL_GEMM_SIZE, CPH_CONTROL_GEMM_SIZE,
+               CPH_CONTROL_GEMM_SIZE, r->control.fma_bits,
+               c->place ? " at random offsets on huge-page regions" : "",
+               c->trial_samples < c->timing.max_samples ? c->trial_samples
+                                                        : c->timing.max_samples,
+               1e3 * c->timing.max_seconds / (double)c->rounds, 1e3 * c->timing.max_seconds,
+               100.0 * c->timing.confidence, c->timing.cold ? ", cold caches" : "");
         printf("layers: %zu shape(s), %lld layer(s) in the network\n", c->sel.layers.n,
                cph_layers_total(&c->sel.layers));
         cph_layers_print(stdout, &c->sel.layers);
         rc = rows(r, c);
+        control_print(r);
         roofs_end(r);
         if (!r->oom) cph_bench_network_print(stdout, &r->recs, &c->sel.layers);
         json_t *sums = NULL;
@@ -214,6 +248,8 @@ int cph_bench_run(cph_bench_cfg *c, int argc, char **argv) {
             json_decref(sums);
     }
     json_decref(r->results);
+    cph_placer_destroy(r->placer);
+    cph_control_free(&r->control);
     cph_bench_recs_free(&r->recs);
     cp_table_free(r->table);
     cph_machine_free(&r->m);

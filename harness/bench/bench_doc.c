@@ -31,7 +31,19 @@
  *        "peak_gflops": 90.1 | null, "peak_fraction": 0.457 | null,
  *        "peak_bits": 512 | null (the vector width of the roof the fraction is against),
  *        "measurement": {measurement object, report_json.h}}      (ok only)
+ *        whose samples are the row's TRIAL MEDIANS in round order
+ *        (measurement.settings.samples_are = "trial_medians", .rounds, .placed;
+ *        report_json.h, cph_json_trials)
  *     ],
+ *     "control": {"what": "...", "settings": {the settings of one trial},
+ *                 "sgemm": {"m": 256, "n": 256, "k": 256, "threads": 1, "flops": 2mnk,
+ *                           "trials": [control trial, ...]},
+ *                 "fma": {"bits": 512, "iters": 131072, "flops": 2^26,
+ *                         "trials": [control trial, ...]}}
+ *       a control trial: {"median": seconds, "at": seconds since the rows started,
+ *                         "round": 0-based round of its layer x flip x threads,
+ *                         "layer": "conv1", "flipped": false, "threads": 1}
+ *       (absent in files written before the control),
  *     "summaries": [{"id": "blocked_peak", "target_text", "comparison": ">=",
  *                    "target": 0.7, "value", "unit", "verdict": "pass"|"miss"|"n/a",
  *                    "missed_by": relative | null, "threads", "base_threads",
@@ -62,6 +74,35 @@ json_t *cph_bench_row_json(const cph_bench_row *x, const char *status) {
                           cph_json_number(cp_shape_flops(&x->L->shape)));
     if (o && x->kind == CPH_ROW_CHOSEN) json_object_set_new(o, "chosen_algo", json_string(x->algo));
     return o;
+}
+
+static json_t *control_trials(const cph_bench_state *r, const cph_bench_cfg *c,
+                              cph_control_series s) {
+    json_t *a = json_array();
+    for (size_t i = 0; a && i < r->control.n[s]; i++) {
+        const cph_control_trial *t = &r->control.t[s][i];
+        json_array_append_new(
+            a, json_pack("{s:o, s:o, s:I, s:s, s:o, s:i}", "median", cph_json_number(t->median),
+                         "at", cph_json_number(t->at), "round", (json_int_t)t->round, "layer",
+                         c->sel.layers.v[t->layer].name, "flipped", cph_json_flipped(t->flip),
+                         "threads", t->threads));
+    }
+    return a;
+}
+
+/* The fixed control's trials (bench_control.h). */
+static json_t *control_json(const cph_bench_state *r, const cph_bench_cfg *c,
+                            const cph_timing_opts *per_trial) {
+    const double g = CPH_CONTROL_GEMM_SIZE;
+    return json_pack(
+        "{s:s, s:o, s:{s:i, s:i, s:i, s:i, s:o, s:o}, s:{s:i, s:I, s:o, s:o}}", "what",
+        "a fixed SGEMM and the FMA loop, one trial of each per round beside the rows, on the "
+        "calling thread",
+        "settings", cph_json_timing_opts(per_trial), "sgemm", "m", CPH_CONTROL_GEMM_SIZE, "n",
+        CPH_CONTROL_GEMM_SIZE, "k", CPH_CONTROL_GEMM_SIZE, "threads", 1, "flops",
+        cph_json_number(2.0 * g * g * g), "trials", control_trials(r, c, CPH_CONTROL_SGEMM),
+        "fma", "bits", r->control.fma_bits, "iters", (json_int_t)r->control.fma_iters, "flops",
+        cph_json_number(CPH_CONTROL_FMA_FLOPS), "trials", control_trials(r, c, CPH_CONTROL_FMA));
 }
 
 static json_t *roofs_json(const cph_bench_state *r, int end) {
@@ -104,5 +145,13 @@ json_t *cph_bench_document(const cph_bench_state *r, const cph_bench_cfg *c, int
         roofs_json(r, 0), "settings", settings, "results", r->results, "summaries",
         summaries ? summaries : json_null());
     if (doc) json_object_set_new(doc, "roofs_end", roofs_json(r, 1));
+    if (doc) {
+        const cph_timing_opts t = cph_bench_trial_timing(c);
+        json_object_set_new(doc, "control", control_json(r, c, &t));
+        json_t *set = json_object_get(doc, "settings");
+        json_object_set_new(set, "rounds", json_integer((json_int_t)c->rounds));
+        json_object_set_new(set, "trial_samples", json_integer((json_int_t)t.max_samples));
+        json_object_set_new(set, "placed", json_boolean(c->place));
+    }
     return doc;
 }
