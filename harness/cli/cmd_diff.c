@@ -165,12 +165,19 @@ static void print_header(const cph_diff *d) {
                                      : "");
 }
 
+/* The algo column: "chosen=blocked" for a bench row of a table's choice. */
+static void algo_text(const cph_result_item *it, char *buf, size_t cap) {
+    snprintf(buf, cap, "%s%s%s", it->algo, it->chosen_algo[0] ? "=" : "", it->chosen_algo);
+}
+
 static void print_pairs(const cph_diff *d) {
     int lw = 5, aw = 4, pw = 6;
+    char algo[72];
     for (size_t i = 0; i < d->npairs; i++) {
         const cph_result_item *it = d->pairs[i].base;
         if ((int)strlen(it->layer) > lw) lw = (int)strlen(it->layer);
-        if ((int)strlen(it->algo) > aw) aw = (int)strlen(it->algo);
+        algo_text(it, algo, sizeof algo);
+        if ((int)strlen(algo) > aw) aw = (int)strlen(algo);
         if ((int)strlen(it->params) > pw) pw = (int)strlen(it->params);
     }
     printf("%-12s  %-*s  %-4s  %3s  %-*s  %-*s  %10s  %10s  %7s  %7s  %-17s  %8s  %s\n", "verdict",
@@ -187,9 +194,10 @@ static void print_pairs(const cph_diff *d) {
             if (c->bounded) snprintf(ci, sizeof ci, "[%.4f, %.4f]", c->ratio_lo, c->ratio_hi);
             else snprintf(ci, sizeof ci, "unbounded");
         }
+        algo_text(it, algo, sizeof algo);
         printf("%-12s  %-*s  %-4s  %3d  %-*s  %-*s  %10.4g  %10.4g  %7.4f  %7s  %-17s  %8s  %s\n",
                cph_shift_verdict_name(p->verdict), lw, it->layer, cph_flip_word(it->flip),
-               it->threads, aw, it->algo, pw, it->params[0] ? it->params : "-",
+               it->threads, aw, algo, pw, it->params[0] ? it->params : "-",
                1e3 * c->base_median, 1e3 * c->new_median, c->median_ratio, hl, ci, pv, p->note);
     }
 }
