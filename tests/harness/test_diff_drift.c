@@ -77,6 +77,12 @@ static void build(const char *next_file, cph_results *b, cph_results *n, cph_dif
     assert_int_equal(cph_diff_build(b, n, 0.01, 0.05, CPH_DIFF_CHOSEN_ONLY, d), 0);
 }
 
+static void done(cph_results *b, cph_results *n, cph_diff *d) {
+    cph_diff_free(d);
+    cph_results_free(b);
+    cph_results_free(n);
+}
+
 static void check_against(const cph_diff *d, const char *scen, const fx *v, size_t nv) {
     char what[96];
     size_t rows = 0;
@@ -113,7 +119,8 @@ static void test_drift_everywhere(void **state) {
     cph_results b, n;
     cph_diff d;
     build(DATA "/drift_all.bench.json", &b, &n, &d);
-    assert_true(b.has_control && n.has_control);
+    assert_true(b.has_control);
+    assert_true(n.has_control);
     assert_int_equal(b.control[0].n, 10);
     assert_int_equal(b.trials, 1);
     assert_true(d.chosen_rows_only);
@@ -127,9 +134,7 @@ static void test_drift_everywhere(void **state) {
     cph_diff_control_text(&d, text, sizeof text);
     assert_non_null(strstr(text, "the control ran 1.15x slower in NEW"));
     assert_non_null(strstr(text, "machine-wide drift"));
-    cph_diff_free(&d);
-    cph_results_free(&b);
-    cph_results_free(&n);
+    done(&b, &n, &d);
 }
 
 /* The control unchanged, the row of "mid" 1.15x slower: its regression. */
@@ -148,9 +153,7 @@ static void test_one_row_slower(void **state) {
     assert_string_equal(d.pairs[0].base->layer, "mid"); /* worst first */
     assert_int_equal(d.pairs[0].verdict, CPH_SHIFT_SLOWER);
     assert_int_equal(d.network.verdict, CPH_SHIFT_SLOWER);
-    cph_diff_free(&d);
-    cph_results_free(&b);
-    cph_results_free(&n);
+    done(&b, &n, &d);
 }
 
 /* A control on one side only: today's behaviour (no correction), noted. */
@@ -172,9 +175,7 @@ static void test_one_side_without_control(void **state) {
     char text[512];
     cph_diff_control_text(&d, text, sizeof text);
     assert_non_null(strstr(text, "only BASE carries a control"));
-    cph_diff_free(&d);
-    cph_results_free(&b);
-    cph_results_free(&n);
+    done(&b, &n, &d);
 }
 
 /* bench --json with trials and the control, read back through the reader:
