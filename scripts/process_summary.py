@@ -18,9 +18,13 @@ for path in sys.argv[1:]:
     runs = defaultdict(lambda: defaultdict(list))
     with open(path) as f:
         for row in csv.DictReader(f):
-            runs[row["mode"]][int(row["process"])].append(float(row["median_s"]))
+            t = float(row["median_s"])
+            runs[row["mode"]][int(row["process"])].append(t)
+            # the same trial read against the fixed control run right after it
+            c = (float(row["control_fma_s"]) * float(row["control_gemm_s"])) ** 0.5
+            runs[row["mode"] + "/control"][int(row["process"])].append(t / c)
     print(path.rsplit("/", 1)[-1])
-    for mode in ("heap", "placer"):
+    for mode in ("heap", "placer", "heap/control", "placer/control"):
         procs = [np.array(runs[mode][p]) for p in sorted(runs[mode])]
         meds = np.array([np.median(v) for v in procs])
         within = np.median([np.percentile(v, 75) / np.percentile(v, 25) for v in procs])
@@ -29,6 +33,8 @@ for path in sys.argv[1:]:
             p = mannwhitneyu(a, b, alternative="two-sided").pvalue
             r = np.median(b) / np.median(a)
             called += p < ALPHA and abs(r - 1) > TOL
-        print(f"  {mode:6s} {len(procs)} processes: medians {meds.min()*1e3:.4f}..{meds.max()*1e3:.4f} ms "
+        unit = "ms" if "/" not in mode else "x control"
+        scale = 1e3 if "/" not in mode else 1.0
+        print(f"  {mode:14s} {len(procs)} processes: medians {meds.min()*scale:.4f}..{meds.max()*scale:.4f} {unit} "
               f"(max/min {meds.max()/meds.min():.3f}), within a process IQR ratio {within:.3f}; "
               f"consecutive pairs called different: {called} of {len(procs)-1}")

@@ -46,7 +46,8 @@ static void usage(FILE *f) {
             "the rows are judged, so a regression must be slower beyond the drift.\n\n"
             "With --paired, BASE and NEW are each a comma-separated list of results files,\n"
             "the rounds of an A/B run taken interleaved (round r of BASE close in time to\n"
-            "round r of NEW): each round's median of a measurement is one trial, round r\n"
+            "round r of NEW; a round measured in parts lists them joined by '+',\n"
+            "a.json+b.json): each round's median of a measurement is one trial, round r\n"
             "pairs with round r, and the p-value is the Wilcoxon signed-rank test's, the\n"
             "interval the paired Hodges-Lehmann one (docs/diff.md).  This is how to compare\n"
             "two builds on a shared machine (scripts/ci-speed-check --ab).\n\n"
@@ -307,10 +308,32 @@ static int read_side(const diff_opts *o, const char *arg, const char *side, cph_
             rc = CPH_EXIT_USAGE;
             goto out;
         }
-        if (cph_results_read(f, &r[n], msg, sizeof msg) != CP_OK) {
-            cph_err("diff: %s", msg);
-            rc = CPH_EXIT_USAGE;
-            goto out;
+        /* a round in parts: "a.json+b.json" */
+        char *psave = NULL;
+        int first = 1;
+        for (char *part = strtok_r(f, "+", &psave); part; part = strtok_r(NULL, "+", &psave)) {
+            cph_results piece, *dst = first ? &r[n] : &piece;
+            if (cph_results_read(part, dst, msg, sizeof msg) != CP_OK) {
+                cph_err("diff: %s", msg);
+                rc = CPH_EXIT_USAGE;
+                if (first) goto out;
+                n++; /* r[n] is read: freed with the others */
+                goto out;
+            }
+            if (!first) {
+                const int jr = cph_results_join(&r[n], &piece);
+                if (jr != 0) {
+                    if (jr > 0) cph_results_free(&piece);
+                    cph_err(jr > 0 ? "diff: --paired: %s: the parts of a round come from "
+                                     "different devices"
+                                   : "diff: out of memory (%s)",
+                            part);
+                    rc = CPH_EXIT_USAGE;
+                    n++;
+                    goto out;
+                }
+            }
+            first = 0;
         }
         n++;
     }

@@ -6,11 +6,12 @@
 
 #include "algos/core/cpa.h"
 
-/* n floats from the placer, or 64-byte aligned from the heap without one. */
+/* n floats from the placer, or page-aligned from the heap without one (the
+ * same offset for every trial). */
 static float *buf_alloc(cph_placer *pl, size_t n) {
     const size_t bytes = n * sizeof(float);
     if (pl) return cph_placer_alloc(pl, bytes);
-    return aligned_alloc(64, (bytes + 63) / 64 * 64);
+    return aligned_alloc(4096, (bytes + 4095) / 4096 * 4096);
 }
 
 static void buf_free(cph_placer *pl, float *p) {

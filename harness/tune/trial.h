@@ -30,7 +30,7 @@ typedef struct cph_trial_setup {
     const cp_exec *exec;          /* NULL = serial */
     const float *x, *w, *bias;    /* the layer's test tensors; x is copied into each trial */
     cph_timing_opts timing;       /* per trial: warm-up, samples, time cap */
-    cph_placer *placer;           /* NULL: the C library's heap, every buffer 64-byte aligned */
+    cph_placer *placer;           /* NULL: buffers page-aligned and plans on the C library's heap */
 } cph_trial_setup;
 
 /* Runs one trial of algorithm a with parameters p.  Fills *median (seconds) and *wall (seconds
