@@ -49,7 +49,11 @@ static int setup(cph_bench_state *r, cph_bench_cfg *c) {
                      cp_table_fingerprint(r->table));
     }
     if (c->timing.cold) c->timing.flush_bytes = 2 * cph_machine_llc_total(&r->m);
-    cph_control_init(&r->control);
+    if (cph_control_init(&r->control, r->m.avx512f, r->m.avx2 && r->m.fma) != CP_OK) {
+        cph_err("bench: out of memory for the control");
+        return CPH_EXIT_FAIL;
+    }
+    r->have_control = 1;
     if (c->place && !(r->placer = cph_placer_create(CPH_PLACE_SPAN_DEFAULT, c->sel.seed ^ 0x5eed))) {
         cph_err("bench: out of memory for the trials' buffers");
         return CPH_EXIT_FAIL;
@@ -140,24 +144,25 @@ static int rows(cph_bench_state *r, const cph_bench_cfg *c) {
     return rc == CPH_EXIT_OK && r->failures ? CPH_EXIT_FAIL : rc;
 }
 
-/* The control's trials in one line per series: their spread over the run
+/* The control's trials in one line per piece: their spread over the run
  * says how much the machine moved while the rows ran. */
 static void control_print(const cph_bench_state *r) {
-    for (int s = 0; s < CPH_CONTROL_NSERIES; s++) {
-        const cph_control_trial *t = r->control.t[s];
-        const size_t n = r->control.n[s];
-        if (!n) continue;
-        double *v = malloc(n * sizeof *v);
-        if (!v) return;
-        for (size_t i = 0; i < n; i++) v[i] = t[i].median;
-        cph_sort_doubles(v, n);
-        printf("%scontrol %-5s %zu trials: median %.4f ms, fastest %.4f ms, slowest %.4f ms "
-               "(%.2fx the fastest)\n",
-               s ? "" : "\n", cph_control_series_name((cph_control_series)s), n,
-               1e3 * cph_median_sorted(v, n), 1e3 * v[0], 1e3 * v[n - 1], v[n - 1] / v[0]);
+    const size_t n = r->ctl.n;
+    double *v = malloc((n ? n : 1) * sizeof *v);
+    if (!n || !v) {
         free(v);
+        return;
     }
-    if (r->oom_control) printf("control: some trials failed or could not be recorded\n");
+    for (int piece = 0; piece < 2; piece++) {
+        for (size_t i = 0; i < n; i++) v[i] = piece ? r->ctl.t[i].gemm : r->ctl.t[i].fma;
+        cph_sort_doubles(v, n);
+        printf("%scontrol %-4s %zu trials: median %.4f ms, fastest %.4f ms, slowest %.4f ms "
+               "(%.2fx the fastest)\n",
+               piece ? "" : "\n", piece ? "gemm" : "fma", n, 1e3 * cph_median_sorted(v, n),
+               1e3 * v[0], 1e3 * v[n - 1], v[n - 1] / v[0]);
+    }
+    free(v);
+    if (r->oom_control) printf("control: some trials could not be recorded (out of memory)\n");
 }
 
 /* The project's performance targets over the recorded rows: printed, and
@@ -222,12 +227,13 @@ int cph_bench_run(cph_bench_cfg *c, int argc, char **argv) {
     if (rc < 0) {
         printf("bench: %s, %d cores, device %s\n", r->m.model, r->m.cores, r->m.fingerprint);
         if (c->roofs) roofs_start(r);
+        char what[160];
+        cph_control_describe(&r->control, what, sizeof what);
         printf("timing: %s; every row in %zu rounds of trials, shuffled each round, with the "
-               "control (a %dx%dx%d SGEMM and the %d-bit FMA loop); a trial = fresh plan and "
+               "control (%s); a trial = fresh plan and "
                "buffers%s, 1 warm-up run, %zu samples, its median; cap %.4g ms a trial (%.4g ms "
                "a row); median and %.0f %% CI of the trial medians%s\n",
-               cph_clock_name(), c->rounds, CPH_CONTROL_GEMM_SIZE, CPH_CONTROL_GEMM_SIZE,
-               CPH_CONTROL_GEMM_SIZE, r->control.fma_bits,
+               cph_clock_name(), c->rounds, what,
                c->place ? " at random offsets on huge-page regions" : "",
                c->trial_samples < c->timing.max_samples ? c->trial_samples
                                                         : c->timing.max_samples,
@@ -249,7 +255,8 @@ int cph_bench_run(cph_bench_cfg *c, int argc, char **argv) {
     }
     json_decref(r->results);
     cph_placer_destroy(r->placer);
-    cph_control_free(&r->control);
+    if (r->have_control) cph_control_free(&r->control);
+    free(r->ctl.t);
     cph_bench_recs_free(&r->recs);
     cp_table_free(r->table);
     cph_machine_free(&r->m);

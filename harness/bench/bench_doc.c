@@ -35,15 +35,14 @@
  *        (measurement.settings.samples_are = "trial_medians", .rounds, .placed;
  *        report_json.h, cph_json_trials)
  *     ],
- *     "control": {"what": "...", "settings": {the settings of one trial},
- *                 "sgemm": {"m": 256, "n": 256, "k": 256, "threads": 1, "flops": 2mnk,
- *                           "trials": [control trial, ...]},
- *                 "fma": {"bits": 512, "iters": 131072, "flops": 2^26,
- *                         "trials": [control trial, ...]}}
- *       a control trial: {"median": seconds, "at": seconds since the rows started,
- *                         "round": 0-based round of its layer x flip x threads,
- *                         "layer": "conv1", "flipped": false, "threads": 1}
- *       (absent in files written before the control),
+ *     "control": {"what": "fma512 x 20000 iterations + sgemm 64x576x196, 1 thread",
+ *                 "samples": timed runs of each piece per trial (after one warm-up),
+ *                 "fma_s": [trial medians, seconds], "gemm_s": [...] (as a table's
+ *                 tried.control spells them), and for each trial where it ran:
+ *                 "round": [0-based round of its layer x flip x threads], "at_s":
+ *                 [seconds since the rows started], "layer": [...], "flipped": [...],
+ *                 "threads": [...]}
+ *       (harness/measure/control.h; absent in files written before the control),
  *     "summaries": [{"id": "blocked_peak", "target_text", "comparison": ">=",
  *                    "target": 0.7, "value", "unit", "verdict": "pass"|"miss"|"n/a",
  *                    "missed_by": relative | null, "threads", "base_threads",
@@ -76,33 +75,25 @@ json_t *cph_bench_row_json(const cph_bench_row *x, const char *status) {
     return o;
 }
 
-static json_t *control_trials(const cph_bench_state *r, const cph_bench_cfg *c,
-                              cph_control_series s) {
-    json_t *a = json_array();
-    for (size_t i = 0; a && i < r->control.n[s]; i++) {
-        const cph_control_trial *t = &r->control.t[s][i];
-        json_array_append_new(
-            a, json_pack("{s:o, s:o, s:I, s:s, s:o, s:i}", "median", cph_json_number(t->median),
-                         "at", cph_json_number(t->at), "round", (json_int_t)t->round, "layer",
-                         c->sel.layers.v[t->layer].name, "flipped", cph_json_flipped(t->flip),
-                         "threads", t->threads));
+/* The fixed control's trials (harness/measure/control.h), as parallel arrays. */
+static json_t *control_json(const cph_bench_state *r, const cph_bench_cfg *c, size_t samples) {
+    char what[160];
+    cph_control_describe(&r->control, what, sizeof what);
+    json_t *f = json_array(), *g = json_array(), *rd = json_array(), *at = json_array(),
+           *ly = json_array(), *fl = json_array(), *th = json_array();
+    for (size_t i = 0; f && g && rd && at && ly && fl && th && i < r->ctl.n; i++) {
+        const cph_bench_ctl_trial *t = &r->ctl.t[i];
+        json_array_append_new(f, cph_json_number(t->fma));
+        json_array_append_new(g, cph_json_number(t->gemm));
+        json_array_append_new(rd, json_integer((json_int_t)t->round));
+        json_array_append_new(at, cph_json_number(t->at));
+        json_array_append_new(ly, json_string(c->sel.layers.v[t->layer].name));
+        json_array_append_new(fl, cph_json_flipped(t->flip));
+        json_array_append_new(th, json_integer(t->threads));
     }
-    return a;
-}
-
-/* The fixed control's trials (bench_control.h). */
-static json_t *control_json(const cph_bench_state *r, const cph_bench_cfg *c,
-                            const cph_timing_opts *per_trial) {
-    const double g = CPH_CONTROL_GEMM_SIZE;
-    return json_pack(
-        "{s:s, s:o, s:{s:i, s:i, s:i, s:i, s:o, s:o}, s:{s:i, s:I, s:o, s:o}}", "what",
-        "a fixed SGEMM and the FMA loop, one trial of each per round beside the rows, on the "
-        "calling thread",
-        "settings", cph_json_timing_opts(per_trial), "sgemm", "m", CPH_CONTROL_GEMM_SIZE, "n",
-        CPH_CONTROL_GEMM_SIZE, "k", CPH_CONTROL_GEMM_SIZE, "threads", 1, "flops",
-        cph_json_number(2.0 * g * g * g), "trials", control_trials(r, c, CPH_CONTROL_SGEMM),
-        "fma", "bits", r->control.fma_bits, "iters", (json_int_t)r->control.fma_iters, "flops",
-        cph_json_number(CPH_CONTROL_FMA_FLOPS), "trials", control_trials(r, c, CPH_CONTROL_FMA));
+    return json_pack("{s:s, s:I, s:o, s:o, s:o, s:o, s:o, s:o, s:o}", "what", what, "samples",
+                     (json_int_t)samples, "fma_s", f, "gemm_s", g, "round", rd, "at_s", at,
+                     "layer", ly, "flipped", fl, "threads", th);
 }
 
 static json_t *roofs_json(const cph_bench_state *r, int end) {
@@ -147,7 +138,7 @@ json_t *cph_bench_document(const cph_bench_state *r, const cph_bench_cfg *c, int
     if (doc) json_object_set_new(doc, "roofs_end", roofs_json(r, 1));
     if (doc) {
         const cph_timing_opts t = cph_bench_trial_timing(c);
-        json_object_set_new(doc, "control", control_json(r, c, &t));
+        json_object_set_new(doc, "control", control_json(r, c, t.max_samples));
         json_t *set = json_object_get(doc, "settings");
         json_object_set_new(set, "rounds", json_integer((json_int_t)c->rounds));
         json_object_set_new(set, "trial_samples", json_integer((json_int_t)t.max_samples));

@@ -1,5 +1,6 @@
 /* The rows of one layer x flip x thread count, measured in rounds of trials
- * (bench.h): every row and both control series once per round, in an order
+ * (bench.h): every row and the fixed control (harness/measure/control.h)
+ * once per round, in an order
  * shuffled anew each round (harness/tune/race.c with nothing ever dropped),
  * a trial of an algorithm or chosen row being harness/tune/trial.c's, a
  * trial of an SGEMM row the same for the reference GEMM.  The rows print
@@ -33,6 +34,18 @@ typedef struct layer_run {
     uint64_t gseed;
     double *wall;         /* per race index: seconds its trials took */
 } layer_run;
+
+int cph_bench_ctl_add(cph_bench_ctl_log *l, const cph_bench_ctl_trial *t) {
+    if (l->n == l->cap) {
+        const size_t cap = l->cap ? 2 * l->cap : 64;
+        cph_bench_ctl_trial *v = realloc(l->t, cap * sizeof *v);
+        if (!v) return -1;
+        l->t = v;
+        l->cap = cap;
+    }
+    l->t[l->n++] = *t;
+    return 0;
+}
 
 static int is_winograd_algo(const cp_algo *a) { return strncmp(a->name, "winograd", 8) == 0; }
 
@@ -85,8 +98,8 @@ static void plan_sgemm(cph_bench_trow *w, cph_row_kind kind, int64_t tb) {
     w->isa = "blas";
     /* The sizes only: operands of 1 float would do, but the helpers size them. */
     const cp_status st = kind == CPH_ROW_SGEMM
-                             ? cph_gemm_ref_im2col(&w->x.L->shape, 1, NULL, &g)
-                             : cph_gemm_ref_winograd(&w->x.L->shape, tb, 1, NULL, &g);
+                             ? cph_gemm_ref_im2col(&w->x.L->shape, 1, &g)
+                             : cph_gemm_ref_winograd(&w->x.L->shape, tb, 1, &g);
     if (st != CP_OK) {
         set_error(w, "", "cannot allocate the SGEMM operands");
         return;
@@ -144,8 +157,9 @@ static int sgemm_trial(layer_run *lr, const cph_bench_trow *w, double *median, d
     *median = 0.0;
     const cp_status st =
         w->x.kind == CPH_ROW_SGEMM
-            ? cph_gemm_ref_im2col(&w->x.L->shape, lr->gseed, lr->setup.placer, &g)
-            : cph_gemm_ref_winograd(&w->x.L->shape, w->tb, lr->gseed, lr->setup.placer, &g);
+            ? cph_gemm_ref_im2col_placed(&w->x.L->shape, lr->gseed, lr->setup.placer, &g)
+            : cph_gemm_ref_winograd_placed(&w->x.L->shape, w->tb, lr->gseed, lr->setup.placer,
+                                           &g);
     if (st != CP_OK) {
         *wall = cph_now() - t0;
         return -1;
@@ -165,13 +179,16 @@ static int trial(void *arg, size_t cand, size_t round, double *median, double *w
     layer_run *lr = arg;
     int rc;
     if (cand >= lr->nraced) {
+        /* the control: both pieces, its batch as long as a row's */
         const cph_bench_row *x = &lr->rows[0].x;
-        const cph_control_trial where = {x->li, x->flip, x->threads, round,
-                                         cph_now() - lr->r->t0, 0.0};
-        rc = cph_control_trial_run(&lr->r->control, (cph_control_series)(cand - lr->nraced),
-                                   &lr->setup.timing, lr->setup.placer,
-                                   lr->gseed ^ (uint64_t)round, &where, median, wall);
+        const double t0 = cph_now();
+        double fma = 0.0, gemm = 0.0;
+        cph_control_trial(&lr->r->control, lr->setup.timing.max_samples, &fma, &gemm);
+        *wall = cph_now() - t0;
+        const cph_bench_ctl_trial t = {x->li, x->flip, x->threads, round, t0 - lr->r->t0, fma, gemm};
+        rc = cph_bench_ctl_add(&lr->r->ctl, &t);
         if (rc) lr->r->oom_control = 1;
+        *median = gemm;
     } else {
         cph_bench_trow *w = &lr->rows[lr->raced[cand]];
         if (w->x.kind == CPH_ROW_SGEMM || w->x.kind == CPH_ROW_SGEMM_WINO) {
@@ -218,7 +235,7 @@ static void one_flip(layer_run *lr, const cph_bench_row *base) {
     lr->nraced = 0;
     for (size_t i = 0; i < lr->nrows; i++)
         if (strcmp(lr->rows[i].status, "ok") == 0) lr->raced[lr->nraced++] = i;
-    const size_t ncand = lr->nraced + CPH_CONTROL_NSERIES;
+    const size_t ncand = lr->nraced + 1; /* the control: a candidate of its own */
     memset(lr->wall, 0, ncand * sizeof *lr->wall);
     cph_race_opts ro;
     cph_race_defaults(&ro);
@@ -276,7 +293,7 @@ int cph_bench_layer(cph_bench_state *r, const cph_bench_cfg *c, size_t li, int t
     const size_t maxrows = c->sel.nalgos + 3;
     layer_run lr = {r, c, calloc(maxrows, sizeof(cph_bench_trow)),
                     0, calloc(maxrows, sizeof(size_t)), 0, {0}, tensor_seed(c->sel.seed, li, 3),
-                    calloc(maxrows + CPH_CONTROL_NSERIES, sizeof(double))};
+                    calloc(maxrows + 1, sizeof(double))};
     int rc = 0;
     if (!x || !w || !b || !lr.rows || !lr.raced || !lr.wall) {
         cph_err("bench: %s: cannot allocate the tensors", L->name);

@@ -6,7 +6,8 @@
 
 #include "convpick/table.h"
 #include "harness/bench/bench.h"
-#include "harness/bench/bench_control.h"
+#include "harness/measure/control.h"
+#include "harness/measure/placer.h"
 #include "harness/bench/bench_summary.h"
 #include "harness/machine/machine.h"
 
@@ -17,6 +18,25 @@
  * changed during the run). */
 #define CPH_BENCH_ROOF_SECONDS 1.0
 #define CPH_BENCH_ROOF_DRIFT 0.10
+
+/* One trial of the fixed control (harness/measure/control.h) and where in
+ * the run it was taken. */
+typedef struct cph_bench_ctl_trial {
+    size_t layer;   /* index of the layer in the selection */
+    cp_flip flip;
+    int threads;    /* the rows' thread count in that round */
+    size_t round;   /* 0-based round of that layer x flip x thread count */
+    double at;      /* seconds since the rows started, at the trial's start */
+    double fma, gemm; /* the trial medians of the two pieces, seconds */
+} cph_bench_ctl_trial;
+
+typedef struct cph_bench_ctl_log {
+    cph_bench_ctl_trial *t;
+    size_t n, cap;
+} cph_bench_ctl_log;
+
+/* Appends; 0, or -1 when out of memory. */
+int cph_bench_ctl_add(cph_bench_ctl_log *l, const cph_bench_ctl_trial *t);
 
 typedef struct cph_bench_state {
     cph_machine m;
@@ -31,7 +51,9 @@ typedef struct cph_bench_state {
     cph_bench_recs recs; /* every measured row, for the targets */
     cp_table *table;     /* the table whose choice is timed, or NULL */
     cph_placer *placer;  /* where trials' buffers and plans lie; NULL: the heap */
-    cph_control control; /* the fixed control's trials */
+    cph_control control; /* the fixed control (harness/measure/control.h) */
+    int have_control;
+    cph_bench_ctl_log ctl; /* its trials */
     double t0;           /* cph_now() when the rows started (control timestamps) */
     int oom_control;     /* a control trial could not be recorded */
     int oom;

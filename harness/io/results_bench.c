@@ -59,7 +59,8 @@ static cp_status read_result(cph_rctx *c, const json_t *e, cph_result_item *it, 
     return CP_OK;
 }
 
-/* The optional "control" object: each series' trial medians. */
+/* The optional "control" object: each piece's trial medians ("gemm_s",
+ * "fma_s", as a table's tried.control spells them). */
 static cp_status read_control(cph_rctx *c, const json_t *root) {
     const cpl_jctx *j = &c->j;
     cph_results *r = c->r;
@@ -69,29 +70,18 @@ static cp_status read_control(cph_rctx *c, const json_t *root) {
         return cpl_jfail(j, CP_EFORMAT, "control: expected an object, found %s",
                          cpl_json_type_name(ctl));
     for (int s = 0; s < CPH_RESULTS_CONTROL_SERIES; s++) {
-        char where[64], at[96];
-        json_t *ser, *trials;
+        char key[16], where[32];
+        json_t *arr;
         cp_status st;
-        snprintf(where, sizeof where, "control.%s", cph_results_control_names[s]);
-        if ((st = cpl_jfield(j, ctl, "control", cph_results_control_names[s], JSON_OBJECT, 0,
-                             &ser)) ||
-            (st = cpl_jfield(j, ser, where, "trials", JSON_ARRAY, 0, &trials)))
+        snprintf(key, sizeof key, "%s_s", cph_results_control_names[s]);
+        snprintf(where, sizeof where, "control.%s", key);
+        if ((st = cpl_jfield(j, ctl, "control", key, JSON_ARRAY, 0, &arr)) ||
+            (st = cpl_jsamples(j, arr, where, &r->control[s].v, &r->control[s].n)))
             return st;
-        const size_t n = json_array_size(trials);
-        r->control[s].v = malloc((n ? n : 1) * sizeof(double));
-        if (!r->control[s].v) return cpl_jfail(j, CP_ENOMEM, "out of memory");
-        for (size_t i = 0; i < n; i++) {
-            const json_t *t = json_array_get(trials, i);
-            double m = 0;
-            snprintf(at, sizeof at, "%s.trials[%zu]", where, i);
-            if (!json_is_object(t))
-                return cpl_jfail(j, CP_EFORMAT, "%s: expected an object, found %s", at,
-                                 cpl_json_type_name(t));
-            if ((st = cpl_jreal(j, t, at, "median", &m))) return st;
-            if (!(m > 0))
-                return cpl_jfail(j, CP_EFORMAT, "%s.median: expected a number > 0 (seconds)", at);
-            r->control[s].v[r->control[s].n++] = m;
-        }
+        for (size_t i = 0; i < r->control[s].n; i++)
+            if (!(r->control[s].v[i] > 0))
+                return cpl_jfail(j, CP_EFORMAT, "%s[%zu]: expected a number > 0 (seconds)", where,
+                                 i);
     }
     r->has_control = 1;
     return CP_OK;

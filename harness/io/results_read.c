@@ -68,7 +68,7 @@ cp_status cph_results_read_buffer(const void *data, size_t len, const char *name
     return st;
 }
 
-const char *const cph_results_control_names[CPH_RESULTS_CONTROL_SERIES] = {"sgemm", "fma"};
+const char *const cph_results_control_names[CPH_RESULTS_CONTROL_SERIES] = {"gemm", "fma"};
 
 void cph_results_free(cph_results *r) {
     for (size_t i = 0; i < r->nitems; i++) free(r->items[i].samples);

@@ -65,10 +65,11 @@ typedef struct cph_result_choice {
     int confident;      /* a runner-up exists and its margin is not in the noise */
 } cph_result_choice;
 
-/* Bench results: the fixed control's trial medians, one series per kind of
- * work (harness/bench/bench_control.h), in run order. */
+/* Bench results: the fixed control's trial medians, one series per piece of
+ * work (harness/measure/control.h: "gemm", "fma"; in the file "gemm_s",
+ * "fma_s"), in run order. */
 #define CPH_RESULTS_CONTROL_SERIES 2
-extern const char *const cph_results_control_names[CPH_RESULTS_CONTROL_SERIES]; /* sgemm, fma */
+extern const char *const cph_results_control_names[CPH_RESULTS_CONTROL_SERIES]; /* gemm, fma */
 typedef struct cph_result_series {
     double *v; /* seconds (owned); NULL when none */
     size_t n;

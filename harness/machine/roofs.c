@@ -38,26 +38,6 @@ float cph_roof_fma_portable(int64_t iters) {
     return t;
 }
 
-int cph_roof_fma_widest(void) {
-    cpl_cpu_id id;
-    cpl_cpuid_read(&id);
-    if (id.avx512f) return 512;
-    if (id.avx2 && id.fma && id.os_avx) return 256;
-    return 0;
-}
-
-double cph_roof_fma_flops_per_iter(int bits) {
-    return bits == 512   ? CPH_ROOF_AVX512_FLOPS_PER_ITER
-           : bits == 256 ? CPH_ROOF_AVX2_FLOPS_PER_ITER
-                         : CPH_ROOF_PORTABLE_FLOPS_PER_ITER;
-}
-
-float cph_roof_fma_run(int bits, int64_t iters) {
-    return bits == 512   ? cph_roof_fma_avx512(iters)
-           : bits == 256 ? cph_roof_fma_avx2(iters)
-                         : cph_roof_fma_portable(iters);
-}
-
 void cph_roof_triad(float *a, const float *b, const float *c, float s, size_t begin, size_t end) {
     for (size_t i = begin; i < end; i++) a[i] = b[i] + s * c[i];
 }
@@ -73,12 +53,16 @@ typedef struct peak_job {
 static void peak_task(void *arg, int64_t begin, int64_t end, int worker) {
     peak_job *j = arg;
     for (int64_t i = begin; i < end; i++)
-        j->sink[(worker % MAX_WORKERS) * 16] += cph_roof_fma_run(j->bits, j->iters);
+        j->sink[(worker % MAX_WORKERS) * 16] += j->bits == 512   ? cph_roof_fma_avx512(j->iters)
+                                                : j->bits == 256 ? cph_roof_fma_avx2(j->iters)
+                                                                 : cph_roof_fma_portable(j->iters);
 }
 
 /* GFLOP/s of the best run of `workers` cores running the loop at once. */
 static double peak_gflops(const cp_exec *ex, int workers, peak_job *j, double budget) {
-    const double per_iter = cph_roof_fma_flops_per_iter(j->bits);
+    const double per_iter = j->bits == 512   ? CPH_ROOF_AVX512_FLOPS_PER_ITER
+                            : j->bits == 256 ? CPH_ROOF_AVX2_FLOPS_PER_ITER
+                                             : CPH_ROOF_PORTABLE_FLOPS_PER_ITER;
     /* One run's length: short (at most 2 ms, under a scheduler time slice), so
      * that on a shared machine some runs land in a window where nothing else
      * runs on the cores; the best run is kept. */

@@ -19,14 +19,6 @@ float cph_roof_fma_avx512(int64_t iters);
 #define CPH_ROOF_PORTABLE_FLOPS_PER_ITER 32.0
 float cph_roof_fma_portable(int64_t iters);
 
-/* The widest FMA loop the CPU and the OS run (cpuid + xgetbv, as the roofs
- * choose): 512, 256, or 0 for the portable loop. */
-int cph_roof_fma_widest(void);
-/* FLOPs of one iteration of the loop of that width (the constants above). */
-double cph_roof_fma_flops_per_iter(int bits);
-/* iters iterations of the loop of that width. */
-float cph_roof_fma_run(int bits, int64_t iters);
-
 /* a[i] = b[i] + s * c[i] for i in [begin, end). */
 void cph_roof_triad(float *a, const float *b, const float *c, float s, size_t begin, size_t end);
 

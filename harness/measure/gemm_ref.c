@@ -35,8 +35,16 @@ static cp_status alloc_operands(cph_gemm_ref *g, uint64_t seed) {
     return CP_OK;
 }
 
-cp_status cph_gemm_ref_im2col(const cp_shape *s, uint64_t seed, cph_placer *placer,
-                              cph_gemm_ref *out) {
+cp_status cph_gemm_ref_im2col(const cp_shape *s, uint64_t seed, cph_gemm_ref *out) {
+    return cph_gemm_ref_im2col_placed(s, seed, NULL, out);
+}
+
+cp_status cph_gemm_ref_winograd(const cp_shape *s, int64_t tb, uint64_t seed, cph_gemm_ref *out) {
+    return cph_gemm_ref_winograd_placed(s, tb, seed, NULL, out);
+}
+
+cp_status cph_gemm_ref_im2col_placed(const cp_shape *s, uint64_t seed, cph_placer *placer,
+                                     cph_gemm_ref *out) {
     memset(out, 0, sizeof *out);
     out->placer = placer;
     out->m = s->k / s->groups;
@@ -47,8 +55,8 @@ cp_status cph_gemm_ref_im2col(const cp_shape *s, uint64_t seed, cph_placer *plac
     return alloc_operands(out, seed);
 }
 
-cp_status cph_gemm_ref_winograd(const cp_shape *s, int64_t tb, uint64_t seed, cph_placer *placer,
-                                cph_gemm_ref *out) {
+cp_status cph_gemm_ref_winograd_placed(const cp_shape *s, int64_t tb, uint64_t seed,
+                                       cph_placer *placer, cph_gemm_ref *out) {
     memset(out, 0, sizeof *out);
     out->placer = placer;
     if (tb < 1) return CP_EINVAL;
@@ -61,18 +69,6 @@ cp_status cph_gemm_ref_winograd(const cp_shape *s, int64_t tb, uint64_t seed, cp
     out->products = 16;
     out->repeats = (tiles + tb - 1) / tb;
     out->last_n = tiles - (out->repeats - 1) * tb;
-    return alloc_operands(out, seed);
-}
-
-cp_status cph_gemm_ref_square(int64_t m, int64_t n, int64_t k, uint64_t seed, cph_placer *placer,
-                              cph_gemm_ref *out) {
-    memset(out, 0, sizeof *out);
-    if (m < 1 || n < 1 || k < 1) return CP_EINVAL;
-    out->m = m;
-    out->k = k;
-    out->n = out->ldb = out->last_n = n;
-    out->products = out->repeats = 1;
-    out->placer = placer;
     return alloc_operands(out, seed);
 }
 

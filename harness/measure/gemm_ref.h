@@ -28,17 +28,16 @@ typedef struct cph_gemm_ref {
     cph_placer *placer;   /* where the operands came from; NULL: the heap */
 } cph_gemm_ref;
 
-/* The im2col products of layer s (any shape), the operands from placer (NULL:
- * the heap).  CP_ENOMEM on allocation failure. */
-cp_status cph_gemm_ref_im2col(const cp_shape *s, uint64_t seed, cph_placer *placer,
-                              cph_gemm_ref *out);
+/* The im2col products of layer s (any shape).  CP_ENOMEM on allocation failure. */
+cp_status cph_gemm_ref_im2col(const cp_shape *s, uint64_t seed, cph_gemm_ref *out);
 /* The 16 GEMMs of winograd_2x2_3x3 on layer s with tile_block tb (>= 1). */
-cp_status cph_gemm_ref_winograd(const cp_shape *s, int64_t tb, uint64_t seed, cph_placer *placer,
-                                cph_gemm_ref *out);
-/* One dense (m x k) * (k x n) product, the operands from placer (NULL: the
- * heap): the fixed reference bench times beside the rows (its control). */
-cp_status cph_gemm_ref_square(int64_t m, int64_t n, int64_t k, uint64_t seed, cph_placer *placer,
-                              cph_gemm_ref *out);
+cp_status cph_gemm_ref_winograd(const cp_shape *s, int64_t tb, uint64_t seed, cph_gemm_ref *out);
+/* The same with the operands from placer (NULL: the heap): bench's trials of
+ * its SGEMM rows, fresh operands at random offsets each trial. */
+cp_status cph_gemm_ref_im2col_placed(const cp_shape *s, uint64_t seed, cph_placer *placer,
+                                     cph_gemm_ref *out);
+cp_status cph_gemm_ref_winograd_placed(const cp_shape *s, int64_t tb, uint64_t seed,
+                                       cph_placer *placer, cph_gemm_ref *out);
 /* Runs every product once (a cph_work_fn: arg is a cph_gemm_ref *); returns 0. */
 int cph_gemm_ref_run(void *arg);
 /* Multiply-add FLOPs of one call (2 m n k per product). */
