@@ -5,7 +5,7 @@
  * default parameters for this machine's caches; the harness only times it.
  * Every row of a layer x flip x thread count is measured in ROUNDS: each
  * round runs one trial of every row and of the fixed control
- * (bench_control.h), in an order shuffled anew each round (seeded); a trial
+ * (harness/measure/control.h), in an order shuffled anew each round (seeded); a trial
  * is a fresh plan and buffers from a placer, one warm-up run and a short
  * batch, and its median is the row's sample (harness/tune/trial.h).
  * Beside the algorithms, in the same run and with the same statistics: the
@@ -16,8 +16,8 @@
  * (bench_summary.h): PASS / MISS and by how much.
  *
  * Files: bench.c (the run), bench_rows.c (the rows of one layer in rounds,
- * printed), bench_control.c (the control), bench_doc.c (the results
- * document). */
+ * printed, and the control's trials), bench_rows.c (printing and recording
+ * a row), bench_doc.c (the results document). */
 #ifndef CONVPICK_BENCH_H
 #define CONVPICK_BENCH_H
 
