@@ -391,7 +391,9 @@ static int run_diff(const diff_opts *o) {
         rc = CPH_EXIT_USAGE;
         goto done;
     }
-    if (!d.npairs) {
+    /* Two tables whose every common entry changed its choice pair no
+     * measurement, but they have entries in common: the changes are the report. */
+    if (!d.npairs && !d.total_entries) {
         cph_err("diff: %s and %s have no measurement in common (same shape, flip, threads, "
                 "algorithm and parameters)", o->base, o->next);
         rc = CPH_EXIT_USAGE;

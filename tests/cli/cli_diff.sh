@@ -139,6 +139,18 @@ printf '{"format": "convpick-bench-results",\n "version": 1,\n "results": [}\n' 
 expect 2 "torn\.json:3:[0-9]+: malformed JSON" -- "$CLI" diff "$tmp/base.json" "$tmp/torn.json"
 expect 2 "bad_sample\.json: results\[1\]\.measurement\.samples\[3\]: expected a number" -- "$CLI" diff "$tmp/bad_sample.json" "$tmp/new.json"
 expect 2 "no measurement in common" -- "$CLI" diff "$tmp/base.json" "$tmp/apart.json"
+# Two tables whose only common entry changed its choice: no pair to test, but
+# the change is the report (exit 0, not "nothing in common").
+$PY - "$DATA/diff_base.table.json" "$tmp/one_a.json" "$tmp/one_b.json" <<'PY'
+import json, sys
+d = json.load(open(sys.argv[1])); d["entries"] = d["entries"][:1]
+json.dump(d, open(sys.argv[2], "w"))
+d["entries"][0]["choice"] = {"algo": "im2col_gemm", "params": {"row_block": 6}}
+json.dump(d, open(sys.argv[3], "w"))
+PY
+expect 0 "" -- "$CLI" diff "$tmp/one_a.json" "$tmp/one_b.json"
+grep -q "^changed choices (1):" "$tmp/out" || { cat "$tmp/out"; fail "one changed entry: not listed"; }
+grep -q "^summary: 0 compared" "$tmp/out" || { cat "$tmp/out"; fail "one changed entry: summary"; }
 $PY -c 'import json,sys; d=json.load(open(sys.argv[1])); d["version"]=3; json.dump(d, open(sys.argv[2],"w"))' \
   "$DATA/diff_base.table.json" "$tmp/table_v3.json"
 expect 2 "table_v3\.json: version: 3 is not supported \(this build reads versions 1 to 2\)" -- "$CLI" diff "$DATA/diff_base.table.json" "$tmp/table_v3.json"
