@@ -38,6 +38,9 @@ int cph_results_fold_rounds(const cph_results *rounds, size_t n, cph_results *ou
     out->items = NULL;
     out->choices = NULL;
     out->nitems = out->nchoices = 0;
+    /* the rounds pair BASE with NEW themselves: no control (and no shared pointers) */
+    memset(out->control, 0, sizeof out->control);
+    out->has_control = 0;
     *dropped = 0;
     *other_device = 0;
     for (size_t r = 1; r < n; r++)
