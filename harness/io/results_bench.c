@@ -59,34 +59,6 @@ static cp_status read_result(cph_rctx *c, const json_t *e, cph_result_item *it, 
     return CP_OK;
 }
 
-/* The optional "control" object: each piece's trial medians ("gemm_s",
- * "fma_s", as a table's tried.control spells them). */
-static cp_status read_control(cph_rctx *c, const json_t *root) {
-    const cpl_jctx *j = &c->j;
-    cph_results *r = c->r;
-    const json_t *ctl = json_object_get(root, "control");
-    if (!ctl) return CP_OK; /* written before the control */
-    if (!json_is_object(ctl))
-        return cpl_jfail(j, CP_EFORMAT, "control: expected an object, found %s",
-                         cpl_json_type_name(ctl));
-    for (int s = 0; s < CPH_RESULTS_CONTROL_SERIES; s++) {
-        char key[16], where[32];
-        json_t *arr;
-        cp_status st;
-        snprintf(key, sizeof key, "%s_s", cph_results_control_names[s]);
-        snprintf(where, sizeof where, "control.%s", key);
-        if ((st = cpl_jfield(j, ctl, "control", key, JSON_ARRAY, 0, &arr)) ||
-            (st = cpl_jsamples(j, arr, where, &r->control[s].v, &r->control[s].n)))
-            return st;
-        for (size_t i = 0; i < r->control[s].n; i++)
-            if (!(r->control[s].v[i] > 0))
-                return cpl_jfail(j, CP_EFORMAT, "%s[%zu]: expected a number > 0 (seconds)", where,
-                                 i);
-    }
-    r->has_control = 1;
-    return CP_OK;
-}
-
 cp_status cph_results_read_bench(cph_rctx *c, json_t *root) {
     cph_results *r = c->r;
     const cpl_jctx *j = &c->j;
@@ -100,7 +72,8 @@ cp_status cph_results_read_bench(cph_rctx *c, json_t *root) {
     cpu = json_object_get(dev, "cpu");
     const json_t *model = json_is_object(cpu) ? json_object_get(cpu, "model") : NULL;
     if (json_is_string(model)) snprintf(r->model, sizeof r->model, "%s", json_string_value(model));
-    if ((st = read_control(c, root))) return st;
+    if ((st = cph_results_read_control(c, json_object_get(root, "control"), "control")))
+        return st;
     int first = 1, ntrials = 0;
     for (size_t i = 0; i < json_array_size(results); i++) {
         const json_t *e = json_array_get(results, i);
