@@ -25,13 +25,11 @@
 #include <sys/mman.h>
 
 #include "convpick/convpick.h"
-#include "harness/machine/machine.h"
-#include "harness/machine/pool.h"
+#include "experiments/exp_layer.h"
 #include "harness/measure/data.h"
+#include "harness/measure/plan_work.h"
 #include "harness/measure/stats.h"
 #include "harness/measure/timing.h"
-#include "harness/select/shape_spec.h"
-#include "harness/measure/plan_work.h"
 
 #define HUGE_PAGE ((size_t)2 << 20)
 
@@ -87,46 +85,29 @@ int main(int argc, char **argv) {
         fprintf(stderr, "usage: %s SHAPE ALGO THREADS TRIALS SAMPLES OUT.csv\n", argv[0]);
         return 2;
     }
-    cp_shape s;
-    char msg[512];
-    if (cph_parse_shape(argv[1], "shape", &s, msg, sizeof msg) != CP_OK) {
-        fprintf(stderr, "%s\n", msg);
-        return 2;
-    }
-    const cp_algo *algo = cp_algo_find(argv[2]);
     const int threads = atoi(argv[3]), trials = atoi(argv[4]), samples = atoi(argv[5]);
-    if (!algo || threads < 1 || trials < 1 || samples < 1) {
-        fprintf(stderr, "bad algorithm, threads, trials or samples\n");
+    if (trials < 1 || samples < 1) {
+        fprintf(stderr, "bad trials or samples\n");
         return 2;
     }
+    exp_layer L;
+    const int orc = exp_layer_open(&L, argv[1], argv[2], threads);
+    if (orc) return orc;
     FILE *out = fopen(argv[6], "w");
     if (!out) {
         fprintf(stderr, "%s: %s\n", argv[6], strerror(errno));
+        exp_layer_close(&L);
         return 2;
     }
-    cph_machine m;
-    if (cph_machine_detect(&m, NULL, msg, sizeof msg) != CP_OK) {
-        fprintf(stderr, "%s\n", msg);
-        return 1;
-    }
-    const cp_cache_sizes caches = cph_machine_caches(&m);
-    cph_pool *pool = NULL;
-    int pinned = 0;
-    cp_exec serial = cp_exec_serial(), exec = serial;
-    if (threads > 1) {
-        if (cph_pool_create(&m, threads, &pool, &pinned, msg, sizeof msg) != CP_OK) {
-            fprintf(stderr, "%s\n", msg);
-            return 1;
-        }
-        exec = cph_pool_exec(pool);
-    }
+    char msg[512];
+    const cp_shape s = L.s;
+    const cp_algo *algo = L.algo;
     const size_t nx = cp_shape_input_elems(&s), ny = cp_shape_output_elems(&s);
-    const size_t nw = cp_shape_weight_elems(&s);
-    float *x0 = malloc(nx * sizeof *x0), *w = malloc(nw * sizeof *w);
-    float *bias = malloc((size_t)s.k * sizeof *bias);
-    cph_fill_uniform(x0, nx, 1);
-    cph_fill_uniform(w, nw, 2);
-    cph_fill_uniform(bias, (size_t)s.k, 3);
+    const float *x0 = L.x, *w = L.w, *bias = L.bias;
+    const cp_cache_sizes caches = L.caches;
+    /* One thread: on the calling thread, whose pinning is a factor here (the
+     * pool still holds OpenBLAS at one thread). */
+    cp_exec exec = threads == 1 ? cp_exec_serial() : L.exec;
 
     /* The grid; pinning varies only at one thread (the pool pins its workers). */
     config cfg[NYOFF * 8];
@@ -196,10 +177,6 @@ int main(int argc, char **argv) {
     fclose(out);
     free(kept);
     free(order);
-    free(x0);
-    free(w);
-    free(bias);
-    if (pool) cph_pool_destroy(pool);
-    cph_machine_free(&m);
+    exp_layer_close(&L);
     return 0;
 }

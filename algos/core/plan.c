@@ -20,13 +20,36 @@ struct cp_plan {
     void *prepared;       /* prepared weights, or NULL */
     void *workspace;
     size_t workspace_bytes;
+    size_t raw_bytes, prepared_bytes;
+    cp_allocator mem;     /* the allocator its blocks came from */
 };
 
-static void *alloc64(size_t bytes) {
-    if (bytes == 0) return NULL;
+static void *system_alloc(void *ctx, size_t bytes) {
+    (void)ctx;
     size_t rounded = cpa_align64(bytes);
     if (rounded < bytes) return NULL;
     return aligned_alloc(64, rounded);
+}
+
+static void system_release(void *ctx, void *ptr, size_t bytes) {
+    (void)ctx;
+    (void)bytes;
+    free(ptr);
+}
+
+static const cp_allocator system_allocator = {system_alloc, system_release, NULL};
+static cp_allocator current_allocator = {system_alloc, system_release, NULL};
+
+void cp_set_allocator(const cp_allocator *a) {
+    current_allocator = (a && a->alloc && a->release) ? *a : system_allocator;
+}
+
+static void *plan_alloc(cp_plan *p, size_t bytes) {
+    return bytes ? p->mem.alloc(p->mem.ctx, bytes) : NULL;
+}
+
+static void plan_release(const cp_plan *p, const void *ptr, size_t bytes) {
+    if (ptr) p->mem.release(p->mem.ctx, (void *)ptr, bytes);
 }
 
 /* The algorithms' size functions multiply shape fields in int64.  Their
@@ -64,6 +87,7 @@ cp_status cp_plan_create(const cp_algo *a, const cp_shape *s, cp_flip flip,
     cp_plan *p = calloc(1, sizeof *p);
     if (!p) return cpa_fail(CP_ENOMEM, msg, cap, "plan: out of memory");
     p->algo = a;
+    p->mem = current_allocator;
     p->shape = *s;
     p->flip = flip;
     p->nthreads = nthreads;
@@ -78,7 +102,8 @@ cp_status cp_plan_create(const cp_algo *a, const cp_shape *s, cp_flip flip,
     }
     size_t pbytes = a->prepared_size ? a->prepared_size(s, flip, &p->params) : 0;
     if (pbytes) {
-        p->prepared = alloc64(pbytes);
+        p->prepared = plan_alloc(p, pbytes);
+        p->prepared_bytes = pbytes;
         if (!p->prepared) {
             cp_plan_destroy(p);
             return cpa_fail(CP_ENOMEM, msg, cap, "plan: cannot allocate %zu bytes of prepared weights", pbytes);
@@ -90,7 +115,8 @@ cp_status cp_plan_create(const cp_algo *a, const cp_shape *s, cp_flip flip,
         }
     } else {
         size_t wb = cp_shape_weight_elems(s) * sizeof(float);
-        float *copy = alloc64(wb);
+        float *copy = plan_alloc(p, wb);
+        p->raw_bytes = wb;
         if (!copy) {
             cp_plan_destroy(p);
             return cpa_fail(CP_ENOMEM, msg, cap, "plan: cannot allocate %zu bytes of weights", wb);
@@ -100,7 +126,7 @@ cp_status cp_plan_create(const cp_algo *a, const cp_shape *s, cp_flip flip,
     }
     p->workspace_bytes = a->workspace_size ? a->workspace_size(s, flip, &p->params, nthreads) : 0;
     if (p->workspace_bytes) {
-        p->workspace = alloc64(p->workspace_bytes);
+        p->workspace = plan_alloc(p, p->workspace_bytes);
         if (!p->workspace) {
             size_t wsb = p->workspace_bytes;
             cp_plan_destroy(p);
@@ -160,8 +186,8 @@ const cp_params *cp_plan_params(const cp_plan *p) { return &p->params; }
 
 void cp_plan_destroy(cp_plan *p) {
     if (!p) return;
-    free((void *)p->raw);
-    free(p->prepared);
-    free(p->workspace);
+    plan_release(p, p->raw, p->raw_bytes);
+    plan_release(p, p->prepared, p->prepared_bytes);
+    plan_release(p, p->workspace, p->workspace_bytes);
     free(p);
 }

@@ -16,6 +16,7 @@
 #include "harness/io/report_json.h"
 #include "harness/machine/membudget.h"
 #include "harness/machine/pool.h"
+#include "harness/measure/stats.h"
 
 /* The machine, the thread counts, the memory check, the table; the exit code
  * of a failure, or -1. */
@@ -48,6 +49,15 @@ static int setup(cph_bench_state *r, cph_bench_cfg *c) {
                      cp_table_fingerprint(r->table));
     }
     if (c->timing.cold) c->timing.flush_bytes = 2 * cph_machine_llc_total(&r->m);
+    if (cph_control_init(&r->control, r->m.avx512f, r->m.avx2 && r->m.fma) != CP_OK) {
+        cph_err("bench: out of memory for the control");
+        return CPH_EXIT_FAIL;
+    }
+    r->have_control = 1;
+    if (c->place && !(r->placer = cph_placer_create(CPH_PLACE_SPAN_DEFAULT, c->sel.seed ^ 0x5eed))) {
+        cph_err("bench: out of memory for the trials' buffers");
+        return CPH_EXIT_FAIL;
+    }
     if (c->json_path && !(r->results = json_array())) {
         cph_err("bench: out of memory");
         return CPH_EXIT_FAIL;
@@ -116,6 +126,7 @@ static int rows(cph_bench_state *r, const cph_bench_cfg *c) {
     char msg[512];
     int rc = CPH_EXIT_OK;
     cph_bench_print_header(r);
+    r->t0 = cph_now();
     for (int ti = 0; ti < r->nthreads && rc == CPH_EXIT_OK; ti++) {
         cph_pool *pool = NULL;
         int pinned = 0;
@@ -131,6 +142,27 @@ static int rows(cph_bench_state *r, const cph_bench_cfg *c) {
         cph_pool_destroy(pool);
     }
     return rc == CPH_EXIT_OK && r->failures ? CPH_EXIT_FAIL : rc;
+}
+
+/* The control's trials in one line per piece: their spread over the run
+ * says how much the machine moved while the rows ran. */
+static void control_print(const cph_bench_state *r) {
+    const size_t n = r->ctl.n;
+    double *v = malloc((n ? n : 1) * sizeof *v);
+    if (!n || !v) {
+        free(v);
+        return;
+    }
+    for (int piece = 0; piece < 2; piece++) {
+        for (size_t i = 0; i < n; i++) v[i] = piece ? r->ctl.t[i].gemm : r->ctl.t[i].fma;
+        cph_sort_doubles(v, n);
+        printf("%scontrol %-4s %zu trials: median %.4f ms, fastest %.4f ms, slowest %.4f ms "
+               "(%.2fx the fastest)\n",
+               piece ? "" : "\n", piece ? "gemm" : "fma", n, 1e3 * cph_median_sorted(v, n),
+               1e3 * v[0], 1e3 * v[n - 1], v[n - 1] / v[0]);
+    }
+    free(v);
+    if (r->oom_control) printf("control: some trials could not be recorded (out of memory)\n");
 }
 
 /* The project's performance targets over the recorded rows: printed, and
@@ -195,15 +227,23 @@ int cph_bench_run(cph_bench_cfg *c, int argc, char **argv) {
     if (rc < 0) {
         printf("bench: %s, %d cores, device %s\n", r->m.model, r->m.cores, r->m.fingerprint);
         if (c->roofs) roofs_start(r);
-        printf("timing: %s, warm-up %d, samples %zu..%zu, target +-%.2g %% at %.0f %%, "
-               "cap %.4g ms%s\n",
-               cph_clock_name(), c->timing.warmup, c->timing.min_samples, c->timing.max_samples,
-               100.0 * c->timing.target_rel_ci, 100.0 * c->timing.confidence,
-               1e3 * c->timing.max_seconds, c->timing.cold ? ", cold caches" : "");
+        char what[160];
+        cph_control_describe(&r->control, what, sizeof what);
+        printf("timing: %s; every row in %zu rounds of trials, shuffled each round, with the "
+               "control (%s); a trial = fresh plan and "
+               "buffers%s, 1 warm-up run, %zu samples, its median; cap %.4g ms a trial (%.4g ms "
+               "a row); median and %.0f %% CI of the trial medians%s\n",
+               cph_clock_name(), c->rounds, what,
+               c->place ? " at random offsets on huge-page regions" : "",
+               c->trial_samples < c->timing.max_samples ? c->trial_samples
+                                                        : c->timing.max_samples,
+               1e3 * c->timing.max_seconds / (double)c->rounds, 1e3 * c->timing.max_seconds,
+               100.0 * c->timing.confidence, c->timing.cold ? ", cold caches" : "");
         printf("layers: %zu shape(s), %lld layer(s) in the network\n", c->sel.layers.n,
                cph_layers_total(&c->sel.layers));
         cph_layers_print(stdout, &c->sel.layers);
         rc = rows(r, c);
+        control_print(r);
         roofs_end(r);
         if (!r->oom) cph_bench_network_print(stdout, &r->recs, &c->sel.layers);
         json_t *sums = NULL;
@@ -214,6 +254,9 @@ int cph_bench_run(cph_bench_cfg *c, int argc, char **argv) {
             json_decref(sums);
     }
     json_decref(r->results);
+    cph_placer_destroy(r->placer);
+    if (r->have_control) cph_control_free(&r->control);
+    free(r->ctl.t);
     cph_bench_recs_free(&r->recs);
     cp_table_free(r->table);
     cph_machine_free(&r->m);

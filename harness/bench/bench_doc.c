@@ -31,7 +31,18 @@
  *        "peak_gflops": 90.1 | null, "peak_fraction": 0.457 | null,
  *        "peak_bits": 512 | null (the vector width of the roof the fraction is against),
  *        "measurement": {measurement object, report_json.h}}      (ok only)
+ *        whose samples are the row's TRIAL MEDIANS in round order
+ *        (measurement.settings.samples_are = "trial_medians", .rounds, .placed;
+ *        report_json.h, cph_json_trials)
  *     ],
+ *     "control": {"what": "fma512 x 20000 iterations + sgemm 64x576x196, 1 thread",
+ *                 "samples": timed runs of each piece per trial (after one warm-up),
+ *                 "fma_s": [trial medians, seconds], "gemm_s": [...] (as a table's
+ *                 tried.control spells them), and for each trial where it ran:
+ *                 "round": [0-based round of its layer x flip x threads], "at_s":
+ *                 [seconds since the rows started], "layer": [...], "flipped": [...],
+ *                 "threads": [...]}
+ *       (harness/measure/control.h; absent in files written before the control),
  *     "summaries": [{"id": "blocked_peak", "target_text", "comparison": ">=",
  *                    "target": 0.7, "value", "unit", "verdict": "pass"|"miss"|"n/a",
  *                    "missed_by": relative | null, "threads", "base_threads",
@@ -62,6 +73,27 @@ json_t *cph_bench_row_json(const cph_bench_row *x, const char *status) {
                           cph_json_number(cp_shape_flops(&x->L->shape)));
     if (o && x->kind == CPH_ROW_CHOSEN) json_object_set_new(o, "chosen_algo", json_string(x->algo));
     return o;
+}
+
+/* The fixed control's trials (harness/measure/control.h), as parallel arrays. */
+static json_t *control_json(const cph_bench_state *r, const cph_bench_cfg *c, size_t samples) {
+    char what[160];
+    cph_control_describe(&r->control, what, sizeof what);
+    json_t *f = json_array(), *g = json_array(), *rd = json_array(), *at = json_array(),
+           *ly = json_array(), *fl = json_array(), *th = json_array();
+    for (size_t i = 0; f && g && rd && at && ly && fl && th && i < r->ctl.n; i++) {
+        const cph_bench_ctl_trial *t = &r->ctl.t[i];
+        json_array_append_new(f, cph_json_number(t->fma));
+        json_array_append_new(g, cph_json_number(t->gemm));
+        json_array_append_new(rd, json_integer((json_int_t)t->round));
+        json_array_append_new(at, cph_json_number(t->at));
+        json_array_append_new(ly, json_string(c->sel.layers.v[t->layer].name));
+        json_array_append_new(fl, cph_json_flipped(t->flip));
+        json_array_append_new(th, json_integer(t->threads));
+    }
+    return json_pack("{s:s, s:I, s:o, s:o, s:o, s:o, s:o, s:o, s:o}", "what", what, "samples",
+                     (json_int_t)samples, "fma_s", f, "gemm_s", g, "round", rd, "at_s", at,
+                     "layer", ly, "flipped", fl, "threads", th);
 }
 
 static json_t *roofs_json(const cph_bench_state *r, int end) {
@@ -104,5 +136,13 @@ json_t *cph_bench_document(const cph_bench_state *r, const cph_bench_cfg *c, int
         roofs_json(r, 0), "settings", settings, "results", r->results, "summaries",
         summaries ? summaries : json_null());
     if (doc) json_object_set_new(doc, "roofs_end", roofs_json(r, 1));
+    if (doc) {
+        const cph_timing_opts t = cph_bench_trial_timing(c);
+        json_object_set_new(doc, "control", control_json(r, c, t.max_samples));
+        json_t *set = json_object_get(doc, "settings");
+        json_object_set_new(set, "rounds", json_integer((json_int_t)c->rounds));
+        json_object_set_new(set, "trial_samples", json_integer((json_int_t)t.max_samples));
+        json_object_set_new(set, "placed", json_boolean(c->place));
+    }
     return doc;
 }

@@ -7,6 +7,7 @@
 #include "harness/bench/bench.h"
 #include "harness/cli/cli.h"
 #include "harness/cli/options.h"
+#include "harness/measure/paired.h"
 
 static void usage(FILE *f) {
     fputs("usage: convpick bench SELECTION [OPTIONS]\n\n"
@@ -15,20 +16,33 @@ static void usage(FILE *f) {
           "distribution-free confidence interval, GFLOP/s (direct-equivalent FLOPs) and\n"
           "the fraction of the measured FMA peak.  Nothing is chosen or written unless\n"
           "--json is given.  Times are in milliseconds.\n\n"
+          "The rows of a layer, flip and thread count are measured in rounds: each round\n"
+          "runs one trial of every row and of a fixed control (the FMA loop of the roofs and\n"
+          "a fixed SGEMM, on one thread), in an order shuffled anew each round.  A\n"
+          "trial is a fresh plan and fresh buffers (at random offsets), one warm-up run\n"
+          "and a short batch of samples; its median is the row's sample.  A row's median\n"
+          "and interval are those of its trial medians ('n' counts trials); the rows of a\n"
+          "layer print when its rounds end.\n\n"
           "The peak for t threads is the all-core peak when t is the number of cores\n"
           "measured together, else the one-core peak times t.  FLOPs are those of the\n"
           "direct method, so an algorithm that does less arithmetic (Winograd) can\n"
-          "exceed 100 %.  'noisy' marks a measurement whose interquartile range exceeds\n"
-          "10 % of the median or whose CI missed the target; 'cap' one that --max-seconds\n"
-          "stopped.\n\n",
+          "exceed 100 %.  'noisy' marks a row whose trial medians' interquartile range\n"
+          "exceeds 10 % of their median.\n\n",
           f);
     cph_help_selection(f, "no");
     fputs("options:\n", f);
     cph_help_timing(f, 2.0);
-    fputs("  --no-roofs          do not measure the FMA peak and bandwidth first\n"
+    fputs("                      (in bench --max-seconds caps one row over all its rounds,\n"
+          "                      each trial getting its share; --max-samples lowers\n"
+          "                      --trial-samples; --target-ci is not used)\n"
+          "  --rounds N          trials of every row, one per round (default: 8)\n"
+          "  --trial-samples N   timed samples per trial, after one warm-up run (default: 5)\n"
+          "  --no-place          trial buffers and plans on the heap instead of at random\n"
+          "                      offsets on huge-page regions (default: placed)\n"
+          "  --no-roofs          do not measure the FMA peak and bandwidth first\n"
           "                      (default: measure them, before and after the rows)\n"
           "  --json FILE         write every sample and setting (format\n"
-          "                      convpick-bench-results, version 1; default: none)\n"
+          "                      convpick-bench-results, version 2; default: none)\n"
           "  --table FILE        also time what this tuning table chooses for each layer\n"
           "                      (through cp_table_plan, as a deploying program would):\n"
           "                      row 'chosen' (default: none)\n"
@@ -47,7 +61,16 @@ static void usage(FILE *f) {
 
 /* Returns -1 to go on, else the exit code (the error already reported). */
 static int parse(int argc, char **argv, cph_bench_cfg *c) {
-    enum { OPT_NOROOFS = 1, OPT_JSON, OPT_TABLE, OPT_NOSGEMM, OPT_TARGETS };
+    enum {
+        OPT_NOROOFS = 1,
+        OPT_JSON,
+        OPT_TABLE,
+        OPT_NOSGEMM,
+        OPT_TARGETS,
+        OPT_ROUNDS,
+        OPT_TRIAL_SAMPLES,
+        OPT_NO_PLACE
+    };
     static const struct option longopts[] = {
         CPH_OPTS_SELECTION,
         CPH_OPTS_TIMING,
@@ -56,11 +79,15 @@ static int parse(int argc, char **argv, cph_bench_cfg *c) {
         {"table", required_argument, NULL, OPT_TABLE},
         {"no-sgemm", no_argument, NULL, OPT_NOSGEMM},
         {"targets", no_argument, NULL, OPT_TARGETS},
+        {"rounds", required_argument, NULL, OPT_ROUNDS},
+        {"trial-samples", required_argument, NULL, OPT_TRIAL_SAMPLES},
+        {"no-place", no_argument, NULL, OPT_NO_PLACE},
         CPH_OPT_MAX_MEMORY_ENTRY,
         CPH_OPTS_HELP_END,
     };
     const cph_opt_dest dest = {"bench", &c->sel, &c->timing, &c->threads, &c->max_memory, NULL};
     int opt;
+    long long n;
     while ((opt = cph_opt_next("bench", argc, argv, longopts)) != -1) {
         int rc = 0;
         switch (opt) {
@@ -70,6 +97,17 @@ static int parse(int argc, char **argv, cph_bench_cfg *c) {
         case OPT_TABLE: c->table_path = optarg; break;
         case OPT_NOSGEMM: c->sgemm = 0; break;
         case OPT_TARGETS: c->targets = 1; break;
+        case OPT_ROUNDS:
+            rc = cph_opt_int("bench", "--rounds", optarg, 1, CPH_PAIRED_MAX,
+                             "an integer in [1, 400]", &n);
+            c->rounds = (size_t)n;
+            break;
+        case OPT_TRIAL_SAMPLES:
+            rc = cph_opt_int("bench", "--trial-samples", optarg, 1, 1000,
+                             "an integer in [1, 1000]", &n);
+            c->trial_samples = (size_t)n;
+            break;
+        case OPT_NO_PLACE: c->place = 0; break;
         default: rc = cph_opt_shared(&dest, opt, optarg);
         }
         if (rc) return rc;
@@ -88,6 +126,9 @@ int cph_cmd_bench(int argc, char **argv) {
     cph_timing_defaults(&c.timing);
     c.roofs = 1;
     c.sgemm = 1;
+    c.rounds = CPH_BENCH_ROUNDS_DEFAULT;
+    c.trial_samples = CPH_BENCH_TRIAL_SAMPLES_DEFAULT;
+    c.place = 1;
     int rc = parse(argc, argv, &c);
     if (rc < 0) rc = cph_bench_run(&c, argc, argv);
     cph_selection_free(&c.sel);

@@ -36,10 +36,18 @@ static void usage(FILE *f) {
             "Rows are sorted worst first.  For two tables it compares what each entry\n"
             "chose (--all: every candidate), lists the layers whose chosen algorithm\n"
             "changed and what BASE's choice costs in NEW, and the network's time (the sum\n"
-            "of the chosen medians over the entries both hold).\n\n"
+            "of the chosen medians over the entries both hold).  Two bench results that\n"
+            "both timed a table's choice (bench --table) are compared by those chosen rows\n"
+            "and their network total (--all: every row).\n\n"
+            "Bench results carry a fixed control (a SGEMM and the FMA loop timed in every\n"
+            "round beside the rows).  When both sides have one, it is compared first; if it\n"
+            "moved significantly beyond the tolerance, that is machine-wide drift: it is\n"
+            "reported as such and every NEW time is divided by the control's ratio before\n"
+            "the rows are judged, so a regression must be slower beyond the drift.\n\n"
             "With --paired, BASE and NEW are each a comma-separated list of results files,\n"
             "the rounds of an A/B run taken interleaved (round r of BASE close in time to\n"
-            "round r of NEW): each round's median of a measurement is one trial, round r\n"
+            "round r of NEW; a round measured in parts lists them joined by '+',\n"
+            "a.json+b.json): each round's median of a measurement is one trial, round r\n"
             "pairs with round r, and the p-value is the Wilcoxon signed-rank test's, the\n"
             "interval the paired Hodges-Lehmann one (docs/diff.md).  This is how to compare\n"
             "two builds on a shared machine (scripts/ci-speed-check --ab).\n\n"
@@ -53,8 +61,9 @@ static void usage(FILE *f) {
             "  --markdown FILE     write a Markdown summary for a CI page (default: none)\n"
             "  --paired            BASE and NEW are lists of rounds, compared paired\n"
             "                      (default: two files, compared as independent samples)\n"
-            "  --all               two tables: compare every candidate, not only the choices\n"
-            "                      (default: the choices)\n"
+            "  --all               two tables: compare every candidate, not only the choices;\n"
+            "                      two bench results with chosen rows: every row (default:\n"
+            "                      the choices)\n"
             "  --details           list every measurement found on one side only\n"
             "                      (default: their counts)\n");
     cph_help_end(f, "0 no regression, 1 at least one regression, 2 bad usage or\n"
@@ -132,6 +141,14 @@ static void print_header(const cph_diff *d) {
         printf("note: the cache settings differ (BASE %s, NEW %s)\n",
                b->cold < 0 ? "mixed" : b->cold ? "cold" : "warm",
                n->cold < 0 ? "mixed" : n->cold ? "cold" : "warm");
+    if (b->kind == CPH_RESULTS_BENCH && n->kind == CPH_RESULTS_BENCH && b->trials != n->trials)
+        printf("note: BASE's samples are %s, NEW's %s: the sides were measured differently, and "
+               "the comparison mixes the two\n",
+               b->trials == 1 ? "trial medians" : b->trials ? "partly trial medians" : "single samples",
+               n->trials == 1 ? "trial medians" : n->trials ? "partly trial medians" : "single samples");
+    char ctl[512];
+    cph_diff_control_text(d, ctl, sizeof ctl);
+    if (ctl[0]) printf("%s\n", ctl);
     if (d->flags & CPH_DIFF_PAIRED)
         printf("method: rounds paired in order; two-sided Wilcoxon signed-rank test at alpha "
                "%g on the log ratios of the rounds' medians, and the paired Hodges-Lehmann ratio "
@@ -145,15 +162,23 @@ static void print_header(const cph_diff *d) {
                d->flags & CPH_DIFF_CHOSEN_ONLY && b->kind == CPH_RESULTS_TABLE &&
                        n->kind == CPH_RESULTS_TABLE
                    ? "; each entry's choice only (--all: every candidate)"
-                   : "");
+               : d->chosen_rows_only ? "; the table's chosen rows only (--all: every row)"
+                                     : "");
+}
+
+/* The algo column: "chosen=blocked" for a bench row of a table's choice. */
+static void algo_text(const cph_result_item *it, char *buf, size_t cap) {
+    snprintf(buf, cap, "%s%s%s", it->algo, it->chosen_algo[0] ? "=" : "", it->chosen_algo);
 }
 
 static void print_pairs(const cph_diff *d) {
     int lw = 5, aw = 4, pw = 6;
+    char algo[72];
     for (size_t i = 0; i < d->npairs; i++) {
         const cph_result_item *it = d->pairs[i].base;
         if ((int)strlen(it->layer) > lw) lw = (int)strlen(it->layer);
-        if ((int)strlen(it->algo) > aw) aw = (int)strlen(it->algo);
+        algo_text(it, algo, sizeof algo);
+        if ((int)strlen(algo) > aw) aw = (int)strlen(algo);
         if ((int)strlen(it->params) > pw) pw = (int)strlen(it->params);
     }
     printf("%-12s  %-*s  %-4s  %3s  %-*s  %-*s  %10s  %10s  %7s  %7s  %-17s  %8s  %s\n", "verdict",
@@ -170,9 +195,10 @@ static void print_pairs(const cph_diff *d) {
             if (c->bounded) snprintf(ci, sizeof ci, "[%.4f, %.4f]", c->ratio_lo, c->ratio_hi);
             else snprintf(ci, sizeof ci, "unbounded");
         }
+        algo_text(it, algo, sizeof algo);
         printf("%-12s  %-*s  %-4s  %3d  %-*s  %-*s  %10.4g  %10.4g  %7.4f  %7s  %-17s  %8s  %s\n",
                cph_shift_verdict_name(p->verdict), lw, it->layer, cph_flip_word(it->flip),
-               it->threads, aw, it->algo, pw, it->params[0] ? it->params : "-",
+               it->threads, aw, algo, pw, it->params[0] ? it->params : "-",
                1e3 * c->base_median, 1e3 * c->new_median, c->median_ratio, hl, ci, pv, p->note);
     }
 }
@@ -230,14 +256,31 @@ static void print_rest(const cph_diff *d, int details) {
                "ms, ratio %.4f\n",
                d->total_entries, 1e3 * d->total_base, 1e3 * d->total_next,
                d->total_next / d->total_base);
+    const cph_diff_network *w = &d->network;
+    if (w->rows && w->base > 0) {
+        printf("\nnetwork: %zu chosen rows in both, sum of count x median BASE %.4g ms, NEW %.4g "
+               "ms%s, ratio %.4f",
+               w->rows, 1e3 * w->base, 1e3 * w->next,
+               d->control.drift ? " (drift-corrected)" : "", w->next / w->base);
+        if (w->compared && w->cmp.bounded)
+            printf("; over the trials: %s, HL %.4f, %.1f %% CI %.4f..%.4f, p = %.2g\n",
+                   cph_shift_verdict_name(w->verdict), w->cmp.ratio, 100.0 * w->cmp.coverage,
+                   w->cmp.ratio_lo, w->cmp.ratio_hi, w->cmp.mwu.p);
+        else
+            printf("\n");
+    }
     if (d->base->nfailed || d->next->nfailed)
         printf("\nnot measured (failed or disqualified): %zu in BASE, %zu in NEW\n",
                d->base->nfailed, d->next->nfailed);
+    char drift[96] = "";
+    if (d->control.drift)
+        snprintf(drift, sizeof drift, "; machine drift %.3fx (control), rows drift-corrected",
+                 d->control.factor);
     printf("\nsummary: %zu compared: %zu slower, %zu inconclusive, %zu unchanged, %zu faster; "
-           "%zu only in BASE, %zu only in NEW%s\n",
+           "%zu only in BASE, %zu only in NEW%s%s\n",
            d->npairs, d->counts[CPH_SHIFT_SLOWER], d->counts[CPH_SHIFT_INCONCLUSIVE],
            d->counts[CPH_SHIFT_UNCHANGED], d->counts[CPH_SHIFT_FASTER], d->nonly_base,
-           d->nonly_next, d->counts[CPH_SHIFT_SLOWER] ? ": REGRESSION" : "");
+           d->nonly_next, drift, d->counts[CPH_SHIFT_SLOWER] ? ": REGRESSION" : "");
 }
 
 /* One side: a file, or (--paired) a comma-separated list of rounds folded
@@ -265,10 +308,32 @@ static int read_side(const diff_opts *o, const char *arg, const char *side, cph_
             rc = CPH_EXIT_USAGE;
             goto out;
         }
-        if (cph_results_read(f, &r[n], msg, sizeof msg) != CP_OK) {
-            cph_err("diff: %s", msg);
-            rc = CPH_EXIT_USAGE;
-            goto out;
+        /* a round in parts: "a.json+b.json" */
+        char *psave = NULL;
+        int first = 1;
+        for (char *part = strtok_r(f, "+", &psave); part; part = strtok_r(NULL, "+", &psave)) {
+            cph_results piece, *dst = first ? &r[n] : &piece;
+            if (cph_results_read(part, dst, msg, sizeof msg) != CP_OK) {
+                cph_err("diff: %s", msg);
+                rc = CPH_EXIT_USAGE;
+                if (first) goto out;
+                n++; /* r[n] is read: freed with the others */
+                goto out;
+            }
+            if (!first) {
+                const int jr = cph_results_join(&r[n], &piece);
+                if (jr != 0) {
+                    if (jr > 0) cph_results_free(&piece);
+                    cph_err(jr > 0 ? "diff: --paired: %s: the parts of a round come from "
+                                     "different devices"
+                                   : "diff: out of memory (%s)",
+                            part);
+                    rc = CPH_EXIT_USAGE;
+                    n++;
+                    goto out;
+                }
+            }
+            first = 0;
         }
         n++;
     }
@@ -326,7 +391,9 @@ static int run_diff(const diff_opts *o) {
         rc = CPH_EXIT_USAGE;
         goto done;
     }
-    if (!d.npairs) {
+    /* Two tables whose every common entry changed its choice pair no
+     * measurement, but they have entries in common: the changes are the report. */
+    if (!d.npairs && !d.total_entries) {
         cph_err("diff: %s and %s have no measurement in common (same shape, flip, threads, "
                 "algorithm and parameters)", o->base, o->next);
         rc = CPH_EXIT_USAGE;

@@ -32,8 +32,9 @@ static void usage(FILE *f) {
           "  --max-rounds N      rounds at most (default: 40)\n"
           "  --alpha A           level of the race's drop test and of the margin's interval\n"
           "                      (1 - A) (default: 0.05)\n"
-          "  --no-place          trial buffers page-aligned instead of at random offsets\n"
-          "                      (default: random offsets)\n"
+          "  --no-place          trial buffers page-aligned, plans on the heap (default:\n"
+          "                      each block at a random offset on huge-page regions,\n"
+          "                      docs/measurement.md)\n"
           "  --max-rel-err X     disqualify candidates whose error exceeds X (default: 1e-4)\n"
           "  --max-candidates N  parameter sets per algorithm (default: 16)\n",
           f);

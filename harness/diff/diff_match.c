@@ -59,9 +59,12 @@ static void compare_paired(const cph_diff *d, cph_diff_pair *p) {
                  100.0 * (1.0 - d->alpha));
 }
 
-/* Whether an item takes part (CPH_DIFF_CHOSEN_ONLY keeps tables' choices). */
+/* Whether an item takes part (CPH_DIFF_CHOSEN_ONLY keeps tables' choices and,
+ * when both bench results hold a table's choice, the chosen rows). */
 static int takes_part(const cph_diff *d, const cph_results *r, const cph_result_item *it) {
-    return !(d->flags & CPH_DIFF_CHOSEN_ONLY) || r->kind != CPH_RESULTS_TABLE || it->chosen;
+    if (!(d->flags & CPH_DIFF_CHOSEN_ONLY)) return 1;
+    if (r->kind == CPH_RESULTS_TABLE) return it->chosen;
+    return !d->chosen_rows_only || it->kind == CPH_ITEM_CHOSEN;
 }
 
 /* The network's time on both sides: chosen medians of the entries both hold. */
@@ -108,7 +111,8 @@ static void compare_pair(const cph_diff *d, cph_diff_pair *p) {
     const cph_result_item *b = p->base, *n = p->next;
     p->cmp.base_median = b->median;
     p->cmp.new_median = n->median;
-    p->cmp.median_ratio = b->median > 0 ? n->median / b->median : NAN;
+    const double f = d->control.factor; /* 1 unless the control drifted */
+    p->cmp.median_ratio = b->median > 0 ? n->median / f / b->median : NAN;
     p->cmp.m = b->nsamples;
     p->cmp.n = n->nsamples;
     p->verdict = CPH_SHIFT_INCONCLUSIVE;
@@ -122,10 +126,17 @@ static void compare_pair(const cph_diff *d, cph_diff_pair *p) {
         return;
     }
     cph_shift_cmp c;
-    if (cph_compare_samples(b->samples, b->nsamples, n->samples, n->nsamples, d->alpha, &c)) {
+    double *y = malloc(n->nsamples * sizeof *y); /* NEW's samples, drift-corrected */
+    if (y)
+        for (size_t i = 0; i < n->nsamples; i++) y[i] = n->samples[i] / f;
+    if (!y || cph_compare_samples(b->samples, b->nsamples, y, n->nsamples, d->alpha, &c)) {
+        free(y);
         snprintf(p->note, sizeof p->note, "not compared: a sample of 0 s (or out of memory)");
         return;
     }
+    free(y);
+    c.new_median = n->median; /* shown as measured; the ratios are corrected */
+    c.median_ratio = p->cmp.median_ratio;
     p->cmp = c;
     p->compared = 1;
     p->verdict = cph_shift_verdict_of(&c, d->alpha, d->tol);
@@ -171,6 +182,10 @@ int cph_diff_build(const cph_results *base, const cph_results *next, double alph
     out->tol = tol;
     out->flags = flags;
     out->other_device = strcmp(base->fingerprint, next->fingerprint) != 0;
+    out->chosen_rows_only = (flags & CPH_DIFF_CHOSEN_ONLY) && base->kind == CPH_RESULTS_BENCH &&
+                            next->kind == CPH_RESULTS_BENCH && base->nchosen_rows &&
+                            next->nchosen_rows;
+    if (cph_diff_control_compare(out)) return -1;
     size_t *ob = occurrences(base), *on = occurrences(next);
     char *used = calloc(next->nitems ? next->nitems : 1, 1);
     const size_t nb = base->nitems ? base->nitems : 1, nn = next->nitems ? next->nitems : 1;
@@ -213,6 +228,7 @@ int cph_diff_build(const cph_results *base, const cph_results *next, double alph
     choice_changes(out);
     totals(out);
     changed_cost(out);
+    cph_diff_network_compare(out);
     qsort(out->pairs, out->npairs, sizeof *out->pairs, cmp_pairs);
     return 0;
 }
@@ -226,9 +242,9 @@ void cph_diff_free(cph_diff *d) {
 }
 
 void cph_diff_item_label(const cph_result_item *it, char *buf, size_t cap) {
-    snprintf(buf, cap, "%s flip=%s t=%d %s%s%s%s", it->layer, cph_flip_word(it->flip),
-             it->threads, it->algo, it->params[0] ? " [" : "", it->params,
-             it->params[0] ? "]" : "");
+    snprintf(buf, cap, "%s flip=%s t=%d %s%s%s%s%s%s", it->layer, cph_flip_word(it->flip),
+             it->threads, it->algo, it->chosen_algo[0] ? "=" : "", it->chosen_algo,
+             it->params[0] ? " [" : "", it->params, it->params[0] ? "]" : "");
 }
 
 void cph_diff_pair_figures(const cph_diff *d, const cph_diff_pair *p, char *buf, size_t cap) {

@@ -78,8 +78,23 @@ cp_status cph_diff_write_junit(const cph_diff *d, const char *path, char *msg, s
     cph_xml_escape(f, d->next->path);
     fprintf(f, "\"/>\n      <property name=\"alpha\" value=\"%g\"/>\n"
                "      <property name=\"tolerance_pct\" value=\"%g\"/>\n"
-               "      <property name=\"other_device\" value=\"%s\"/>\n    </properties>\n",
+               "      <property name=\"other_device\" value=\"%s\"/>\n",
             d->alpha, 100.0 * d->tol, d->other_device ? "true" : "false");
+    char ctl[512];
+    cph_diff_control_text(d, ctl, sizeof ctl);
+    if (d->control.compared)
+        fprintf(f, "      <property name=\"control_ratio\" value=\"%.6g\"/>\n"
+                   "      <property name=\"control_verdict\" value=\"%s\"/>\n",
+                d->control.cmp.ratio, cph_shift_verdict_name(d->control.verdict));
+    fprintf(f, "      <property name=\"drift\" value=\"%s\"/>\n"
+               "      <property name=\"drift_factor\" value=\"%.6g\"/>\n",
+            d->control.drift ? "true" : "false", d->control.factor);
+    if (ctl[0]) {
+        fprintf(f, "      <property name=\"control\" value=\"");
+        cph_xml_escape(f, ctl);
+        fprintf(f, "\"/>\n");
+    }
+    fprintf(f, "    </properties>\n");
     for (size_t i = 0; i < d->npairs; i++) {
         const cph_diff_pair *p = &d->pairs[i];
         cph_diff_item_label(p->base, label, sizeof label);
@@ -94,7 +109,13 @@ cp_status cph_diff_write_junit(const cph_diff *d, const char *path, char *msg, s
             cph_xml_escape(f, line);
             fprintf(f, "\">");
             cph_xml_escape(f, label);
-            fprintf(f, ": NEW is slower than BASE beyond the tolerance, significant at alpha.\n");
+            if (d->control.drift)
+                fprintf(f, ": NEW is slower than BASE beyond the tolerance, significant at alpha, "
+                           "after dividing NEW's times by the machine drift %.4f that the "
+                           "control showed.\n",
+                        d->control.factor);
+            else
+                fprintf(f, ": NEW is slower than BASE beyond the tolerance, significant at alpha.\n");
             cph_xml_escape(f, line);
             fprintf(f, "</failure>\n");
         }
@@ -141,6 +162,25 @@ cp_status cph_diff_write_markdown(const cph_diff *d, const char *path, char *msg
     fprintf(f, "Verdicts: Mann-Whitney U test at alpha %g, Hodges-Lehmann ratio with its "
                "%g %% interval, tolerance +-%g %% (docs/diff.md).\n\n",
             d->alpha, 100.0 * (1.0 - d->alpha), 100.0 * d->tol);
+    char ctl[512];
+    cph_diff_control_text(d, ctl, sizeof ctl);
+    if (ctl[0]) {
+        fprintf(f, "%s", d->control.drift ? "> **Machine drift:** " : "Control: ");
+        md_cell(f, ctl);
+        fprintf(f, "%s\n\n", d->control.drift ? ". Ratios below are drift-corrected; "
+                                                 "`new ms` is as measured." : "");
+    }
+    if (d->network.rows && d->network.base > 0) {
+        fprintf(f, "Network (%zu chosen rows, count-weighted%s): BASE %.4g ms, NEW %.4g ms, "
+                   "ratio %.4f",
+                d->network.rows, d->control.drift ? ", drift-corrected" : "",
+                1e3 * d->network.base, 1e3 * d->network.next, d->network.next / d->network.base);
+        if (d->network.compared && d->network.cmp.bounded)
+            fprintf(f, "; over the trials %s, interval %.4f..%.4f",
+                    cph_shift_verdict_name(d->network.verdict), d->network.cmp.ratio_lo,
+                    d->network.cmp.ratio_hi);
+        fprintf(f, ".\n\n");
+    }
     fprintf(f, "| verdict | layer | flip | threads | algo | params | base ms | new ms | ratio | "
                "HL ratio | interval | p |\n|---|---|---|---:|---|---|---:|---:|---:|---:|---|---:|\n");
     for (size_t i = 0; i < d->npairs; i++) {

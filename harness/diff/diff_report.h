@@ -25,6 +25,37 @@ typedef struct cph_choice_change {
     const cph_result_item *old_in_new; /* BASE's choice as a candidate in NEW, or NULL */
 } cph_choice_change;
 
+/* The fixed control of two bench results files (docs/diff.md, "The
+ * control"): each series compared BASE against NEW with the rows'
+ * statistics, and the control as one series whose trial r is the geometric
+ * mean of the series' trials r.  When that moved significantly beyond the
+ * tolerance (verdict slower or faster), it is machine-wide drift and every
+ * NEW time is divided by its Hodges-Lehmann ratio before the rows are
+ * judged. */
+typedef struct cph_diff_control {
+    int present;              /* both sides carry a control with trials */
+    int sides;                /* how many sides carry one (0, 1 or 2) */
+    int series_compared[CPH_RESULTS_CONTROL_SERIES];
+    cph_shift_cmp series[CPH_RESULTS_CONTROL_SERIES];
+    int compared;             /* the combined control */
+    cph_shift_cmp cmp;
+    cph_shift_verdict verdict;
+    int drift;                /* verdict slower or faster: the rows are corrected */
+    double factor;            /* what NEW times are divided by (1 without drift) */
+} cph_diff_control;
+
+/* Bench results on both sides with chosen rows: the network's time from the
+ * chosen rows both hold, count-weighted, with a test when every one of them
+ * has the same number of trials on a side (trial r of the network = the sum
+ * over the layers of count x trial r). */
+typedef struct cph_diff_network {
+    size_t rows;              /* chosen rows in both */
+    double base, next;        /* sum of count x median (NEW drift-corrected) */
+    int compared;
+    cph_shift_cmp cmp;
+    cph_shift_verdict verdict;
+} cph_diff_network;
+
 /* How to compare (cph_diff_build's flags). */
 enum {
     /* Each side's samples are trials of rounds taken interleaved (diff_rounds.h):
@@ -32,7 +63,8 @@ enum {
      * signed-rank test and the paired Hodges-Lehmann ratio (paired.h). */
     CPH_DIFF_PAIRED = 1,
     /* Two tables: compare only what each entry chose (the deployed decision),
-     * not every candidate tried; changed choices are listed apart. */
+     * not every candidate tried; changed choices are listed apart.  Two bench
+     * results that both hold a table's chosen rows: only those rows. */
     CPH_DIFF_CHOSEN_ONLY = 2
 };
 
@@ -53,6 +85,9 @@ typedef struct cph_diff {
     size_t confident_base, confident_same, confident_same_algo;
     double changed_cost_max, changed_cost_median;
     int other_device;      /* fingerprints differ (and --allow-other-device was given) */
+    cph_diff_control control;
+    cph_diff_network network;
+    int chosen_rows_only;  /* bench results compared by their chosen rows alone */
     cph_diff_pair *pairs;  /* worst first (cph_diff_sort) */
     size_t npairs;
     const cph_result_item **only_base, **only_next;
@@ -61,6 +96,15 @@ typedef struct cph_diff {
     size_t nchanges;
     size_t counts[4];      /* pairs per cph_shift_verdict */
 } cph_diff;
+
+/* diff_control.c: the control of both sides (d->base, d->next, alpha, tol
+ * set) into d->control; returns -1 when out of memory.  The network of the
+ * compared chosen rows into d->network (after the pairs are built). */
+int cph_diff_control_compare(cph_diff *d);
+void cph_diff_network_compare(cph_diff *d);
+/* "the control ran 1.12x slower in NEW: machine-wide drift; ..." (one line,
+ * no newline), or "" when neither side carries a control. */
+void cph_diff_control_text(const cph_diff *d, char *buf, size_t cap);
 
 /* Matches the items of base and next (same shape, mode, threads, algorithm
  * and parameters; the k-th occurrence of a point in one file with its k-th

@@ -14,6 +14,23 @@ static const cph_result_item *find_point(const cph_results *r, const cph_result_
     return NULL;
 }
 
+int cph_results_join(cph_results *into, cph_results *part) {
+    if (strcmp(into->fingerprint, part->fingerprint) != 0) return 1;
+    if (part->nitems) {
+        cph_result_item *v = realloc(into->items, (into->nitems + part->nitems) * sizeof *v);
+        if (!v) return -1;
+        memcpy(v + into->nitems, part->items, part->nitems * sizeof *v);
+        into->items = v;
+        into->nitems += part->nitems;
+        part->nitems = 0; /* the samples now belong to into */
+    }
+    into->nunsupported += part->nunsupported;
+    into->nfailed += part->nfailed;
+    if (into->cold != part->cold) into->cold = -1;
+    cph_results_free(part);
+    return 0;
+}
+
 int cph_results_fold_rounds(const cph_results *rounds, size_t n, cph_results *out,
                             size_t *dropped, int *other_device) {
     const cph_results *first = &rounds[0];
@@ -21,6 +38,9 @@ int cph_results_fold_rounds(const cph_results *rounds, size_t n, cph_results *ou
     out->items = NULL;
     out->choices = NULL;
     out->nitems = out->nchoices = 0;
+    /* the rounds pair BASE with NEW themselves: no control (and no shared pointers) */
+    memset(out->control, 0, sizeof out->control);
+    out->has_control = 0;
     *dropped = 0;
     *other_device = 0;
     for (size_t r = 1; r < n; r++)

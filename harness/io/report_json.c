@@ -46,6 +46,31 @@ json_t *cph_json_measurement(const cph_measurement *m) {
                      cph_json_stats(&m->stats), "samples", samples);
 }
 
+json_t *cph_json_trials(const double *trials, size_t n, const cph_stats *s,
+                        const cph_timing_opts *per_trial, size_t rounds, int placed, double wall) {
+    json_t *samples = json_array(), *settings = cph_json_timing_opts(per_trial);
+    if (!samples || !settings) {
+        json_decref(samples);
+        json_decref(settings);
+        return NULL;
+    }
+    for (size_t i = 0; i < n; i++)
+        if (json_array_append_new(samples, cph_json_number(trials[i]))) {
+            json_decref(samples);
+            json_decref(settings);
+            return NULL;
+        }
+    json_object_set_new(settings, "samples_are", json_string("trial_medians"));
+    json_object_set_new(settings, "rounds", uint_json(rounds));
+    json_object_set_new(settings, "placed", json_boolean(placed));
+    return json_pack("{s:o, s:s, s:o, s:s, s:b, s:i, s:i, s:i, s:o, s:n, s:o, s:o}", "settings",
+                     settings, "clock", cph_clock_name(), "clock_resolution_s",
+                     cph_json_number(cph_clock_resolution()), "stop", "rounds", "converged", 0,
+                     "warmup_runs", per_trial->warmup, "flushes", 0, "checks", 0, "wall_seconds",
+                     cph_json_number(wall), "timed_seconds", "stats", cph_json_stats(s),
+                     "samples", samples);
+}
+
 /* ---- atomic write ---------------------------------------------------------- */
 
 cp_status cph_json_write_atomic(const json_t *root, const char *path, char *msg, size_t cap) {

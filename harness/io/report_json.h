@@ -7,7 +7,7 @@
  *                  "max_samples", "target_rel_ci", "confidence", "max_seconds",
  *                  "cold", "flush_bytes"},
  *     "clock": "CLOCK_MONOTONIC_RAW", "clock_resolution_s": 1e-09,
- *     "stop": "converged" | "max_samples" | "time_cap" | "error",
+ *     "stop": "converged" | "max_samples" | "time_cap" | "error" | "rounds" (trials, below),
  *     "converged": true, "warmup_runs": 2, "flushes": 0, "checks": 1,
  *     "wall_seconds": 0.0123, "timed_seconds": 0.0101,
  *     "stats": {"n": 10, "median": ..., "ci_lo": ..., "ci_hi": ..., "confidence": 0.95,
@@ -35,6 +35,20 @@
 /* Each returns a new reference (NULL only when out of memory). */
 json_t *cph_json_stats(const cph_stats *s);
 json_t *cph_json_measurement(const cph_measurement *m);
+
+/* A measurement whose samples are TRIAL MEDIANS (bench's rows): the same
+ * object, with
+ *   "settings": the settings of ONE trial (warmup, min_samples = max_samples =
+ *               the batch, max_seconds = the cap on one trial, cold,
+ *               flush_bytes) plus "samples_are": "trial_medians",
+ *               "rounds": rounds run, "placed": trial memory from a placer,
+ *   "stop": "rounds", "converged": false, "warmup_runs": per trial,
+ *   "flushes": 0 and "checks": 0 (not counted over trials), "timed_seconds":
+ *   null, "wall_seconds": every trial's wall time, set-up included,
+ *   "stats": of the trial medians (s), "samples": the trial medians in round
+ *   order. */
+json_t *cph_json_trials(const double *trials, size_t n, const cph_stats *s,
+                        const cph_timing_opts *per_trial, size_t rounds, int placed, double wall);
 
 /* Writes root to path atomically: a temporary file in the same directory,
  * fsync, rename over path, fsync of the directory.  On failure path is left

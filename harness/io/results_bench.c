@@ -29,6 +29,21 @@ static cp_status read_result(cph_rctx *c, const json_t *e, cph_result_item *it, 
     char ss[160];
     snprintf(ss, sizeof ss, "%s.settings", sub);
     if ((st = cpl_jbool(j, settings, ss, "cold", cold))) return st;
+    const json_t *are = json_object_get(settings, "samples_are");
+    it->trials = json_is_string(are) && strcmp(json_string_value(are), "trial_medians") == 0;
+    const json_t *kind = json_object_get(e, "kind");
+    if (kind) {
+        const char *k = json_string_value(kind);
+        if (!k || (strcmp(k, "algorithm") && strcmp(k, "reference") && strcmp(k, "chosen")))
+            return cpl_jfail(j, CP_EFORMAT, "%s.kind: expected \"algorithm\", \"reference\" or "
+                             "\"chosen\"", it->where);
+        it->kind = strcmp(k, "chosen") == 0      ? CPH_ITEM_CHOSEN
+                   : strcmp(k, "reference") == 0 ? CPH_ITEM_REFERENCE
+                                                 : CPH_ITEM_ALGORITHM;
+    }
+    if (it->kind == CPH_ITEM_CHOSEN &&
+        (st = cpl_jtext(j, e, it->where, "chosen_algo", it->chosen_algo, sizeof it->chosen_algo)))
+        return st;
     cp_timing t;
     if (!json_object_get(meas, "samples"))
         return cpl_jfail(j, CP_EFORMAT, "%s.samples: missing (expected array)", sub);
@@ -57,7 +72,9 @@ cp_status cph_results_read_bench(cph_rctx *c, json_t *root) {
     cpu = json_object_get(dev, "cpu");
     const json_t *model = json_is_object(cpu) ? json_object_get(cpu, "model") : NULL;
     if (json_is_string(model)) snprintf(r->model, sizeof r->model, "%s", json_string_value(model));
-    int first = 1;
+    if ((st = cph_results_read_control(c, json_object_get(root, "control"), "control")))
+        return st;
+    int first = 1, ntrials = 0;
     for (size_t i = 0; i < json_array_size(results); i++) {
         const json_t *e = json_array_get(results, i);
         cph_result_item it;
@@ -89,6 +106,9 @@ cp_status cph_results_read_bench(cph_rctx *c, json_t *root) {
             return st;
         }
         cph_results_note_cold(r, cold, &first);
+        ntrials += it.trials;
+        r->nchosen_rows += it.kind == CPH_ITEM_CHOSEN;
     }
+    r->trials = ntrials == 0 ? 0 : (size_t)ntrials == r->nitems ? 1 : -1;
     return CP_OK;
 }

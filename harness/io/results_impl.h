@@ -19,6 +19,11 @@ typedef struct cph_rctx {
 } cph_rctx;
 
 cp_status cph_results_push(cph_rctx *c, const cph_result_item *it);
+/* A "control" object (bench results at the top, a table in each entry's
+ * "tried"): each piece's trial medians ("gemm_s", "fma_s"), appended to
+ * r->control in file order.  ctl NULL: none (written before the control).
+ * where: its JSON path for messages. */
+cp_status cph_results_read_control(cph_rctx *c, const json_t *ctl, const char *where);
 /* The run's cache state: the first value seen, -1 once two differ. */
 void cph_results_note_cold(cph_results *r, int cold, int *first);
 double cph_results_median(const double *v, size_t n);

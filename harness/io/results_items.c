@@ -74,3 +74,44 @@ cp_status cph_results_params_text(const cpl_jctx *c, const json_t *obj, const ch
     }
     return CP_OK;
 }
+
+cp_status cph_results_read_control(cph_rctx *c, const json_t *ctl, const char *where) {
+    const cpl_jctx *j = &c->j;
+    cph_results *r = c->r;
+    if (!ctl) return CP_OK;
+    if (!json_is_object(ctl))
+        return cpl_jfail(j, CP_EFORMAT, "%s: expected an object, found %s", where,
+                         cpl_json_type_name(ctl));
+    for (int s = 0; s < CPH_RESULTS_CONTROL_SERIES; s++) {
+        char key[16], path[160];
+        json_t *arr;
+        double *v = NULL;
+        size_t n = 0;
+        cp_status st;
+        snprintf(key, sizeof key, "%s_s", cph_results_control_names[s]);
+        snprintf(path, sizeof path, "%s.%s", where, key);
+        if ((st = cpl_jfield(j, ctl, where, key, JSON_ARRAY, 0, &arr)) ||
+            (st = cpl_jsamples(j, arr, path, &v, &n)))
+            return st;
+        for (size_t i = 0; i < n; i++)
+            if (!(v[i] > 0)) {
+                free(v);
+                return cpl_jfail(j, CP_EFORMAT, "%s[%zu]: expected a number > 0 (seconds)", path,
+                                 i);
+            }
+        cph_result_series *dst = &r->control[s];
+        if (n) {
+            double *all = realloc(dst->v, (dst->n + n) * sizeof *all);
+            if (!all) {
+                free(v);
+                return cpl_jfail(j, CP_ENOMEM, "out of memory");
+            }
+            memcpy(all + dst->n, v, n * sizeof *all);
+            dst->v = all;
+            dst->n += n;
+        }
+        free(v);
+    }
+    r->has_control = 1;
+    return CP_OK;
+}

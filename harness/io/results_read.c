@@ -68,8 +68,15 @@ cp_status cph_results_read_buffer(const void *data, size_t len, const char *name
     return st;
 }
 
+const char *const cph_results_control_names[CPH_RESULTS_CONTROL_SERIES] = {"gemm", "fma"};
+
 void cph_results_free(cph_results *r) {
     for (size_t i = 0; i < r->nitems; i++) free(r->items[i].samples);
+    for (int s = 0; s < CPH_RESULTS_CONTROL_SERIES; s++) {
+        free(r->control[s].v);
+        r->control[s].v = NULL;
+        r->control[s].n = 0;
+    }
     free(r->items);
     free(r->choices);
     r->items = NULL;
@@ -83,5 +90,6 @@ const char *cph_results_kind_name(cph_results_kind k) {
 
 int cph_result_same_point(const cph_result_item *a, const cph_result_item *b) {
     return a->flip == b->flip && a->threads == b->threads && strcmp(a->algo, b->algo) == 0 &&
-           strcmp(a->params, b->params) == 0 && cp_shape_equal(&a->shape, &b->shape);
+           strcmp(a->chosen_algo, b->chosen_algo) == 0 && strcmp(a->params, b->params) == 0 &&
+           cp_shape_equal(&a->shape, &b->shape);
 }

@@ -25,6 +25,13 @@ typedef enum cph_results_kind {
     CPH_RESULTS_TABLE = 1
 } cph_results_kind;
 
+/* What a bench row measured (tables: every item is CPH_ITEM_ALGORITHM). */
+typedef enum cph_item_kind {
+    CPH_ITEM_ALGORITHM = 0, /* an algorithm with its parameters (a table's candidate) */
+    CPH_ITEM_REFERENCE = 1, /* a bare SGEMM reference row */
+    CPH_ITEM_CHOSEN = 2     /* what a tuning table chose for the layer */
+} cph_item_kind;
+
 /* One measured algorithm on one layer shape, flip and thread count. */
 typedef struct cph_result_item {
     char layer[64];
@@ -38,6 +45,9 @@ typedef struct cph_result_item {
     double median;      /* seconds: of the samples, else the recorded median */
     cp_timing timing;   /* as recorded: median, interval, noisy (seconds) */
     int count;          /* bench results: the layer's "layer_count" (0 when absent) */
+    cph_item_kind kind; /* bench results: the row's "kind" (absent: algorithm) */
+    char chosen_algo[32]; /* bench chosen rows: the algorithm the table chose */
+    int trials;         /* 1: the samples are trial medians (measurement.settings.samples_are) */
     int chosen;         /* tables: this candidate is its entry's choice */
     size_t entry;       /* tables: index of its entry in "entries" */
     char where[96];     /* its JSON path: "results[3]" or "entries[2].candidates[1]" */
@@ -55,6 +65,16 @@ typedef struct cph_result_choice {
     int confident;      /* a runner-up exists and its margin is not in the noise */
 } cph_result_choice;
 
+/* Bench results: the fixed control's trial medians, one series per piece of
+ * work (harness/measure/control.h: "gemm", "fma"; in the file "gemm_s",
+ * "fma_s"), in run order. */
+#define CPH_RESULTS_CONTROL_SERIES 2
+extern const char *const cph_results_control_names[CPH_RESULTS_CONTROL_SERIES]; /* gemm, fma */
+typedef struct cph_result_series {
+    double *v; /* seconds (owned); NULL when none */
+    size_t n;
+} cph_result_series;
+
 typedef struct cph_results {
     cph_results_kind kind;
     char path[1024];
@@ -67,6 +87,11 @@ typedef struct cph_results {
     size_t nchoices;
     size_t nunsupported;    /* bench results "unsupported", not listed */
     size_t nfailed;         /* bench results "error", table candidates failed or disqualified */
+    int has_control;        /* bench results with a "control" object */
+    cph_result_series control[CPH_RESULTS_CONTROL_SERIES];
+    size_t nchosen_rows;    /* bench results: rows of kind "chosen" */
+    int trials;             /* bench results: 1 every item's samples are trial medians, 0 none,
+                               -1 some */
 } cph_results;
 
 /* Reads path.  CP_EIO (cannot read), CP_EFORMAT (malformed JSON, wrong format
@@ -85,7 +110,7 @@ void cph_results_free(cph_results *r);
 const char *cph_results_kind_name(cph_results_kind k);
 
 /* 1 when a and b are the same measurement point: shape, flip, threads,
- * algorithm and parameters. */
+ * algorithm (and for chosen rows the chosen algorithm) and parameters. */
 int cph_result_same_point(const cph_result_item *a, const cph_result_item *b);
 
 #endif

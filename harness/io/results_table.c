@@ -90,7 +90,12 @@ static cp_status read_entry(cph_rctx *c, const json_t *e, size_t i, int *first_c
         }
     }
     r->choices[r->nchoices++] = ch;
-    return CP_OK;
+    /* The fixed control timed beside this entry's trials, appended to the
+     * table's: diff compares the two runs' controls as for bench results. */
+    const json_t *tried = json_object_get(e, "tried");
+    snprintf(sub, sizeof sub, "%s.tried.control", where);
+    return cph_results_read_control(c, json_is_object(tried) ? json_object_get(tried, "control") : NULL,
+                                    sub);
 }
 
 cp_status cph_results_read_table(cph_rctx *c, json_t *root) {

@@ -62,10 +62,23 @@ static json_t *tried_json(const cph_entry_notes *n) {
         json_array_append_new(notes, json_string(n->search_notes[i] ? n->search_notes[i] : ""));
     const cph_entry_notes zero = {0};
     if (!n) n = &zero;
-    return json_pack("{s:i, s:i, s:i, s:i, s:i, s:i, s:o, s:o}", "planned", n->planned,
-                     "measured", n->measured, "skipped", n->skipped, "disqualified",
-                     n->disqualified, "failed", n->failed, "unsupported", n->unsupported,
-                     "seconds", cph_json_number(n->seconds), "notes", notes);
+    json_t *tried = json_pack("{s:i, s:i, s:i, s:i, s:i, s:i, s:o, s:o}", "planned", n->planned,
+                              "measured", n->measured, "skipped", n->skipped, "disqualified",
+                              n->disqualified, "failed", n->failed, "unsupported",
+                              n->unsupported, "seconds", cph_json_number(n->seconds), "notes",
+                              notes);
+    if (tried && n->ncontrol && n->control_fma && n->control_gemm) {
+        json_t *f = json_array(), *g = json_array();
+        for (size_t i = 0; f && g && i < n->ncontrol; i++) {
+            json_array_append_new(f, cph_json_number(n->control_fma[i]));
+            json_array_append_new(g, cph_json_number(n->control_gemm[i]));
+        }
+        json_object_set_new(tried, "control",
+                            json_pack("{s:s, s:o, s:o}", "what",
+                                      n->control_what ? n->control_what : "", "fma_s",
+                                      f ? f : json_null(), "gemm_s", g ? g : json_null()));
+    }
+    return tried;
 }
 
 json_t *cph_table_entry_json(const cp_table_entry *e, const cph_entry_notes *n, const char *key) {

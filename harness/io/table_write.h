@@ -46,6 +46,11 @@ typedef struct cph_entry_notes {
     double seconds;                     /* wall time spent on the entry */
     const char *const *search_notes;    /* free text lines about the search */
     size_t nsearch_notes;
+    /* The fixed control timed beside the trials, one value per round
+     * (seconds), and what it is (control.h); ncontrol 0: none. */
+    const double *control_fma, *control_gemm;
+    size_t ncontrol;
+    const char *control_what;
 } cph_entry_notes;
 
 typedef struct cph_table_doc cph_table_doc;

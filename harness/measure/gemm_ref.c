@@ -7,13 +7,24 @@
 
 #include "harness/measure/data.h"
 
+static float *operand(const cph_gemm_ref *g, size_t n) {
+    return g->placer ? cph_placer_alloc(g->placer, n * sizeof(float)) : malloc(n * sizeof(float));
+}
+
+static void operand_free(const cph_gemm_ref *g, float *p) {
+    if (g->placer)
+        cph_placer_release(g->placer, p);
+    else
+        free(p);
+}
+
 static cp_status alloc_operands(cph_gemm_ref *g, uint64_t seed) {
     const size_t na = (size_t)(g->products * g->m * g->k);
     const size_t nb = (size_t)(g->products * g->k * g->ldb);
     const size_t nc = (size_t)(g->products * g->m * g->ldb);
-    g->a = malloc(na * sizeof(float));
-    g->b = malloc(nb * sizeof(float));
-    g->c = malloc(nc * sizeof(float));
+    g->a = operand(g, na);
+    g->b = operand(g, nb);
+    g->c = operand(g, nc);
     if (!g->a || !g->b || !g->c) {
         cph_gemm_ref_free(g);
         return CP_ENOMEM;
@@ -25,7 +36,17 @@ static cp_status alloc_operands(cph_gemm_ref *g, uint64_t seed) {
 }
 
 cp_status cph_gemm_ref_im2col(const cp_shape *s, uint64_t seed, cph_gemm_ref *out) {
+    return cph_gemm_ref_im2col_placed(s, seed, NULL, out);
+}
+
+cp_status cph_gemm_ref_winograd(const cp_shape *s, int64_t tb, uint64_t seed, cph_gemm_ref *out) {
+    return cph_gemm_ref_winograd_placed(s, tb, seed, NULL, out);
+}
+
+cp_status cph_gemm_ref_im2col_placed(const cp_shape *s, uint64_t seed, cph_placer *placer,
+                                     cph_gemm_ref *out) {
     memset(out, 0, sizeof *out);
+    out->placer = placer;
     out->m = s->k / s->groups;
     out->k = (s->c / s->groups) * s->r * s->s;
     out->n = out->ldb = out->last_n = cp_shape_out_h(s) * cp_shape_out_w(s);
@@ -34,8 +55,10 @@ cp_status cph_gemm_ref_im2col(const cp_shape *s, uint64_t seed, cph_gemm_ref *ou
     return alloc_operands(out, seed);
 }
 
-cp_status cph_gemm_ref_winograd(const cp_shape *s, int64_t tb, uint64_t seed, cph_gemm_ref *out) {
+cp_status cph_gemm_ref_winograd_placed(const cp_shape *s, int64_t tb, uint64_t seed,
+                                       cph_placer *placer, cph_gemm_ref *out) {
     memset(out, 0, sizeof *out);
+    out->placer = placer;
     if (tb < 1) return CP_EINVAL;
     const int64_t tiles =
         s->n * ((cp_shape_out_h(s) + 1) / 2) * ((cp_shape_out_w(s) + 1) / 2);
@@ -68,8 +91,8 @@ double cph_gemm_ref_flops(const cph_gemm_ref *g) {
 }
 
 void cph_gemm_ref_free(cph_gemm_ref *g) {
-    free(g->a);
-    free(g->b);
-    free(g->c);
+    operand_free(g, g->a);
+    operand_free(g, g->b);
+    operand_free(g, g->c);
     g->a = g->b = g->c = NULL;
 }

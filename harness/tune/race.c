@@ -136,7 +136,10 @@ int cph_race_run(const cph_race_opts *o, size_t ncand, cph_trial_fn fn, void *ar
         for (size_t i = 0; i < ncand; i++)
             if (out->cand[i].state == CPH_RACE_IN) order[n++] = i;
         shuffle(order, n, &rng);
-        for (size_t k = 0; k < n; k++) {
+        const size_t control_at = o->control ? (size_t)(cph_rng_next(&rng) % (n + 1)) : n + 1;
+        for (size_t k = 0; k <= n; k++) {
+            if (k == control_at) o->control(o->control_arg, out->rounds);
+            if (k == n) break;
             cph_race_cand *c = &out->cand[order[k]];
             double med = NAN, wall = 0.0;
             const int rc = fn(arg, order[k], out->rounds, &med, &wall);

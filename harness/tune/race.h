@@ -41,6 +41,11 @@ typedef struct cph_race_opts {
     double budget_seconds;  /* trial wall time of the whole race (default 10) */
     uint64_t seed;          /* order of the candidates within each round */
     volatile sig_atomic_t *stop; /* checked between trials (may be NULL) */
+    /* The fixed control (harness/measure/control.h), called once per round
+     * at a random place among the round's trials, so that every round has on
+     * record the state of the machine it ran in.  NULL: none. */
+    void (*control)(void *arg, size_t round);
+    void *control_arg;
 } cph_race_opts;
 
 void cph_race_defaults(cph_race_opts *o);

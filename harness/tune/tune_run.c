@@ -69,6 +69,8 @@ typedef struct tune_state {
     cph_tune_opts o;      /* job->opts with the seed and the flush size filled in */
     cph_machine m;
     int have_machine;
+    cph_control ctl;      /* the fixed control timed in every round (control.h) */
+    int have_ctl;
     cph_table_doc *doc;
     int exists;           /* job->out existed before the run */
     int counts[CPH_TABLE_MAX_THREADS];
@@ -132,6 +134,12 @@ static int prepare(tune_state *t) {
     if (t->o.timing.cold && t->o.timing.flush_bytes == 0)
         t->o.timing.flush_bytes = 2 * cph_machine_llc_total(&t->m);
     t->caches = cph_machine_caches(&t->m);
+    if (cph_control_init(&t->ctl, t->m.avx512f, t->m.avx2 && t->m.fma) != CP_OK) {
+        cph_err("tune: out of memory for the fixed control");
+        return CPH_EXIT_USAGE;
+    }
+    t->have_ctl = 1;
+    t->o.control = &t->ctl;
     return -1;
 }
 
@@ -181,8 +189,11 @@ static int tune_one(tune_state *t, const cph_layer *L, cp_flip flip, int threads
     const char *notes[2] = {note[0], note[1]};
     const char **cnotes = calloc(e.ncandidates ? e.ncandidates : 1, sizeof *cnotes);
     for (size_t i = 0; cnotes && i < e.ncandidates; i++) cnotes[i] = rep.candidate_notes[i];
+    char control_what[128] = "";
+    if (t->o.control) cph_control_describe(t->o.control, control_what, sizeof control_what);
     cph_entry_notes en = {cnotes, rep.planned, rep.measured, rep.skipped, rep.disqualified,
-                          rep.failed, rep.unsupported, rep.seconds, notes, 2};
+                          rep.failed, rep.unsupported, rep.seconds, notes, 2,
+                          rep.control_fma, rep.control_gemm, rep.ncontrol, control_what};
     st = cph_table_doc_put(t->doc, &e, &en, msg, sizeof msg);
     free(cnotes);
     cph_tune_report_free(&rep);
@@ -290,18 +301,24 @@ int cph_tune_run(const cph_tune_job *job) {
             fprintf(stderr, "convpick tune: interrupted; %s holds %zu finished entries (--resume "
                             "completes it)\n", job->out, cph_table_doc_count(t->doc));
             rc = 130;
-        } else if (rc == CPH_EXIT_OK) {
+        }
+        if (rc == CPH_EXIT_OK) {
             if (!job->quiet)
                 fprintf(stderr, "convpick tune: wrote %s (%zu entries)\n", job->out,
                         cph_table_doc_count(t->doc));
+            /* the table's summary, its network totals included */
             print_summary(t);
             if (t->failures) rc = CPH_EXIT_FAIL;
+        } else {
+            /* No summary of a table left unfinished: what the network cost
+             * so far, from the entries measured. */
+            for (int ti = 0; ti < t->nt; ti++)
+                for (int mi = 0; mi < job->sel->nflips && mi < 2; mi++)
+                    cph_net_print(stdout, &t->nets[ti][mi]);
         }
-        /* What the whole network costs, also after an interruption (then partial). */
-        for (int ti = 0; ti < t->nt; ti++)
-            for (int mi = 0; mi < job->sel->nflips && mi < 2; mi++) cph_net_print(stdout, &t->nets[ti][mi]);
     }
     if (t->doc) cph_table_doc_free(t->doc);
+    if (t->have_ctl) cph_control_free(&t->ctl);
     if (t->have_machine) cph_machine_free(&t->m);
     free(t);
     return rc;

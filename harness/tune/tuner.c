@@ -31,7 +31,11 @@ void cph_tune_defaults(cph_tune_opts *o) {
 void cph_tune_report_free(cph_tune_report *r) {
     if (!r) return;
     free(r->candidate_notes);
+    free(r->control_fma);
+    free(r->control_gemm);
     r->candidate_notes = NULL;
+    r->control_fma = r->control_gemm = NULL;
+    r->ncontrol = 0;
 }
 
 void cph_tune_entry_free(cp_table_entry *e) {
@@ -58,15 +62,21 @@ static void tensors_free(tensors *t) {
     free(t->mag);
 }
 
+/* n elements of size bytes, 64-byte aligned (as a trial's buffers are). */
+static void *alloc64(size_t n, size_t size) {
+    const size_t bytes = (n * size + 63) / 64 * 64;
+    return aligned_alloc(64, bytes ? bytes : 64);
+}
+
 static int tensors_make(tensors *t, const cp_shape *s, cp_flip flip, uint64_t seed) {
     const size_t nx = cp_shape_input_elems(s), nw = cp_shape_weight_elems(s);
     t->ny = cp_shape_output_elems(s);
-    t->x = malloc(nx * sizeof *t->x);
-    t->w = malloc(nw * sizeof *t->w);
-    t->bias = malloc((size_t)s->k * sizeof *t->bias);
-    t->y = malloc(t->ny * sizeof *t->y);
-    t->ref = malloc(t->ny * sizeof *t->ref);
-    t->mag = malloc(t->ny * sizeof *t->mag);
+    t->x = alloc64(nx, sizeof *t->x);
+    t->w = alloc64(nw, sizeof *t->w);
+    t->bias = alloc64((size_t)s->k, sizeof *t->bias);
+    t->y = alloc64(t->ny, sizeof *t->y);
+    t->ref = alloc64(t->ny, sizeof *t->ref);
+    t->mag = alloc64(t->ny, sizeof *t->mag);
     if (!t->x || !t->w || !t->bias || !t->y || !t->ref || !t->mag) return -1;
     cph_fill_uniform(t->x, nx, seed);
     cph_fill_uniform(t->w, nw, seed + 1);
@@ -103,15 +113,21 @@ typedef struct {
     const cph_tune_request *rq;
     cph_trial_setup setup;
     const cph_planned **who; /* qualified candidates, by race index */
-    uint64_t rng;            /* buffer placement */
+    cph_control *control;
+    double *fma, *gemm;      /* the control's trial medians by round */
 } race_ctx;
+
+static void race_control(void *arg, size_t round) {
+    race_ctx *r = arg;
+    cph_control_trial(r->control, 5, &r->fma[round], &r->gemm[round]);
+}
 
 static int race_trial(void *arg, size_t cand, size_t round, double *median, double *wall) {
     race_ctx *r = arg;
     (void)round;
     char why[256];
-    return cph_trial_run(&r->setup, r->who[cand]->algo, &r->who[cand]->params, &r->rng, median,
-                         wall, why, sizeof why);
+    return cph_trial_run(&r->setup, r->who[cand]->algo, &r->who[cand]->params, median, wall, why,
+                         sizeof why);
 }
 
 /* What the race did with one candidate, for the table's notes. */
@@ -181,6 +197,7 @@ cp_status cph_tune_layer(const cph_tune_request *rq, cp_table_entry *entry,
     const cph_planned **who = NULL; /* qualified candidates' plans, by race index */
     size_t *slot_of = NULL;         /* their slot in cands */
     cph_race_result race = {0};
+    cph_placer *placer = NULL;
     size_t np = 0, nc = 0, nq = 0;
     cp_status st = CP_OK;
     if (!plan || tensors_make(&t, s, rq->flip, o->seed) != 0) {
@@ -259,11 +276,27 @@ cp_status cph_tune_layer(const cph_tune_request *rq, cp_table_entry *entry,
     }
 
     /* 2. The race, on what the budget has left. */
+    placer = o->place ? cph_placer_create(CPH_PLACE_SPAN_DEFAULT, o->seed ^ 0x5eed) : NULL;
+    if (o->place && !placer) {
+        st = cpa_fail(CP_ENOMEM, msg, cap, "%s: out of memory for the trials' buffers", layer->name);
+        goto out;
+    }
+    cph_race_opts ro = o->race;
+    const size_t max_rounds = ro.max_rounds < CPH_PAIRED_MAX ? ro.max_rounds : CPH_PAIRED_MAX;
+    if (o->control) {
+        report->control_fma = calloc(max_rounds ? max_rounds : 1, sizeof(double));
+        report->control_gemm = calloc(max_rounds ? max_rounds : 1, sizeof(double));
+        if (!report->control_fma || !report->control_gemm) {
+            st = cpa_fail(CP_ENOMEM, msg, cap, "%s: out of memory for the control", layer->name);
+            goto out;
+        }
+        ro.control = race_control;
+    }
     race_ctx rc = {rq,
                    {s, rq->flip, rq->threads, caches, rq->exec, t.x, t.w, t.bias, o->timing,
-                    o->place},
-                   who, o->seed ^ 0x5eed};
-    cph_race_opts ro = o->race;
+                    placer},
+                   who, o->control, report->control_fma, report->control_gemm};
+    ro.control_arg = &rc;
     ro.budget_seconds = o->budget_seconds - (cph_now() - t0);
     ro.seed = o->seed;
     ro.stop = rq->stop;
@@ -276,6 +309,7 @@ cp_status cph_tune_layer(const cph_tune_request *rq, cp_table_entry *entry,
         goto out;
     }
     report->rounds = race.rounds;
+    if (o->control) report->ncontrol = race.rounds;
     report->ended_by = race.ended_by;
     for (size_t q = 0; q < nq; q++) {
         const cph_race_cand *k = &race.cand[q];
@@ -334,6 +368,7 @@ out:
         free(cands);
     }
     cph_race_free(&race);
+    cph_placer_destroy(placer);
     free(who);
     free(slot_of);
     free(plan);

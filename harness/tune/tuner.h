@@ -31,6 +31,7 @@
 #include "convpick/convpick.h"
 #include "harness/select/layers.h"
 #include "harness/measure/timing.h"
+#include "harness/measure/control.h"
 #include "harness/tune/race.h"
 
 typedef struct cph_tune_opts {
@@ -41,8 +42,9 @@ typedef struct cph_tune_opts {
     uint64_t seed;           /* test data */
     int max_candidates;      /* per algorithm, including its defaults */
     cph_race_opts race;      /* rounds and drop level; its budget and seed are set per layer */
-    int place;               /* 1: trial buffers at random offsets (default); 0: aligned */
+    int place;               /* 1: every block of a trial placed by a placer (placer.h, default); 0: heap */
     int isolate;             /* 1: a plugin candidate's checking run in a child process */
+    cph_control *control;    /* timed once per round beside the trials (control.h); NULL: none */
 } cph_tune_opts;
 
 void cph_tune_defaults(cph_tune_opts *o);
@@ -74,6 +76,10 @@ typedef struct cph_tune_report {
      * with it ("raced 12 rounds", "dropped after round 6: 1.31x the leader,
      * p = 0.0039", "disqualified: ...").  Owned: cph_tune_report_free. */
     char (*candidate_notes)[96];
+    /* The fixed control's trial medians, one per round (seconds; owned),
+     * when the tuner ran one (opts->control). */
+    double *control_fma, *control_gemm;
+    size_t ncontrol;
 } cph_tune_report;
 
 void cph_tune_report_free(cph_tune_report *r);

@@ -135,6 +135,24 @@ int cp_params_format(const cp_algo *a, const cp_params *p, char *buf, size_t cap
 
 typedef struct cp_plan cp_plan;
 
+/* Where plans put their memory (prepared weights, workspace, the weights'
+ * copy).  A deploying program may give an arena or huge pages; the harness
+ * gives one that places each block at a chosen or random offset, so that
+ * placement is measured rather than left to the heap (docs/measurement.md).
+ * alloc returns `bytes` bytes aligned to 64 bytes, or NULL; release gets the
+ * pointer and the size it was asked for. */
+typedef struct cp_allocator {
+    void *(*alloc)(void *ctx, size_t bytes);
+    void (*release)(void *ctx, void *ptr, size_t bytes);
+    void *ctx;
+} cp_allocator;
+
+/* Sets the allocator of the plans created from now on; NULL restores the C
+ * library's (aligned_alloc / free).  A plan keeps the allocator it was made
+ * with and returns its memory to it.  Not synchronised: set it before other
+ * threads create plans. */
+void cp_set_allocator(const cp_allocator *a);
+
 /* Validates the shape and params, checks support, allocates the workspace for
  * nthreads workers and prepares the weights (copied/transformed: w may be freed
  * afterwards).  params NULL = defaults from caches (caches NULL = fallback). */

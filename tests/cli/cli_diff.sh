@@ -139,6 +139,18 @@ printf '{"format": "convpick-bench-results",\n "version": 1,\n "results": [}\n' 
 expect 2 "torn\.json:3:[0-9]+: malformed JSON" -- "$CLI" diff "$tmp/base.json" "$tmp/torn.json"
 expect 2 "bad_sample\.json: results\[1\]\.measurement\.samples\[3\]: expected a number" -- "$CLI" diff "$tmp/bad_sample.json" "$tmp/new.json"
 expect 2 "no measurement in common" -- "$CLI" diff "$tmp/base.json" "$tmp/apart.json"
+# Two tables whose only common entry changed its choice: no pair to test, but
+# the change is the report (exit 0, not "nothing in common").
+$PY - "$DATA/diff_base.table.json" "$tmp/one_a.json" "$tmp/one_b.json" <<'PY'
+import json, sys
+d = json.load(open(sys.argv[1])); d["entries"] = d["entries"][:1]
+json.dump(d, open(sys.argv[2], "w"))
+d["entries"][0]["choice"] = {"algo": "im2col_gemm", "params": {"row_block": 6}}
+json.dump(d, open(sys.argv[3], "w"))
+PY
+expect 0 "" -- "$CLI" diff "$tmp/one_a.json" "$tmp/one_b.json"
+grep -q "^changed choices (1):" "$tmp/out" || { cat "$tmp/out"; fail "one changed entry: not listed"; }
+grep -q "^summary: 0 compared" "$tmp/out" || { cat "$tmp/out"; fail "one changed entry: summary"; }
 $PY -c 'import json,sys; d=json.load(open(sys.argv[1])); d["version"]=3; json.dump(d, open(sys.argv[2],"w"))' \
   "$DATA/diff_base.table.json" "$tmp/table_v3.json"
 expect 2 "table_v3\.json: version: 3 is not supported \(this build reads versions 1 to 2\)" -- "$CLI" diff "$DATA/diff_base.table.json" "$tmp/table_v3.json"
@@ -232,6 +244,50 @@ grep -q "p = 0.0078" <(xmllint --xpath 'string(//failure/@message)' "$tmp/paired
   || fail "paired: exact p 2/256 not in the failure message"
 expect 2 "diff: --paired: BASE needs at least 2 rounds" -- "$CLI" diff --paired "$tmp/round0a.json" "$B"
 expect 2 "missing\.json" -- "$CLI" diff --paired "$A,$tmp/missing.json" "$B"
+
+# 3b. The fixed control (docs/diff.md, "The control"), on invented bench results
+#     made by scripts/gen_drift_fixtures.py (SciPy's figures are checked in
+#     tests/harness/test_diff_drift.c): every time 1.15x slower in NEW, the
+#     control included, is machine-wide drift and no regression; the control
+#     unchanged and one row 1.15x slower is that row's regression; without a
+#     control in NEW, today's verdicts with a note.  Chosen rows and the network
+#     by default, every row with --all.
+DB="$DATA/drift_base.bench.json"
+expect 0 "" -- "$CLI" diff "$DB" "$DATA/drift_all.bench.json" --junit "$tmp/drift.xml" --markdown "$tmp/drift.md"
+grep -qE "^the control ran 1\.15x slower in NEW .*machine-wide drift; rows judged on drift-corrected ratios" "$tmp/out" ||
+  { cat "$tmp/out"; fail "drift: no drift line"; }
+grep -qE "^summary: 3 compared: 0 slower, .*machine drift 1\.15[0-9]*x \(control\), rows drift-corrected$" "$tmp/out" ||
+  { cat "$tmp/out"; fail "drift: summary"; }
+grep -qE "^network: 3 chosen rows in both, .*\(drift-corrected\), ratio 1\.00[0-9]*; over the trials: unchanged" "$tmp/out" ||
+  { cat "$tmp/out"; fail "drift: network line"; }
+grep -q "the table's chosen rows only" "$tmp/out" || fail "drift: chosen rows not said"
+[ "$(xmllint --xpath 'string(//property[@name="drift"]/@value)' "$tmp/drift.xml")" = true ] || fail "drift: JUnit property"
+[ "$(xmllint --xpath 'count(//testcase/failure)' "$tmp/drift.xml")" = 0 ] || fail "drift: JUnit failures"
+grep -q "Machine drift:.*the control ran 1.15x slower in NEW" "$tmp/drift.md" || { cat "$tmp/drift.md"; fail "drift: Markdown"; }
+expect 1 "" -- "$CLI" diff "$DB" "$DATA/drift_row.bench.json" --junit "$tmp/row.xml" --markdown "$tmp/row.md"
+grep -qE "^the control is unchanged in NEW .*rows judged as measured" "$tmp/out" || { cat "$tmp/out"; fail "row: control line"; }
+grep -qE "^slower +mid +no +1 +chosen=blocked " "$tmp/out" || { cat "$tmp/out"; fail "row: mid not slower"; }
+grep -qE "^summary: 3 compared: 1 slower, .*: REGRESSION$" "$tmp/out" || { cat "$tmp/out"; fail "row: summary"; }
+[ "$(xmllint --xpath 'count(//testcase/failure)' "$tmp/row.xml")" = 1 ] || fail "row: JUnit failures"
+[ "$(xmllint --xpath 'string(//property[@name="drift"]/@value)' "$tmp/row.xml")" = false ] || fail "row: JUnit drift"
+$PY - "$DATA/drift_all.bench.json" "$tmp/nocontrol.json" <<'PY'
+import json, sys
+d = json.load(open(sys.argv[1])); del d["control"]; json.dump(d, open(sys.argv[2], "w"))
+PY
+expect 1 "" -- "$CLI" diff "$DB" "$tmp/nocontrol.json"
+grep -q "^note: only BASE carries a control: a machine-wide drift cannot be told from a regression" "$tmp/out" ||
+  { cat "$tmp/out"; fail "no control: note"; }
+grep -qE "^summary: 3 compared: 3 slower" "$tmp/out" || { cat "$tmp/out"; fail "no control: rows as measured"; }
+# a file written before trials (single samples) against one of trial medians: said
+$PY - "$DATA/diff_base.bench.json" "$tmp/relabelled.json" <<'PY'
+import json, sys
+d = json.load(open(sys.argv[1]))
+for r in d["results"]:
+    if r["status"] == "ok": r["measurement"]["settings"]["samples_are"] = "trial_medians"
+json.dump(d, open(sys.argv[2], "w"))
+PY
+expect 0 "" -- "$CLI" diff "$DATA/diff_base.bench.json" "$tmp/relabelled.json"
+grep -q "^note: BASE's samples are single samples, NEW's trial medians" "$tmp/out" || { cat "$tmp/out"; fail "sample kinds"; }
 
 # 4. Two real bench runs of this build: diff reads what bench wrote, and its
 #    exit code agrees with the JUnit report.  Whether two runs of one build

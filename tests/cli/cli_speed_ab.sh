@@ -26,8 +26,9 @@ ab=("$SRC/scripts/ci-speed-check" --ab HEAD --convpick-base "$CLI" --shapes "$tm
 
 set +e; "${ab[@]}" --convpick "$SLOWED" --out "$tmp/slow" >"$tmp/log" 2>&1; rc=$?; set -e
 [ "$rc" = 1 ] || { cat "$tmp/log"; fail "a 4x slowdown of direct: exit $rc, expected 1"; }
-[ "$(ls "$tmp/slow/ab"/round*.base.json | wc -l)" = 8 ] || fail "expected 8 BASE rounds"
-[ "$(ls "$tmp/slow/ab"/round*.new.json | wc -l)" = 8 ] || fail "expected 8 NEW rounds"
+# one process per shape and side in every round: 2 shapes x 8 rounds
+[ "$(ls "$tmp/slow/ab"/round*.base.part[12].json | wc -l)" = 16 ] || fail "expected 16 BASE parts"
+[ "$(ls "$tmp/slow/ab"/round*.new.part[12].json | wc -l)" = 16 ] || fail "expected 16 NEW parts"
 grep -q "^method: rounds paired in order" "$tmp/slow/diff.txt" || fail "not a paired comparison"
 ndirect="$(grep -cE '^[a-z]+ +[ab] +no +1 +direct ' "$tmp/slow/diff.txt")"
 nd="$(xmllint --xpath 'count(//testcase/failure[contains(../@name, " direct")])' "$tmp/slow/junit.xml")"
@@ -36,7 +37,9 @@ grep -E '^slower +[ab] +no +1 +direct ' "$tmp/slow/diff.txt" | awk '{ if ($9 < 2
   || { cat "$tmp/slow/diff.txt"; fail "a direct row's ratio is below 2.5 (the slowdown is 4x)"; }
 grep -q "A/B speed check FAILED: a regression against HEAD" "$tmp/log" || fail "verdict line"
 
-set +e; "${ab[@]}" --convpick "$CLI" --out "$tmp/same" >"$tmp/log" 2>&1; rc=$?; set -e
+set +e; "${ab[@]}" --convpick "$CLI" --whole-rounds --out "$tmp/same" >"$tmp/log" 2>&1; rc=$?; set -e
+# --whole-rounds: one process per side and round
+[ "$(ls "$tmp/same/ab"/round*.base.partall.json | wc -l)" = 8 ] || fail "expected 8 whole BASE rounds"
 [ "$rc" = 0 ] || [ "$rc" = 1 ] || { cat "$tmp/log"; fail "same binary: exit $rc"; }
 nf="$(xmllint --xpath 'count(//testcase/failure)' "$tmp/same/junit.xml")"
 [ "$(( rc == 1 ))" = "$(( nf > 0 ))" ] || fail "exit $rc disagrees with $nf JUnit failures"

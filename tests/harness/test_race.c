@@ -131,6 +131,71 @@ static void test_budget_stops_between_rounds(void **state) {
     cph_race_free(&r);
 }
 
+/* The control hook: called once in every round, at a place among the
+ * round's trials that varies from round to round (the race's own shuffle). */
+typedef struct {
+    model *m;
+    size_t calls, last_round;
+    int rounds_seen[64];
+    size_t trials_before[64]; /* trials of the round run before the control */
+    size_t trials_in_round;
+} control_log;
+
+static control_log *the_log;
+
+static int logged_trial(void *arg, size_t cand, size_t round, double *median, double *wall) {
+    control_log *l = the_log;
+    (void)arg;
+    if (round != l->last_round) {
+        l->last_round = round;
+        l->trials_in_round = 0;
+    }
+    l->trials_in_round++;
+    return trial(l->m, cand, round, median, wall);
+}
+
+static void log_control(void *arg, size_t round) {
+    control_log *l = arg;
+    if (round != l->last_round) {
+        l->last_round = round;
+        l->trials_in_round = 0;
+    }
+    l->rounds_seen[round]++;
+    l->trials_before[round] = l->trials_in_round;
+    l->calls++;
+}
+
+static void test_control_once_per_round(void **state) {
+    (void)state;
+    model m = make_model(5);
+    m.truth[3] = 1.01; /* nothing is dropped early: 4 candidates in every round */
+    m.bimodal = -1;
+    m.truth[2] = 1.02;
+    control_log l = {&m, 0, (size_t)-1, {0}, {0}, 0};
+    the_log = &l;
+    cph_race_opts o;
+    cph_race_defaults(&o);
+    o.max_rounds = 12;
+    o.min_rounds = 12;
+    o.budget_seconds = 1e9;
+    o.control = log_control;
+    o.control_arg = &l;
+    cph_race_result r;
+    assert_int_equal(cph_race_run(&o, 4, logged_trial, &m, &r), 0);
+    assert_int_equal(r.rounds, 12);
+    assert_int_equal(l.calls, 12);
+    int places[5] = {0};
+    for (size_t i = 0; i < 12; i++) {
+        assert_int_equal(l.rounds_seen[i], 1);
+        assert_true(l.trials_before[i] <= 4);
+        places[l.trials_before[i]]++;
+    }
+    int distinct = 0;
+    for (int k = 0; k < 5; k++) distinct += places[k] > 0;
+    assert_true(distinct >= 3); /* 12 draws from 5 places */
+    cph_race_free(&r);
+}
+
 static void test_failed_candidate_leaves(void **state) {
     (void)state;
     model m = make_model(5);
@@ -166,6 +231,7 @@ int main(void) {
         cmocka_unit_test(test_picks_truly_fastest_under_drift),
         cmocka_unit_test(test_model_defeats_unpaired_choice),
         cmocka_unit_test(test_budget_stops_between_rounds),
+        cmocka_unit_test(test_control_once_per_round),
         cmocka_unit_test(test_failed_candidate_leaves),
         cmocka_unit_test(test_stop_flag),
     };

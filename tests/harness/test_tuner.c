@@ -246,8 +246,8 @@ static void test_trial_buffers_placed(void **state) {
     assert_int_equal(t.st, CP_OK);
     cph_tune_entry_free(&t.e);
     cph_tune_report_free(&t.rep);
-    /* Qualification runs on the tuner's own tensors (malloc); every trial on
-     * a page-aligned buffer: at most those two offsets. */
+    /* Qualification runs on the tuner's own tensors (64-byte aligned), every
+     * trial on a page-aligned buffer: at most those two offsets. */
     assert_true(nseen <= 2);
 }
 

@@ -1,0 +1,321 @@
+/* The rows of one layer x flip x thread count, measured in rounds of trials
+ * (bench.h): every row and the fixed control (harness/measure/control.h)
+ * once per round, in an order
+ * shuffled anew each round (harness/tune/race.c with nothing ever dropped),
+ * a trial of an algorithm or chosen row being harness/tune/trial.c's, a
+ * trial of an SGEMM row the same for the reference GEMM.  The rows print
+ * when the rounds end. */
+#define _POSIX_C_SOURCE 200809L
+#include <cblas.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "harness/bench/bench_state.h"
+#include "harness/cli/cli.h"
+#include "harness/io/report_json.h"
+#include "harness/measure/data.h"
+#include "harness/measure/gemm_ref.h"
+#include "harness/tune/checkrun.h"
+#include "harness/tune/race.h"
+#include "harness/tune/trial.h"
+
+/* The rows of a layer x flip, the algorithms', the references and the
+ * chosen one: at most one per algorithm plus three. */
+typedef struct layer_run {
+    cph_bench_state *r;
+    const cph_bench_cfg *c;
+    cph_bench_trow *rows;
+    size_t nrows;
+    size_t *raced;        /* race index -> row index; the control after them */
+    size_t nraced;
+    cph_trial_setup setup;
+    uint64_t gseed;
+    double *wall;         /* per race index: seconds its trials took */
+} layer_run;
+
+int cph_bench_ctl_add(cph_bench_ctl_log *l, const cph_bench_ctl_trial *t) {
+    if (l->n == l->cap) {
+        const size_t cap = l->cap ? 2 * l->cap : 64;
+        cph_bench_ctl_trial *v = realloc(l->t, cap * sizeof *v);
+        if (!v) return -1;
+        l->t = v;
+        l->cap = cap;
+    }
+    l->t[l->n++] = *t;
+    return 0;
+}
+
+static int is_winograd_algo(const cp_algo *a) { return strncmp(a->name, "winograd", 8) == 0; }
+
+static uint64_t tensor_seed(uint64_t seed, size_t layer, int tensor) {
+    uint64_t st = seed ^ ((uint64_t)layer << 20) ^ (uint64_t)tensor;
+    return cph_rng_next(&st);
+}
+
+static void set_error(cph_bench_trow *w, const char *prefix, const char *why) {
+    w->status = "error";
+    snprintf(w->why, sizeof w->why, "%s%s", prefix, why);
+}
+
+/* An algorithm row with the algorithm's defaults; unsupported and plugin
+ * checks here, plan failures in its first trial. */
+static void plan_algo(layer_run *lr, cph_bench_trow *w, const cp_algo *a, int64_t *wino_tb) {
+    const cph_bench_row *x = &w->x;
+    char why[256] = "";
+    w->x.kind = CPH_ROW_ALGO;
+    w->x.name = w->x.algo = a->name;
+    w->a = a;
+    if (!a->supports(&x->L->shape, x->flip, why, sizeof why)) {
+        w->status = "unsupported";
+        snprintf(w->why, sizeof w->why, "%s", why);
+        return;
+    }
+    /* A plugin's algorithm is checked against the oracle before it is timed. */
+    const cph_check_run cr = {a,         &x->L->shape,     x->flip,           NULL,
+                              &lr->r->caches, x->threads, lr->setup.x, lr->setup.w,
+                              lr->setup.bias, lr->setup.exec, 0};
+    if (cp_algo_plugin(a) && cph_check_against_oracle(&cr, why, sizeof why) != CP_OK) {
+        set_error(w, "check: ", why);
+        return;
+    }
+    cp_algo_defaults(a, &x->L->shape, &lr->r->caches, &w->p);
+    cp_params_format(a, &w->p, w->shown, sizeof w->shown);
+    w->params = cph_json_params(a, &w->p);
+    w->isa = a->isa ? a->isa(&x->L->shape, &w->p) : "-";
+    const int tbi = cp_algo_param_index(a, "tile_block");
+    if (is_winograd_algo(a) && tbi >= 0) *wino_tb = w->p.v[tbi];
+}
+
+/* An SGEMM reference row; its operands are made in each trial. */
+static void plan_sgemm(cph_bench_trow *w, cph_row_kind kind, int64_t tb) {
+    cph_gemm_ref g;
+    w->x.kind = kind;
+    w->x.name = kind == CPH_ROW_SGEMM ? "sgemm" : "sgemm_wino";
+    w->x.algo = "";
+    w->tb = tb;
+    w->isa = "blas";
+    /* The sizes only: operands of 1 float would do, but the helpers size them. */
+    const cp_status st = kind == CPH_ROW_SGEMM
+                             ? cph_gemm_ref_im2col(&w->x.L->shape, 1, &g)
+                             : cph_gemm_ref_winograd(&w->x.L->shape, tb, 1, &g);
+    if (st != CP_OK) {
+        set_error(w, "", "cannot allocate the SGEMM operands");
+        return;
+    }
+    if (kind == CPH_ROW_SGEMM)
+        snprintf(w->shown, sizeof w->shown, "%lldx%lldx%lld x%lld", (long long)g.m,
+                 (long long)g.k, (long long)g.n, (long long)(g.products * g.repeats));
+    else
+        snprintf(w->shown, sizeof w->shown, "16x %lldx%lldx%lld x%lld", (long long)g.m,
+                 (long long)g.k, (long long)g.n, (long long)g.repeats);
+    w->params = json_pack("{s:I, s:I, s:I, s:I, s:I}", "m", (json_int_t)g.m, "k", (json_int_t)g.k,
+                          "n", (json_int_t)g.n, "products", (json_int_t)g.products, "repeats",
+                          (json_int_t)g.repeats);
+    w->flops_used = cph_gemm_ref_flops(&g);
+    cph_gemm_ref_free(&g);
+}
+
+/* What the tuning table chooses, planned once through cp_table_plan (as a
+ * deploying program would) to learn the algorithm and parameters its trials
+ * plan. */
+static void plan_chosen(layer_run *lr, cph_bench_trow *w) {
+    const cph_bench_row *x = &w->x;
+    char why[256] = "";
+    cp_choice choice;
+    cp_plan *plan = NULL;
+    w->x.kind = CPH_ROW_CHOSEN;
+    w->x.name = "chosen";
+    w->x.algo = "";
+    if (cp_table_plan(lr->r->table, &x->L->shape, x->flip, x->threads, lr->setup.w, &plan,
+                      &choice, why, sizeof why) != CP_OK) {
+        set_error(w, "table plan: ", why);
+        return;
+    }
+    w->a = cp_plan_algo(plan);
+    w->p = *cp_plan_params(plan);
+    cp_plan_destroy(plan);
+    w->x.algo = w->a->name;
+    if (choice.match != CP_MATCH_EXACT)
+        cph_warn("bench: %s (%d threads): the table has no exact entry: %s", x->L->name,
+                 x->threads, choice.why);
+    char ptext[128] = "";
+    cp_params_format(w->a, &w->p, ptext, sizeof ptext);
+    snprintf(w->shown, sizeof w->shown, "%s%s%s", w->a->name, ptext[0] ? " " : "", ptext);
+    w->params = cph_json_params(w->a, &w->p);
+    w->isa = w->a->isa ? w->a->isa(&x->L->shape, &w->p) : "-";
+}
+
+/* One trial of an SGEMM row: fresh operands from the placer, OpenBLAS
+ * threading itself over the row's cores (the pool keeps it at one thread for
+ * the algorithms, pool.h). */
+static int sgemm_trial(layer_run *lr, const cph_bench_trow *w, double *median, double *wall) {
+    const double t0 = cph_now();
+    cph_gemm_ref g;
+    cph_measurement m;
+    *median = 0.0;
+    const cp_status st =
+        w->x.kind == CPH_ROW_SGEMM
+            ? cph_gemm_ref_im2col_placed(&w->x.L->shape, lr->gseed, lr->setup.placer, &g)
+            : cph_gemm_ref_winograd_placed(&w->x.L->shape, w->tb, lr->gseed, lr->setup.placer,
+                                           &g);
+    if (st != CP_OK) {
+        *wall = cph_now() - t0;
+        return -1;
+    }
+    const int blas_before = openblas_get_num_threads();
+    openblas_set_num_threads(w->x.threads);
+    const int rc = cph_measure(&lr->setup.timing, cph_gemm_ref_run, &g, &m);
+    openblas_set_num_threads(blas_before);
+    if (rc == 0) *median = m.stats.median;
+    cph_measurement_free(&m);
+    cph_gemm_ref_free(&g);
+    *wall = cph_now() - t0;
+    return rc;
+}
+
+static int trial(void *arg, size_t cand, size_t round, double *median, double *wall) {
+    layer_run *lr = arg;
+    int rc;
+    if (cand >= lr->nraced) {
+        /* the control: both pieces, its batch as long as a row's */
+        const cph_bench_row *x = &lr->rows[0].x;
+        const double t0 = cph_now();
+        double fma = 0.0, gemm = 0.0;
+        cph_control_trial(&lr->r->control, lr->setup.timing.max_samples, &fma, &gemm);
+        *wall = cph_now() - t0;
+        const cph_bench_ctl_trial t = {x->li, x->flip, x->threads, round, t0 - lr->r->t0, fma, gemm};
+        rc = cph_bench_ctl_add(&lr->r->ctl, &t);
+        if (rc) lr->r->oom_control = 1;
+        *median = gemm;
+    } else {
+        cph_bench_trow *w = &lr->rows[lr->raced[cand]];
+        if (w->x.kind == CPH_ROW_SGEMM || w->x.kind == CPH_ROW_SGEMM_WINO) {
+            rc = sgemm_trial(lr, w, median, wall);
+            if (rc) set_error(w, "", "a trial of the SGEMM failed (out of memory)");
+        } else {
+            char why[256] = "";
+            rc = cph_trial_run(&lr->setup, w->a, &w->p, median, wall, why, sizeof why);
+            if (rc) set_error(w, "", why);
+        }
+    }
+    lr->wall[cand] += *wall;
+    return rc;
+}
+
+/* The rows of one flip: planned, raced, reported in their order. */
+static void one_flip(layer_run *lr, const cph_bench_row *base) {
+    cph_bench_state *r = lr->r;
+    const cph_bench_cfg *c = lr->c;
+    int64_t wino_tb = 0;
+    int im2col = 0;
+    lr->nrows = 0;
+    for (size_t ai = 0; ai < c->sel.nalgos; ai++) {
+        cph_bench_trow *w = &lr->rows[lr->nrows++];
+        memset(w, 0, sizeof *w);
+        w->x = *base;
+        w->status = "ok";
+        plan_algo(lr, w, c->sel.algos[ai], &wino_tb);
+        im2col |= strcmp(c->sel.algos[ai]->name, "im2col_gemm") == 0;
+    }
+    const cph_row_kind refs[2] = {CPH_ROW_SGEMM, CPH_ROW_SGEMM_WINO};
+    const int want[2] = {c->sgemm && im2col, c->sgemm && wino_tb > 0};
+    for (int k = 0; k < 3; k++) {
+        if (k < 2 ? !want[k] : !r->table) continue;
+        cph_bench_trow *w = &lr->rows[lr->nrows++];
+        memset(w, 0, sizeof *w);
+        w->x = *base;
+        w->status = "ok";
+        if (k < 2)
+            plan_sgemm(w, refs[k], wino_tb);
+        else
+            plan_chosen(lr, w);
+    }
+    lr->nraced = 0;
+    for (size_t i = 0; i < lr->nrows; i++)
+        if (strcmp(lr->rows[i].status, "ok") == 0) lr->raced[lr->nraced++] = i;
+    const size_t ncand = lr->nraced + 1; /* the control: a candidate of its own */
+    memset(lr->wall, 0, ncand * sizeof *lr->wall);
+    cph_race_opts ro;
+    cph_race_defaults(&ro);
+    ro.max_rounds = c->rounds;
+    ro.min_rounds = CPH_PAIRED_MAX + 1; /* nothing is ever dropped */
+    /* Every round runs: each trial is capped at max_seconds / rounds, and a
+     * trial always makes its warm-up run and one sample (timing.h), so a row
+     * whose single run outlasts its share takes rounds x 2 runs. */
+    ro.budget_seconds = INFINITY;
+    ro.seed = tensor_seed(c->sel.seed, base->li, 4) ^ ((uint64_t)base->threads << 8) ^
+              (uint64_t)base->flip;
+    cph_race_result race;
+    if (cph_race_run(&ro, ncand, trial, lr, &race) != 0) {
+        cph_err("bench: %s: out of memory for the rounds", base->L->name);
+        r->oom = 1;
+        for (size_t i = 0; i < lr->nrows; i++) json_decref(lr->rows[i].params);
+        return;
+    }
+    size_t k = 0;
+    for (size_t i = 0; i < lr->nrows; i++) {
+        cph_bench_trow *w = &lr->rows[i];
+        if (k < lr->nraced && lr->raced[k] == i) {
+            const cph_race_cand *rc = &race.cand[k];
+            if (rc->state == CPH_RACE_FAILED || rc->ntrials == 0) {
+                if (strcmp(w->status, "ok") == 0) set_error(w, "", "no trial ran");
+                cph_bench_report_untimed(r, w);
+            } else {
+                cph_bench_report_trials(r, w, rc->trials, rc->ntrials, &lr->setup.timing,
+                                        race.rounds, lr->wall[k]);
+            }
+            k++;
+        } else {
+            cph_bench_report_untimed(r, w);
+        }
+    }
+    cph_race_free(&race);
+}
+
+cph_timing_opts cph_bench_trial_timing(const cph_bench_cfg *c) {
+    cph_timing_opts t = c->timing;
+    const size_t batch = c->trial_samples < c->timing.max_samples ? c->trial_samples
+                                                                   : c->timing.max_samples;
+    t.warmup = 1;
+    t.min_samples = t.max_samples = batch ? batch : 1;
+    t.max_seconds = c->timing.max_seconds / (double)(c->rounds ? c->rounds : 1);
+    return t;
+}
+
+int cph_bench_layer(cph_bench_state *r, const cph_bench_cfg *c, size_t li, int threads, int pinned,
+                    const cp_exec *exec) {
+    const cph_layer *L = &c->sel.layers.v[li];
+    const size_t nx = cp_shape_input_elems(&L->shape), nw = cp_shape_weight_elems(&L->shape),
+                 nb = (size_t)L->shape.k;
+    float *x = malloc(nx * sizeof *x), *w = malloc(nw * sizeof *w), *b = malloc(nb * sizeof *b);
+    const size_t maxrows = c->sel.nalgos + 3;
+    layer_run lr = {r, c, calloc(maxrows, sizeof(cph_bench_trow)),
+                    0, calloc(maxrows, sizeof(size_t)), 0, {0}, tensor_seed(c->sel.seed, li, 3),
+                    calloc(maxrows + 1, sizeof(double))};
+    int rc = 0;
+    if (!x || !w || !b || !lr.rows || !lr.raced || !lr.wall) {
+        cph_err("bench: %s: cannot allocate the tensors", L->name);
+        rc = -1;
+    } else {
+        cph_fill_uniform(x, nx, tensor_seed(c->sel.seed, li, 0));
+        cph_fill_uniform(w, nw, tensor_seed(c->sel.seed, li, 1));
+        cph_fill_uniform(b, nb, tensor_seed(c->sel.seed, li, 2));
+        lr.setup = (cph_trial_setup){&L->shape, CP_XCORR, threads, &r->caches, exec, x, w, b,
+                                     cph_bench_trial_timing(c), r->placer};
+        for (int mi = 0; mi < c->sel.nflips; mi++) {
+            const cph_bench_row base = {L, li, c->sel.flips[mi], threads, pinned, CPH_ROW_ALGO,
+                                        "", ""};
+            lr.setup.flip = base.flip;
+            one_flip(&lr, &base);
+        }
+    }
+    free(x);
+    free(w);
+    free(b);
+    free(lr.rows);
+    free(lr.raced);
+    free(lr.wall);
+    return rc;
+}
