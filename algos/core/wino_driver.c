@@ -13,16 +13,17 @@
 
 enum { MR = CPA_BLOCKED_MR };
 
-/* At most this many tiles in the whole layer and the default GEMM is the
- * packed tile kernel: with so few columns OpenBLAS spends its time re-packing
- * U (K x C per point, all of U every run) for a product only 16..64 columns
- * wide.  Measured with F(2x2,3x3) on one Zen 3 core of a shared machine
- * (fastest sample of each, tile_block at its default): c=k=512 h=w=7 (16
- * tiles) 2.13 ms packed vs 2.82 ms OpenBLAS; c=k=256 h=w=14 (49 tiles) 1.59 vs
- * 1.85; at 196 and 784 tiles (c=k=128 h=w=28, c=k=64 h=w=56) the two were
- * within 5 %.  The rule is about the GEMMs' column count, so it is kept for
- * larger tiles. */
-#define WINO_PACKED_MAX_TILES 64
+/* The default GEMM is the packed tile kernel.  With few tiles OpenBLAS spends
+ * its time re-packing U (K x C per point, all of U every run) for a product
+ * only 16..64 columns wide: measured with F(2x2,3x3) on one Zen 3 core (fastest
+ * sample, tile_block at its default) c=k=512 h=w=7 (16 tiles) 2.13 ms packed vs
+ * 2.82 ms OpenBLAS; c=k=256 h=w=14 (49 tiles) 1.59 vs 1.85; at 196 and 784
+ * tiles (c=k=128 h=w=28, c=k=64 h=w=56) the two were within 5 %.  On a Xeon
+ * (family 6 model 207, AVX-512 tile kernel; OpenBLAS 0.3.21 on its Prescott
+ * SSE3 kernels, OPENBLAS_CORETYPE unset) the packed GEMM was 4..8x faster at
+ * every tile count of those layers (c=k=64 h=w=56: 1.78 vs 14.6 ms; c=k=128
+ * h=w=28: 1.33 vs 8.6 ms, fastest of 15).  So packed at any tile count; the
+ * tuner still tries OpenBLAS (candidates below). */
 
 const cp_param_desc cpa_wino_params[CPA_WINO_NPARAMS] = {
     {"tile_block", "output tiles per block; default: the block's V and M matrices fill L2, "
@@ -31,8 +32,7 @@ const cp_param_desc cpa_wino_params[CPA_WINO_NPARAMS] = {
                 "has (AVX-512, AVX2+FMA, portable); 1 = portable; 2 = AVX2; 3 = AVX-512 (a "
                 "level the CPU lacks runs the widest below it); default 0", 0, 3},
     {"gemm", "element-wise stage: 0 = OpenBLAS sgemm on U as K x C matrices; 1 = the "
-             "blocked 6x16 tile kernel on U pre-packed in 6-channel panels; default 1 when "
-             "the layer has at most 64 tiles, else 0", 0, 1},
+             "blocked tile kernel on U pre-packed in 6-channel panels; default 1", 0, 1},
 };
 
 /* Row stride of the V and M matrices: a multiple of 16 floats (64 bytes), so
@@ -97,7 +97,7 @@ static int64_t wino_block_for(const cpa_wino_variant *v, const cp_shape *s, size
 void cpa_wino_defaults(const cpa_wino_variant *v, const cp_shape *s, const cp_cache_sizes *c,
                        cp_params *out) {
     out->v[CPA_WINO_TILE_BLOCK] = wino_block_for(v, s, c->l2, 64);
-    out->v[CPA_WINO_GEMM] = s->n * wino_tiles_h(v, s) * wino_tiles_w(v, s) <= WINO_PACKED_MAX_TILES;
+    out->v[CPA_WINO_GEMM] = 1;
 }
 
 /* The default first, then narrower and wider blocks around it. */
