@@ -127,8 +127,79 @@ void cpa_blocked_tile_avx512_6x64(const cpa_blocked_tile *t) {
         ns == 4 ? tile_4(t) : ns == 2 ? tile_2(t) : tile_1(t);
 }
 
+/* The channel-vector tile (contract in blocked_tile.h): 4 ZMM of 16 output
+ * channels x NP pixels (1..7, a constant after inlining), 28 accumulators at
+ * NP = 7.  Per input channel and tap: four weight vector loads, NP input
+ * broadcasts, 4 NP FMAs.  Outputs leave by scatter (a pixel's 16 channels are
+ * y_ks apart), once per tile: amortised over nc * ntap * NP * 4 FMAs. */
+static inline __mmask16 cv_mask(int nk, int j) {
+    const int n = nk - 16 * j;
+    return n >= 16 ? (__mmask16)0xffffu : n <= 0 ? (__mmask16)0 : (__mmask16)((1u << n) - 1u);
+}
+
+#define CPA_CV_ALLP(m, j) m(j, 0) m(j, 1) m(j, 2) m(j, 3) m(j, 4) m(j, 5) m(j, 6)
+#define CPA_CV_ALL(m) CPA_CV_ALLP(m, 0) CPA_CV_ALLP(m, 1) CPA_CV_ALLP(m, 2) CPA_CV_ALLP(m, 3)
+static inline __attribute__((always_inline)) void cv_np(const cpa_cv_tile *t, const int NP) {
+    const __mmask16 m0 = cv_mask(t->nk, 0), m1 = cv_mask(t->nk, 1);
+    const __mmask16 m2 = cv_mask(t->nk, 2), m3 = cv_mask(t->nk, 3);
+    const __m512i idx = _mm512_mullo_epi32(
+        _mm512_setr_epi32(0, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15),
+        _mm512_set1_epi32((int)t->y_ks));
+    const int64_t ys16 = 16 * t->y_ks;
+    __m512 b0 = _mm512_setzero_ps(), b1 = b0, b2 = b0, b3 = b0;
+    if (t->first && t->bias) {
+        b0 = _mm512_maskz_loadu_ps(m0, t->bias);
+        b1 = _mm512_maskz_loadu_ps(m1, t->bias + 16);
+        b2 = _mm512_maskz_loadu_ps(m2, t->bias + 32);
+        b3 = _mm512_maskz_loadu_ps(m3, t->bias + 48);
+    }
+#define CPA_CV_INIT(j, p)                                                                    \
+    __m512 a##j##p = b##j;                                                                   \
+    if ((p) < NP && !t->first)                                                               \
+        a##j##p = _mm512_mask_i32gather_ps(_mm512_setzero_ps(), m##j, idx,                   \
+                                           t->y + (j) * ys16 + (p), 4);
+    CPA_CV_ALL(CPA_CV_INIT)
+#undef CPA_CV_INIT
+    const int64_t ntap = t->ntap, cs = t->x_cs, step = t->w_step;
+    const int64_t *off = t->tap_off;
+    const float *x = t->x;
+    for (int64_t c = 0; c < t->nc; c++, x += cs) {
+        const float *w = t->w + c * ntap * CPA_CV_KR;
+        for (int64_t i = 0; i < ntap; i++, w += step) {
+            const float *xp = x + off[i];
+            const __m512 w0 = _mm512_loadu_ps(w), w1 = _mm512_loadu_ps(w + 16);
+            const __m512 w2 = _mm512_loadu_ps(w + 32), w3 = _mm512_loadu_ps(w + 48);
+#define CPA_CV_FMA(j, p)                                                                      \
+    if ((p) < NP) a##j##p = _mm512_fmadd_ps(w##j, _mm512_set1_ps(xp[p]), a##j##p);
+            CPA_CV_ALL(CPA_CV_FMA)
+#undef CPA_CV_FMA
+        }
+    }
+#define CPA_CV_STORE(j, p) \
+    if ((p) < NP) _mm512_mask_i32scatter_ps(t->y + (j) * ys16 + (p), m##j, idx, a##j##p, 4);
+    CPA_CV_ALL(CPA_CV_STORE)
+#undef CPA_CV_STORE
+}
+#undef CPA_CV_ALL
+#undef CPA_CV_ALLP
+
+static void cv_1(const cpa_cv_tile *t) { cv_np(t, 1); }
+static void cv_2(const cpa_cv_tile *t) { cv_np(t, 2); }
+static void cv_3(const cpa_cv_tile *t) { cv_np(t, 3); }
+static void cv_4(const cpa_cv_tile *t) { cv_np(t, 4); }
+static void cv_5(const cpa_cv_tile *t) { cv_np(t, 5); }
+static void cv_6(const cpa_cv_tile *t) { cv_np(t, 6); }
+static void cv_7(const cpa_cv_tile *t) { cv_np(t, 7); }
+
+void cpa_cv_tile_avx512_64x7(const cpa_cv_tile *t) {
+    static void (*const by_np[CPA_CV_NP])(const cpa_cv_tile *) = {cv_1, cv_2, cv_3, cv_4,
+                                                                  cv_5, cv_6, cv_7};
+    by_np[t->np - 1](t);
+}
+
 #else
 /* Not an x86 build with AVX-512: keep the symbol so the selector links; it is
  * never chosen there. */
 void cpa_blocked_tile_avx512_6x64(const cpa_blocked_tile *t) { cpa_blocked_tile_ref_6x16(t); }
+void cpa_cv_tile_avx512_64x7(const cpa_cv_tile *t) { cpa_cv_tile_ref_64x7(t); }
 #endif
