@@ -11,7 +11,16 @@
 #include "algos/core/wino_driver.h"
 #include "algos/kernels/blocked_tile.h"
 
-enum { MR = CPA_BLOCKED_MR };
+enum { MR = CPA_BLOCKED_MR, KR = CPA_CV_KR };
+
+/* At most this many tiles in the layer (and K filling 64-channel vectors to
+ * 85 %), the packed GEMM runs the channel-vector tile where the kernel set has
+ * one (AVX-512): the product is only 16..64 columns wide, which the
+ * pixel-vector tile covers with one or two 16-lane segments (6 or 12
+ * accumulators: latency-bound), while the channel-vector tile keeps 28
+ * accumulators over chunks of up to 7 columns.  Measured on a Xeon (family 6
+ * model 207), F(2x2,3x3), one core: see wino_cv_task. */
+#define WINO_CV_MAX_TILES 64
 
 /* The default GEMM is the packed tile kernel.  With few tiles OpenBLAS spends
  * its time re-packing U (K x C per point, all of U every run) for a product
@@ -146,8 +155,24 @@ size_t cpa_wino_workspace_size(const cpa_wino_variant *v, const cp_shape *s, con
 /* 6-channel panels of K (the packed GEMM's U rows, zero padded). */
 static int64_t wino_ktiles(const cp_shape *s) { return (s->k + MR - 1) / MR; }
 
+/* 1: the packed GEMM uses the channel-vector tile (WINO_CV_MAX_TILES), U in
+ * KR-channel panels. */
+static int wino_cv(const cpa_wino_variant *v, const cp_shape *s, const cp_params *p) {
+    const int64_t nkv = (s->k + KR - 1) / KR;
+    return p->v[CPA_WINO_GEMM] == 1 && cpa_blocked_tile_select(p->v[CPA_WINO_KERNELS]).cv &&
+           s->n * wino_tiles_h(v, s) * wino_tiles_w(v, s) <= WINO_CV_MAX_TILES &&
+           100 * s->k >= 85 * nkv * KR;
+}
+
+/* Rows of U's panels: K padded to the panel width (packed GEMM), or K. */
+static int64_t wino_urows(const cpa_wino_variant *v, const cp_shape *s, const cp_params *p) {
+    if (p->v[CPA_WINO_GEMM] != 1) return s->k;
+    const int64_t pw = wino_cv(v, s, p) ? KR : MR;
+    return (s->k + pw - 1) / pw * pw;
+}
+
 size_t cpa_wino_prepared_size(const cpa_wino_variant *v, const cp_shape *s, const cp_params *p) {
-    const int64_t rows = p->v[CPA_WINO_GEMM] == 1 ? wino_ktiles(s) * MR : s->k;
+    const int64_t rows = wino_urows(v, s, p);
     return (size_t)(wino_points(v) * rows * s->c) * sizeof(float);
 }
 
@@ -175,12 +200,13 @@ cp_status cpa_wino_prepare(const cpa_wino_variant *v, const cp_shape *s, cp_flip
                            const cp_params *p, const float *w, void *out) {
     const int64_t K = s->k, C = s->c, KC = K * C;
     const int packed = p->v[CPA_WINO_GEMM] == 1;
-    const int64_t xstride = packed ? wino_ktiles(s) * MR * C : KC;
+    const int64_t pw = wino_cv(v, s, p) ? KR : MR; /* panel width */
+    const int64_t xstride = wino_urows(v, s, p) * C;
     float *u = out;
     if (packed) memset(u, 0, cpa_wino_prepared_size(v, s, p));
     for (int64_t kc = 0; kc < KC; kc++) {
         const int64_t ko = kc / C, co = kc % C;
-        const int64_t at = packed ? ((ko / MR) * C + co) * MR + ko % MR : kc;
+        const int64_t at = packed ? ((ko / pw) * C + co) * pw + ko % pw : kc;
         float g[9];
         const float *src = w + kc * 9;
         for (int i = 0; i < 9; i++) g[i] = flip == CP_CONV ? src[8 - i] : src[i];
@@ -317,6 +343,33 @@ static void wino_packed_task(void *arg, int64_t begin, int64_t end, int worker) 
     }
 }
 
+/* The packed GEMM with the channel-vector tile: task (xi, kt) computes rows
+ * KR kt .. KR kt + KR-1 of M[xi] over the block's columns in chunks of at
+ * most CPA_CV_NP (split evenly: 16 = 6+5+5), reading V[xi] rows as C input
+ * channels of one tap.  c=k=512 h=w=7 (16 tiles): 1.00 ms against 2.76 ms
+ * with the pixel-vector tile (fastest of 15, one core of the Xeon). */
+static void wino_cv_task(void *arg, int64_t begin, int64_t end, int worker) {
+    (void)worker;
+    static const int64_t tap0[1] = {0};
+    const wino_block *blk = arg;
+    const cp_shape *s = blk->a->shape;
+    const int64_t C = s->c, K = s->k, nkv = (K + KR - 1) / KR, ld = blk->ld;
+    const int64_t nch = (blk->nt + CPA_CV_NP - 1) / CPA_CV_NP;
+    for (int64_t task = begin; task < end; task++) {
+        const int64_t xi = task / nkv, kt = task % nkv;
+        cpa_cv_tile t = {C, 1, ld, tap0, NULL,
+                         (const float *)blk->a->weights + (xi * nkv + kt) * C * KR, KR, NULL,
+                         ld, NULL, 0, (int)(K - kt * KR < KR ? K - kt * KR : KR), 1};
+        for (int64_t ch = 0; ch < nch; ch++) {
+            const int64_t c0 = ch * blk->nt / nch, c1 = (ch + 1) * blk->nt / nch;
+            t.x = blk->v + xi * C * ld + c0;
+            t.y = blk->m + xi * K * ld + kt * KR * ld + c0;
+            t.np = (int)(c1 - c0);
+            blk->tile.cv(&t);
+        }
+    }
+}
+
 cp_status cpa_wino_run(const cpa_wino_variant *var, const cp_run_args *a) {
     const cp_shape *s = a->shape;
     const int64_t C = s->c, K = s->k, np = wino_points(var);
@@ -340,7 +393,9 @@ cp_status cpa_wino_run(const cpa_wino_variant *var, const cp_run_args *a) {
         blk.t0 = t0;
         blk.nt = all - t0 < tb ? all - t0 : tb;
         cp_parallel_for(a->exec, C, wino_input_task, &blk);
-        if (a->params->v[CPA_WINO_GEMM] == 1)
+        if (wino_cv(var, s, a->params))
+            cp_parallel_for(a->exec, np * ((K + KR - 1) / KR), wino_cv_task, &blk);
+        else if (a->params->v[CPA_WINO_GEMM] == 1)
             cp_parallel_for(a->exec, np * wino_ktiles(s), wino_packed_task, &blk);
         else
             cpa_sgemm_batch(a->exec, np, K, blk.nt, C, a->weights, K * C, C, blk.v, C * ld, ld,

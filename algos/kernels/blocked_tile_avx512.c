@@ -137,14 +137,21 @@ static inline __mmask16 cv_mask(int nk, int j) {
     return n >= 16 ? (__mmask16)0xffffu : n <= 0 ? (__mmask16)0 : (__mmask16)((1u << n) - 1u);
 }
 
-#define CPA_CV_ALLP(m, j) m(j, 0) m(j, 1) m(j, 2) m(j, 3) m(j, 4) m(j, 5) m(j, 6)
-#define CPA_CV_ALL(m) CPA_CV_ALLP(m, 0) CPA_CV_ALLP(m, 1) CPA_CV_ALLP(m, 2) CPA_CV_ALLP(m, 3)
-static inline __attribute__((always_inline)) void cv_np(const cpa_cv_tile *t, const int NP) {
+/* Pixel-major order: one broadcast live at a time (28 accumulators, 4 weight
+ * vectors and 1 broadcast are 33 of 32 registers at NP = 7: one weight vector
+ * is reloaded, no accumulator leaves its register).  The scatter indices are
+ * made after the loop so that they do not hold a register through it. */
+#define CPA_CV_ALLJ(m, p) m(0, p) m(1, p) m(2, p) m(3, p)
+#define CPA_CV_ALL(m)                                                                  \
+    CPA_CV_ALLJ(m, 0) CPA_CV_ALLJ(m, 1) CPA_CV_ALLJ(m, 2) CPA_CV_ALLJ(m, 3) CPA_CV_ALLJ(m, 4) \
+    CPA_CV_ALLJ(m, 5) CPA_CV_ALLJ(m, 6)
+static inline __attribute__((always_inline)) void cv_np(const cpa_cv_tile *t, const int NP,
+                                                        const int ONE) {
     const __mmask16 m0 = cv_mask(t->nk, 0), m1 = cv_mask(t->nk, 1);
     const __mmask16 m2 = cv_mask(t->nk, 2), m3 = cv_mask(t->nk, 3);
-    const __m512i idx = _mm512_mullo_epi32(
-        _mm512_setr_epi32(0, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15),
-        _mm512_set1_epi32((int)t->y_ks));
+#define CPA_CV_IDX                                                                  \
+    _mm512_mullo_epi32(_mm512_setr_epi32(0, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15), \
+                       _mm512_set1_epi32((int)t->y_ks))
     const int64_t ys16 = 16 * t->y_ks;
     __m512 b0 = _mm512_setzero_ps(), b1 = b0, b2 = b0, b3 = b0;
     if (t->first && t->bias) {
@@ -153,48 +160,69 @@ static inline __attribute__((always_inline)) void cv_np(const cpa_cv_tile *t, co
         b2 = _mm512_maskz_loadu_ps(m2, t->bias + 32);
         b3 = _mm512_maskz_loadu_ps(m3, t->bias + 48);
     }
-#define CPA_CV_INIT(j, p)                                                                    \
-    __m512 a##j##p = b##j;                                                                   \
-    if ((p) < NP && !t->first)                                                               \
-        a##j##p = _mm512_mask_i32gather_ps(_mm512_setzero_ps(), m##j, idx,                   \
-                                           t->y + (j) * ys16 + (p), 4);
+#define CPA_CV_INIT(j, p) __m512 a##j##p = b##j;
     CPA_CV_ALL(CPA_CV_INIT)
 #undef CPA_CV_INIT
+#define CPA_CV_GATHER(j, p)                                                             \
+    if ((p) < NP)                                                                       \
+        a##j##p = _mm512_mask_i32gather_ps(_mm512_setzero_ps(), m##j, idx,              \
+                                           t->y + (j) * ys16 + (p), 4);
+    if (!t->first) {
+        const __m512i idx = CPA_CV_IDX;
+        CPA_CV_ALL(CPA_CV_GATHER)
+    }
+#undef CPA_CV_GATHER
     const int64_t ntap = t->ntap, cs = t->x_cs, step = t->w_step;
     const int64_t *off = t->tap_off;
     const float *x = t->x;
-    for (int64_t c = 0; c < t->nc; c++, x += cs) {
-        const float *w = t->w + c * ntap * CPA_CV_KR;
-        for (int64_t i = 0; i < ntap; i++, w += step) {
-            const float *xp = x + off[i];
-            const __m512 w0 = _mm512_loadu_ps(w), w1 = _mm512_loadu_ps(w + 16);
-            const __m512 w2 = _mm512_loadu_ps(w + 32), w3 = _mm512_loadu_ps(w + 48);
+    /* One channel and tap: pixels at xq, weights at wq. */
+#define CPA_CV_STEP(xq, wq)                                                                   \
+    {                                                                                         \
+        const float *xp = (xq), *wp = (wq);                                                   \
+        const __m512 w0 = _mm512_loadu_ps(wp), w1 = _mm512_loadu_ps(wp + 16);                 \
+        const __m512 w2 = _mm512_loadu_ps(wp + 32), w3 = _mm512_loadu_ps(wp + 48);            \
+        CPA_CV_ALL(CPA_CV_FMA)                                                                \
+    }
 #define CPA_CV_FMA(j, p)                                                                      \
     if ((p) < NP) a##j##p = _mm512_fmadd_ps(w##j, _mm512_set1_ps(xp[p]), a##j##p);
-            CPA_CV_ALL(CPA_CV_FMA)
-#undef CPA_CV_FMA
+    if (ONE) { /* no tap loop (1x1 layers, Winograd's GEMM): as tile_ns */
+        const float *w = t->w;
+        x += off[0];
+        int64_t c = 0;
+        for (; c + 2 <= t->nc; c += 2, x += 2 * cs, w += 2 * CPA_CV_KR) {
+            CPA_CV_STEP(x, w)
+            CPA_CV_STEP(x + cs, w + CPA_CV_KR)
+        }
+        if (c < t->nc) CPA_CV_STEP(x, w)
+    } else {
+        for (int64_t c = 0; c < t->nc; c++, x += cs) {
+            const float *w = t->w + c * ntap * CPA_CV_KR;
+            for (int64_t i = 0; i < ntap; i++, w += step) CPA_CV_STEP(x + off[i], w)
         }
     }
+#undef CPA_CV_FMA
+#undef CPA_CV_STEP
+    const __m512i idx = CPA_CV_IDX;
+#undef CPA_CV_IDX
 #define CPA_CV_STORE(j, p) \
     if ((p) < NP) _mm512_mask_i32scatter_ps(t->y + (j) * ys16 + (p), m##j, idx, a##j##p, 4);
     CPA_CV_ALL(CPA_CV_STORE)
 #undef CPA_CV_STORE
 }
 #undef CPA_CV_ALL
-#undef CPA_CV_ALLP
+#undef CPA_CV_ALLJ
 
-static void cv_1(const cpa_cv_tile *t) { cv_np(t, 1); }
-static void cv_2(const cpa_cv_tile *t) { cv_np(t, 2); }
-static void cv_3(const cpa_cv_tile *t) { cv_np(t, 3); }
-static void cv_4(const cpa_cv_tile *t) { cv_np(t, 4); }
-static void cv_5(const cpa_cv_tile *t) { cv_np(t, 5); }
-static void cv_6(const cpa_cv_tile *t) { cv_np(t, 6); }
-static void cv_7(const cpa_cv_tile *t) { cv_np(t, 7); }
+#define CPA_CV_FN(n)                                                   \
+    static void cv_##n(const cpa_cv_tile *t) { cv_np(t, n, 0); }       \
+    static void cv_##n##_one(const cpa_cv_tile *t) { cv_np(t, n, 1); }
+CPA_CV_FN(1) CPA_CV_FN(2) CPA_CV_FN(3) CPA_CV_FN(4) CPA_CV_FN(5) CPA_CV_FN(6) CPA_CV_FN(7)
+#undef CPA_CV_FN
 
 void cpa_cv_tile_avx512_64x7(const cpa_cv_tile *t) {
-    static void (*const by_np[CPA_CV_NP])(const cpa_cv_tile *) = {cv_1, cv_2, cv_3, cv_4,
-                                                                  cv_5, cv_6, cv_7};
-    by_np[t->np - 1](t);
+    static void (*const by_np[2][CPA_CV_NP])(const cpa_cv_tile *) = {
+        {cv_1, cv_2, cv_3, cv_4, cv_5, cv_6, cv_7},
+        {cv_1_one, cv_2_one, cv_3_one, cv_4_one, cv_5_one, cv_6_one, cv_7_one}};
+    by_np[t->ntap == 1][t->np - 1](t);
 }
 
 #else
