@@ -20,23 +20,36 @@ static inline __mmask16 low_mask(uint32_t keep) {
     return (__mmask16)((1u << __builtin_popcount(keep)) - 1u);
 }
 
+/* The accumulators start from the bias (first block) or from zero; a later
+ * block's partial sums in y are added at the end, not loaded at the start, and
+ * the y lines are only prefetched here: their latency (the tile's 24 output
+ * rows are 24 lines of 24 planes, often out of L1) then overlaps the channel
+ * loop instead of stalling its first FMAs, and the first block's stores find
+ * their lines present.  Common practice, no source.  (The sum is the same,
+ * y + (this block's products) instead of ((y + p1) + p2) ...: rounding only.) */
 static inline __m512 load_start(const cpa_blocked_tile *t, int v, int kk) {
     const uint32_t keep = t->keep[v];
     if (kk >= t->nk || keep == 0) return _mm512_setzero_ps();
-    if (t->first) return t->bias ? _mm512_set1_ps(t->bias[kk]) : _mm512_setzero_ps();
     const float *p = t->y[v] + kk * t->y_ks;
-    if (keep == 0xffffu) return _mm512_loadu_ps(p);
-    return _mm512_maskz_expand_ps((__mmask16)keep, _mm512_maskz_loadu_ps(low_mask(keep), p));
+    __builtin_prefetch(p, 1, 3);
+    __builtin_prefetch(p + __builtin_popcount(keep) - 1, 1, 3);
+    if (t->first) return t->bias ? _mm512_set1_ps(t->bias[kk]) : _mm512_setzero_ps();
+    return _mm512_setzero_ps();
 }
 
 static inline void store_acc(const cpa_blocked_tile *t, int v, int kk, __m512 a) {
     const uint32_t keep = t->keep[v];
     if (kk >= t->nk || keep == 0) return;
     float *p = t->y[v] + kk * t->y_ks;
-    if (keep == 0xffffu)
+    if (keep == 0xffffu) {
+        if (!t->first) a = _mm512_add_ps(a, _mm512_loadu_ps(p));
         _mm512_storeu_ps(p, a);
-    else
-        _mm512_mask_storeu_ps(p, low_mask(keep), _mm512_maskz_compress_ps((__mmask16)keep, a));
+        return;
+    }
+    const __mmask16 lm = low_mask(keep);
+    a = _mm512_maskz_compress_ps((__mmask16)keep, a);
+    if (!t->first) a = _mm512_add_ps(a, _mm512_maskz_loadu_ps(lm, p));
+    _mm512_mask_storeu_ps(p, lm, a);
 }
 
 /* The tile body for NS segments (1, 2 or 4) and taps (ONE: a 1x1 layer or the
