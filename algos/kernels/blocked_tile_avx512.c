@@ -5,9 +5,10 @@
  * the lanes it keeps, like the portable one, and never needs the portable
  * fallback at the end of a buffer: masked-off lanes do not fault), six weight
  * broadcasts, 24 FMAs.  Tiles with fewer non-empty segments run a
- * 6 x 16 or 6 x 32 body.  Kept lanes are compressed on store and expanded on
- * load (register forms plus a masked contiguous access: the memory forms of
- * compress/expand are slow on some cores).  Built with -mavx512f; only called
+ * 6 x 16 or 6 x 32 body.  Kept lanes are compressed before they meet y (the
+ * register form plus a masked contiguous access: the memory forms of compress
+ * are slow on some cores).  Also the channel-vector tile of small planes
+ * (64 channels x up to 7 pixels, below).  Built with -mavx512f; only called
  * after cpa_blocked_tile_select() saw AVX-512F and the OS's ZMM state. */
 #include "algos/kernels/blocked_tile.h"
 
@@ -147,7 +148,8 @@ void cpa_blocked_tile_avx512_6x64(const cpa_blocked_tile *t) {
  * y_ks apart), once per tile: amortised over nc * ntap * NP * 4 FMAs. */
 static inline __mmask16 cv_mask(int nk, int j) {
     const int n = nk - 16 * j;
-    return n >= 16 ? (__mmask16)0xffffu : n <= 0 ? (__mmask16)0 : (__mmask16)((1u << n) - 1u);
+    const uint32_t bits = n >= 16 ? 0xffffu : n <= 0 ? 0u : (1u << n) - 1u;
+    return (__mmask16)bits;
 }
 
 /* Pixel-major order: one broadcast live at a time (28 accumulators, 4 weight

@@ -1,7 +1,8 @@
 /* Tests of the blocked direct convolution (blocked, blocked_flipidx): the
  * tile kernels (portable and AVX2; built again as test_blocked_avx512 with
  * CPT_ISA_ONLY=3 for the AVX-512 one, which exits 77 on a CPU without it) in
- * both modes against the fp64 oracle over a grid of awkward shapes, every tuner
+ * both modes against the fp64 oracle over a grid of awkward shapes (small planes
+ * included, which take the channel-vector tile at the AVX-512 level), every tuner
  * candidate, flipped indexing against flipped packing, a multi-threaded run
  * against the serial one, and a worked example whose values come from SciPy. */
 #include <math.h>
