@@ -346,8 +346,9 @@ static void wino_packed_task(void *arg, int64_t begin, int64_t end, int worker) 
 /* The packed GEMM with the channel-vector tile: task (xi, kt) computes rows
  * KR kt .. KR kt + KR-1 of M[xi] over the block's columns in chunks of at
  * most CPA_CV_NP (split evenly: 16 = 6+5+5), reading V[xi] rows as C input
- * channels of one tap.  c=k=512 h=w=7 (16 tiles): 1.00 ms against 2.76 ms
- * with the pixel-vector tile (fastest of 15, one core of the Xeon). */
+ * channels of one tap.  c=k=512 h=w=7 (16 tiles), whole layer: 1.99..2.10 ms
+ * against 2.76 ms with the pixel-vector tile (fastest of 15..30, one core of
+ * the Xeon, a shared and noisy machine). */
 static void wino_cv_task(void *arg, int64_t begin, int64_t end, int worker) {
     (void)worker;
     static const int64_t tap0[1] = {0};
