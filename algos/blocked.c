@@ -27,8 +27,17 @@
  *    lane dropped) or when the kernel takes masks and L is at most the lanes
  *    row segments would use (a 7x7 plane padded to 9: 49 outputs in 64 lanes
  *    instead of 7 of every 16).  Otherwise each row is cut into segments.
- *  - Weights (prepare): per group, per tile of 6 output channels, [c][r][s][6]
- *    with zero channels past K/groups; flipped for CP_CONV by `blocked`.
+ *  - Channel-vector mode (small planes): when the kernel has a channel-vector
+ *    tile (AVX-512) and the pixel tiles would keep under 85 % of the lanes
+ *    they compute (7x7: 49 of 64; 14x14 3x3 read through 16-float rows: 196
+ *    of 256) while K/groups fills 64-channel vectors to 85 %, tiles are
+ *    64 output channels along the vectors x up to 7 pixels of a row
+ *    (blocked_tile.h), every pixel kept.  Tasks are (group, 64-channel tile,
+ *    block of pb rows); kb is unused; cb defaults to a tile's weights in half
+ *    of L2.  Strided layers read the same phase-split (or subsampled) buffer.
+ *  - Weights (prepare): per group, per tile of 6 (channel-vector mode: 64)
+ *    output channels, [c][r][s][6 or 64] with zero channels past K/groups;
+ *    flipped for CP_CONV by `blocked`.
  * Loops, outermost first: image n; then in parallel over tasks
  * (group, block of kb channel tiles, block of pb output rows): input-channel
  * blocks of cb, channel tiles, groups of nseg pixel segments, tile kernel.
@@ -45,11 +54,12 @@
 #include "algos/core/cpa.h"
 
 enum { P_KB = 0, P_CB, P_PB, P_TILE_ISA, P_ORDER, NPARAMS };
-enum { MR = CPA_BLOCKED_MR, SLACK = CPA_BLOCKED_SEGS * CPA_BLOCKED_NV_MAX };
+enum { MR = CPA_BLOCKED_MR, KR = CPA_CV_KR, SLACK = CPA_BLOCKED_SEGS * CPA_BLOCKED_NV_MAX };
 
 static const cp_param_desc blocked_params[NPARAMS] = {
     {"kb", "output-channel tiles of 6 per cache block; default: weights of the block "
-           "in a quarter of L2, at least 1", 1, 1 << 20},
+           "in a quarter of L2, at least 1 (unused by the 64-channel tiles of small planes)",
+     1, 1 << 20},
     {"cb", "input channels per cache block; default: one tile's weights in half of L1 and "
            "its input vectors in the other half, split into equal blocks", 1,
      (int64_t)1 << 30},
@@ -73,6 +83,8 @@ typedef struct {
     int nv, nseg;            /* the tile kernel's segment length and count */
     int run;                 /* 1: segments run along virtual rows (top of file) */
     int64_t vl, vtot;        /* virtual row length L; virtual pixels of a plane */
+    int cv;                  /* 1: channel-vector tiles (small planes, top of file) */
+    int64_t ntkv;            /* KR-channel tiles per group (channel-vector mode) */
 } blk_geom;
 
 static blk_geom geom(const cp_shape *s, const cpa_blocked_kernel *kn) {
@@ -106,12 +118,21 @@ static blk_geom geom(const cp_shape *s, const cpa_blocked_kernel *kn) {
     g.vl = g.sh * g.wrow;
     g.vtot = (g.P - 1) * g.vl + g.Q;
     g.run = g.vl == g.Q || (kn->masks && g.vl <= (g.Q + g.nv - 1) / g.nv * g.nv);
+    /* Lanes the pixel-vector tiles compute for a plane (whole tiles), against
+     * the P*Q they keep; the channel-vector tile keeps every pixel and loses
+     * only the channels of a partial last KR tile. */
+    const int64_t tl = (int64_t)g.nv * g.nseg;
+    const int64_t lanes = g.run ? (g.vtot + tl - 1) / tl * tl
+                                : g.P * (g.Q + g.nv - 1) / g.nv * g.nv;
+    g.ntkv = (g.kg + KR - 1) / KR;
+    g.cv = kn->cv != NULL && 100 * g.P * g.Q < 85 * lanes && 100 * g.kg >= 85 * g.ntkv * KR &&
+           (KR - 1) * g.P * g.Q < INT32_MAX;
     return g;
 }
 
 /* The portable kernel's shape: for the sizes that do not depend on the tile. */
 static const cpa_blocked_kernel any_kernel = {cpa_blocked_tile_ref_6x16, CPA_BLOCKED_NV, 2,
-                                              0, 1, CPA_ISA_PORTABLE};
+                                              0, 1, CPA_ISA_PORTABLE, NULL};
 
 /* Segments of nv pixels in a block of pb rows: each row split into
  * ceil(Q/nv); in run mode the plane is one run of virtual pixels cut into
@@ -144,6 +165,21 @@ static void defaults_for(const cp_shape *s, const cp_cache_sizes *caches, int is
     const cpa_blocked_kernel kn = cpa_blocked_tile_select(isa);
     const blk_geom g = geom(s, &kn);
     const int64_t l1 = (int64_t)caches->l1d, l2 = (int64_t)caches->l2;
+    out->v[P_TILE_ISA] = 0;
+    out->v[P_ORDER] = s->r == 1 && s->s == 1;
+    if (g.cv) { /* channel-vector tiles */
+        /* A tile's weights for cb channels (cb * ntap * KR floats) in half of
+         * L2: each row chunk of a block reads them all once, and a block
+         * boundary costs a gather and a scatter of the tile's outputs. */
+        const int64_t cbmax = clamp64((l2 / 2) / (g.ntap * KR * (int64_t)sizeof(float)), 1, g.cg);
+        const int64_t ncb = (g.cg + cbmax - 1) / cbmax;
+        int64_t pb = g.P;
+        while (pb > 1 && s->groups * g.ntkv * ((g.P + pb - 1) / pb) < 8) pb = (pb + 1) / 2;
+        out->v[P_KB] = 1; /* unused: a task is one KR-channel tile */
+        out->v[P_CB] = (g.cg + ncb - 1) / ncb;
+        out->v[P_PB] = pb;
+        return;
+    }
     const int64_t tile_w_per_c = g.ntap * MR * (int64_t)sizeof(float);
     /* One tile's weights in half of L1, and its input (nseg segments of nv
      * floats per channel, what bounds 1x1 layers) in the other half.  The
@@ -186,8 +222,6 @@ static void defaults_for(const cp_shape *s, const cp_cache_sizes *caches, int is
     out->v[P_KB] = kb;
     out->v[P_CB] = cb;
     out->v[P_PB] = pb;
-    out->v[P_TILE_ISA] = 0;
-    out->v[P_ORDER] = s->r == 1 && s->s == 1;
 }
 
 static void blocked_defaults(const cp_shape *s, const cp_cache_sizes *caches, cp_params *out) {
@@ -263,23 +297,33 @@ static size_t blocked_workspace_size(const cp_shape *s, cp_flip flip, const cp_p
     return bytes;
 }
 
-static size_t blocked_prepared_size(const cp_shape *s, cp_flip flip, const cp_params *p) {
-    (void)flip; (void)p;
-    const blk_geom g = geom(s, &any_kernel);
-    return (size_t)(s->groups * g.ntk * g.cg * g.ntap * MR) * sizeof(float);
+/* The geometry for the tile kernel of parameters p (the weights' layout
+ * depends on it: MR- or KR-channel panels). */
+static blk_geom geom_for(const cp_shape *s, const cp_params *p) {
+    const cpa_blocked_kernel kn = cpa_blocked_tile_select(p->v[P_TILE_ISA]);
+    return geom(s, &kn);
 }
 
-static void pack(const cp_shape *s, int flip, const float *w, float *out) {
-    const blk_geom g = geom(s, &any_kernel);
-    const int64_t R = s->r, S = s->s;
+static size_t blocked_prepared_size(const cp_shape *s, cp_flip flip, const cp_params *p) {
+    (void)flip;
+    const blk_geom g = geom_for(s, p);
+    const int64_t rows = g.cv ? g.ntkv * KR : g.ntk * MR;
+    return (size_t)(s->groups * rows * g.cg * g.ntap) * sizeof(float);
+}
+
+/* Per group, per panel of pw = MR (or KR) output channels: [c][r][s][pw],
+ * zero channels past K/groups. */
+static void pack(const cp_shape *s, const cp_params *p, int flip, const float *w, float *out) {
+    const blk_geom g = geom_for(s, p);
+    const int64_t R = s->r, S = s->s, pw = g.cv ? KR : MR, np = g.cv ? g.ntkv : g.ntk;
     for (int64_t gr = 0; gr < s->groups; gr++)
-        for (int64_t kt = 0; kt < g.ntk; kt++) {
-            float *dst = out + (gr * g.ntk + kt) * g.cg * g.ntap * MR;
+        for (int64_t kt = 0; kt < np; kt++) {
+            float *dst = out + (gr * np + kt) * g.cg * g.ntap * pw;
             for (int64_t c = 0; c < g.cg; c++)
                 for (int64_t r = 0; r < R; r++)
                     for (int64_t q = 0; q < S; q++)
-                        for (int64_t kk = 0; kk < MR; kk++) {
-                            const int64_t k = kt * MR + kk;
+                        for (int64_t kk = 0; kk < pw; kk++) {
+                            const int64_t k = kt * pw + kk;
                             const int64_t rr = flip ? R - 1 - r : r, qq = flip ? S - 1 - q : q;
                             *dst++ = k < g.kg ? w[(((gr * g.kg + k) * g.cg + c) * R + rr) * S + qq]
                                               : 0.0f;
@@ -289,15 +333,14 @@ static void pack(const cp_shape *s, int flip, const float *w, float *out) {
 
 static cp_status blocked_prepare(const cp_shape *s, cp_flip flip, const cp_params *p,
                                  const float *w, void *out) {
-    (void)p;
-    pack(s, flip == CP_CONV, w, out);
+    pack(s, p, flip == CP_CONV, w, out);
     return CP_OK;
 }
 
 static cp_status flipidx_prepare(const cp_shape *s, cp_flip flip, const cp_params *p,
                                  const float *w, void *out) {
-    (void)p; (void)flip;
-    pack(s, 0, w, out);
+    (void)flip;
+    pack(s, p, 0, w, out);
     return CP_OK;
 }
 
@@ -495,6 +538,50 @@ static void compute_task(void *arg, int64_t b, int64_t e, int worker) {
     }
 }
 
+/* Channel-vector mode: task (group, KR-channel tile, block of pb rows); per
+ * input-channel block, every row of the block in chunks of at most CPA_CV_NP
+ * pixels (Q split evenly: 7 | 7+7 | 4 x 7 ...). */
+static void compute_cv_task(void *arg, int64_t b, int64_t e, int worker) {
+    (void)worker;
+    const blk_job *j = arg;
+    const blk_geom *g = &j->g;
+    const cp_run_args *a = j->a;
+    const int64_t nch = (g->Q + CPA_CV_NP - 1) / CPA_CV_NP;
+    for (int64_t task = b; task < e; task++) {
+        const int64_t gr = task / (g->ntkv * j->npb);
+        const int64_t kt = (task / j->npb) % g->ntkv, pbi = task % j->npb;
+        const int64_t k0 = gr * g->kg + kt * KR;
+        const int64_t p0 = pbi * j->pb, p1 = clamp64(p0 + j->pb, 0, g->P);
+        float *yk = a->y + (j->n * a->shape->k + k0) * g->P * g->Q;
+        for (int64_t c0 = 0; c0 < g->cg; c0 += j->cb) {
+            cpa_cv_tile t;
+            t.nc = clamp64(g->cg - c0, 1, j->cb);
+            t.ntap = g->ntap;
+            t.x_cs = g->cs;
+            t.tap_off = j->tap_off;
+            t.w = (const float *)a->weights + ((gr * g->ntkv + kt) * g->cg + c0) * g->ntap * KR;
+            t.w_step = KR;
+            if (j->flipidx) {
+                t.w += (g->ntap - 1) * KR;
+                t.w_step = -KR;
+            }
+            t.y_ks = g->P * g->Q;
+            t.bias = a->bias ? a->bias + k0 : NULL;
+            t.nk = (int)clamp64(g->kg - kt * KR, 1, KR);
+            t.first = c0 == 0;
+            const float *xc = j->xb + (gr * g->cg + c0) * g->cs;
+            for (int64_t p = p0; p < p1; p++)
+                for (int64_t ch = 0; ch < nch; ch++) {
+                    const int64_t q0 = ch * g->Q / nch, q1 = (ch + 1) * g->Q / nch;
+                    t.x = xc + p * g->sh * g->wrow + q0;
+                    t.y = yk + p * g->Q + q0;
+                    t.np = (int)(q1 - q0);
+                    j->kern.cv(&t);
+                }
+        }
+    }
+}
+
 static cp_status run_common(const cp_run_args *a, int flipidx) {
     const cp_shape *s = a->shape;
     blk_job j;
@@ -506,8 +593,8 @@ static cp_status run_common(const cp_run_args *a, int flipidx) {
     j.kb = clamp64(a->params->v[P_KB], 1, g->ntk);
     j.cb = clamp64(a->params->v[P_CB], 1, g->cg);
     j.pb = clamp64(a->params->v[P_PB], 1, g->P);
-    j.nkb = (g->ntk + j.kb - 1) / j.kb;
-    j.npb = pixel_blocks(g, j.pb);
+    j.nkb = g->cv ? g->ntkv : (g->ntk + j.kb - 1) / j.kb;
+    j.npb = g->cv ? (g->P + j.pb - 1) / j.pb : pixel_blocks(g, j.pb);
     j.order = (int)a->params->v[P_ORDER];
 
     int64_t *taps = a->workspace;
@@ -536,7 +623,7 @@ static cp_status run_common(const cp_run_args *a, int flipidx) {
             j.xb = j.xsrc;
             j.xb_len = (s->n - n) * s->c * g->cs; /* later images follow in memory */
         }
-        cp_parallel_for(a->exec, tasks, compute_task, &j);
+        cp_parallel_for(a->exec, tasks, g->cv ? compute_cv_task : compute_task, &j);
     }
     return CP_OK;
 }

@@ -11,18 +11,28 @@
 #include "algos/core/wino_driver.h"
 #include "algos/kernels/blocked_tile.h"
 
-enum { MR = CPA_BLOCKED_MR };
+enum { MR = CPA_BLOCKED_MR, KR = CPA_CV_KR };
 
-/* At most this many tiles in the whole layer and the default GEMM is the
- * packed tile kernel: with so few columns OpenBLAS spends its time re-packing
- * U (K x C per point, all of U every run) for a product only 16..64 columns
- * wide.  Measured with F(2x2,3x3) on one Zen 3 core of a shared machine
- * (fastest sample of each, tile_block at its default): c=k=512 h=w=7 (16
- * tiles) 2.13 ms packed vs 2.82 ms OpenBLAS; c=k=256 h=w=14 (49 tiles) 1.59 vs
- * 1.85; at 196 and 784 tiles (c=k=128 h=w=28, c=k=64 h=w=56) the two were
- * within 5 %.  The rule is about the GEMMs' column count, so it is kept for
- * larger tiles. */
-#define WINO_PACKED_MAX_TILES 64
+/* At most this many tiles in the layer (and K filling 64-channel vectors to
+ * 85 %), the packed GEMM runs the channel-vector tile where the kernel set has
+ * one (AVX-512): the product is only 16..64 columns wide, which the
+ * pixel-vector tile covers with one or two 16-lane segments (6 or 12
+ * accumulators: latency-bound), while the channel-vector tile keeps 28
+ * accumulators over chunks of up to 7 columns.  Measured on a Xeon (family 6
+ * model 207), F(2x2,3x3), one core: see wino_cv_task. */
+#define WINO_CV_MAX_TILES 64
+
+/* The default GEMM is the packed tile kernel.  With few tiles OpenBLAS spends
+ * its time re-packing U (K x C per point, all of U every run) for a product
+ * only 16..64 columns wide: measured with F(2x2,3x3) on one Zen 3 core (fastest
+ * sample, tile_block at its default) c=k=512 h=w=7 (16 tiles) 2.13 ms packed vs
+ * 2.82 ms OpenBLAS; c=k=256 h=w=14 (49 tiles) 1.59 vs 1.85; at 196 and 784
+ * tiles (c=k=128 h=w=28, c=k=64 h=w=56) the two were within 5 %.  On a Xeon
+ * (family 6 model 207, AVX-512 tile kernel; OpenBLAS 0.3.21 on its Prescott
+ * SSE3 kernels, OPENBLAS_CORETYPE unset) the packed GEMM was 4..8x faster at
+ * every tile count of those layers (c=k=64 h=w=56: 1.78 vs 14.6 ms; c=k=128
+ * h=w=28: 1.33 vs 8.6 ms, fastest of 15).  So packed at any tile count; the
+ * tuner still tries OpenBLAS (candidates below). */
 
 const cp_param_desc cpa_wino_params[CPA_WINO_NPARAMS] = {
     {"tile_block", "output tiles per block; default: the block's V and M matrices fill L2, "
@@ -31,8 +41,7 @@ const cp_param_desc cpa_wino_params[CPA_WINO_NPARAMS] = {
                 "has (AVX-512, AVX2+FMA, portable); 1 = portable; 2 = AVX2; 3 = AVX-512 (a "
                 "level the CPU lacks runs the widest below it); default 0", 0, 3},
     {"gemm", "element-wise stage: 0 = OpenBLAS sgemm on U as K x C matrices; 1 = the "
-             "blocked 6x16 tile kernel on U pre-packed in 6-channel panels; default 1 when "
-             "the layer has at most 64 tiles, else 0", 0, 1},
+             "blocked tile kernel on U pre-packed in 6-channel panels; default 1", 0, 1},
 };
 
 /* Row stride of the V and M matrices: a multiple of 16 floats (64 bytes), so
@@ -97,7 +106,7 @@ static int64_t wino_block_for(const cpa_wino_variant *v, const cp_shape *s, size
 void cpa_wino_defaults(const cpa_wino_variant *v, const cp_shape *s, const cp_cache_sizes *c,
                        cp_params *out) {
     out->v[CPA_WINO_TILE_BLOCK] = wino_block_for(v, s, c->l2, 64);
-    out->v[CPA_WINO_GEMM] = s->n * wino_tiles_h(v, s) * wino_tiles_w(v, s) <= WINO_PACKED_MAX_TILES;
+    out->v[CPA_WINO_GEMM] = 1;
 }
 
 /* The default first, then narrower and wider blocks around it. */
@@ -146,8 +155,24 @@ size_t cpa_wino_workspace_size(const cpa_wino_variant *v, const cp_shape *s, con
 /* 6-channel panels of K (the packed GEMM's U rows, zero padded). */
 static int64_t wino_ktiles(const cp_shape *s) { return (s->k + MR - 1) / MR; }
 
+/* 1: the packed GEMM uses the channel-vector tile (WINO_CV_MAX_TILES), U in
+ * KR-channel panels. */
+static int wino_cv(const cpa_wino_variant *v, const cp_shape *s, const cp_params *p) {
+    const int64_t nkv = (s->k + KR - 1) / KR;
+    return p->v[CPA_WINO_GEMM] == 1 && cpa_blocked_tile_select(p->v[CPA_WINO_KERNELS]).cv &&
+           s->n * wino_tiles_h(v, s) * wino_tiles_w(v, s) <= WINO_CV_MAX_TILES &&
+           100 * s->k >= 85 * nkv * KR;
+}
+
+/* Rows of U's panels: K padded to the panel width (packed GEMM), or K. */
+static int64_t wino_urows(const cpa_wino_variant *v, const cp_shape *s, const cp_params *p) {
+    if (p->v[CPA_WINO_GEMM] != 1) return s->k;
+    const int64_t pw = wino_cv(v, s, p) ? KR : MR;
+    return (s->k + pw - 1) / pw * pw;
+}
+
 size_t cpa_wino_prepared_size(const cpa_wino_variant *v, const cp_shape *s, const cp_params *p) {
-    const int64_t rows = p->v[CPA_WINO_GEMM] == 1 ? wino_ktiles(s) * MR : s->k;
+    const int64_t rows = wino_urows(v, s, p);
     return (size_t)(wino_points(v) * rows * s->c) * sizeof(float);
 }
 
@@ -175,12 +200,13 @@ cp_status cpa_wino_prepare(const cpa_wino_variant *v, const cp_shape *s, cp_flip
                            const cp_params *p, const float *w, void *out) {
     const int64_t K = s->k, C = s->c, KC = K * C;
     const int packed = p->v[CPA_WINO_GEMM] == 1;
-    const int64_t xstride = packed ? wino_ktiles(s) * MR * C : KC;
+    const int64_t pw = wino_cv(v, s, p) ? KR : MR; /* panel width */
+    const int64_t xstride = wino_urows(v, s, p) * C;
     float *u = out;
     if (packed) memset(u, 0, cpa_wino_prepared_size(v, s, p));
     for (int64_t kc = 0; kc < KC; kc++) {
         const int64_t ko = kc / C, co = kc % C;
-        const int64_t at = packed ? ((ko / MR) * C + co) * MR + ko % MR : kc;
+        const int64_t at = packed ? ((ko / pw) * C + co) * pw + ko % pw : kc;
         float g[9];
         const float *src = w + kc * 9;
         for (int i = 0; i < 9; i++) g[i] = flip == CP_CONV ? src[8 - i] : src[i];
@@ -317,6 +343,34 @@ static void wino_packed_task(void *arg, int64_t begin, int64_t end, int worker) 
     }
 }
 
+/* The packed GEMM with the channel-vector tile: task (xi, kt) computes rows
+ * KR kt .. KR kt + KR-1 of M[xi] over the block's columns in chunks of at
+ * most CPA_CV_NP (split evenly: 16 = 6+5+5), reading V[xi] rows as C input
+ * channels of one tap.  c=k=512 h=w=7 (16 tiles), whole layer: 1.99..2.10 ms
+ * against 2.76 ms with the pixel-vector tile (fastest of 15..30, one core of
+ * the Xeon, a shared and noisy machine). */
+static void wino_cv_task(void *arg, int64_t begin, int64_t end, int worker) {
+    (void)worker;
+    static const int64_t tap0[1] = {0};
+    const wino_block *blk = arg;
+    const cp_shape *s = blk->a->shape;
+    const int64_t C = s->c, K = s->k, nkv = (K + KR - 1) / KR, ld = blk->ld;
+    const int64_t nch = (blk->nt + CPA_CV_NP - 1) / CPA_CV_NP;
+    for (int64_t task = begin; task < end; task++) {
+        const int64_t xi = task / nkv, kt = task % nkv;
+        cpa_cv_tile t = {C, 1, ld, tap0, NULL,
+                         (const float *)blk->a->weights + (xi * nkv + kt) * C * KR, KR, NULL,
+                         ld, NULL, 0, (int)(K - kt * KR < KR ? K - kt * KR : KR), 1};
+        for (int64_t ch = 0; ch < nch; ch++) {
+            const int64_t c0 = ch * blk->nt / nch, c1 = (ch + 1) * blk->nt / nch;
+            t.x = blk->v + xi * C * ld + c0;
+            t.y = blk->m + xi * K * ld + kt * KR * ld + c0;
+            t.np = (int)(c1 - c0);
+            blk->tile.cv(&t);
+        }
+    }
+}
+
 cp_status cpa_wino_run(const cpa_wino_variant *var, const cp_run_args *a) {
     const cp_shape *s = a->shape;
     const int64_t C = s->c, K = s->k, np = wino_points(var);
@@ -340,7 +394,9 @@ cp_status cpa_wino_run(const cpa_wino_variant *var, const cp_run_args *a) {
         blk.t0 = t0;
         blk.nt = all - t0 < tb ? all - t0 : tb;
         cp_parallel_for(a->exec, C, wino_input_task, &blk);
-        if (a->params->v[CPA_WINO_GEMM] == 1)
+        if (wino_cv(var, s, a->params))
+            cp_parallel_for(a->exec, np * ((K + KR - 1) / KR), wino_cv_task, &blk);
+        else if (a->params->v[CPA_WINO_GEMM] == 1)
             cp_parallel_for(a->exec, np * wino_ktiles(s), wino_packed_task, &blk);
         else
             cpa_sgemm_batch(a->exec, np, K, blk.nt, C, a->weights, K * C, C, blk.v, C * ld, ld,

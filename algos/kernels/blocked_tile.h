@@ -69,6 +69,43 @@ void cpa_blocked_tile_ref_6x16(const cpa_blocked_tile *t);
 void cpa_blocked_tile_avx2_6x16(const cpa_blocked_tile *t);
 void cpa_blocked_tile_avx512_6x64(const cpa_blocked_tile *t);
 
+/* The channel-vector tile, for small planes (7x7, or 14x14 read through
+ * 16-float padded rows), where the pixel-vector tile above would compute many
+ * lanes only to drop them (49 outputs in 64 lanes): CPA_CV_KR = 64 output
+ * channels along the vectors (4 ZMM) x np <= CPA_CV_NP = 7 output pixels of
+ * one row, broadcast; 28 accumulators.  For pixel j < np and channel kk < nk:
+ *   acc = (first ? (bias ? bias[kk] : 0) : y[kk*y_ks + j])
+ *         + sum over c < nc, t < ntap of
+ *             x[c*x_cs + tap_off[t] + j] * w[c*ntap*KR + t*w_step + kk]
+ *   y[kk*y_ks + j] = acc
+ * w holds KR channels interleaved, [c][tap][KR] (channels >= nk zero); w_step
+ * = KR, or -KR from the last tap for flipped indexing (as above).  Reads x for
+ * pixels j < np only, writes y for (kk < nk, j < np) only; (KR-1) * y_ks must
+ * fit in an int32 (the stores are scatters with 32-bit indices). */
+#define CPA_CV_KR 64
+#define CPA_CV_NP 7
+
+typedef struct cpa_cv_tile {
+    int64_t nc, ntap, x_cs;
+    const int64_t *tap_off;
+    const float *x;   /* pixel 0, channel 0 */
+    const float *w;   /* packed weights of channel 0, tap 0 (see w_step) */
+    int64_t w_step;   /* KR or -KR */
+    float *y;         /* channel 0, pixel 0 */
+    int64_t y_ks;     /* floats between consecutive output channels */
+    const float *bias; /* nk values or NULL; read only when first */
+    int np;           /* pixels, 1..CPA_CV_NP */
+    int nk;           /* valid output channels, 1..CPA_CV_KR */
+    int first;
+} cpa_cv_tile;
+
+typedef void (*cpa_cv_tile_fn)(const cpa_cv_tile *t);
+
+/* ref: portable C, always built (the contract's executable statement, and
+ * what tests hold the AVX-512 one against); avx512: AVX-512F. */
+void cpa_cv_tile_ref_64x7(const cpa_cv_tile *t);
+void cpa_cv_tile_avx512_64x7(const cpa_cv_tile *t);
+
 /* Instruction-set levels, the values of the tile_isa / kernels parameters. */
 enum { CPA_ISA_BEST = 0, CPA_ISA_PORTABLE = 1, CPA_ISA_AVX2 = 2, CPA_ISA_AVX512 = 3 };
 
@@ -88,6 +125,8 @@ typedef struct cpa_blocked_kernel {
     int full_reads; /* 1: reads all nv floats of segments 0..nseg-1 */
     int masks;      /* 1: takes any keep mask (compressed outputs) */
     int isa;        /* CPA_ISA_* it runs at */
+    cpa_cv_tile_fn cv; /* channel-vector tile for small planes, or NULL (only
+                          16-lane vectors lose enough lanes there to need it) */
 } cpa_blocked_kernel;
 
 /* The kernel for a tile_isa request (CPA_ISA_*), resolved as above. */

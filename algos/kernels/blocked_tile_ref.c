@@ -43,3 +43,24 @@ void cpa_blocked_tile_ref_6x16(const cpa_blocked_tile *t) {
             for (int i = 0; i < nl; i++) CPA_ST(&t->y[v][kk * t->y_ks + i], acc[kk][i]);
     }
 }
+
+void cpa_cv_tile_ref_64x7(const cpa_cv_tile *t) {
+    enum { KR = CPA_CV_KR, NP = CPA_CV_NP };
+    float acc[KR][NP];
+    for (int kk = 0; kk < t->nk; kk++)
+        for (int j = 0; j < t->np; j++)
+            acc[kk][j] = t->first ? (t->bias ? CPA_LD(&t->bias[kk]) : 0.0f)
+                                  : CPA_LD(&t->y[kk * t->y_ks + j]);
+    for (int64_t c = 0; c < t->nc; c++) {
+        const float *w = t->w + c * t->ntap * KR;
+        for (int64_t tp = 0; tp < t->ntap; tp++, w += t->w_step) {
+            const float *xp = t->x + c * t->x_cs + CPA_LD(&t->tap_off[tp]);
+            for (int j = 0; j < t->np; j++) {
+                const float xv = CPA_LD(&xp[j]);
+                for (int kk = 0; kk < t->nk; kk++) acc[kk][j] += xv * CPA_LD(&w[kk]);
+            }
+        }
+    }
+    for (int kk = 0; kk < t->nk; kk++)
+        for (int j = 0; j < t->np; j++) CPA_ST(&t->y[kk * t->y_ks + j], acc[kk][j]);
+}

@@ -44,8 +44,9 @@ const char *cpa_isa_name(int level) {
 cpa_blocked_kernel cpa_blocked_tile_select(int64_t tile_isa) {
     const int isa = cpa_isa_resolve(tile_isa);
     if (isa == CPA_ISA_AVX512)
-        return (cpa_blocked_kernel){cpa_blocked_tile_avx512_6x64, 16, 4, 0, 1, isa};
+        return (cpa_blocked_kernel){cpa_blocked_tile_avx512_6x64, 16, 4, 0, 1, isa,
+                                    cpa_cv_tile_avx512_64x7};
     if (isa == CPA_ISA_AVX2)
-        return (cpa_blocked_kernel){cpa_blocked_tile_avx2_6x16, CPA_BLOCKED_NV, 2, 1, 0, isa};
-    return (cpa_blocked_kernel){cpa_blocked_tile_ref_6x16, CPA_BLOCKED_NV, 2, 0, 1, isa};
+        return (cpa_blocked_kernel){cpa_blocked_tile_avx2_6x16, CPA_BLOCKED_NV, 2, 1, 0, isa, NULL};
+    return (cpa_blocked_kernel){cpa_blocked_tile_ref_6x16, CPA_BLOCKED_NV, 2, 0, 1, isa, NULL};
 }

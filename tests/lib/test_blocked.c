@@ -1,7 +1,8 @@
 /* Tests of the blocked direct convolution (blocked, blocked_flipidx): the
  * tile kernels (portable and AVX2; built again as test_blocked_avx512 with
  * CPT_ISA_ONLY=3 for the AVX-512 one, which exits 77 on a CPU without it) in
- * both modes against the fp64 oracle over a grid of awkward shapes, every tuner
+ * both modes against the fp64 oracle over a grid of awkward shapes (small planes
+ * included, which take the channel-vector tile at the AVX-512 level), every tuner
  * candidate, flipped indexing against flipped packing, a multi-threaded run
  * against the serial one, and a worked example whose values come from SciPy. */
 #include <math.h>
@@ -66,8 +67,19 @@ static const geo grid[] = {
     {2, 9, 7, 13, 14, 1, 1, 1, 1, 0, 0, 0, 0, 1, 1, 1},    /* x read in place, tail reads */
     {1, 12, 14, 14, 10, 1, 1, 1, 1, 0, 0, 0, 0, 1, 1, 1},  /* 1x1 flat runs across rows */
     {1, 3, 8, 9, 5, 3, 2, 1, 1, 0, 0, 0, 0, 1, 2, 1},      /* R != S, no pad, dilation w */
+    /* Small planes with K/groups >= 64: at the AVX-512 level these take the
+     * channel-vector tile (7x7 and 14x14 read through padded rows lose a
+     * quarter of 16-lane vectors; blocked_tile.h), the other levels their
+     * pixel tiles.  The first is the next-to-last entry, CV_FIRST. */
+    {1, 5, 7, 7, 64, 3, 3, 1, 1, 1, 1, 1, 1, 1, 1, 1},     /* 7x7 3x3, one 64-channel tile */
+    {1, 9, 14, 14, 120, 1, 1, 2, 2, 0, 0, 0, 0, 1, 1, 1},  /* 1x1 stride 2 -> 7x7, 56 in tile 2 */
+    {1, 6, 13, 13, 64, 3, 3, 2, 2, 1, 1, 1, 1, 1, 1, 1},   /* 3x3 stride 2 -> 7x7 */
+    {1, 70, 7, 7, 128, 1, 1, 1, 1, 0, 0, 0, 0, 1, 1, 1},   /* 7x7 1x1 read in place */
+    {1, 4, 14, 14, 128, 3, 3, 1, 1, 1, 1, 1, 1, 1, 1, 2},  /* 14x14, groups 2: rows of 7+7 */
+    {2, 3, 5, 9, 64, 3, 3, 1, 1, 1, 1, 1, 1, 1, 1, 1},     /* batch 2, rows of 4+5 */
     {1, 160, 9, 9, 20, 3, 3, 1, 1, 1, 1, 1, 1, 1, 1, 1},   /* several input-channel blocks */
 };
+enum { CV_FIRST = 23, CV_N = 6 };
 #define NGRID (sizeof grid / sizeof grid[0])
 
 static uint32_t rng_state = 12345u;
@@ -314,7 +326,7 @@ static void test_threads_equal_serial(void **state) {
     static int nthreads = 3;
     const cp_exec ex = {nthreads, pthread_for, &nthreads};
     const cp_algo *blk = cp_algo_find("blocked");
-    const size_t picks[] = {15, 9, 20, 21, NGRID - 1};
+    const size_t picks[] = {15, 9, 20, 21, NGRID - 1, CV_FIRST + 1, CV_FIRST + 4};
     for (size_t pi = 0; pi < sizeof picks / sizeof picks[0]; pi++) {
         const cp_shape s = mk(grid[picks[pi]]);
         layer L;
@@ -369,6 +381,80 @@ static void test_scipy_worked_example(void **state) {
     }
 }
 
+/* The edge shapes take the channel-vector tile exactly at the AVX-512 level:
+ * its weights are panels of CPA_CV_KR channels, so the prepared size tells
+ * (groups * ceil((K/groups) / 64) * 64 * C/groups * R * S floats), where the
+ * pixel tiles pack 6-channel panels.  Common practice, no source: a tile that
+ * keeps 49 of 64 lanes is worth replacing. */
+static void test_edge_tiles_route(void **state) {
+    (void)state;
+    const cp_algo *blk = cp_algo_find("blocked");
+    assert_int_equal(grid[CV_FIRST].k, 64);
+    assert_int_equal(grid[CV_FIRST].h, 7);
+    for (int64_t e = 0; e < NLEVELS; e++)
+        for (size_t i = CV_FIRST; i < CV_FIRST + CV_N; i++) {
+            const cp_shape s = mk(grid[i]);
+            const cp_params p = defaults_with_tile_isa(blk, &s, levels[e]);
+            const int64_t kg = s.k / s.groups, cg = s.c / s.groups;
+            const int cv = cpa_isa_resolve(levels[e]) == CPA_ISA_AVX512;
+            const int64_t pw = cv ? CPA_CV_KR : CPA_BLOCKED_MR;
+            const size_t want = (size_t)(s.groups * ((kg + pw - 1) / pw) * pw * cg * s.r * s.s) *
+                                sizeof(float);
+            assert_int_equal(blk->prepared_size(&s, CP_XCORR, &p), want);
+        }
+}
+
+/* The channel-vector tile kernels against the contract in blocked_tile.h
+ * evaluated in double here (every pixel count 1..7, partial channel vectors,
+ * bias or accumulate, forward and reversed taps); the AVX-512 one where the
+ * CPU has it.  Outputs outside (nk, np) must stay untouched. */
+static void test_cv_tile_kernels(void **state) {
+    (void)state;
+    enum { KR = CPA_CV_KR, NC = 5, NTAP = 3, CS = 40, YKS = 11 };
+    static const int64_t off[NTAP] = {0, 1, 9};
+    float x[NC * CS], w[NC * NTAP * KR], bias[KR], y0[KR * YKS];
+    for (size_t i = 0; i < sizeof x / sizeof x[0]; i++) x[i] = frand();
+    for (size_t i = 0; i < sizeof w / sizeof w[0]; i++) w[i] = frand();
+    for (int i = 0; i < KR; i++) bias[i] = frand();
+    for (int i = 0; i < KR * YKS; i++) y0[i] = frand();
+    const cpa_cv_tile_fn fns[2] = {cpa_cv_tile_ref_64x7, cpa_cv_tile_avx512_64x7};
+    const int nfn = cpa_isa_best() == CPA_ISA_AVX512 ? 2 : 1;
+    static const int nks[] = {1, 17, 56, 64};
+    for (int f = 0; f < nfn; f++)
+        for (int np = 1; np <= CPA_CV_NP; np++)
+            for (size_t ki = 0; ki < sizeof nks / sizeof nks[0]; ki++)
+                for (int mode = 0; mode < 4; mode++) {
+                    const int first = mode & 1, rev = mode >> 1;
+                    float y[KR * YKS];
+                    memcpy(y, y0, sizeof y);
+                    cpa_cv_tile t = {NC, NTAP, CS, off, x, rev ? w + (NTAP - 1) * KR : w,
+                                     rev ? -KR : KR, y, YKS, first ? bias : NULL, np, nks[ki],
+                                     first};
+                    fns[f](&t);
+                    for (int kk = 0; kk < KR; kk++)
+                        for (int j = 0; j < YKS; j++) {
+                            const float got = y[kk * YKS + j];
+                            if (kk >= nks[ki] || j >= np) {
+                                assert_true(got == y0[kk * YKS + j]);
+                                continue;
+                            }
+                            double acc = first ? bias[kk] : y0[kk * YKS + j], mag = fabs(acc);
+                            for (int c = 0; c < NC; c++)
+                                for (int tp = 0; tp < NTAP; tp++) {
+                                    const int wt = rev ? NTAP - 1 - tp : tp;
+                                    const double p = (double)x[c * CS + off[tp] + j] *
+                                                     (double)w[(c * NTAP + wt) * KR + kk];
+                                    acc += p;
+                                    mag += fabs(p);
+                                }
+                            if (!(fabs(got - acc) <= 1e-6 * mag))
+                                fail_msg("cv kernel %d np=%d nk=%d mode %d: y[%d][%d] = %g, "
+                                         "want %g", f, np, nks[ki], mode, kk, j, (double)got,
+                                         acc);
+                        }
+                }
+}
+
 int main(void) {
 #ifdef CPT_ISA_ONLY
     if (cpa_isa_best() < CPT_ISA_ONLY) {
@@ -385,6 +471,8 @@ int main(void) {
         cmocka_unit_test(test_flipidx_refuses_xcorr),
         cmocka_unit_test(test_select_levels),
         cmocka_unit_test(test_threads_equal_serial),
+        cmocka_unit_test(test_edge_tiles_route),
+        cmocka_unit_test(test_cv_tile_kernels),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
