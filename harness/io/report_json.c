@@ -36,14 +36,19 @@ json_t *cph_json_measurement(const cph_measurement *m) {
             json_decref(samples);
             return NULL;
         }
-    return json_pack("{s:o, s:s, s:o, s:s, s:b, s:i, s:o, s:o, s:o, s:o, s:o, s:o}", "settings",
-                     cph_json_timing_opts(&m->opts), "clock", cph_clock_name(),
-                     "clock_resolution_s", cph_json_number(cph_clock_resolution()), "stop",
-                     cph_stop_name(m->stop), "converged", m->converged, "warmup_runs",
-                     m->warmup_runs, "flushes", uint_json(m->flushes), "checks",
-                     uint_json(m->checks), "wall_seconds", cph_json_number(m->wall_seconds),
-                     "timed_seconds", cph_json_number(m->timed_seconds), "stats",
-                     cph_json_stats(&m->stats), "samples", samples);
+    json_t *o = json_pack(
+        "{s:o, s:s, s:o, s:s, s:b, s:i, s:o, s:o, s:o, s:o, s:o, s:o}", "settings",
+        cph_json_timing_opts(&m->opts), "clock", cph_clock_name(), "clock_resolution_s",
+        cph_json_number(cph_clock_resolution()), "stop", cph_stop_name(m->stop), "converged",
+        m->converged, "warmup_runs", m->warmup_runs, "flushes", uint_json(m->flushes), "checks",
+        uint_json(m->checks), "wall_seconds", cph_json_number(m->wall_seconds), "timed_seconds",
+        cph_json_number(m->timed_seconds), "stats", cph_json_stats(&m->stats), "samples", samples);
+    /* samples another task preempted, and whether stats leave them out */
+    if (o) {
+        json_object_set_new(o, "disturbed", uint_json(m->disturbed));
+        json_object_set_new(o, "stats_of", json_string(m->stats_of_undisturbed ? "undisturbed" : "all"));
+    }
+    return o;
 }
 
 json_t *cph_json_trials(const double *trials, size_t n, const cph_stats *s,

@@ -1,12 +1,13 @@
 /* The timing loop: monotonic clock, warm-up, every sample kept, stop on a
  * confidence-interval target or a cap (see timing.h for the procedure). */
-#define _POSIX_C_SOURCE 200809L
+#define _GNU_SOURCE /* getrusage's ru_nivcsw */
 #include "harness/measure/timing.h"
 
 #include <math.h>
 #include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/resource.h>
 #include <time.h>
 
 #ifdef CLOCK_MONOTONIC_RAW
@@ -18,6 +19,12 @@
 #endif
 
 static double (*clock_override)(void);
+static size_t total_samples, total_disturbed;
+
+void cph_timing_totals(size_t *samples, size_t *disturbed) {
+    *samples = total_samples;
+    *disturbed = total_disturbed;
+}
 
 static double mono_now(void) {
     struct timespec ts;
@@ -26,6 +33,20 @@ static double mono_now(void) {
 }
 
 double cph_now(void) { return clock_override ? clock_override() : mono_now(); }
+
+/* Involuntary context switches of the whole process so far (all its
+ * threads): the scheduler took a CPU from one of them for another task.
+ * Under an invented clock (tests) there is nothing to tell: 0. */
+static long (*preempt_override)(void);
+
+void cph_timing_set_preemptions(long (*count_fn)(void)) { preempt_override = count_fn; }
+
+static long preemptions(void) {
+    if (preempt_override) return preempt_override();
+    if (clock_override) return 0;
+    struct rusage ru;
+    return getrusage(RUSAGE_SELF, &ru) == 0 ? ru.ru_nivcsw : 0;
+}
 
 void cph_timing_set_clock(double (*clock_fn)(void)) { clock_override = clock_fn; }
 
@@ -88,6 +109,34 @@ static int grow(cph_measurement *m, size_t *cap, size_t limit) {
     return 0;
 }
 
+/* The disturbed flags follow the samples' capacity. */
+static int grow_flags(cph_measurement *m, size_t cap) {
+    if (m->flags_cap >= cap) return 0;
+    unsigned char *f = realloc(m->disturbed_flags, cap);
+    if (!f) return -1;
+    m->disturbed_flags = f;
+    m->flags_cap = cap;
+    return 0;
+}
+
+/* The statistics of the samples no other task interrupted, when there are
+ * any and some were interrupted; else of all samples. */
+static void final_stats(cph_measurement *m, double confidence) {
+    size_t clean = 0;
+    if (m->disturbed && m->disturbed < m->n) {
+        double *v = malloc(m->n * sizeof *v);
+        if (v) {
+            for (size_t i = 0; i < m->n; i++)
+                if (!m->disturbed_flags[i]) v[clean++] = m->samples[i];
+            cph_stats_compute(v, clean, confidence, &m->stats);
+            free(v);
+            m->stats_of_undisturbed = 1;
+            return;
+        }
+    }
+    cph_stats_compute(m->samples, m->n, confidence, &m->stats);
+}
+
 int cph_measure(const cph_timing_opts *o, cph_work_fn fn, void *arg, cph_measurement *out) {
     memset(out, 0, sizeof *out);
     cph_timing_opts opt = *o;
@@ -136,10 +185,20 @@ int cph_measure(const cph_timing_opts *o, cph_work_fn fn, void *arg, cph_measure
             flush_caches(flush, words, (uint64_t)out->flushes);
             out->flushes++;
         }
+        const long p0 = preemptions();
         const double t0 = cph_now();
         rc = fn(arg);
         const double t1 = cph_now();
+        const long p1 = preemptions();
         if (rc) goto done;
+        if (grow_flags(out, cap)) {
+            rc = -1;
+            goto done;
+        }
+        out->disturbed_flags[out->n] = p1 != p0;
+        out->disturbed += p1 != p0;
+        total_disturbed += p1 != p0;
+        total_samples++;
         out->samples[out->n++] = t1 - t0;
         out->timed_seconds += t1 - t0;
 
@@ -159,7 +218,7 @@ int cph_measure(const cph_timing_opts *o, cph_work_fn fn, void *arg, cph_measure
 done:
     free(flush);
     if (rc) out->stop = CPH_STOP_ERROR;
-    cph_stats_compute(out->samples, out->n, opt.confidence, &out->stats);
+    final_stats(out, opt.confidence);
     /* Noise rule, second half: the CI target was not met by all samples. */
     if (!out->stats.ci_exact || out->stats.rel_ci > opt.target_rel_ci) out->stats.noisy = 1;
     out->wall_seconds = cph_now() - t_start;
@@ -168,6 +227,9 @@ done:
 
 void cph_measurement_free(cph_measurement *m) {
     free(m->samples);
+    free(m->disturbed_flags);
     m->samples = NULL;
+    m->disturbed_flags = NULL;
+    m->flags_cap = 0;
     m->n = 0;
 }

@@ -61,6 +61,15 @@ typedef struct cph_measurement {
     size_t flushes;        /* cache flushes made (cold mode: one before each sample) */
     size_t checks;         /* times the CI was evaluated before stopping */
     double timed_seconds;  /* sum of samples */
+    /* Samples during which the scheduler preempted one of the process's
+     * threads for another task (an involuntary context switch, getrusage):
+     * they timed the machine's other work as much as this one.  When some
+     * samples are clean, stats are those of the clean samples alone
+     * (stats_of_undisturbed); samples[] keeps every sample. */
+    size_t disturbed;
+    unsigned char *disturbed_flags; /* per sample, 1 = disturbed (owned) */
+    size_t flags_cap;
+    int stats_of_undisturbed;
 } cph_measurement;
 
 /* Times fn(arg).  Returns 0, or the work's non-zero status (-1: out of memory).
@@ -73,12 +82,24 @@ typedef struct cph_measurement {
  * included) reaches max_seconds.  The cap is checked before each sample and
  * at least one sample is always taken, so a single run longer than the cap
  * overruns it by at most that run.  On stop, stats are computed from all
- * samples and stats.noisy is also set when their CI misses the target (or is
+ * samples (the undisturbed ones when some samples were preempted and some
+ * not, see `disturbed` above) and stats.noisy is also set when their CI misses the target (or is
  * only the [min, max] fallback).  Convergence needs a distribution-free
  * interval (n >= 6 at 95 %, n >= 8 at 99 %).
  * min_samples = 0 is taken as 1; max_samples < min_samples as min_samples. */
 int cph_measure(const cph_timing_opts *o, cph_work_fn fn, void *arg, cph_measurement *out);
 void cph_measurement_free(cph_measurement *m);
+
+/* Samples taken by cph_measure in this process so far, and how many of them
+ * were disturbed (preempted): what the machine's other work did to the
+ * measurements, for the notes of a run.  Not synchronised (one measuring
+ * thread). */
+void cph_timing_totals(size_t *samples, size_t *disturbed);
+
+/* Test seam: replaces the count of the process's involuntary context
+ * switches cph_measure reads around each sample (NULL restores getrusage;
+ * under an invented clock without it nothing is ever disturbed). */
+void cph_timing_set_preemptions(long (*count_fn)(void));
 
 /* Test seam: replaces the clock cph_measure and cph_now read (NULL restores
  * the monotonic clock).  Not thread-safe; tests only. */

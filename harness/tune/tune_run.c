@@ -165,7 +165,10 @@ static int tune_one(tune_state *t, const cph_layer *L, cp_flip flip, int threads
     snprintf(lname, sizeof lname, "%s flip=%s t=%d", L->name, cph_flip_word(flip), threads);
     const cph_tune_request rq = {&t->o, L, flip, threads, sel->algos, sel->nalgos,
                                  &t->caches, exec, &stop_requested, on_candidate, &pc};
+    size_t s0, d0, s1, d1;
+    cph_timing_totals(&s0, &d0);
     cp_status st = cph_tune_layer(&rq, &e, &rep, msg, sizeof msg);
+    cph_timing_totals(&s1, &d1);
     if (rep.interrupted) {
         cph_tune_report_free(&rep);
         return 1;
@@ -178,7 +181,7 @@ static int tune_one(tune_state *t, const cph_layer *L, cp_flip flip, int threads
         cph_tune_report_free(&rep);
         return 0;
     }
-    char note[2][200];
+    char note[3][200];
     snprintf(note[0], sizeof note[0],
              "tried %d of %d planned candidates in %.1f s: %d raced, %d skipped by "
              "the budget, %d disqualified, %d failed, %d algorithms not applicable",
@@ -186,13 +189,17 @@ static int tune_one(tune_state *t, const cph_layer *L, cp_flip flip, int threads
              rep.skipped, rep.disqualified, rep.failed, rep.unsupported);
     snprintf(note[1], sizeof note[1], "race: %zu rounds of trials, %d dropped, ended by %s",
              rep.rounds, rep.dropped, rep.ended_by ? rep.ended_by : "-");
-    const char *notes[2] = {note[0], note[1]};
+    snprintf(note[2], sizeof note[2],
+             "preempted: %zu of %zu timed samples had a thread preempted by another task "
+             "(a trial's median leaves them out when it has others)",
+             d1 - d0, s1 - s0);
+    const char *notes[3] = {note[0], note[1], note[2]};
     const char **cnotes = calloc(e.ncandidates ? e.ncandidates : 1, sizeof *cnotes);
     for (size_t i = 0; cnotes && i < e.ncandidates; i++) cnotes[i] = rep.candidate_notes[i];
     char control_what[128] = "";
     if (t->o.control) cph_control_describe(t->o.control, control_what, sizeof control_what);
     cph_entry_notes en = {cnotes, rep.planned, rep.measured, rep.skipped, rep.disqualified,
-                          rep.failed, rep.unsupported, rep.seconds, notes, 2,
+                          rep.failed, rep.unsupported, rep.seconds, notes, 3,
                           rep.control_fma, rep.control_gemm, rep.ncontrol, control_what};
     st = cph_table_doc_put(t->doc, &e, &en, msg, sizeof msg);
     free(cnotes);

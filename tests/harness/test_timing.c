@@ -54,6 +54,55 @@ static int teardown_fake(void **state) {
     return 0;
 }
 
+/* Preempted samples: an invented count of involuntary context switches that
+ * rises during samples 3 and 7 (which also take 100x as long, as a sample
+ * sharing its CPU with another task would).  The statistics are those of the
+ * eight others; every sample is kept.  With every sample preempted, the
+ * statistics are of all of them. */
+static long fake_switches;
+static int preempt_every; /* 0: samples 3 and 7; 1: every sample */
+static long fake_preemptions(void) { return fake_switches; }
+
+static int preempted_work(void *arg) {
+    work *w = arg;
+    w->calls++;
+    const int sample = w->calls - 2; /* after 2 warm-up runs, 1-based */
+    const int hit = preempt_every ? sample >= 1 : (sample == 3 || sample == 7);
+    if (hit) fake_switches++;
+    fake_t += hit ? 0.1 : 0.001 * (1.0 + 0.01 * (sample % 3));
+    return 0;
+}
+
+static void test_preempted_samples_left_out(void **state) {
+    (void)state;
+    cph_timing_set_preemptions(fake_preemptions);
+    cph_timing_opts o;
+    cph_timing_defaults(&o);
+    o.min_samples = o.max_samples = 10;
+    work w = {0};
+    preempt_every = 0;
+    cph_measurement m;
+    assert_int_equal(cph_measure(&o, preempted_work, &w, &m), 0);
+    assert_int_equal(m.n, 10);
+    assert_int_equal(m.disturbed, 2);
+    assert_int_equal(m.disturbed_flags[2], 1); /* sample 3 */
+    assert_int_equal(m.disturbed_flags[6], 1); /* sample 7 */
+    assert_int_equal(m.stats_of_undisturbed, 1);
+    assert_true(m.stats.max < 0.0011); /* no 0.1 s sample in the stats */
+    assert_int_equal(m.stats.n, 8);
+    cph_measurement_free(&m);
+
+    preempt_every = 1;
+    w.calls = 0;
+    assert_int_equal(cph_measure(&o, preempted_work, &w, &m), 0);
+    assert_int_equal(m.disturbed, 10);
+    assert_int_equal(m.stats_of_undisturbed, 0);
+    assert_int_equal(m.stats.n, 10);
+    assert_true(fabs(m.stats.median - 0.1) < 1e-9);
+    cph_measurement_free(&m);
+    cph_timing_set_preemptions(NULL);
+}
+
 static void test_defaults(void **state) {
     (void)state;
     cph_timing_opts o;
@@ -287,6 +336,7 @@ static void test_real_cold_measurement(void **state) {
 int main(void) {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_defaults),
+        cmocka_unit_test_setup_teardown(test_preempted_samples_left_out, setup_fake, teardown_fake),
         cmocka_unit_test_setup_teardown(test_constant_work_converges_at_min, setup_fake, teardown_fake),
         cmocka_unit_test_setup_teardown(test_bimodal_work_hits_max_samples, setup_fake, teardown_fake),
         cmocka_unit_test_setup_teardown(test_time_cap, setup_fake, teardown_fake),
