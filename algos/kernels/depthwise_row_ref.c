@@ -1,6 +1,6 @@
-/* Portable C row kernel of the depthwise convolution (contract in
- * depthwise_row.h).  Always compiled and tested; the only kernel on CPUs
- * without AVX2. */
+/* Portable C kernels of the depthwise convolution (contract in
+ * depthwise_row.h).  Always compiled and tested; the only kernels on CPUs
+ * without AVX2, and the fill of the AVX2 level. */
 #include "algos/kernels/depthwise_row.h"
 
 void cpa_dw_row_ref(const cpa_dw_row *r) {
@@ -10,4 +10,21 @@ void cpa_dw_row_ref(const cpa_dw_row *r) {
             for (int t = 0; t < r->ntap; t++) acc += r->w[t] * r->src[t][i * r->src_step + j];
             r->y[i * r->q + j] = acc;
         }
+}
+
+void cpa_dw_fill_ref(const cpa_dw_fill *f) {
+    for (int64_t ih = 0; ih < f->h; ih++) {
+        const int64_t u = ih + f->pt;
+        float *row = f->buf + (u % f->sh) * f->sw * f->plane + (u / f->sh) * f->ld;
+        const float *xr = f->x + ih * f->w;
+        if (f->sw == 1) { /* a plain copy the compiler vectorises */
+            float *d = row + f->pl;
+            for (int64_t iw = 0; iw < f->w; iw++) d[iw] = xr[iw];
+            continue;
+        }
+        for (int64_t iw = 0; iw < f->w; iw++) {
+            const int64_t v = iw + f->pl;
+            row[(v % f->sw) * f->plane + v / f->sw] = xr[iw];
+        }
+    }
 }

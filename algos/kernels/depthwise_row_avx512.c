@@ -1,0 +1,139 @@
+/* AVX-512F kernels of the depthwise convolution (contract in depthwise_row.h).
+ *
+ * Row kernel: the nrows output rows are computed along the flattened source
+ * index f = i*src_step + j in 16-float vectors that run across row ends, so a
+ * 7-wide layer (src_step 9) fills 63 of every 64 lanes instead of 7 of 16.
+ * The lanes whose column j = f mod src_step is >= q are dropped by a
+ * compressed store (vcompressps into a register, then one masked store of
+ * popcount lanes): no branch per element and no per-row remainder.  Eight
+ * vectors (128 outputs) are in flight per step, so that nine dependent FMAs per
+ * accumulator still keep both FMA ports busy (latency 4 x 2 ports); the last
+ * partial block runs four at a time.  For 3x3 kernels the nine taps sit in
+ * registers; other sizes broadcast each tap from L1 (an embedded broadcast).
+ * The lane masks come from vector arithmetic on the column (floor((c + 1/2) /
+ * ld), exact for columns below 2^21), never from a division per vector.
+ *
+ * Fill: stride-1 rows are copied with masked loads and stores; stride-2 rows
+ * are deinterleaved into their even and odd phase planes with two permutes per
+ * 32 input floats.  Other strides use the portable fill. */
+#include <immintrin.h>
+
+#include "algos/kernels/depthwise_row.h"
+
+/* Lanes [0, n) for n in [0, 16]. */
+static inline __mmask16 dw_first(int64_t n) {
+    return n >= 16 ? (__mmask16)0xFFFF : n <= 0 ? (__mmask16)0 : (__mmask16)((1u << n) - 1u);
+}
+
+typedef struct {
+    __m512 iota, half, ldf, inv, qf;
+    int64_t ld, step16; /* step16 = 16 mod ld */
+} dw_cols;
+
+/* Output lanes of the vector whose lane 0 sits at column col0 (< ld). */
+static inline __mmask16 dw_keep(const dw_cols *c, int64_t col0) {
+    const __m512 col = _mm512_add_ps(_mm512_set1_ps((float)col0), c->iota);
+    const __m512 k = _mm512_roundscale_ps(_mm512_mul_ps(_mm512_add_ps(col, c->half), c->inv),
+                                          _MM_FROUND_TO_NEG_INF | _MM_FROUND_NO_EXC);
+    return _mm512_cmp_ps_mask(_mm512_fnmadd_ps(k, c->ldf, col), c->qf, _CMP_LT_OQ);
+}
+
+static inline int64_t dw_advance(const dw_cols *c, int64_t col0) {
+    col0 += c->step16;
+    return col0 >= c->ld ? col0 - c->ld : col0;
+}
+
+/* NV vectors from flat index f0; out is the output index of the first kept
+ * lane.  W9 != 0: the nine weights are in wr[]. */
+static inline __attribute__((always_inline)) void
+dw_block(const cpa_dw_row *r, const dw_cols *c, const __m512 *wr, int w9, int nv, int64_t f0,
+         int64_t total, int64_t *col0, int64_t *out) {
+    __m512 acc[8];
+    const __m512 b = _mm512_set1_ps(r->bias);
+    for (int v = 0; v < nv; v++) acc[v] = b;
+    if (w9) {
+        for (int t = 0; t < 9; t++) {
+            const float *s = r->src[t] + f0;
+            for (int v = 0; v < nv; v++)
+                acc[v] = _mm512_fmadd_ps(wr[t], _mm512_loadu_ps(s + 16 * v), acc[v]);
+        }
+    } else {
+        for (int t = 0; t < r->ntap; t++) {
+            const float *s = r->src[t] + f0;
+            const __m512 wt = _mm512_set1_ps(r->w[t]);
+            for (int v = 0; v < nv; v++)
+                acc[v] = _mm512_fmadd_ps(wt, _mm512_loadu_ps(s + 16 * v), acc[v]);
+        }
+    }
+    for (int v = 0; v < nv; v++) {
+        const __mmask16 m = dw_keep(c, *col0) & dw_first(total - f0 - 16 * v);
+        const int n = __builtin_popcount((unsigned)m);
+        _mm512_mask_storeu_ps(r->y + *out, dw_first(n), _mm512_maskz_compress_ps(m, acc[v]));
+        *out += n;
+        *col0 = dw_advance(c, *col0);
+    }
+}
+
+static inline __attribute__((always_inline)) void dw_rows(const cpa_dw_row *r, int w9) {
+    const int64_t ld = r->src_step, total = r->nrows * ld;
+    const dw_cols c = {
+        .iota = _mm512_setr_ps(0, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15),
+        .half = _mm512_set1_ps(0.5f),
+        .ldf = _mm512_set1_ps((float)ld),
+        .inv = _mm512_set1_ps(1.0f / (float)ld),
+        .qf = _mm512_set1_ps((float)r->q),
+        .ld = ld,
+        .step16 = 16 % ld,
+    };
+    __m512 wr[9];
+    if (w9)
+        for (int t = 0; t < 9; t++) wr[t] = _mm512_set1_ps(r->w[t]);
+    int64_t f0 = 0, col0 = 0, out = 0;
+    for (; f0 + 128 <= total; f0 += 128) dw_block(r, &c, wr, w9, 8, f0, total, &col0, &out);
+    for (; f0 < total; f0 += 64) dw_block(r, &c, wr, w9, 4, f0, total, &col0, &out);
+}
+
+void cpa_dw_row_avx512(const cpa_dw_row *r) {
+    if (r->ntap == 9)
+        dw_rows(r, 1);
+    else
+        dw_rows(r, 0);
+}
+
+/* Input row xr (w floats) deinterleaved: even columns to e, odd ones to o. */
+static void dw_split2(const float *xr, int64_t w, float *e, float *o) {
+    const __m512i ie = _mm512_setr_epi32(0, 2, 4, 6, 8, 10, 12, 14, 16, 18, 20, 22, 24, 26, 28, 30);
+    const __m512i io = _mm512_setr_epi32(1, 3, 5, 7, 9, 11, 13, 15, 17, 19, 21, 23, 25, 27, 29, 31);
+    const int64_t ne = (w + 1) / 2, no = w / 2;
+    for (int64_t k = 0; k < ne; k += 16) {
+        const __m512 a = _mm512_maskz_loadu_ps(dw_first(w - 2 * k), xr + 2 * k);
+        const __m512 b = _mm512_maskz_loadu_ps(dw_first(w - 2 * k - 16), xr + 2 * k + 16);
+        _mm512_mask_storeu_ps(e + k, dw_first(ne - k), _mm512_permutex2var_ps(a, ie, b));
+        _mm512_mask_storeu_ps(o + k, dw_first(no - k), _mm512_permutex2var_ps(a, io, b));
+    }
+}
+
+void cpa_dw_fill_avx512(const cpa_dw_fill *f) {
+    if (f->sw > 2) {
+        cpa_dw_fill_ref(f);
+        return;
+    }
+    for (int64_t ih = 0; ih < f->h; ih++) {
+        const int64_t u = ih + f->pt;
+        float *row = f->buf + (u % f->sh) * f->sw * f->plane + (u / f->sh) * f->ld;
+        const float *xr = f->x + ih * f->w;
+        if (f->sw == 1) {
+            float *d = row + f->pl;
+            for (int64_t k = 0; k < f->w; k += 16) {
+                const __mmask16 m = dw_first(f->w - k);
+                _mm512_mask_storeu_ps(d + k, m, _mm512_maskz_loadu_ps(m, xr + k));
+            }
+        } else {
+            /* input column 2k + e is padded column v = 2k + e + pl: phase
+             * (e + pl) mod 2, column k + (e + pl) div 2 */
+            const int64_t pe = f->pl % 2, po = (f->pl + 1) % 2;
+            dw_split2(xr, f->w, row + pe * f->plane + f->pl / 2,
+                      row + po * f->plane + (f->pl + 1) / 2);
+        }
+    }
+}
