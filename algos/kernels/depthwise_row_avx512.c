@@ -1,6 +1,7 @@
 /* AVX-512F kernels of the depthwise convolution (contract in depthwise_row.h).
  *
- * Row kernel: the nrows output rows are computed along the flattened source
+ * Row kernel, rows narrower than DW_WIDE outputs (7x7 and 14x14 layers with
+ * stride 2): the nrows output rows are computed along the flattened source
  * index f = i*src_step + j in 16-float vectors that run across row ends, so a
  * 7-wide layer (src_step 9) fills 63 of every 64 lanes instead of 7 of 16.
  * The lanes whose column j = f mod src_step is >= q are dropped by a
@@ -20,9 +21,13 @@
 
 #include "algos/kernels/depthwise_row.h"
 
-/* Lanes [0, n) for n in [0, 16]. */
+/* Lanes [0, n), n clamped to [0, 16]; branch free (clamps become cmov): the
+ * kept-lane count of a vector changes with its place in the rows, and a
+ * branch on it was mispredicted often enough to triple the kernel's time. */
 static inline __mmask16 dw_first(int64_t n) {
-    return n >= 16 ? (__mmask16)0xFFFF : n <= 0 ? (__mmask16)0 : (__mmask16)((1u << n) - 1u);
+    const int64_t lo = n < 0 ? 0 : n;
+    const unsigned k = (unsigned)(lo > 16 ? 16 : lo);
+    return (__mmask16)((1u << k) - 1u);
 }
 
 typedef struct {
@@ -93,11 +98,47 @@ static inline __attribute__((always_inline)) void dw_rows(const cpa_dw_row *r, i
     for (; f0 < total; f0 += 64) dw_block(r, &c, wr, w9, 4, f0, total, &col0, &out);
 }
 
+/* Wide rows (q >= DW_WIDE): row by row in 16-float vectors, the last of a row
+ * a masked store, no compress -- the mask and compress of the flattened walk
+ * cost about 60 % more per vector than they save once a row fills most of
+ * its vectors.  One vector per step: the out-of-order window overlaps the
+ * nine-FMA chains of consecutive vectors. */
+enum { DW_WIDE = 12 };
+
+static inline __attribute__((always_inline)) void dw_wide(const cpa_dw_row *r, int w9) {
+    __m512 wr[9];
+    if (w9)
+        for (int t = 0; t < 9; t++) wr[t] = _mm512_set1_ps(r->w[t]);
+    const __m512 b = _mm512_set1_ps(r->bias);
+    for (int64_t i = 0; i < r->nrows; i++) {
+        const int64_t base = i * r->src_step;
+        float *y = r->y + i * r->q;
+        for (int64_t j = 0; j < r->q; j += 16) {
+            __m512 acc = b;
+            if (w9) {
+                for (int t = 0; t < 9; t++)
+                    acc = _mm512_fmadd_ps(wr[t], _mm512_loadu_ps(r->src[t] + base + j), acc);
+            } else {
+                for (int t = 0; t < r->ntap; t++)
+                    acc = _mm512_fmadd_ps(_mm512_set1_ps(r->w[t]),
+                                          _mm512_loadu_ps(r->src[t] + base + j), acc);
+            }
+            _mm512_mask_storeu_ps(y + j, dw_first(r->q - j), acc);
+        }
+    }
+}
+
 void cpa_dw_row_avx512(const cpa_dw_row *r) {
-    if (r->ntap == 9)
+    if (r->q >= DW_WIDE) {
+        if (r->ntap == 9)
+            dw_wide(r, 1);
+        else
+            dw_wide(r, 0);
+    } else if (r->ntap == 9) {
         dw_rows(r, 1);
-    else
+    } else {
         dw_rows(r, 0);
+    }
 }
 
 /* Input row xr (w floats) deinterleaved: even columns to e, odd ones to o. */
