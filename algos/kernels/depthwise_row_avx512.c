@@ -146,7 +146,13 @@ static void dw_split2(const float *xr, int64_t w, float *e, float *o) {
     const __m512i ie = _mm512_setr_epi32(0, 2, 4, 6, 8, 10, 12, 14, 16, 18, 20, 22, 24, 26, 28, 30);
     const __m512i io = _mm512_setr_epi32(1, 3, 5, 7, 9, 11, 13, 15, 17, 19, 21, 23, 25, 27, 29, 31);
     const int64_t ne = (w + 1) / 2, no = w / 2;
-    for (int64_t k = 0; k < ne; k += 16) {
+    int64_t k = 0;
+    for (; 2 * k + 32 <= w; k += 16) { /* whole vectors: plain loads and stores */
+        const __m512 a = _mm512_loadu_ps(xr + 2 * k), b = _mm512_loadu_ps(xr + 2 * k + 16);
+        _mm512_storeu_ps(e + k, _mm512_permutex2var_ps(a, ie, b));
+        _mm512_storeu_ps(o + k, _mm512_permutex2var_ps(a, io, b));
+    }
+    for (; k < ne; k += 16) {
         const __m512 a = _mm512_maskz_loadu_ps(dw_first(w - 2 * k), xr + 2 * k);
         const __m512 b = _mm512_maskz_loadu_ps(dw_first(w - 2 * k - 16), xr + 2 * k + 16);
         _mm512_mask_storeu_ps(e + k, dw_first(ne - k), _mm512_permutex2var_ps(a, ie, b));
@@ -159,22 +165,30 @@ void cpa_dw_fill_avx512(const cpa_dw_fill *f) {
         cpa_dw_fill_ref(f);
         return;
     }
+    /* padded row u = ih + pt: phase u mod sh, row u div sh, stepped without
+     * a division per row (one costs as much as copying a short row) */
+    int64_t ph = f->pt % f->sh, pr = f->pt / f->sh;
+    /* input column 2k + e is padded column 2k + e + pl: phase (e + pl) mod 2,
+     * column k + (e + pl) div 2 */
+    const int64_t pe = f->pl % 2, po = (f->pl + 1) % 2;
+    const int64_t ce = pe * f->plane + f->pl / 2, co = po * f->plane + (f->pl + 1) / 2;
     for (int64_t ih = 0; ih < f->h; ih++) {
-        const int64_t u = ih + f->pt;
-        float *row = f->buf + (u % f->sh) * f->sw * f->plane + (u / f->sh) * f->ld;
+        float *row = f->buf + ph * f->sw * f->plane + pr * f->ld;
         const float *xr = f->x + ih * f->w;
         if (f->sw == 1) {
             float *d = row + f->pl;
-            for (int64_t k = 0; k < f->w; k += 16) {
+            int64_t k = 0;
+            for (; k + 16 <= f->w; k += 16) _mm512_storeu_ps(d + k, _mm512_loadu_ps(xr + k));
+            for (; k < f->w; k += 16) {
                 const __mmask16 m = dw_first(f->w - k);
                 _mm512_mask_storeu_ps(d + k, m, _mm512_maskz_loadu_ps(m, xr + k));
             }
         } else {
-            /* input column 2k + e is padded column v = 2k + e + pl: phase
-             * (e + pl) mod 2, column k + (e + pl) div 2 */
-            const int64_t pe = f->pl % 2, po = (f->pl + 1) % 2;
-            dw_split2(xr, f->w, row + pe * f->plane + f->pl / 2,
-                      row + po * f->plane + (f->pl + 1) / 2);
+            dw_split2(xr, f->w, row + ce, row + co);
+        }
+        if (++ph == f->sh) {
+            ph = 0;
+            pr++;
         }
     }
 }

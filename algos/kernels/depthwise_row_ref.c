@@ -13,18 +13,26 @@ void cpa_dw_row_ref(const cpa_dw_row *r) {
 }
 
 void cpa_dw_fill_ref(const cpa_dw_fill *f) {
+    int64_t ph = f->pt % f->sh, pr = f->pt / f->sh; /* of padded row ih + pt, stepped */
     for (int64_t ih = 0; ih < f->h; ih++) {
-        const int64_t u = ih + f->pt;
-        float *row = f->buf + (u % f->sh) * f->sw * f->plane + (u / f->sh) * f->ld;
+        float *row = f->buf + ph * f->sw * f->plane + pr * f->ld;
         const float *xr = f->x + ih * f->w;
+        if (++ph == f->sh) {
+            ph = 0;
+            pr++;
+        }
         if (f->sw == 1) { /* a plain copy the compiler vectorises */
             float *d = row + f->pl;
             for (int64_t iw = 0; iw < f->w; iw++) d[iw] = xr[iw];
             continue;
         }
+        int64_t pc = f->pl % f->sw, col = f->pl / f->sw; /* of padded column iw + pl */
         for (int64_t iw = 0; iw < f->w; iw++) {
-            const int64_t v = iw + f->pl;
-            row[(v % f->sw) * f->plane + v / f->sw] = xr[iw];
+            row[pc * f->plane + col] = xr[iw];
+            if (++pc == f->sw) {
+                pc = 0;
+                col++;
+            }
         }
     }
 }
