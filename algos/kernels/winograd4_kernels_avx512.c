@@ -13,15 +13,16 @@
  * applies B^T lane-wise and stores each of the six rows of V contiguously;
  * out_tiles loads the 36 M vectors of 16 tiles (contiguous per point),
  * applies A^T on both sides lane-wise and interleaves each output row's four
- * columns back with eight permutes.  Remainders (< 16 tiles) go through the
- * template. */
+ * columns back with eight permutes.  A block of fewer than 16 tiles (a tile
+ * row is usually one: 7 or 14 tiles) runs the same code with masked loads
+ * and stores. */
 #include <immintrin.h>
 
 #include "algos/kernels/winograd4_kernels.h"
 
 #define CPA_WINO4_K(name) wino4_zmm_##name
 #define CPA_WINO4_SET wino4_zmm_template
-#define CPA_WINO4_STORAGE static
+#define CPA_WINO4_STORAGE static __attribute__((unused)) /* only in_rows is used */
 #include "algos/kernels/winograd4_kernels_body.h"
 
 /* t0..t5 = B^T (d0..d5), lane-wise (the rows of B^T in the file header). */
@@ -50,68 +51,91 @@ static inline void wino4_at_zmm(const __m512 m[6], __m512 y[4]) {
     y[3] = _mm512_add_ps(_mm512_fmadd_ps(_mm512_set1_ps(8.0f), s, q), m[5]);
 }
 
-static void wino4_avx512_in_cols(const float *restrict r, float *restrict v, int64_t vs,
-                                 int64_t nt) {
+/* Lanes [0, n), n clamped to [0, 16], branch free. */
+static inline __mmask16 wino4_first(int64_t n) {
+    const int64_t lo = n < 0 ? 0 : n;
+    return (__mmask16)((1u << (unsigned)(lo > 16 ? 16 : lo)) - 1u);
+}
+
+/* V for tiles [0, n) of r (n <= 16): the row holds 4 n + 2 readable floats. */
+static inline void wino4_in16(const float *restrict e, float *restrict v, int64_t vs, int64_t n) {
     const __m512i ev = _mm512_setr_epi32(0, 2, 4, 6, 8, 10, 12, 14, 16, 18, 20, 22, 24, 26, 28, 30);
     const __m512i od = _mm512_setr_epi32(1, 3, 5, 7, 9, 11, 13, 15, 17, 19, 21, 23, 25, 27, 29, 31);
-    int64_t t = 0;
-    for (; t + 16 <= nt; t += 16) {
-        const float *e = r + 4 * t; /* reads e[0 .. 65]: within the 4 nt + 2 of the row */
-        const __m512 a = _mm512_loadu_ps(e), b = _mm512_loadu_ps(e + 16);
-        const __m512 c = _mm512_loadu_ps(e + 32), d = _mm512_loadu_ps(e + 48);
-        const __m512 abe = _mm512_permutex2var_ps(a, ev, b), abo = _mm512_permutex2var_ps(a, od, b);
-        const __m512 cde = _mm512_permutex2var_ps(c, ev, d), cdo = _mm512_permutex2var_ps(c, od, d);
-        const __m512 d0 = _mm512_permutex2var_ps(abe, ev, cde); /* column 0 of tiles t..t+15 */
-        const __m512 d2 = _mm512_permutex2var_ps(abe, od, cde);
-        const __m512 d1 = _mm512_permutex2var_ps(abo, ev, cdo);
-        const __m512 d3 = _mm512_permutex2var_ps(abo, od, cdo);
-        /* column 4 of tile t is column 0 of tile t+1 (lane 15: e[64]); 5 likewise */
-        const __m512 d4 = _mm512_castsi512_ps(_mm512_alignr_epi32(
-            _mm512_castps_si512(_mm512_set1_ps(e[64])), _mm512_castps_si512(d0), 1));
-        const __m512 d5 = _mm512_castsi512_ps(_mm512_alignr_epi32(
-            _mm512_castps_si512(_mm512_set1_ps(e[65])), _mm512_castps_si512(d1), 1));
-        __m512 o[6];
-        WINO4_BT_ZMM(d0, d1, d2, d3, d4, d5, o);
-        for (int j = 0; j < 6; j++) _mm512_storeu_ps(v + j * vs + t, o[j]);
+    const int64_t len = 4 * n + 2;
+    const __m512 a = _mm512_maskz_loadu_ps(wino4_first(len), e);
+    const __m512 b = _mm512_maskz_loadu_ps(wino4_first(len - 16), e + 16);
+    const __m512 c = _mm512_maskz_loadu_ps(wino4_first(len - 32), e + 32);
+    const __m512 d = _mm512_maskz_loadu_ps(wino4_first(len - 48), e + 48);
+    const __m512 abe = _mm512_permutex2var_ps(a, ev, b), abo = _mm512_permutex2var_ps(a, od, b);
+    const __m512 cde = _mm512_permutex2var_ps(c, ev, d), cdo = _mm512_permutex2var_ps(c, od, d);
+    const __m512 d0 = _mm512_permutex2var_ps(abe, ev, cde); /* column 0 of the tiles */
+    const __m512 d2 = _mm512_permutex2var_ps(abe, od, cde);
+    const __m512 d1 = _mm512_permutex2var_ps(abo, ev, cdo);
+    const __m512 d3 = _mm512_permutex2var_ps(abo, od, cdo);
+    /* column 4 of tile t is column 0 of tile t+1; lane 15 needs e[64] (only
+     * when n == 16: otherwise lane n of d0 already holds e[4n]); 5 likewise */
+    const __m512 e64 = _mm512_maskz_loadu_ps(wino4_first(len - 64), e + 64);
+    const __m512 d4 = _mm512_castsi512_ps(_mm512_alignr_epi32(
+        _mm512_castps_si512(e64), _mm512_castps_si512(d0), 1));
+    const __m512 d5 = _mm512_castsi512_ps(_mm512_alignr_epi32(
+        _mm512_castps_si512(_mm512_permutexvar_ps(_mm512_set1_epi32(1), e64)),
+        _mm512_castps_si512(d1), 1));
+    __m512 o[6];
+    WINO4_BT_ZMM(d0, d1, d2, d3, d4, d5, o);
+    const __mmask16 keep = wino4_first(n);
+    for (int j = 0; j < 6; j++) _mm512_mask_storeu_ps(v + j * vs, keep, o[j]);
+}
+
+/* Segments are one tile row (7 or 14 tiles on ResNet-50's 28x28 and 56x56
+ * layers), so the partial block is the common case: masked, not a tail loop. */
+static void wino4_avx512_in_cols(const float *restrict r, float *restrict v, int64_t vs,
+                                 int64_t nt) {
+    for (int64_t t = 0; t < nt; t += 16)
+        wino4_in16(r + 4 * t, v + t, vs, nt - t < 16 ? nt - t : 16);
+}
+
+/* Y for tiles [0, n) (n <= 16). */
+static inline void wino4_out16(const float *restrict m, int64_t ms, __m512 b, float *restrict o,
+                               int64_t ldo, int64_t n) {
+    const __m512i lo = _mm512_setr_epi32(0, 16, 1, 17, 2, 18, 3, 19, 4, 20, 5, 21, 6, 22, 7, 23);
+    const __m512i hi =
+        _mm512_setr_epi32(8, 24, 9, 25, 10, 26, 11, 27, 12, 28, 13, 29, 14, 30, 15, 31);
+    const __mmask16 keep = wino4_first(n);
+    __m512 u[6][4]; /* (M A) row by row: u[i][c], lanes = tiles */
+    for (int i = 0; i < 6; i++) {
+        __m512 row[6];
+        for (int j = 0; j < 6; j++) row[j] = _mm512_maskz_loadu_ps(keep, m + (6 * i + j) * ms);
+        wino4_at_zmm(row, u[i]);
     }
-    if (t < nt) wino4_zmm_template.in_cols(r + 4 * t, v + t, vs, nt - t);
+    __m512 y[4][4]; /* y[rr][c] = (A^T M A)[rr][c] + bias */
+    for (int c = 0; c < 4; c++) {
+        const __m512 col[6] = {u[0][c], u[1][c], u[2][c], u[3][c], u[4][c], u[5][c]};
+        __m512 a[4];
+        wino4_at_zmm(col, a);
+        for (int rr = 0; rr < 4; rr++) y[rr][c] = _mm512_add_ps(a[rr], b);
+    }
+    for (int rr = 0; rr < 4; rr++) { /* interleave columns 0..3 back, 4 floats a tile */
+        const __m512 x02l = _mm512_permutex2var_ps(y[rr][0], lo, y[rr][2]);
+        const __m512 x02h = _mm512_permutex2var_ps(y[rr][0], hi, y[rr][2]);
+        const __m512 x13l = _mm512_permutex2var_ps(y[rr][1], lo, y[rr][3]);
+        const __m512 x13h = _mm512_permutex2var_ps(y[rr][1], hi, y[rr][3]);
+        float *orow = o + rr * ldo;
+        const int64_t len = 4 * n;
+        _mm512_mask_storeu_ps(orow, wino4_first(len), _mm512_permutex2var_ps(x02l, lo, x13l));
+        _mm512_mask_storeu_ps(orow + 16, wino4_first(len - 16),
+                              _mm512_permutex2var_ps(x02l, hi, x13l));
+        _mm512_mask_storeu_ps(orow + 32, wino4_first(len - 32),
+                              _mm512_permutex2var_ps(x02h, lo, x13h));
+        _mm512_mask_storeu_ps(orow + 48, wino4_first(len - 48),
+                              _mm512_permutex2var_ps(x02h, hi, x13h));
+    }
 }
 
 static void wino4_avx512_out_tiles(const float *restrict m, int64_t ms, float bias,
                                    float *restrict o, int64_t ldo, int64_t nt) {
-    const __m512i lo = _mm512_setr_epi32(0, 16, 1, 17, 2, 18, 3, 19, 4, 20, 5, 21, 6, 22, 7, 23);
-    const __m512i hi =
-        _mm512_setr_epi32(8, 24, 9, 25, 10, 26, 11, 27, 12, 28, 13, 29, 14, 30, 15, 31);
     const __m512 b = _mm512_set1_ps(bias);
-    int64_t t = 0;
-    for (; t + 16 <= nt; t += 16) {
-        __m512 u[6][4]; /* (M A) row by row: u[i][c], lanes = tiles */
-        for (int i = 0; i < 6; i++) {
-            __m512 row[6];
-            for (int j = 0; j < 6; j++) row[j] = _mm512_loadu_ps(m + (6 * i + j) * ms + t);
-            wino4_at_zmm(row, u[i]);
-        }
-        __m512 y[4][4]; /* y[rr][c] = (A^T M A)[rr][c] + bias */
-        for (int c = 0; c < 4; c++) {
-            const __m512 col[6] = {u[0][c], u[1][c], u[2][c], u[3][c], u[4][c], u[5][c]};
-            __m512 a[4];
-            wino4_at_zmm(col, a);
-            for (int rr = 0; rr < 4; rr++) y[rr][c] = _mm512_add_ps(a[rr], b);
-        }
-        for (int rr = 0; rr < 4; rr++) { /* output row rr of the 16 tiles */
-            /* interleave columns 0..3 back into 4 floats per tile */
-            const __m512 x02l = _mm512_permutex2var_ps(y[rr][0], lo, y[rr][2]);
-            const __m512 x02h = _mm512_permutex2var_ps(y[rr][0], hi, y[rr][2]);
-            const __m512 x13l = _mm512_permutex2var_ps(y[rr][1], lo, y[rr][3]);
-            const __m512 x13h = _mm512_permutex2var_ps(y[rr][1], hi, y[rr][3]);
-            float *orow = o + rr * ldo + 4 * t;
-            _mm512_storeu_ps(orow, _mm512_permutex2var_ps(x02l, lo, x13l));
-            _mm512_storeu_ps(orow + 16, _mm512_permutex2var_ps(x02l, hi, x13l));
-            _mm512_storeu_ps(orow + 32, _mm512_permutex2var_ps(x02h, lo, x13h));
-            _mm512_storeu_ps(orow + 48, _mm512_permutex2var_ps(x02h, hi, x13h));
-        }
-    }
-    if (t < nt) wino4_zmm_template.out_tiles(m + t, ms, bias, o + 4 * t, ldo, nt - t);
+    for (int64_t t = 0; t < nt; t += 16)
+        wino4_out16(m + t, ms, b, o + 4 * t, ldo, nt - t < 16 ? nt - t : 16);
 }
 
 const cpa_wino4_kernels cpa_wino4_kernels_avx512 = {
