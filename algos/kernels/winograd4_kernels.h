@@ -26,9 +26,9 @@ typedef struct cpa_wino4_kernels {
 
 extern const cpa_wino4_kernels cpa_wino4_kernels_ref;
 extern const cpa_wino4_kernels cpa_wino4_kernels_avx2;
-/* AVX-512F: in_cols and out_tiles written with intrinsics over 16 tiles at a
- * time (4-way deinterleave / interleave by permutes), in_rows the template
- * compiled for 512-bit vectors; tails through the template. */
+/* AVX-512F, written with intrinsics: in_rows 16 columns a step, in_cols and
+ * out_tiles 16 tiles a step (4-way deinterleave / interleave by permutes),
+ * partial blocks masked. */
 extern const cpa_wino4_kernels cpa_wino4_kernels_avx512;
 
 /* The set for a CPA_ISA_* request (kernels/blocked_tile.h), resolved by

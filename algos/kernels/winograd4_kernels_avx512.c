@@ -2,11 +2,11 @@
  * winograd4_kernels.h; compiled with AVX-512F by the *_avx512.c rule, used
  * only after cpa_wino4_kernels_select saw the CPU and OS have it).
  *
- * in_rows is the template (winograd4_kernels_body.h) compiled for 512-bit
- * vectors: contiguous, the compiler vectorises it.  The template's in_cols
- * and out_tiles do not vectorise well -- a tile's six input columns are
- * stride-4 reads and its 4x4 outputs stride-4 writes -- and took most of the
- * algorithm's time beside the GEMMs.  Here they run over 16 tiles at a time:
+ * The template's loops (winograd4_kernels_body.h) do not vectorise well --
+ * in_rows stays scalar, a tile's six input columns are stride-4 reads and
+ * its 4x4 outputs stride-4 writes -- and took most of the algorithm's time
+ * beside the GEMMs.  Here in_rows runs 16 columns a step, and in_cols and
+ * out_tiles run over 16 tiles at a time:
  * in_cols loads the 64 floats of 16 tiles as four vectors and deinterleaves
  * them with eight permutes into the vectors of columns 0..3 of the 16 tiles
  * (columns 4 and 5 are columns 0 and 1 shifted by one tile, one align each),
@@ -20,10 +20,6 @@
 
 #include "algos/kernels/winograd4_kernels.h"
 
-#define CPA_WINO4_K(name) wino4_zmm_##name
-#define CPA_WINO4_SET wino4_zmm_template
-#define CPA_WINO4_STORAGE static __attribute__((unused)) /* only in_rows is used */
-#include "algos/kernels/winograd4_kernels_body.h"
 
 /* t0..t5 = B^T (d0..d5), lane-wise (the rows of B^T in the file header). */
 #define WINO4_BT_ZMM(d0, d1, d2, d3, d4, d5, t)                                      \
@@ -86,6 +82,23 @@ static inline void wino4_in16(const float *restrict e, float *restrict v, int64_
     for (int j = 0; j < 6; j++) _mm512_mask_storeu_ps(v + j * vs, keep, o[j]);
 }
 
+/* B^T on six rows of len floats, in place, 16 columns a step (the template's
+ * loop stays scalar: the compiler does not vectorise it). */
+static void wino4_avx512_in_rows(float *restrict r, int64_t len) {
+    for (int64_t u = 0; u < len; u += 16) {
+        const __mmask16 k = wino4_first(len - u);
+        float *c = r + u;
+        const __m512 d0 = _mm512_maskz_loadu_ps(k, c), d1 = _mm512_maskz_loadu_ps(k, c + len);
+        const __m512 d2 = _mm512_maskz_loadu_ps(k, c + 2 * len);
+        const __m512 d3 = _mm512_maskz_loadu_ps(k, c + 3 * len);
+        const __m512 d4 = _mm512_maskz_loadu_ps(k, c + 4 * len);
+        const __m512 d5 = _mm512_maskz_loadu_ps(k, c + 5 * len);
+        __m512 t[6];
+        WINO4_BT_ZMM(d0, d1, d2, d3, d4, d5, t);
+        for (int i = 0; i < 6; i++) _mm512_mask_storeu_ps(c + i * len, k, t[i]);
+    }
+}
+
 /* Segments are one tile row (7 or 14 tiles on ResNet-50's 28x28 and 56x56
  * layers), so the partial block is the common case: masked, not a tail loop. */
 static void wino4_avx512_in_cols(const float *restrict r, float *restrict v, int64_t vs,
@@ -139,7 +152,7 @@ static void wino4_avx512_out_tiles(const float *restrict m, int64_t ms, float bi
 }
 
 const cpa_wino4_kernels cpa_wino4_kernels_avx512 = {
-    wino4_zmm_in_rows, /* the template's, vectorised by the compiler */
+    wino4_avx512_in_rows,
     wino4_avx512_in_cols,
     wino4_avx512_out_tiles,
 };

@@ -152,6 +152,7 @@ static void test_params_vs_oracle(void **state) {
 }
 
 /* Each ISA build of the transforms against the portable build on 1..40 tiles
+ * (in_rows on the 4 nt + 2 columns of as many tiles)
  * (every 16-tile block and tail): small-integer data keep every sum and
  * product of B^T and A^T (entries 0, +-1, 2, 4, 5, 8) exact in float32, so
  * the builds must agree bit for bit whatever the order and fusing (common
@@ -168,6 +169,14 @@ static void test_builds_match_portable(void **state) {
         if (levels[li] < CPA_ISA_AVX2 || !level_runs(levels[li])) continue;
         const cpa_wino4_kernels *k = cpa_wino4_kernels_select(levels[li]);
         for (int64_t nt = 1; nt <= MAXT; nt++) {
+            float r0[6 * LEN], r1[6 * LEN]; /* in_rows on six rows of 4 nt + 2 */
+            const int64_t len = 4 * nt + 2;
+            for (int i = 0; i < 6 * LEN; i++) r0[i] = r1[i] = (float)((i * 3) % 7 - 3);
+            ref->in_rows(r0, len);
+            k->in_rows(r1, len);
+            if (memcmp(r0, r1, sizeof r0) != 0)
+                fail_msg("level %lld in_rows, %lld columns: differs from portable",
+                         (long long)levels[li], (long long)len);
             for (int i = 0; i < 36 * VS; i++) v0[i] = v1[i] = -1.5f;
             ref->in_cols(rows, v0, VS, nt);
             k->in_cols(rows, v1, VS, nt);
