@@ -33,7 +33,7 @@
 #include "algos/kernels/depthwise_row.h"
 
 enum { DW_KERNELS = 0, DW_NPARAMS };
-enum { DW_MAX_TAPS = 256 };
+enum { DW_MAX_TAPS = 256, DW_BAND = 16 };
 
 static const cp_param_desc dw_params[DW_NPARAMS] = {
     {"kernels", "row and fill kernels: 0 = the widest the CPU has (AVX-512, AVX2+FMA, "
@@ -118,16 +118,36 @@ static void dw_task(void *arg, int64_t begin, int64_t end, int worker) {
     cpa_dw_fill fill = {.h = s->h, .w = s->w, .sh = sh, .sw = sw, .pt = s->pad_top,
                         .pl = s->pad_left, .ld = j->g.ld, .plane = j->g.plane, .buf = buf};
     cpa_dw_row row = {.q = Q, .nrows = P, .src_step = j->g.ld, .ntap = (int)(R * S), .src = src};
+    /* Bands of DW_BAND output rows: each band's input rows are copied just
+     * before the band is computed, so the row kernel finds them in L1 (a
+     * whole 112x112 copy, 51 KiB, would not stay there). */
+    const float *src0[DW_MAX_TAPS];
+    memcpy(src0, src, (size_t)(R * S) * sizeof *src);
     for (int64_t ng = begin; ng < end; ng++) { /* (image, input channel) */
         const int64_t n = ng / s->groups, g = ng % s->groups;
-        fill.x = a->x + ng * s->h * s->w;
-        j->kn.fill(&fill);
-        for (int64_t m = 0; m < mult; m++) {
-            const int64_t k = g * mult + m;
-            row.w = w + k * R * S;
-            row.bias = a->bias ? a->bias[k] : 0.0f;
-            row.y = a->y + (n * s->k + k) * P * Q;
-            j->kn.row(&row);
+        const float *xc = a->x + ng * s->h * s->w;
+        int64_t filled = 0; /* input rows copied so far */
+        for (int64_t p0 = 0; p0 < P; p0 += DW_BAND) {
+            const int64_t np = P - p0 < DW_BAND ? P - p0 : DW_BAND;
+            /* the band reads padded rows up to (p0 + np - 1) sh + (R - 1) dil_h */
+            int64_t need = (p0 + np - 1) * s->stride_h + (R - 1) * s->dil_h + 1 - s->pad_top;
+            if (need > s->h || p0 + np == P) need = s->h;
+            if (need > filled) {
+                fill.x = xc + filled * s->w;
+                fill.h = need - filled;
+                fill.pt = s->pad_top + filled;
+                j->kn.fill(&fill);
+                filled = need;
+            }
+            for (int64_t t = 0; t < R * S; t++) src[t] = src0[t] + p0 * j->g.ld;
+            row.nrows = np;
+            for (int64_t m = 0; m < mult; m++) {
+                const int64_t k = g * mult + m;
+                row.w = w + k * R * S;
+                row.bias = a->bias ? a->bias[k] : 0.0f;
+                row.y = a->y + (n * s->k + k) * P * Q + p0 * Q;
+                j->kn.row(&row);
+            }
         }
     }
 }
