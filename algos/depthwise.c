@@ -7,32 +7,38 @@
  * padding the shape rules allow, both kernel orientations.
  *
  * Per (image, input channel) -- the unit of parallel work over the pool --
- * the input plane is copied once into the worker's slice of the workspace,
- * zero-padded and split into stride_w phases (phase f of a row holds padded
- * columns f, f + stride_w, f + 2 stride_w, ...).  Tap (r, s) of output row p
- * then reads consecutive floats of padded row p*stride_h + r*dil_h, phase
- * (s*dil_w) mod stride_w, from offset (s*dil_w) div stride_w: one unit-stride
- * stream per tap for any stride and dilation, so the row kernel
- * (kernels/depthwise_row.h; AVX2 or portable, chosen at run time) is
- * vectorised along the output row with no branch per element.  The copy
- * stays in L1/L2 (a 112x112 plane is 51 KiB) and is reused by the K/C output
- * channels of the group and by all R taps of every row.
+ * the input plane is copied once into the worker's slice of the workspace as
+ * stride_h x stride_w "phase planes" (kernels/depthwise_row.h): padded element
+ * (u, v) goes to phase plane (u mod sh, v mod sw), row u div sh, column v div
+ * sw.  Tap (r, c) of output (p, j) then reads row p + r*dil_h div sh, column
+ * j + c*dil_w div sw of one phase plane: one unit-stride stream per tap for
+ * any stride and dilation, and consecutive output rows are consecutive rows
+ * of that stream, so the row kernel (portable, AVX2 or AVX-512, chosen at run
+ * time) runs along the output rows -- across row ends in the AVX-512 kernel --
+ * with no branch per element.  For stride 2 the copy is the even/odd
+ * deinterleave, done once per plane instead of a gather per tap.  The zero
+ * border is written once per worker call and survives every later copy (the
+ * fill writes the image's positions only).  A copy stays in L1/L2 (a 114x114
+ * padded plane is 51 KiB) and is reused by the K/C output channels of the
+ * group and by all R*S taps.
  *
  * Bytes it must move: the input and output once (4 (N C H W + N K P Q)) plus
  * the weights; work: 2 R S FLOPs per output.  At 9 taps that is about 2.25
- * FLOP per byte, so outside L2 the layer is bound by memory bandwidth, not by
- * the FMA units. */
+ * FLOP per byte, so once the tensors leave L2 the layer is bound by memory
+ * bandwidth, not by the FMA units. */
 #include <string.h>
 
 #include "algos/core/cpa.h"
+#include "algos/kernels/blocked_tile.h"
 #include "algos/kernels/depthwise_row.h"
 
 enum { DW_KERNELS = 0, DW_NPARAMS };
-enum { DW_MAX_TAPS = 256 };
+enum { DW_MAX_TAPS = 256, DW_BAND = 16 };
 
 static const cp_param_desc dw_params[DW_NPARAMS] = {
-    {"kernels", "row kernel: 0 = AVX2 when the CPU has AVX2+FMA, else portable; "
-                "1 = portable; default 0", 0, 1},
+    {"kernels", "row and fill kernels: 0 = the widest the CPU has (AVX-512, AVX2+FMA, "
+                "portable); 1 = portable; 2 = AVX2; 3 = AVX-512 (a level the CPU lacks runs "
+                "the widest below it); default 0", 0, 3},
 };
 
 static int dw_supports(const cp_shape *s, cp_flip flip, char *why, size_t cap) {
@@ -52,20 +58,23 @@ static void dw_defaults(const cp_shape *s, const cp_cache_sizes *caches, cp_para
     out->v[DW_KERNELS] = 0;
 }
 
-/* Geometry of the padded, phase-split copy of one input plane. */
+/* Geometry of the phase planes of one input plane (depthwise_row.h). */
 typedef struct {
-    int64_t rows;  /* H + pad_top + pad_bottom */
-    int64_t len;   /* floats of one phase of one row */
-    int64_t plane; /* floats of the whole copy, a multiple of 16 */
+    int64_t ld;    /* row length of a phase plane: ceil(Wp / stride_w) */
+    int64_t plane; /* floats of one phase plane: ceil(Hp / stride_h) rows */
+    int64_t total; /* floats of the copy: every phase plane plus the kernels' slack */
 } dw_geom;
 
+/* Slack: a tap's source starts at most one phase plane before the end of the
+ * planes plus ld (its row and column offsets are below the plane's rows and
+ * ld), and the kernels read nrows*ld + CPA_DW_PAD floats from it, nrows*ld
+ * + its row offset * ld being at most one plane. */
 static dw_geom dw_geometry(const cp_shape *s) {
     dw_geom g;
-    const int64_t Q = cp_shape_out_w(s);
-    const int64_t offmax = (s->s - 1) * s->dil_w / s->stride_w;
-    g.rows = s->h + s->pad_top + s->pad_bottom;
-    g.len = (Q + offmax + CPA_DW_PAD + 15) / 16 * 16;
-    g.plane = g.rows * s->stride_w * g.len;
+    const int64_t hp = s->h + s->pad_top + s->pad_bottom, wp = s->w + s->pad_left + s->pad_right;
+    g.ld = (wp + s->stride_w - 1) / s->stride_w;
+    g.plane = (hp + s->stride_h - 1) / s->stride_h * g.ld;
+    g.total = (s->stride_h * s->stride_w * g.plane + g.ld + CPA_DW_PAD + 15) / 16 * 16;
     return g;
 }
 
@@ -73,7 +82,7 @@ static size_t dw_workspace_size(const cp_shape *s, cp_flip flip, const cp_params
                                 int nthreads) {
     (void)flip; (void)p;
     if (nthreads < 1) nthreads = 1;
-    return cpa_align64((size_t)dw_geometry(s).plane * sizeof(float)) * (size_t)nthreads;
+    return cpa_align64((size_t)dw_geometry(s).total * sizeof(float)) * (size_t)nthreads;
 }
 
 static size_t dw_prepared_size(const cp_shape *s, cp_flip flip, const cp_params *p) {
@@ -81,51 +90,11 @@ static size_t dw_prepared_size(const cp_shape *s, cp_flip flip, const cp_params 
     return cpa_preflip_size(s, flip, 1);
 }
 
-/* Smallest j >= 0 with f + sw*j >= lo (lo may be negative). */
-static int64_t dw_first_at_least(int64_t lo, int64_t f, int64_t sw) {
-    const int64_t d = lo - f;
-    return d <= 0 ? 0 : (d + sw - 1) / sw;
-}
-
-/* Copies input plane xc into buf (layout in the file comment). */
-static void dw_fill(const cp_shape *s, const dw_geom *g, const float *xc, float *buf) {
-    const int64_t sw = s->stride_w, W = s->w;
-    for (int64_t i = 0; i < g->rows; i++) {
-        const int64_t ih = i - s->pad_top;
-        float *row = buf + i * sw * g->len;
-        if (ih < 0 || ih >= s->h) {
-            memset(row, 0, (size_t)(sw * g->len) * sizeof(float));
-            continue;
-        }
-        const float *xr = xc + ih * W;
-        for (int64_t f = 0; f < sw; f++) {
-            float *d = row + f * g->len;
-            /* padded column u = f + sw*j is input column u - pad_left */
-            int64_t lo = dw_first_at_least(s->pad_left, f, sw);
-            int64_t hi = dw_first_at_least(s->pad_left + W, f, sw);
-            if (lo > g->len) lo = g->len;
-            if (hi > g->len) hi = g->len;
-            if (hi < lo) hi = lo;
-            memset(d, 0, (size_t)lo * sizeof(float));
-            if (hi > lo) {
-                const float *src = xr + (f + sw * lo - s->pad_left);
-                if (sw == 1)
-                    memcpy(d + lo, src, (size_t)(hi - lo) * sizeof(float));
-                else if (sw == 2) /* the common strided case, a constant stride */
-                    for (int64_t j = lo; j < hi; j++) d[j] = src[2 * (j - lo)];
-                else
-                    for (int64_t j = lo; j < hi; j++) d[j] = src[(j - lo) * sw];
-            }
-            memset(d + hi, 0, (size_t)(g->len - hi) * sizeof(float));
-        }
-    }
-}
-
 typedef struct {
     const cp_run_args *a;
     dw_geom g;
     size_t slice; /* floats of one worker's copy */
-    cpa_dw_row_fn row;
+    cpa_dw_kernels kn;
 } dw_job;
 
 static void dw_task(void *arg, int64_t begin, int64_t end, int worker) {
@@ -133,42 +102,71 @@ static void dw_task(void *arg, int64_t begin, int64_t end, int worker) {
     const cp_run_args *a = j->a;
     const cp_shape *s = a->shape;
     const int64_t P = cp_shape_out_h(s), Q = cp_shape_out_w(s);
-    const int64_t R = s->r, S = s->s, sw = s->stride_w, mult = s->k / s->groups;
+    const int64_t R = s->r, S = s->s, sh = s->stride_h, sw = s->stride_w, mult = s->k / s->groups;
     float *buf = (float *)a->workspace + (size_t)worker * j->slice;
     const float *w = a->weights;
-    /* Tap (r, c) of output row 0 reads padded row r*dil_h, phase u mod sw,
-     * from u div sw (u = c*dil_w); row p adds p*stride_h padded rows. */
+    /* Tap (r, c) reads phase plane (r*dil_h mod sh, c*dil_w mod sw) from row
+     * r*dil_h div sh, column c*dil_w div sw. */
     const float *src[DW_MAX_TAPS];
     for (int64_t r = 0; r < R; r++)
         for (int64_t c = 0; c < S; c++) {
-            const int64_t u = c * s->dil_w;
-            src[r * S + c] = buf + (r * s->dil_h * sw + u % sw) * j->g.len + u / sw;
+            const int64_t uh = r * s->dil_h, uw = c * s->dil_w;
+            src[r * S + c] = buf + ((uh % sh) * sw + uw % sw) * j->g.plane + (uh / sh) * j->g.ld +
+                             uw / sw;
         }
-    cpa_dw_row row = {.q = Q, .nrows = P, .src_step = s->stride_h * sw * j->g.len,
-                      .ntap = (int)(R * S), .src = src};
+    memset(buf, 0, (size_t)j->g.total * sizeof(float)); /* the border, once per call */
+    cpa_dw_fill fill = {.h = s->h, .w = s->w, .sh = sh, .sw = sw, .pt = s->pad_top,
+                        .pl = s->pad_left, .ld = j->g.ld, .plane = j->g.plane, .buf = buf};
+    cpa_dw_row row = {.q = Q, .nrows = P, .src_step = j->g.ld, .ntap = (int)(R * S), .src = src};
+    /* Bands of DW_BAND output rows: each band's input rows are copied just
+     * before the band is computed, so the row kernel finds them in L1 (a
+     * whole 112x112 copy, 51 KiB, would not stay there). */
+    const float *src0[DW_MAX_TAPS];
+    memcpy(src0, src, (size_t)(R * S) * sizeof *src);
     for (int64_t ng = begin; ng < end; ng++) { /* (image, input channel) */
         const int64_t n = ng / s->groups, g = ng % s->groups;
-        dw_fill(s, &j->g, a->x + ng * s->h * s->w, buf);
-        for (int64_t m = 0; m < mult; m++) {
-            const int64_t k = g * mult + m;
-            row.w = w + k * R * S;
-            row.bias = a->bias ? a->bias[k] : 0.0f;
-            row.y = a->y + (n * s->k + k) * P * Q;
-            j->row(&row);
+        const float *xc = a->x + ng * s->h * s->w;
+        int64_t filled = 0; /* input rows copied so far */
+        for (int64_t p0 = 0; p0 < P; p0 += DW_BAND) {
+            const int64_t np = P - p0 < DW_BAND ? P - p0 : DW_BAND;
+            /* the band reads padded rows up to (p0 + np - 1) sh + (R - 1) dil_h */
+            int64_t need = (p0 + np - 1) * s->stride_h + (R - 1) * s->dil_h + 1 - s->pad_top;
+            if (need > s->h || p0 + np == P) need = s->h;
+            if (need > filled) {
+                fill.x = xc + filled * s->w;
+                fill.h = need - filled;
+                fill.pt = s->pad_top + filled;
+                j->kn.fill(&fill);
+                filled = need;
+            }
+            for (int64_t t = 0; t < R * S; t++) src[t] = src0[t] + p0 * j->g.ld;
+            row.nrows = np;
+            for (int64_t m = 0; m < mult; m++) {
+                const int64_t k = g * mult + m;
+                row.w = w + k * R * S;
+                row.bias = a->bias ? a->bias[k] : 0.0f;
+                row.y = a->y + (n * s->k + k) * P * Q + p0 * Q;
+                j->kn.row(&row);
+            }
         }
     }
 }
 
 static cp_status dw_run(const cp_run_args *a) {
     dw_job j = {.a = a, .g = dw_geometry(a->shape)};
-    j.slice = cpa_align64((size_t)j.g.plane * sizeof(float)) / sizeof(float);
-    j.row = cpa_dw_row_select(a->params ? a->params->v[DW_KERNELS] : 0);
+    j.slice = cpa_align64((size_t)j.g.total * sizeof(float)) / sizeof(float);
+    j.kn = cpa_dw_kernels_select(a->params ? a->params->v[DW_KERNELS] : 0);
     cp_parallel_for(a->exec, a->shape->n * a->shape->groups, dw_task, &j);
     return CP_OK;
 }
 
+static const char *dw_isa(const cp_shape *s, const cp_params *p) {
+    (void)s;
+    return cpa_isa_name(cpa_dw_kernels_select(p ? p->v[DW_KERNELS] : 0).isa);
+}
+
 /* Tolerance: each output is the bias plus R*S products summed in a fixed
- * order (fused multiply-adds in the AVX2 kernel), so the error is that of
+ * order (fused multiply-adds in the AVX2 and AVX-512 kernels), so the error is that of
  * direct's sum over a single channel; the grid and SciPy suites measure at
  * most a few 1e-7 relative to sum |x||w| + |b|.  Direct's 1e-5 is kept, which
  * still catches a wrong tap (an error of order 1). */
@@ -185,4 +183,5 @@ const cp_algo cpa_depthwise = {
     .prepared_size = dw_prepared_size,
     .prepare = cpa_preflip_prepare,
     .run = dw_run,
+    .isa = dw_isa,
 };

@@ -10,7 +10,7 @@
  *          1/24 1/12 1/6; 1/24 -1/12 1/6; 0 0 1]
  *   A^T = [1 1 1 1 1 0; 0 1 -1 2 -2 0; 0 1 1 4 4 0; 0 1 -1 8 -8 1]
  * G is the table wino4_g below (applied by the driver); B^T and A^T in the transform loops of
- * kernels/winograd4_kernels_body.h (portable and AVX2, chosen at run time);
+ * kernels/winograd4_kernels_body.h (portable, AVX2 and AVX-512, chosen at run time);
  * tests/support/winograd_tile.c keeps all three as matrices for the tests.
  * Tiling, blocking, the GEMM stage, the parameters and partial edge tiles'
  * bookkeeping are the shared driver's (algos/core/wino_driver.h).  Any
@@ -29,9 +29,7 @@ static const double wino4_g[18] = {
 };
 
 static const void *wino4_select(int64_t kernels) {
-    /* AVX2 builds at the AVX2 and AVX-512 levels (no AVX-512 build of these yet). */
-    return cpa_isa_resolve(kernels) >= CPA_ISA_AVX2 ? cpa_wino4_kernels_select()
-                                                    : (const void *)&cpa_wino4_kernels_ref;
+    return cpa_wino4_kernels_select(kernels); /* CPA_ISA_* level, resolved for the CPU */
 }
 
 /* V = B^T d B: B^T on the six whole rows, then B on each tile's six columns. */

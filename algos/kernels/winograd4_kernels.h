@@ -1,7 +1,9 @@
 /* The transform loops of winograd_4x4_3x3 (F(4x4,3x3), alpha = 6), compiled
- * twice from one source (winograd4_kernels_body.h): portable
- * (winograd4_kernels_ref.c) and AVX2 + FMA (winograd4_kernels_avx2.c), one
- * chosen at run time by cpa_wino4_kernels_select().  Each loop runs over
+ * from one source (winograd4_kernels_body.h): portable
+ * (winograd4_kernels_ref.c), AVX2 + FMA (winograd4_kernels_avx2.c) and, with
+ * hand-vectorised column and output transforms, AVX-512
+ * (winograd4_kernels_avx512.c); one chosen at run time by
+ * cpa_wino4_kernels_select().  Each loop runs over
  * tiles (or input columns) innermost with no branches, which the compiler
  * vectorises.  Matrices: Lavin & Gray 2016, interpolation points 0, 1, -1, 2,
  * -2 and infinity (listed in algos/winograd_4x4_3x3.c). */
@@ -24,8 +26,13 @@ typedef struct cpa_wino4_kernels {
 
 extern const cpa_wino4_kernels cpa_wino4_kernels_ref;
 extern const cpa_wino4_kernels cpa_wino4_kernels_avx2;
+/* AVX-512F, written with intrinsics: in_rows 16 columns a step, in_cols and
+ * out_tiles 16 tiles a step (4-way deinterleave / interleave by permutes),
+ * partial blocks masked. */
+extern const cpa_wino4_kernels cpa_wino4_kernels_avx512;
 
-/* The AVX2 set when the CPU has AVX2 and FMA, else the portable one. */
-const cpa_wino4_kernels *cpa_wino4_kernels_select(void);
+/* The set for a CPA_ISA_* request (kernels/blocked_tile.h), resolved by
+ * cpa_isa_resolve: a level the CPU lacks runs the widest below it. */
+const cpa_wino4_kernels *cpa_wino4_kernels_select(int64_t isa);
 
 #endif

@@ -3,6 +3,7 @@
  * winograd4_kernels_avx2.c with
  *   CPA_WINO4_K(name)  the name of each function to define
  *   CPA_WINO4_SET      the name of the cpa_wino4_kernels table to define
+ *   CPA_WINO4_STORAGE  (optional) its storage class, e.g. static
  * B^T = [4 0 -5 0 1 0; 0 -4 -4 1 1 0; 0 4 -4 -1 1 0;
  *        0 -2 -1 2 1 0; 0 2 -1 -2 1 0; 0 4 0 -5 0 1]
  * A^T = [1 1 1 1 1 0; 0 1 -1 2 -2 0; 0 1 1 4 4 0; 0 1 -1 8 -8 1]
@@ -75,7 +76,10 @@ static void CPA_WINO4_K(out_tiles)(const float *restrict m, int64_t ms, float bi
 #undef CPA_WINO4_BT
 #undef CPA_WINO4_AT
 
-const cpa_wino4_kernels CPA_WINO4_SET = {
+#ifndef CPA_WINO4_STORAGE
+#define CPA_WINO4_STORAGE
+#endif
+CPA_WINO4_STORAGE const cpa_wino4_kernels CPA_WINO4_SET = {
     CPA_WINO4_K(in_rows),
     CPA_WINO4_K(in_cols),
     CPA_WINO4_K(out_tiles),

@@ -86,6 +86,11 @@ static void roofs_start(cph_bench_state *r) {
            "device roof every %%peak is against; bandwidth %.1f / %.1f GB/s\n",
            r->roofs.peak_1core_gflops, r->roofs.peak_all_gflops, r->roofs.cores_used,
            r->roofs.roof_bits, r->roofs.bw_1core_gbs, r->roofs.bw_all_gbs);
+    if (r->roofs.bw_l2_1core_gbs > 0)
+        printf("roofs: L2 bandwidth %.1f / %.1f GB/s, L3 %.1f / %.1f GB/s (1 core / %d cores; "
+               "triad on arrays sized for the level)\n",
+               r->roofs.bw_l2_1core_gbs, r->roofs.bw_l2_all_gbs, r->roofs.bw_l3_1core_gbs,
+               r->roofs.bw_l3_all_gbs, r->roofs.cores_used);
     for (int i = 1; i < r->roofs.nwidths; i++)
         printf("roofs: FMA peak %.1f GFLOP/s (1 core), %.1f GFLOP/s (%d cores) at %d bits (%s)\n",
                r->roofs.widths[i].peak_1core_gflops, r->roofs.widths[i].peak_all_gflops,

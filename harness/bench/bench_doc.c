@@ -99,7 +99,7 @@ static json_t *control_json(const cph_bench_state *r, const cph_bench_cfg *c, si
 static json_t *roofs_json(const cph_bench_state *r, int end) {
     if (end ? !r->have_roofs_end : !r->have_roofs) return json_null();
     const cph_roofs *f = end ? &r->roofs_end : &r->roofs;
-    return json_pack("{s:o, s:o, s:i, s:o, s:o, s:o, s:o, s:o, s:o, s:i, s:o}",
+    json_t *o = json_pack("{s:o, s:o, s:i, s:o, s:o, s:o, s:o, s:o, s:o, s:i, s:o}",
                      "peak_1core_gflops", cph_json_number(f->peak_1core_gflops),
                      "peak_all_gflops", cph_json_number(f->peak_all_gflops), "roof_bits",
                      f->roof_bits, "widths", cph_roofs_widths_json(f), "ratio_512_256",
@@ -109,6 +109,8 @@ static json_t *roofs_json(const cph_bench_state *r, int end) {
                      cph_json_number(f->ridge_1core), "ridge_all", cph_json_number(f->ridge_all),
                      "cores_used", f->cores_used, "budget_seconds",
                      json_real(CPH_BENCH_ROOF_SECONDS));
+    if (o) cph_roofs_levels_json(f, o);
+    return o;
 }
 
 json_t *cph_bench_document(const cph_bench_state *r, const cph_bench_cfg *c, int argc, char **argv,

@@ -6,6 +6,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "harness/bench/bench_roof.h"
 #include "harness/bench/bench_state.h"
 #include "harness/cli/cli.h"
 #include "harness/io/report_json.h"
@@ -82,8 +83,25 @@ void cph_bench_report_trials(cph_bench_state *r, cph_bench_trow *w, const double
              w->shown[0] ? w->shown : "-", s.median * 1e3, s.ci_lo * 1e3, s.ci_hi * 1e3,
              100.0 * s.rel_ci, n, gflops, pk, w->isa, s.noisy ? "noisy" : "");
     print_row(r, x, line);
+    cph_layer_roof lr;
+    const int roofed = r->have_roofs && strcmp(x->algo, "depthwise") == 0 &&
+                       cph_layer_roof_of(&r->roofs, &r->caches, &x->L->shape, x->threads, &lr);
+    if (roofed) /* the roof that bounds it, besides the FMA peak */
+        printf("%*s  roof: %.2f MB moved at least, in %s at %.1f GB/s: %.4f ms; FMA peak: "
+               "%.4f ms; bound by %s; %.1f %% of the %s roof, %.1f %% of the FMA peak\n",
+               r->name_w, "", lr.bytes * 1e-6, lr.level, lr.gbs, lr.mem_s * 1e3, lr.fma_s * 1e3,
+               strcmp(lr.bound, "FMA") == 0 ? "the FMA peak" : lr.level,
+               100.0 * (lr.mem_s > lr.fma_s ? lr.mem_s : lr.fma_s) / s->median,
+               strcmp(lr.bound, "FMA") == 0 ? "FMA" : lr.level, 100.0 * lr.fma_s / s->median);
     if (r->results) {
         json_t *res = cph_bench_row_json(x, "ok");
+        if (res && roofed)
+            json_object_set_new(
+                res, "layer_roof",
+                json_pack("{s:f, s:s, s:f, s:f, s:f, s:s, s:f}", "bytes", lr.bytes, "level",
+                          lr.level, "gbs", lr.gbs, "memory_seconds", lr.mem_s, "fma_seconds",
+                          lr.fma_s, "bound", lr.bound, "fraction",
+                          (lr.mem_s > lr.fma_s ? lr.mem_s : lr.fma_s) / s->median));
         if (res) {
             json_object_set_new(res, "params", w->params ? w->params : json_object());
             w->params = NULL;

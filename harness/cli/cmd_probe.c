@@ -113,6 +113,11 @@ static void print_text(const cph_machine *m, const cph_roofs *r) {
            r->bw_all_gbs, r->cores_used, plural(r->cores_used, "core", "cores"));
     print_size(sz, sizeof sz, (double)r->triad_bytes);
     printf("%s arrays)\n", sz);
+    if (r->bw_l2_1core_gbs > 0)
+        printf("             L2 %.1f GB/s on 1 core, %.1f GB/s on %d %s; L3 %.1f / %.1f GB/s "
+               "(triad on arrays sized for the level)\n",
+               r->bw_l2_1core_gbs, r->bw_l2_all_gbs, r->cores_used,
+               plural(r->cores_used, "core", "cores"), r->bw_l3_1core_gbs, r->bw_l3_all_gbs);
     printf("ridge        %.2f FLOP/byte on 1 core, %.2f FLOP/byte on %d %s\n", r->ridge_1core,
            r->ridge_all, r->cores_used, plural(r->cores_used, "core", "cores"));
     printf("             measured in %.0f ms, threads %s\n", 1e3 * r->seconds_spent,

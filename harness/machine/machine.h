@@ -81,6 +81,13 @@ typedef struct cph_roofs {
     double peak_all_gflops;      /* the same on all physical cores */
     double bw_1core_gbs;         /* triad-style stream bandwidth, one core, GB/s (1e9) */
     double bw_all_gbs;           /* all physical cores */
+    /* The same triad on arrays that stay in each core's L2 (3 arrays of L2/6
+     * per core) and in L3 but not L2 (4x L2 per core, at most half of L3);
+     * 0 when the level is unknown or L3 is too small to hold such arrays.
+     * What bounds a layer whose tensors fit a cache (bench's roof line). */
+    double bw_l2_1core_gbs, bw_l2_all_gbs;
+    double bw_l3_1core_gbs, bw_l3_all_gbs;
+    size_t l2_triad_bytes, l3_triad_bytes; /* bytes of one array, one core */
     double ridge_1core;          /* FLOP/byte: peak / bandwidth */
     double ridge_all;
     int cores_used;
@@ -105,6 +112,8 @@ json_t *cph_machine_to_json(const cph_machine *m, const cph_roofs *roofs);
 /* The "roofs" object of probe's JSON and of bench results: the device roof,
  * every width, the 512/256 ratio, bandwidth and ridge (a new reference). */
 json_t *cph_roofs_json(const cph_roofs *r);
+/* Adds the L2 and L3 bandwidths (null when not measured) to roofs object o. */
+void cph_roofs_levels_json(const cph_roofs *r, json_t *o);
 /* The "widths" array alone (bench results embed it in their own roofs). */
 json_t *cph_roofs_widths_json(const cph_roofs *r);
 
@@ -118,6 +127,7 @@ json_t *cph_roofs_widths_json(const cph_roofs *r);
  * float arrays of at least 4x the last-level cache each, counted as STREAM
  * counts it: 12 bytes per element (read b, read c, write a), the
  * write-allocate read of a[] not counted (the bus carries about 4/3 of that).
+ * The L2 and L3 bandwidths run the same triad on arrays sized for that level.
  * All-core figures run one pinned worker per physical core through the pool.
  * CP_EINVAL for a synthetic machine (there is nothing to measure). */
 cp_status cph_roofs_measure(const cph_machine *m, double seconds, cph_roofs *out, char *msg,

@@ -65,6 +65,18 @@ json_t *cph_roofs_widths_json(const cph_roofs *r) {
     return a;
 }
 
+/* 0 (not measured) as null. */
+static json_t *gbs_or_null(double v) { return v > 0 ? json_real(v) : json_null(); }
+
+void cph_roofs_levels_json(const cph_roofs *r, json_t *o) {
+    json_object_set_new(o, "bw_l2_1core_gbs", gbs_or_null(r->bw_l2_1core_gbs));
+    json_object_set_new(o, "bw_l2_all_gbs", gbs_or_null(r->bw_l2_all_gbs));
+    json_object_set_new(o, "bw_l3_1core_gbs", gbs_or_null(r->bw_l3_1core_gbs));
+    json_object_set_new(o, "bw_l3_all_gbs", gbs_or_null(r->bw_l3_all_gbs));
+    json_object_set_new(o, "l2_triad_array_bytes", json_integer((json_int_t)r->l2_triad_bytes));
+    json_object_set_new(o, "l3_triad_array_bytes", json_integer((json_int_t)r->l3_triad_bytes));
+}
+
 json_t *cph_roofs_json(const cph_roofs *r) {
     json_t *o = json_pack("{s:f, s:f, s:i, s:o, s:o, s:f, s:f, s:f, s:f, s:i, s:b, s:b, s:I, s:s}",
                           "peak_1core_gflops", r->peak_1core_gflops, "peak_all_gflops",
@@ -77,6 +89,7 @@ json_t *cph_roofs_json(const cph_roofs *r) {
                           "triad_array_bytes", (json_int_t)r->triad_bytes, "bandwidth_counting",
                           "stream: 12 bytes/element, write-allocate not counted");
     if (o) json_object_set_new(o, "peak_basis", json_string("the widest width (roof_bits)"));
+    if (o) cph_roofs_levels_json(r, o);
     return o;
 }
 

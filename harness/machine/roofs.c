@@ -122,6 +122,17 @@ static double triad_gbs(const cp_exec *ex, triad_job *j, size_t n, double budget
     return 12.0 * (double)n / best * 1e-9;
 }
 
+/* Floats per array of the cache-level triads for one core (0: not measured):
+ * L2: the three arrays fill half of one core's L2; L3: they fill 4x L2, and
+ * all cores' arrays together at most half of L3. */
+static size_t triad_level_floats(const cph_machine *m, int level, int cores) {
+    const cp_cache_sizes cs = cph_machine_caches(m);
+    if (cs.l2 == 0) return 0;
+    size_t bytes = level == 2 ? cs.l2 / 6 : 4 * cs.l2 / 3;
+    if (level == 3 && (cs.l3 == 0 || 3 * bytes * (size_t)cores > cs.l3 / 2)) return 0;
+    return (bytes & ~(size_t)63) / sizeof(float);
+}
+
 static size_t triad_array_bytes(const cph_machine *m) {
     size_t bytes = 4 * cph_machine_llc_total(m);
     if (bytes < ((size_t)64 << 20)) bytes = (size_t)64 << 20;
@@ -192,6 +203,21 @@ cp_status cph_roofs_measure(const cph_machine *m, double seconds, cph_roofs *out
     cp_parallel_for(&all, (int64_t)n, triad_task, &tj); /* first touch */
     out->bw_1core_gbs = triad_gbs(&one, &tj, n, 0.3 * seconds);
     out->bw_all_gbs = triad_gbs(&all, &tj, n, 0.3 * seconds);
+    for (int level = 2; level <= 3; level++) { /* arrays inside the DRAM ones */
+        const size_t nl = triad_level_floats(m, level, cores);
+        if (nl == 0 || nl * (size_t)cores > n) continue;
+        const double one_gbs = triad_gbs(&one, &tj, nl, 0.1 * seconds);
+        const double all_gbs = triad_gbs(&all, &tj, nl * (size_t)cores, 0.1 * seconds);
+        if (level == 2) {
+            out->bw_l2_1core_gbs = one_gbs;
+            out->bw_l2_all_gbs = all_gbs;
+            out->l2_triad_bytes = nl * sizeof(float);
+        } else {
+            out->bw_l3_1core_gbs = one_gbs;
+            out->bw_l3_all_gbs = all_gbs;
+            out->l3_triad_bytes = nl * sizeof(float);
+        }
+    }
     out->ridge_1core = out->peak_1core_gflops / out->bw_1core_gbs;
     out->ridge_all = out->peak_all_gflops / out->bw_all_gbs;
 

@@ -1,14 +1,22 @@
 /* Tests of the depthwise algorithm beyond the generic suites (the oracle grid
  * in test_algos_grid.c and SciPy's per-channel correlate2d / convolve2d in
- * test_scipy.c already run it with its default, run-time chosen kernel).
+ * test_scipy.c already run it with its default, run-time chosen kernels).
+ * Built twice: every level the CPU has (portable, AVX2, AVX-512), and again as
+ * test_depthwise_avx512 with CPT_ISA_ONLY=3, which exits 77 on a CPU or OS
+ * without AVX-512 (a skip, never a pass).
  *
- *  - The portable row kernel through the whole algorithm (kernels=1) against
+ *  - Each level forced through the whole algorithm (kernels = level) against
  *    the fp64 oracle (convpick/oracle.h, itself checked against SciPy), both
- *    orientations, strides 1..3, dilation, asymmetric pads, batch 3.
- *  - The AVX2 row kernel against the portable one on every row length 1..70
- *    (every tail of the masked store): dyadic data make every product and
- *    partial sum exact in float32, so the two must agree bit for bit whatever
- *    the summation and fusing (common practice, no source).
+ *    orientations, on an awkward grid: 1x1 images, H and W below the kernel
+ *    with padding, odd sizes, strides 1..3, left pads of both parities under
+ *    stride 2, dilation, asymmetric pads, batch 3, a channel multiplier, the
+ *    MobileNet v1 geometry (112x112 stride 1 and 2, 7x7).
+ *  - Each ISA row kernel against the portable one on every row length 1..70
+ *    and row steps q .. q+3 (every tail, rows shorter than a vector, vectors
+ *    spanning several rows), and each ISA fill against the portable fill
+ *    (strides 1..3, left pads 0..2, widths 1..40): dyadic data make every
+ *    product and partial sum exact in float32, so the two must agree bit for
+ *    bit whatever the summation and fusing (common practice, no source).
  *  - What supports() claims and refuses. */
 #include <math.h>
 #include <setjmp.h>
@@ -21,6 +29,7 @@
 
 #include <cmocka.h>
 
+#include "algos/kernels/blocked_tile.h"
 #include "algos/kernels/depthwise_row.h"
 #include "convpick/algo.h"
 #include "convpick/oracle.h"
@@ -32,68 +41,142 @@ static const cp_algo *dw(void) {
     return a;
 }
 
-static void test_portable_vs_oracle(void **state) {
+#ifdef CPT_ISA_ONLY
+static const int64_t levels[] = {CPT_ISA_ONLY};
+#else
+static const int64_t levels[] = {CPA_ISA_PORTABLE, CPA_ISA_AVX2, CPA_ISA_AVX512};
+#endif
+#define NLEVELS (sizeof levels / sizeof levels[0])
+
+/* 1 when level really runs here (not resolved down to a narrower one). */
+static int level_runs(int64_t level) { return cpa_dw_kernels_select(level).isa == level; }
+
+static void test_levels_vs_oracle(void **state) {
     (void)state;
-    /* n c h w mult r s stride dil pads(t l b r) */
-    static const int64_t shapes[][13] = {
-        {1, 3, 29, 31, 1, 3, 3, 1, 1, 1, 1, 1, 1},
-        {3, 2, 16, 33, 2, 3, 3, 2, 1, 0, 1, 1, 0},
-        {1, 4, 19, 23, 1, 5, 5, 3, 1, 2, 2, 2, 2},
-        {1, 2, 21, 40, 1, 3, 3, 1, 2, 2, 2, 0, 1},
+    /* n c h w mult r s stride_h stride_w dil pads(t l b r) */
+    static const int64_t shapes[][14] = {
+        {1, 3, 29, 31, 1, 3, 3, 1, 1, 1, 1, 1, 1, 1},
+        {3, 2, 16, 33, 2, 3, 3, 2, 2, 1, 0, 1, 1, 0},
+        {1, 4, 19, 23, 1, 5, 5, 3, 3, 1, 2, 2, 2, 2},
+        {1, 2, 21, 40, 1, 3, 3, 1, 1, 2, 2, 2, 0, 1},
+        {1, 3, 1, 1, 1, 3, 3, 1, 1, 1, 1, 1, 1, 1},   /* 1x1 image */
+        {1, 2, 2, 9, 1, 3, 3, 1, 1, 1, 1, 0, 1, 0},   /* H below the kernel */
+        {1, 2, 6, 2, 1, 3, 5, 1, 1, 1, 1, 2, 1, 2},   /* W below the kernel */
+        {1, 2, 41, 45, 1, 3, 3, 2, 2, 1, 1, 1, 1, 1}, /* stride 2, odd, left pad 1 */
+        {1, 2, 40, 37, 1, 3, 3, 2, 2, 1, 0, 0, 1, 1}, /* stride 2, left pad 0 */
+        {1, 2, 17, 40, 1, 3, 3, 2, 3, 2, 0, 1, 2, 1}, /* stride 2x3, dilation 2 */
+        {1, 2, 23, 29, 1, 5, 5, 3, 3, 1, 2, 0, 1, 2}, /* stride 3, asymmetric pads */
+        {2, 3, 112, 112, 1, 3, 3, 1, 1, 1, 1, 1, 1, 1}, /* MobileNet v1 conv2.dw */
+        {1, 3, 112, 112, 1, 3, 3, 2, 2, 1, 1, 1, 1, 1}, /* conv3.dw, stride 2 */
+        {1, 5, 7, 7, 1, 3, 3, 1, 1, 1, 1, 1, 1, 1},     /* conv14.dw, 7x7 */
+        {1, 4, 14, 14, 1, 3, 3, 2, 2, 1, 1, 1, 1, 1},   /* conv13.dw, 14 -> 7 */
     };
-    cp_params p;
-    memset(&p, 0, sizeof p);
-    p.v[0] = 1; /* kernels = portable */
-    for (size_t i = 0; i < sizeof shapes / sizeof shapes[0]; i++) {
-        const int64_t *g = shapes[i];
-        cp_shape s = cpt_shape(g[0], g[1], g[2], g[3], g[1] * g[4], g[5], g[6]);
-        s.groups = g[1];
-        s.stride_h = s.stride_w = g[7];
-        s.dil_h = s.dil_w = g[8];
-        s.pad_top = g[9]; s.pad_left = g[10]; s.pad_bottom = g[11]; s.pad_right = g[12];
-        char msg[256];
-        assert_int_equal(cp_shape_validate(&s, msg, sizeof msg), CP_SHAPE_OK);
-        for (int m = 0; m < 2; m++) {
-            cp_error e;
-            assert_int_equal(cpt_check_random(dw(), &s, m ? CP_CONV : CP_XCORR, &p, 11 + 3 * i,
-                                              &e, msg, sizeof msg), CP_OK);
-            if (e.nonfinite || e.rel_err > dw()->tolerance)
-                fail_msg("portable depthwise, shape %zu flip %d: rel_err %.3g nonfinite %zu", i,
-                         m, e.rel_err, e.nonfinite);
+    size_t ran = 0;
+    for (size_t li = 0; li < NLEVELS; li++) {
+        if (!level_runs(levels[li])) continue; /* the CPU lacks it: counted below */
+        cp_params p;
+        memset(&p, 0, sizeof p);
+        p.v[0] = levels[li];
+        for (size_t i = 0; i < sizeof shapes / sizeof shapes[0]; i++) {
+            const int64_t *g = shapes[i];
+            cp_shape s = cpt_shape(g[0], g[1], g[2], g[3], g[1] * g[4], g[5], g[6]);
+            s.groups = g[1];
+            s.stride_h = g[7];
+            s.stride_w = g[8];
+            s.dil_h = s.dil_w = g[9];
+            s.pad_top = g[10]; s.pad_left = g[11]; s.pad_bottom = g[12]; s.pad_right = g[13];
+            char msg[256];
+            if (cp_shape_validate(&s, msg, sizeof msg) != CP_SHAPE_OK)
+                fail_msg("shape %zu: %s", i, msg);
+            assert_string_equal(dw()->isa(&s, &p), cpa_isa_name((int)levels[li]));
+            for (int m = 0; m < 2; m++) {
+                cp_error e;
+                assert_int_equal(cpt_check_random(dw(), &s, m ? CP_CONV : CP_XCORR, &p,
+                                                  11 + 3 * i, &e, msg, sizeof msg), CP_OK);
+                if (e.nonfinite || e.rel_err > dw()->tolerance)
+                    fail_msg("depthwise at %s, shape %zu flip %d: rel_err %.3g nonfinite %zu",
+                             cpa_isa_name((int)levels[li]), i, m, e.rel_err, e.nonfinite);
+            }
         }
+        ran++;
     }
+    if (!ran) skip(); /* no level of this build runs here: exit 77 */
 }
 
-static void test_avx2_rows_match_portable(void **state) {
+static float dyadic(int64_t i, int64_t k) { return (float)((i * 7 + k * 5) % 13 - 6) * 0.5f; }
+
+static void test_rows_match_portable(void **state) {
     (void)state;
-    if (cpa_dw_row_select(0) == cpa_dw_row_ref) skip(); /* no AVX2 here: exit 77 */
-    enum { MAXQ = 70, STEP = MAXQ + 8 + CPA_DW_PAD, ROWS = 3 };
-    static float buf[25][ROWS * STEP], y0[ROWS * MAXQ + 1], y1[ROWS * MAXQ + 1];
+    enum { MAXQ = 70, STEP = MAXQ + 3, ROWS = 5, LEN = ROWS * STEP + 2 + CPA_DW_PAD };
+    static float buf[25][LEN], y0[ROWS * MAXQ + 1], y1[ROWS * MAXQ + 1];
     float wts[25];
     const float *src[25];
     for (int t = 0; t < 25; t++) {
-        for (int j = 0; j < ROWS * STEP; j++) buf[t][j] = (float)((t * 7 + j * 5) % 13 - 6) * 0.5f;
+        for (int j = 0; j < LEN; j++) buf[t][j] = dyadic(t, j);
         wts[t] = (float)((t * 3) % 7 - 3) * 0.25f;
         src[t] = buf[t] + t % 3;
     }
-    const int ntaps[] = {9, 5, 25, 1};
-    for (size_t nt = 0; nt < sizeof ntaps / sizeof ntaps[0]; nt++)
-        for (int64_t rows = 1; rows <= ROWS; rows += 2) /* one row, and rows sharing vectors */
-            for (int64_t q = 1; q <= MAXQ; q++) {
-                cpa_dw_row r = {.q = q, .nrows = rows, .src_step = STEP, .ntap = ntaps[nt],
-                                .src = src, .w = wts, .bias = 0.75f};
-                const size_t n = (size_t)(rows * q);
-                for (size_t i = 0; i <= n; i++) y0[i] = y1[i] = 12345.0f;
-                r.y = y0;
-                cpa_dw_row_ref(&r);
-                r.y = y1;
-                cpa_dw_row_avx2(&r);
-                if (memcmp(y0, y1, (n + 1) * sizeof(float)) != 0)
-                    fail_msg("ntap %d rows %lld q %lld: AVX2 differs from portable", ntaps[nt],
-                             (long long)rows, (long long)q);
-                assert_true(y1[n] == 12345.0f); /* the float past the rows stays untouched */
-                assert_true(y0[0] != 12345.0f); /* the portable kernel wrote */
-            }
+    size_t ran = 0;
+    for (size_t li = 0; li < NLEVELS; li++) {
+        if (levels[li] == CPA_ISA_PORTABLE || !level_runs(levels[li])) continue;
+        const cpa_dw_row_fn fn = cpa_dw_kernels_select(levels[li]).row;
+        const int ntaps[] = {9, 5, 25, 1};
+        for (size_t nt = 0; nt < sizeof ntaps / sizeof ntaps[0]; nt++)
+            for (int64_t rows = 1; rows <= ROWS; rows += 2)
+                for (int64_t q = 1; q <= MAXQ; q++)
+                    for (int64_t step = q; step <= q + 3; step++) {
+                        cpa_dw_row r = {.q = q, .nrows = rows, .src_step = step,
+                                        .ntap = ntaps[nt], .src = src, .w = wts, .bias = 0.75f};
+                        const size_t n = (size_t)(rows * q);
+                        for (size_t i = 0; i <= n; i++) y0[i] = y1[i] = 12345.0f;
+                        r.y = y0;
+                        cpa_dw_row_ref(&r);
+                        r.y = y1;
+                        fn(&r);
+                        if (memcmp(y0, y1, (n + 1) * sizeof(float)) != 0)
+                            fail_msg("%s ntap %d rows %lld q %lld step %lld: differs from "
+                                     "portable", cpa_isa_name((int)levels[li]), ntaps[nt],
+                                     (long long)rows, (long long)q, (long long)step);
+                        assert_true(y1[n] == 12345.0f); /* the float past the rows untouched */
+                        assert_true(y0[0] != 12345.0f); /* the portable kernel wrote */
+                    }
+        ran++;
+    }
+    if (!ran) skip(); /* no ISA row kernel here: exit 77 */
+}
+
+static void test_fill_matches_portable(void **state) {
+    (void)state;
+    enum { H = 3, MAXW = 40, LEN = 4096 };
+    static float x[H * MAXW], b0[LEN], b1[LEN];
+    for (int i = 0; i < H * MAXW; i++) x[i] = dyadic(i, 1) + 0.25f; /* never 0 */
+    size_t ran = 0;
+    for (size_t li = 0; li < NLEVELS; li++) {
+        if (!level_runs(levels[li])) continue;
+        const cpa_dw_fill_fn fn = cpa_dw_kernels_select(levels[li]).fill;
+        for (int64_t st = 1; st <= 3; st++)
+            for (int64_t pl = 0; pl <= 2; pl++)
+                for (int64_t w = 1; w <= MAXW; w++) {
+                    const int64_t ld = (w + pl + 1 + st - 1) / st, plane = (H + 1 + st) / st * ld;
+                    cpa_dw_fill f = {.x = x, .h = H, .w = w, .sh = st, .sw = st, .pt = 1,
+                                     .pl = pl, .ld = ld, .plane = plane};
+                    for (int i = 0; i < LEN; i++) b0[i] = b1[i] = -99.0f;
+                    f.buf = b0;
+                    cpa_dw_fill_ref(&f);
+                    f.buf = b1;
+                    fn(&f);
+                    if (memcmp(b0, b1, sizeof b0) != 0)
+                        fail_msg("%s fill, stride %lld pad %lld w %lld: differs from portable",
+                                 cpa_isa_name((int)levels[li]), (long long)st, (long long)pl,
+                                 (long long)w);
+                    /* the portable fill put every input element somewhere */
+                    int64_t written = 0;
+                    for (int i = 0; i < LEN; i++) written += b0[i] != -99.0f;
+                    assert_int_equal(written, H * w);
+                }
+        ran++;
+    }
+    if (!ran) skip();
 }
 
 static void test_supports(void **state) {
@@ -111,9 +194,16 @@ static void test_supports(void **state) {
 }
 
 int main(void) {
+#ifdef CPT_ISA_ONLY
+    if (cpa_isa_best() < CPT_ISA_ONLY) {
+        printf("skipped: the CPU (or OS) lacks %s\n", cpa_isa_name(CPT_ISA_ONLY));
+        return 77;
+    }
+#endif
     const struct CMUnitTest tests[] = {
-        cmocka_unit_test(test_portable_vs_oracle),
-        cmocka_unit_test(test_avx2_rows_match_portable),
+        cmocka_unit_test(test_levels_vs_oracle),
+        cmocka_unit_test(test_rows_match_portable),
+        cmocka_unit_test(test_fill_matches_portable),
         cmocka_unit_test(test_supports),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
