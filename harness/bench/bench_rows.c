@@ -91,8 +91,8 @@ void cph_bench_report_trials(cph_bench_state *r, cph_bench_trow *w, const double
                "%.4f ms; bound by %s; %.1f %% of the %s roof, %.1f %% of the FMA peak\n",
                r->name_w, "", lr.bytes * 1e-6, lr.level, lr.gbs, lr.mem_s * 1e3, lr.fma_s * 1e3,
                strcmp(lr.bound, "FMA") == 0 ? "the FMA peak" : lr.level,
-               100.0 * (lr.mem_s > lr.fma_s ? lr.mem_s : lr.fma_s) / s->median,
-               strcmp(lr.bound, "FMA") == 0 ? "FMA" : lr.level, 100.0 * lr.fma_s / s->median);
+               100.0 * (lr.mem_s > lr.fma_s ? lr.mem_s : lr.fma_s) / s.median,
+               strcmp(lr.bound, "FMA") == 0 ? "FMA" : lr.level, 100.0 * lr.fma_s / s.median);
     if (r->results) {
         json_t *res = cph_bench_row_json(x, "ok");
         if (res && roofed)
@@ -101,7 +101,7 @@ void cph_bench_report_trials(cph_bench_state *r, cph_bench_trow *w, const double
                 json_pack("{s:f, s:s, s:f, s:f, s:f, s:s, s:f}", "bytes", lr.bytes, "level",
                           lr.level, "gbs", lr.gbs, "memory_seconds", lr.mem_s, "fma_seconds",
                           lr.fma_s, "bound", lr.bound, "fraction",
-                          (lr.mem_s > lr.fma_s ? lr.mem_s : lr.fma_s) / s->median));
+                          (lr.mem_s > lr.fma_s ? lr.mem_s : lr.fma_s) / s.median));
         if (res) {
             json_object_set_new(res, "params", w->params ? w->params : json_object());
             w->params = NULL;
