@@ -13,7 +13,7 @@ PY=/usr/bin/python3
 tmp="$(mktemp -d)"; trap 'rm -rf "$tmp"' EXIT
 fail() { echo "FAIL: $*"; exit 1; }
 "$CLI" tune --shape "lens: n=1,c=8,h=12,w=12,k=8,r=3,pad=1" --shape "iris: n=1,c=16,h=6,w=6,k=8,r=1" \
-  --algo direct,blocked --budget 0.3 --min-rounds 12 --max-rounds 12 --quiet --out "$tmp/tune.json" >/dev/null
+  --algo direct,blocked --budget 30 --min-rounds 12 --max-rounds 12 --quiet --out "$tmp/tune.json" >/dev/null
 scale() { # IN OUT FACTOR_ROWS FACTOR_CONTROL
   $PY - "$@" <<'P'
 import json, sys
