@@ -142,8 +142,7 @@ static int rows(cph_bench_state *r, const cph_bench_cfg *c) {
         }
         if (!pinned && msg[0]) cph_warn("bench: %s", msg);
         const cp_exec exec = cph_pool_exec(pool);
-        for (size_t li = 0; li < c->sel.layers.n && rc == CPH_EXIT_OK; li++)
-            if (cph_bench_layer(r, c, li, r->threads[ti], pinned, &exec)) rc = CPH_EXIT_FAIL;
+        if (cph_bench_threads(r, c, r->threads[ti], pinned, &exec)) rc = CPH_EXIT_FAIL;
         cph_pool_destroy(pool);
     }
     return rc == CPH_EXIT_OK && r->failures ? CPH_EXIT_FAIL : rc;

@@ -1,13 +1,17 @@
-/* The rows of one layer x flip x thread count, measured in rounds of trials
- * (bench.h): every row and the fixed control (harness/measure/control.h)
- * once per round, in an order
- * shuffled anew each round (harness/tune/race.c with nothing ever dropped),
- * a trial of an algorithm or chosen row being harness/tune/trial.c's, a
- * trial of an SGEMM row the same for the reference GEMM.  The rows print
- * when the rounds end. */
+/* The rows of every layer x flip at one thread count, measured in rounds of
+ * trials over the whole selection (bench.h): every row of every layer, and
+ * the fixed control (harness/measure/control.h) once per layer, once per
+ * round, in an order shuffled anew each round (harness/tune/race.c with
+ * nothing ever dropped).  A row's trials so span the whole run, as a tune
+ * entry's span its race: a slow state of the machine lasting a few seconds
+ * touches one of its trials, not all of them (docs/measurement.md).  A
+ * trial of an algorithm or chosen row is harness/tune/trial.c's, a trial of
+ * an SGEMM row the same for the reference GEMM.  The rows print when the
+ * rounds end, layer by layer. */
 #define _POSIX_C_SOURCE 200809L
 #include <cblas.h>
 #include <math.h>
+#include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -28,12 +32,21 @@ typedef struct layer_run {
     const cph_bench_cfg *c;
     cph_bench_trow *rows;
     size_t nrows;
-    size_t *raced;        /* race index -> row index; the control after them */
-    size_t nraced;
+    size_t *cand_of_row;  /* row index -> candidate of the suite's race, or SIZE_MAX */
     cph_trial_setup setup;
     uint64_t gseed;
-    double *wall;         /* per race index: seconds its trials took */
+    float *x, *w, *b;     /* the layer's tensors (owned) */
 } layer_run;
+
+/* Every layer x flip of one thread count and the race over all their rows. */
+typedef struct suite_run {
+    layer_run *lr;
+    size_t nlr;
+    size_t *cand_lr;      /* candidate -> layer run */
+    size_t *cand_row;     /* candidate -> row of that run, SIZE_MAX: its control */
+    double *wall;         /* candidate -> seconds its trials took */
+    size_t ncand;
+} suite_run;
 
 int cph_bench_ctl_add(cph_bench_ctl_log *l, const cph_bench_ctl_trial *t) {
     if (l->n == l->cap) {
@@ -176,9 +189,11 @@ static int sgemm_trial(layer_run *lr, const cph_bench_trow *w, double *median, d
 }
 
 static int trial(void *arg, size_t cand, size_t round, double *median, double *wall) {
-    layer_run *lr = arg;
+    suite_run *su = arg;
+    layer_run *lr = &su->lr[su->cand_lr[cand]];
+    const size_t row = su->cand_row[cand];
     int rc;
-    if (cand >= lr->nraced) {
+    if (row == SIZE_MAX) {
         /* the control: both pieces, its batch as long as a row's */
         const cph_bench_row *x = &lr->rows[0].x;
         const double t0 = cph_now();
@@ -190,7 +205,7 @@ static int trial(void *arg, size_t cand, size_t round, double *median, double *w
         if (rc) lr->r->oom_control = 1;
         *median = gemm;
     } else {
-        cph_bench_trow *w = &lr->rows[lr->raced[cand]];
+        cph_bench_trow *w = &lr->rows[row];
         if (w->x.kind == CPH_ROW_SGEMM || w->x.kind == CPH_ROW_SGEMM_WINO) {
             rc = sgemm_trial(lr, w, median, wall);
             if (rc) set_error(w, "", "a trial of the SGEMM failed (out of memory)");
@@ -200,12 +215,12 @@ static int trial(void *arg, size_t cand, size_t round, double *median, double *w
             if (rc) set_error(w, "", why);
         }
     }
-    lr->wall[cand] += *wall;
+    su->wall[cand] += *wall;
     return rc;
 }
 
-/* The rows of one flip: planned, raced, reported in their order. */
-static void one_flip(layer_run *lr, const cph_bench_row *base) {
+/* The rows of one layer x flip: algorithms, references, the chosen one. */
+static void plan_rows(layer_run *lr, const cph_bench_row *base) {
     cph_bench_state *r = lr->r;
     const cph_bench_cfg *c = lr->c;
     int64_t wino_tb = 0;
@@ -232,46 +247,27 @@ static void one_flip(layer_run *lr, const cph_bench_row *base) {
         else
             plan_chosen(lr, w);
     }
-    lr->nraced = 0;
-    for (size_t i = 0; i < lr->nrows; i++)
-        if (strcmp(lr->rows[i].status, "ok") == 0) lr->raced[lr->nraced++] = i;
-    const size_t ncand = lr->nraced + 1; /* the control: a candidate of its own */
-    memset(lr->wall, 0, ncand * sizeof *lr->wall);
-    cph_race_opts ro;
-    cph_race_defaults(&ro);
-    ro.max_rounds = c->rounds;
-    ro.min_rounds = CPH_PAIRED_MAX + 1; /* nothing is ever dropped */
-    /* Every round runs: each trial is capped at max_seconds / rounds, and a
-     * trial always makes its warm-up run and one sample (timing.h), so a row
-     * whose single run outlasts its share takes rounds x 2 runs. */
-    ro.budget_seconds = INFINITY;
-    ro.seed = tensor_seed(c->sel.seed, base->li, 4) ^ ((uint64_t)base->threads << 8) ^
-              (uint64_t)base->flip;
-    cph_race_result race;
-    if (cph_race_run(&ro, ncand, trial, lr, &race) != 0) {
-        cph_err("bench: %s: out of memory for the rounds", base->L->name);
-        r->oom = 1;
-        for (size_t i = 0; i < lr->nrows; i++) json_decref(lr->rows[i].params);
-        return;
-    }
-    size_t k = 0;
+}
+
+/* The rows of one layer x flip, in their order, from the suite's race. */
+static void report_rows(layer_run *lr, const cph_race_result *race, const double *wall) {
+    cph_bench_state *r = lr->r;
     for (size_t i = 0; i < lr->nrows; i++) {
         cph_bench_trow *w = &lr->rows[i];
-        if (k < lr->nraced && lr->raced[k] == i) {
-            const cph_race_cand *rc = &race.cand[k];
-            if (rc->state == CPH_RACE_FAILED || rc->ntrials == 0) {
-                if (strcmp(w->status, "ok") == 0) set_error(w, "", "no trial ran");
-                cph_bench_report_untimed(r, w);
-            } else {
-                cph_bench_report_trials(r, w, rc->trials, rc->ntrials, &lr->setup.timing,
-                                        race.rounds, lr->wall[k]);
-            }
-            k++;
-        } else {
+        const size_t k = lr->cand_of_row[i];
+        if (k == SIZE_MAX) {
             cph_bench_report_untimed(r, w);
+            continue;
+        }
+        const cph_race_cand *rc = &race->cand[k];
+        if (rc->state == CPH_RACE_FAILED || rc->ntrials == 0) {
+            if (strcmp(w->status, "ok") == 0) set_error(w, "", "no trial ran");
+            cph_bench_report_untimed(r, w);
+        } else {
+            cph_bench_report_trials(r, w, rc->trials, rc->ntrials, &lr->setup.timing,
+                                    race->rounds, wall[k]);
         }
     }
-    cph_race_free(&race);
 }
 
 cph_timing_opts cph_bench_trial_timing(const cph_bench_cfg *c) {
@@ -284,38 +280,103 @@ cph_timing_opts cph_bench_trial_timing(const cph_bench_cfg *c) {
     return t;
 }
 
-int cph_bench_layer(cph_bench_state *r, const cph_bench_cfg *c, size_t li, int threads, int pinned,
-                    const cp_exec *exec) {
+static void layer_run_free(layer_run *lr) {
+    for (size_t i = 0; lr->rows && i < lr->nrows; i++) json_decref(lr->rows[i].params);
+    free(lr->rows);
+    free(lr->cand_of_row);
+    free(lr->x);
+    free(lr->w);
+    free(lr->b);
+}
+
+/* A layer x flip's tensors and rows; -1 when out of memory. */
+static int layer_run_init(layer_run *lr, cph_bench_state *r, const cph_bench_cfg *c, size_t li,
+                          int flip_index, int threads, int pinned, const cp_exec *exec) {
     const cph_layer *L = &c->sel.layers.v[li];
     const size_t nx = cp_shape_input_elems(&L->shape), nw = cp_shape_weight_elems(&L->shape),
-                 nb = (size_t)L->shape.k;
-    float *x = malloc(nx * sizeof *x), *w = malloc(nw * sizeof *w), *b = malloc(nb * sizeof *b);
-    const size_t maxrows = c->sel.nalgos + 3;
-    layer_run lr = {r, c, calloc(maxrows, sizeof(cph_bench_trow)),
-                    0, calloc(maxrows, sizeof(size_t)), 0, {0}, tensor_seed(c->sel.seed, li, 3),
-                    calloc(maxrows + 1, sizeof(double))};
-    int rc = 0;
-    if (!x || !w || !b || !lr.rows || !lr.raced || !lr.wall) {
-        cph_err("bench: %s: cannot allocate the tensors", L->name);
-        rc = -1;
-    } else {
-        cph_fill_uniform(x, nx, tensor_seed(c->sel.seed, li, 0));
-        cph_fill_uniform(w, nw, tensor_seed(c->sel.seed, li, 1));
-        cph_fill_uniform(b, nb, tensor_seed(c->sel.seed, li, 2));
-        lr.setup = (cph_trial_setup){&L->shape, CP_XCORR, threads, &r->caches, exec, x, w, b,
-                                     cph_bench_trial_timing(c), r->placer};
-        for (int mi = 0; mi < c->sel.nflips; mi++) {
-            const cph_bench_row base = {L, li, c->sel.flips[mi], threads, pinned, CPH_ROW_ALGO,
-                                        "", ""};
-            lr.setup.flip = base.flip;
-            one_flip(&lr, &base);
+                 nb = (size_t)L->shape.k, maxrows = c->sel.nalgos + 3;
+    memset(lr, 0, sizeof *lr);
+    lr->r = r;
+    lr->c = c;
+    lr->gseed = tensor_seed(c->sel.seed, li, 3);
+    lr->rows = calloc(maxrows, sizeof *lr->rows);
+    lr->cand_of_row = calloc(maxrows, sizeof *lr->cand_of_row);
+    lr->x = malloc(nx * sizeof *lr->x);
+    lr->w = malloc(nw * sizeof *lr->w);
+    lr->b = malloc(nb * sizeof *lr->b);
+    if (!lr->rows || !lr->cand_of_row || !lr->x || !lr->w || !lr->b) return -1;
+    cph_fill_uniform(lr->x, nx, tensor_seed(c->sel.seed, li, 0));
+    cph_fill_uniform(lr->w, nw, tensor_seed(c->sel.seed, li, 1));
+    cph_fill_uniform(lr->b, nb, tensor_seed(c->sel.seed, li, 2));
+    const cph_bench_row base = {L, li, c->sel.flips[flip_index], threads, pinned, CPH_ROW_ALGO,
+                                "", ""};
+    lr->setup = (cph_trial_setup){&L->shape, base.flip, threads, &r->caches, exec, lr->x, lr->w,
+                                  lr->b, cph_bench_trial_timing(c), r->placer};
+    plan_rows(lr, &base);
+    return 0;
+}
+
+int cph_bench_threads(cph_bench_state *r, const cph_bench_cfg *c, int threads, int pinned,
+                      const cp_exec *exec) {
+    const size_t nlr = c->sel.layers.n * (size_t)c->sel.nflips;
+    if (nlr == 0) return 0;
+    suite_run su = {calloc(nlr, sizeof(layer_run)), nlr, NULL, NULL, NULL, 0};
+    int rc = su.lr ? 0 : -1;
+    size_t made = 0;
+    for (size_t li = 0; rc == 0 && li < c->sel.layers.n; li++)
+        for (int mi = 0; rc == 0 && mi < c->sel.nflips; mi++) {
+            rc = layer_run_init(&su.lr[made], r, c, li, mi, threads, pinned, exec);
+            made++;
         }
+    /* The candidates: every row to time, and one control per layer x flip,
+     * so that the control is sampled all through each round. */
+    size_t ncand = 0;
+    for (size_t i = 0; rc == 0 && i < nlr; i++) {
+        for (size_t k = 0; k < su.lr[i].nrows; k++)
+            ncand += strcmp(su.lr[i].rows[k].status, "ok") == 0;
+        ncand++;
     }
-    free(x);
-    free(w);
-    free(b);
-    free(lr.rows);
-    free(lr.raced);
-    free(lr.wall);
+    if (rc == 0) {
+        su.cand_lr = malloc(ncand * sizeof *su.cand_lr);
+        su.cand_row = malloc(ncand * sizeof *su.cand_row);
+        su.wall = calloc(ncand, sizeof *su.wall);
+        if (!su.cand_lr || !su.cand_row || !su.wall) rc = -1;
+    }
+    for (size_t i = 0; rc == 0 && i < nlr; i++) {
+        layer_run *lr = &su.lr[i];
+        for (size_t k = 0; k < lr->nrows; k++) {
+            lr->cand_of_row[k] = SIZE_MAX;
+            if (strcmp(lr->rows[k].status, "ok") != 0) continue;
+            lr->cand_of_row[k] = su.ncand;
+            su.cand_lr[su.ncand] = i;
+            su.cand_row[su.ncand++] = k;
+        }
+        su.cand_lr[su.ncand] = i;
+        su.cand_row[su.ncand++] = SIZE_MAX;
+    }
+    cph_race_result race;
+    memset(&race, 0, sizeof race);
+    if (rc == 0) {
+        cph_race_opts ro;
+        cph_race_defaults(&ro);
+        ro.max_rounds = c->rounds;
+        ro.min_rounds = CPH_PAIRED_MAX + 1; /* nothing is ever dropped */
+        /* Every round runs: each trial is capped at max_seconds / rounds, and
+         * a trial always makes its warm-up run and one sample (timing.h), so
+         * a row whose single run outlasts its share takes rounds x 2 runs. */
+        ro.budget_seconds = INFINITY;
+        ro.seed = tensor_seed(c->sel.seed, 0, 4) ^ ((uint64_t)threads << 8);
+        if (cph_race_run(&ro, su.ncand, trial, &su, &race) != 0) rc = -1;
+    }
+    if (rc == 0)
+        for (size_t i = 0; i < nlr; i++) report_rows(&su.lr[i], &race, su.wall);
+    else
+        cph_err("bench: out of memory for the tensors and rounds of %d thread(s)", threads);
+    cph_race_free(&race);
+    for (size_t i = 0; i < made; i++) layer_run_free(&su.lr[i]);
+    free(su.lr);
+    free(su.cand_lr);
+    free(su.cand_row);
+    free(su.wall);
     return rc;
 }

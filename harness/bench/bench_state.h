@@ -98,13 +98,14 @@ void cph_bench_report_trials(cph_bench_state *r, cph_bench_trow *w, const double
  * (trial_samples, at most max_samples), the row's cap split over its rounds. */
 cph_timing_opts cph_bench_trial_timing(const cph_bench_cfg *c);
 
-/* bench_rows.c: the table's header line, then one layer at one thread count
- * (tensors once; per flip, every algorithm and reference row and the control
- * in shuffled rounds of trials, the rows printed when the rounds end); -1
- * when the tensors cannot be allocated. */
+/* bench_rows.c: the table's header line.  bench_rounds.c: every layer x flip
+ * at one thread count (tensors once; every algorithm and reference row of
+ * every layer and a control per layer in shuffled rounds of trials over the
+ * whole selection, the rows printed layer by layer when the rounds end); -1
+ * when out of memory (reported). */
 void cph_bench_print_header(const cph_bench_state *r);
-int cph_bench_layer(cph_bench_state *r, const cph_bench_cfg *c, size_t li, int threads,
-                    int pinned, const cp_exec *exec);
+int cph_bench_threads(cph_bench_state *r, const cph_bench_cfg *c, int threads, int pinned,
+                      const cp_exec *exec);
 
 /* bench_doc.c: one row's JSON object (status "ok", "unsupported" or "error"),
  * and the whole results document (summaries: NULL or stolen). */

@@ -77,6 +77,12 @@ for g in groups:
     rounds = sorted(r for r, *key in zip(c["round"], c["layer"], c["flipped"], c["threads"]) if tuple(key) == g)
     assert rounds == list(range(6)), (g, rounds)
 assert c["at_s"] == sorted(c["at_s"]), "control trials not in run order"
+# rounds over the whole selection: at each thread count, every layer's round r
+# is done before any layer's round r + 1 starts (a row's trials span the run)
+for t in set(c["threads"]):
+    seq = [r for r, th in zip(c["round"], c["threads"]) if th == t]
+    assert seq == sorted(seq), ("rounds of one layer ran back to back", t, seq)
+    assert len({l for l, th in zip(c["layer"], c["threads"]) if th == t}) > 1
 print("json ok: %d measurements, %d control trials" % (len(ok), n))
 P
 
