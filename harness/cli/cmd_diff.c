@@ -39,11 +39,12 @@ static void usage(FILE *f) {
             "of the chosen medians over the entries both hold).  Two bench results that\n"
             "both timed a table's choice (bench --table) are compared by those chosen rows\n"
             "and their network total (--all: every row).\n\n"
-            "Bench results carry a fixed control (a SGEMM and the FMA loop timed in every\n"
-            "round beside the rows).  When both sides have one, it is compared first; if it\n"
-            "moved significantly beyond the tolerance, that is machine-wide drift: it is\n"
-            "reported as such and every NEW time is divided by the control's ratio before\n"
-            "the rows are judged, so a regression must be slower beyond the drift.\n\n"
+            "Bench results and tables carry a fixed control (a SGEMM and the FMA loop timed\n"
+            "in every round beside the rows).  When both sides have one, it is compared\n"
+            "first; if it moved significantly beyond the tolerance, that is machine-wide\n"
+            "drift: it is reported as such and every NEW time is divided by the control's\n"
+            "ratio before the rows are judged, so a regression must be slower beyond the\n"
+            "drift.\n\n"
             "With --paired, BASE and NEW are each a comma-separated list of results files,\n"
             "the rounds of an A/B run taken interleaved (round r of BASE close in time to\n"
             "round r of NEW; a round measured in parts lists them joined by '+',\n"
@@ -283,6 +284,32 @@ static void print_rest(const cph_diff *d, int details) {
            d->nonly_next, drift, d->counts[CPH_SHIFT_SLOWER] ? ": REGRESSION" : "");
 }
 
+/* One round of --paired: a file, or its parts joined by '+' ("a.json+b.json",
+ * modified in place).  Returns 0, or -1 with one line in msg (round freed). */
+static int read_round(char *spec, cph_results *round, char *msg, size_t cap) {
+    char *save = NULL;
+    const char *first = strtok_r(spec, "+", &save);
+    if (!first || cph_results_read(first, round, msg, cap) != CP_OK) {
+        if (!first) snprintf(msg, cap, "an empty round");
+        return -1;
+    }
+    for (char *part = strtok_r(NULL, "+", &save); part; part = strtok_r(NULL, "+", &save)) {
+        cph_results piece;
+        int jr = cph_results_read(part, &piece, msg, cap) == CP_OK ? 0 : 2;
+        if (jr == 0) jr = cph_results_join(round, &piece);
+        if (jr == 1)
+            snprintf(msg, cap, "--paired: %s: the parts of a round come from different devices",
+                     part);
+        else if (jr < 0)
+            snprintf(msg, cap, "out of memory (%s)", part);
+        if (jr != 0) {
+            cph_results_free(round);
+            return -1;
+        }
+    }
+    return 0;
+}
+
 /* One side: a file, or (--paired) a comma-separated list of rounds folded
  * into trials.  Returns 0, or the exit code after the error line. */
 static int read_side(const diff_opts *o, const char *arg, const char *side, cph_results *out) {
@@ -308,32 +335,10 @@ static int read_side(const diff_opts *o, const char *arg, const char *side, cph_
             rc = CPH_EXIT_USAGE;
             goto out;
         }
-        /* a round in parts: "a.json+b.json" */
-        char *psave = NULL;
-        int first = 1;
-        for (char *part = strtok_r(f, "+", &psave); part; part = strtok_r(NULL, "+", &psave)) {
-            cph_results piece, *dst = first ? &r[n] : &piece;
-            if (cph_results_read(part, dst, msg, sizeof msg) != CP_OK) {
-                cph_err("diff: %s", msg);
-                rc = CPH_EXIT_USAGE;
-                if (first) goto out;
-                n++; /* r[n] is read: freed with the others */
-                goto out;
-            }
-            if (!first) {
-                const int jr = cph_results_join(&r[n], &piece);
-                if (jr != 0) {
-                    if (jr > 0) cph_results_free(&piece);
-                    cph_err(jr > 0 ? "diff: --paired: %s: the parts of a round come from "
-                                     "different devices"
-                                   : "diff: out of memory (%s)",
-                            part);
-                    rc = CPH_EXIT_USAGE;
-                    n++;
-                    goto out;
-                }
-            }
-            first = 0;
+        if (read_round(f, &r[n], msg, sizeof msg) != 0) {
+            cph_err("diff: %s", msg);
+            rc = CPH_EXIT_USAGE;
+            goto out;
         }
         n++;
     }

@@ -15,10 +15,16 @@ static const cph_result_item *find_point(const cph_results *r, const cph_result_
 }
 
 int cph_results_join(cph_results *into, cph_results *part) {
-    if (strcmp(into->fingerprint, part->fingerprint) != 0) return 1;
+    if (strcmp(into->fingerprint, part->fingerprint) != 0) {
+        cph_results_free(part);
+        return 1;
+    }
     if (part->nitems) {
         cph_result_item *v = realloc(into->items, (into->nitems + part->nitems) * sizeof *v);
-        if (!v) return -1;
+        if (!v) {
+            cph_results_free(part);
+            return -1;
+        }
         memcpy(v + into->nitems, part->items, part->nitems * sizeof *v);
         into->items = v;
         into->nitems += part->nitems;

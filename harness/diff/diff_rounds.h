@@ -22,8 +22,8 @@ int cph_results_fold_rounds(const cph_results *rounds, size_t n, cph_results *ou
 
 /* One round measured in parts (one process per layer, say, so that the two
  * sides of a round run close together): moves part's items to the end of
- * into's and frees part.  Returns 0, 1 when their fingerprints differ
- * (nothing moved), -1 when out of memory. */
+ * into's.  part is freed whatever the outcome.  Returns 0, 1 when their
+ * fingerprints differ (nothing moved), -1 when out of memory. */
 int cph_results_join(cph_results *into, cph_results *part);
 
 #endif

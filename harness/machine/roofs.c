@@ -50,12 +50,16 @@ typedef struct peak_job {
     float sink[MAX_WORKERS * 16]; /* one cache line per worker */
 } peak_job;
 
+float cph_roof_fma(int bits, int64_t iters) {
+    return bits == 512   ? cph_roof_fma_avx512(iters)
+           : bits == 256 ? cph_roof_fma_avx2(iters)
+                         : cph_roof_fma_portable(iters);
+}
+
 static void peak_task(void *arg, int64_t begin, int64_t end, int worker) {
     peak_job *j = arg;
     for (int64_t i = begin; i < end; i++)
-        j->sink[(worker % MAX_WORKERS) * 16] += j->bits == 512   ? cph_roof_fma_avx512(j->iters)
-                                                : j->bits == 256 ? cph_roof_fma_avx2(j->iters)
-                                                                 : cph_roof_fma_portable(j->iters);
+        j->sink[(worker % MAX_WORKERS) * 16] += cph_roof_fma(j->bits, j->iters);
 }
 
 /* GFLOP/s of the best run of `workers` cores running the loop at once. */

@@ -19,6 +19,9 @@ float cph_roof_fma_avx512(int64_t iters);
 #define CPH_ROOF_PORTABLE_FLOPS_PER_ITER 32.0
 float cph_roof_fma_portable(int64_t iters);
 
+/* The loop of one width: 512, 256, or 0 for the portable one. */
+float cph_roof_fma(int bits, int64_t iters);
+
 /* a[i] = b[i] + s * c[i] for i in [begin, end). */
 void cph_roof_triad(float *a, const float *b, const float *c, float s, size_t begin, size_t end);
 

@@ -30,13 +30,7 @@ static volatile float control_sink;
 
 static double time_fma(const cph_control *c) {
     const double t0 = cph_now();
-    float v;
-    if (c->fma_width == 512)
-        v = cph_roof_fma_avx512(c->fma_iters);
-    else if (c->fma_width == 256)
-        v = cph_roof_fma_avx2(c->fma_iters);
-    else
-        v = cph_roof_fma_portable(c->fma_iters);
+    const float v = cph_roof_fma(c->fma_width, c->fma_iters);
     const double t = cph_now() - t0;
     control_sink = v;
     return t;

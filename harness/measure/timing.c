@@ -98,6 +98,8 @@ static size_t next_check(size_t n) {
     return n + (step < 4 ? 4 : step);
 }
 
+/* Room for one more sample and its disturbed flag (the two arrays share a
+ * capacity). */
 static int grow(cph_measurement *m, size_t *cap, size_t limit) {
     if (m->n < *cap) return 0;
     size_t nc = *cap ? *cap * 2 : 64;
@@ -105,17 +107,10 @@ static int grow(cph_measurement *m, size_t *cap, size_t limit) {
     double *v = realloc(m->samples, nc * sizeof *v);
     if (!v) return -1;
     m->samples = v;
-    *cap = nc;
-    return 0;
-}
-
-/* The disturbed flags follow the samples' capacity. */
-static int grow_flags(cph_measurement *m, size_t cap) {
-    if (m->flags_cap >= cap) return 0;
-    unsigned char *f = realloc(m->disturbed_flags, cap);
+    unsigned char *f = realloc(m->disturbed_flags, nc);
     if (!f) return -1;
     m->disturbed_flags = f;
-    m->flags_cap = cap;
+    *cap = nc;
     return 0;
 }
 
@@ -191,10 +186,6 @@ int cph_measure(const cph_timing_opts *o, cph_work_fn fn, void *arg, cph_measure
         const double t1 = cph_now();
         const long p1 = preemptions();
         if (rc) goto done;
-        if (grow_flags(out, cap)) {
-            rc = -1;
-            goto done;
-        }
         out->disturbed_flags[out->n] = p1 != p0;
         out->disturbed += p1 != p0;
         total_disturbed += p1 != p0;
@@ -230,6 +221,5 @@ void cph_measurement_free(cph_measurement *m) {
     free(m->disturbed_flags);
     m->samples = NULL;
     m->disturbed_flags = NULL;
-    m->flags_cap = 0;
     m->n = 0;
 }

@@ -68,7 +68,6 @@ typedef struct cph_measurement {
      * (stats_of_undisturbed); samples[] keeps every sample. */
     size_t disturbed;
     unsigned char *disturbed_flags; /* per sample, 1 = disturbed (owned) */
-    size_t flags_cap;
     int stats_of_undisturbed;
 } cph_measurement;
 

@@ -64,7 +64,7 @@ static void tensors_free(tensors *t) {
 
 /* n elements of size bytes, 64-byte aligned (as a trial's buffers are). */
 static void *alloc64(size_t n, size_t size) {
-    const size_t bytes = (n * size + 63) / 64 * 64;
+    const size_t bytes = cpa_align64(n * size);
     return aligned_alloc(64, bytes ? bytes : 64);
 }
 

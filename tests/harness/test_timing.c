@@ -54,7 +54,9 @@ static int teardown_fake(void **state) {
     return 0;
 }
 
-/* Preempted samples: an invented count of involuntary context switches that
+/* Preempted samples (what the loop reads in the product: getrusage's
+ * ru_nivcsw, the involuntary context switches of the process, Linux
+ * getrusage(2), from memory): an invented count of such switches that
  * rises during samples 3 and 7 (which also take 100x as long, as a sample
  * sharing its CPU with another task would).  The statistics are those of the
  * eight others; every sample is kept.  With every sample preempted, the
