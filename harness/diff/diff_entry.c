@@ -66,10 +66,22 @@ static double layer_shift(const cph_diff *d, const cph_diff_pair *p, double *scr
     return n ? cph_median_of(scratch, n) : NAN;
 }
 
+/* The common shift (log) of the pairs at p's thread count: a state that
+ * slows every two-thread row is not the layer's; NAN without any. */
+static double common_at(const cph_diff *d, int threads, double *scratch) {
+    size_t n = 0;
+    for (size_t i = 0; i < d->npairs; i++) {
+        if (d->pairs[i].base->threads != threads) continue;
+        const double l = log_ratio(d->pairs[i].base, d->pairs[i].next);
+        if (isfinite(l)) scratch[n++] = l;
+    }
+    return n ? cph_median_of(scratch, n) : NAN;
+}
+
 int cph_diff_layer_shifts(cph_diff *d) {
-    double *scratch = malloc((d->base->nitems ? d->base->nitems : 1) * sizeof *scratch);
+    const size_t cap = d->base->nitems > d->npairs ? d->base->nitems : d->npairs;
+    double *scratch = malloc((cap ? cap : 1) * sizeof *scratch);
     if (!scratch) return -1;
-    const double common = log(d->rows_shift);
     for (size_t i = 0; i < d->npairs; i++) {
         cph_diff_pair *p = &d->pairs[i];
         p->layer_shift = NAN;
@@ -77,12 +89,15 @@ int cph_diff_layer_shifts(cph_diff *d) {
         p->layer_others = 0;
         if (d->flags & CPH_DIFF_PAIRED) continue; /* the rounds pair BASE with NEW themselves */
         const double ls = layer_shift(d, p, scratch, &p->layer_others);
+        const double common = common_at(d, p->base->threads, scratch);
         if (!isfinite(ls) || !isfinite(common)) continue;
         p->layer_shift = exp(ls);
-        /* The layer's movement beyond the network's, and the row's own: the
-         * correction goes the row's way and never past it, so that it can
-         * explain a change away but never make one. */
-        const double lrel = ls - common, lrow = log_ratio(p->base, p->next) - common;
+        /* The layer's movement beyond its thread count's common one, taken
+         * only the way the row itself moved (as judged: after the control's
+         * factor) and never past it, so that it can explain a change away
+         * but never make one. */
+        const double lrel = ls - common,
+                     lrow = log_ratio(p->base, p->next) - log(d->control.factor);
         if (!isfinite(lrow) || lrel * lrow <= 0.0) continue;
         p->local = exp(fabs(lrel) < fabs(lrow) ? lrel : lrow);
     }

@@ -21,8 +21,9 @@ typedef struct cph_diff_pair {
      * NEW/BASE of the other algorithms' measurements on the same layer, flip
      * and thread count (NAN: none on both sides), how many there were, and
      * what NEW's times are divided by beyond the control's factor: the
-     * layer's shift over the rows' common one, taken only the way the row
-     * moved and never past it (1: no correction). */
+     * layer's shift over the common shift of the rows at its thread count,
+     * taken only the way the row itself moved (after the control's factor)
+     * and never past it (1: no correction). */
     double layer_shift;
     size_t layer_others;
     double local;

@@ -315,6 +315,23 @@ static void test_shared_slowdown_not_hidden(void **state) {
     done(&b, &n, &d);
 }
 
+/* Every row of front and back 1.2x, mid unchanged: the common shift is
+ * 1.2x, mid's layer lies below it, and mid's own row did not move: the
+ * correction must not make mid a regression (it goes only the way the row
+ * moved); front and back are regressions. */
+static void test_correction_never_makes_a_regression(void **state) {
+    (void)state;
+    cph_results b, n;
+    cph_diff d;
+    build_from(DATA "/layer_base.bench.json", DATA "/layer_most.bench.json", &b, &n, &d);
+    check_layer_rows(&d, "most");
+    assert_true(d.rows_shift > 1.15);
+    assert_int_not_equal(pair_of(&d, "mid")->verdict, CPH_SHIFT_SLOWER);
+    assert_int_equal(pair_of(&d, "front")->verdict, CPH_SHIFT_SLOWER);
+    assert_int_equal(pair_of(&d, "back")->verdict, CPH_SHIFT_SLOWER);
+    done(&b, &n, &d);
+}
+
 /* bench --json with trials and the control, read back through the reader:
  * the same numbers as jansson's own parse of the file. */
 static void test_bench_round_trip(void **state) {
@@ -375,6 +392,7 @@ int main(void) {
         cmocka_unit_test(test_layer_moved_as_a_whole),
         cmocka_unit_test(test_one_algorithm_slower),
         cmocka_unit_test(test_shared_slowdown_not_hidden),
+        cmocka_unit_test(test_correction_never_makes_a_regression),
         cmocka_unit_test(test_bench_round_trip),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
