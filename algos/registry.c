@@ -4,6 +4,11 @@
  * below: the list both declares the variables and fills the table, so no
  * header needs to know them.  Plugins' algorithms (loader/plugin.c) are the
  * dynamic part at the end of the file, listed after the built-in ones. */
+#ifdef CP_TEST_SLOWDOWN_ALGO
+#define _POSIX_C_SOURCE 200809L /* clock_gettime, test-only build */
+#include <pthread.h>
+#include <time.h>
+#endif
 #include <string.h>
 
 #include "algos/core/cpa.h"
@@ -34,10 +39,53 @@ static size_t ndynamic;
 
 #define CPA_NBUILTIN (sizeof registry / sizeof registry[0])
 
+#ifdef CP_TEST_SLOWDOWN_ALGO
+/* Test-only (CMake -DCP_TEST_SLOWDOWN=ALGO:PERCENT; never in a product
+ * build): the registry hands out a copy of ALGO whose run() spins, after the
+ * real run, for PERCENT % of the time it took, so that the build is reliably
+ * that much slower on that algorithm wherever the algorithm is run from: a
+ * plan of this library, or another library's plan of this one's algorithms
+ * (tools/revision_plugin/).  The only place in the library that reads a
+ * clock, and only in that build. */
+static const cp_algo *slowed_real;
+static cp_algo slowed_copy;
+static pthread_once_t slowed_once = PTHREAD_ONCE_INIT;
+
+static double slowdown_now(void) {
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
+}
+
+static cp_status slowed_run(const cp_run_args *a) {
+    const double t0 = slowdown_now();
+    const cp_status st = slowed_real->run(a);
+    const double until = slowdown_now() + (slowdown_now() - t0) * CP_TEST_SLOWDOWN_PCT / 100.0;
+    while (slowdown_now() < until) {
+    }
+    return st;
+}
+
+static void slowed_init(void) {
+    for (size_t i = 0; i < CPA_NBUILTIN; i++)
+        if (strcmp(registry[i]->name, CP_TEST_SLOWDOWN_ALGO) == 0) slowed_real = registry[i];
+    if (!slowed_real) return;
+    slowed_copy = *slowed_real;
+    slowed_copy.run = slowed_run;
+}
+
+static const cp_algo *builtin(size_t i) {
+    pthread_once(&slowed_once, slowed_init);
+    return registry[i] == slowed_real ? &slowed_copy : registry[i];
+}
+#else
+static const cp_algo *builtin(size_t i) { return registry[i]; }
+#endif
+
 size_t cp_algo_count(void) { return CPA_NBUILTIN + ndynamic; }
 
 const cp_algo *cp_algo_at(size_t i) {
-    if (i < CPA_NBUILTIN) return registry[i];
+    if (i < CPA_NBUILTIN) return builtin(i);
     return i - CPA_NBUILTIN < ndynamic ? dynamic[i - CPA_NBUILTIN] : NULL;
 }
 

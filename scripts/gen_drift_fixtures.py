@@ -19,6 +19,24 @@ and tests/cli/cli_diff.sh compare convpick diff against.
                                      row with NEW's trials divided by that ratio when
                                      the control drifted (the same statistics)
 
+  tests/data/drift_ctl.bench.json    NEW: the control alone 0.87x (faster), every row
+                                     unchanged: a drift the rows did not go through, so
+                                     no correction (the rows' common shift, the median
+                                     over the rows of log(median NEW / median BASE), is
+                                     not on the control's side by half its size)
+  tests/data/layer_*.bench.json,     a layer's own control (docs/diff.md): BASE with, per
+  tests/data/layer_fixtures.txt      layer, the chosen row (blocked) and two rows of other
+                                     algorithms (im2col_gemm, direct); NEW scenarios
+                                     "state" (every row of "mid" 1.3x), "algo" (only
+                                     mid's chosen row 1.15x), "shared" (every row of every
+                                     layer 1.2x, the control unchanged), "most" (every row
+                                     of front and back 1.2x, mid unchanged); each chosen row
+                                     compared with NEW divided by its layer correction:
+                                     L = median log ratio of the layer's other rows minus
+                                     the chosen rows' common shift (all at one thread),
+                                     taken only the way the row itself moved and never
+                                     past it
+
 File format (ours): '#' comments, then lines
   control SCENARIO P HL_RATIO
   row SCENARIO LAYER P HL_RATIO        (NEW drift-corrected when the control drifted)
@@ -123,6 +141,8 @@ scen = {
     "row": ([trials(c, SLOW if n == "mid" else 1.0) for n, _, c in LAYERS],
             {s: trials(c) for s, c in CONTROL.items()}),
 }
+# drawn after the two above, so that their draws (and files) stay as they were
+ctl_only = ([trials(c) for _, _, c in LAYERS], {s: trials(c, 0.87) for s, c in CONTROL.items()})
 
 write = lambda name, doc: open(os.path.join(DATA, name), "w").write(json.dumps(doc, indent=1) + "\n")
 write("drift_base.bench.json", document(base_rows, base_ctl))
@@ -145,4 +165,71 @@ for name, (rows, ctl) in scen.items():
     pn, hn = compare(nb, nn)
     lines.append("network %s %.17g %.17g" % (name, pn, hn))
 open(os.path.join(DATA, "drift_fixtures.txt"), "w").write("\n".join(lines) + "\n")
+
+# --- the control alone moved, and a layer's own control -------------------
+OTHERS = [("im2col_gemm", 1.3), ("direct", 9.0)]  # time relative to the chosen row
+
+
+def layer_document(chosen_rows, other_rows, control):
+    """chosen_rows[i]: trials of layer i's chosen row; other_rows[i][j]: of OTHERS[j]."""
+    d = document(chosen_rows, control)
+    chosen = d["results"]
+    d["results"] = []
+    for i, r in enumerate(chosen):
+        d["results"].append(r)
+        for (algo, _), x in zip(OTHERS, other_rows[i]):
+            o = copy.deepcopy(r)
+            o["algo"] = algo
+            o["kind"] = "algorithm"
+            del o["chosen_algo"]
+            o["params"] = {}
+            o["params_text"] = ""
+            o["measurement"]["stats"] = stats_of(x)
+            o["measurement"]["samples"] = x
+            d["results"].append(o)
+    return d
+
+
+def median_log_ratio(pairs):
+    return float(np.median([np.log(np.median(y) / np.median(x)) for x, y in pairs]))
+
+
+write("drift_ctl.bench.json", document(ctl_only[0], ctl_only[1]))
+lines = ["# written by scripts/gen_drift_fixtures.py (SciPy %s, NumPy %s)" % (scipy.__version__, np.__version__),
+         "# control SCENARIO P HL | rowshift SCENARIO SHIFT | row SCENARIO LAYER LOCAL P HL"]
+p, f = compare(combined(base_ctl), combined(ctl_only[1]))
+shift = median_log_ratio(list(zip(base_rows, ctl_only[0])))
+lines.append("control ctl %.17g %.17g" % (p, f))
+lines.append("rowshift ctl %.17g" % np.exp(shift))
+for (layer, _, _), x, y in zip(LAYERS, base_rows, ctl_only[0]):
+    pr, hr = compare(x, np.array(y))  # not corrected: the rows did not move with the control
+    lines.append("row ctl %s 1 %.17g %.17g" % (layer, pr, hr))
+
+lbase_chosen = [trials(c) for _, _, c in LAYERS]
+lbase_other = [[trials(c * k) for _, k in OTHERS] for _, _, c in LAYERS]
+lctl = {s: trials(c) for s, c in CONTROL.items()}
+write("layer_base.bench.json", layer_document(lbase_chosen, lbase_other, lctl))
+lscen = {
+    "state": lambda name, is_chosen: 1.3 if name == "mid" else 1.0,
+    "algo": lambda name, is_chosen: SLOW if name == "mid" and is_chosen else 1.0,
+    "shared": lambda name, is_chosen: 1.2,
+    "most": lambda name, is_chosen: 1.0 if name == "mid" else 1.2,
+}
+for name, fac in lscen.items():
+    chosen = [trials(c, fac(n, True)) for n, _, c in LAYERS]
+    other = [[trials(c * k, fac(n, False)) for _, k in OTHERS] for n, _, c in LAYERS]
+    ctl = {s: trials(c) for s, c in CONTROL.items()}
+    write("layer_%s.bench.json" % name, layer_document(chosen, other, ctl))
+    pc, fc = compare(combined(lctl), combined(ctl))
+    lines.append("control %s %.17g %.17g" % (name, pc, fc))
+    common = median_log_ratio(list(zip(lbase_chosen, chosen)))
+    lines.append("rowshift %s %.17g" % (name, np.exp(common)))
+    for i, (layer, _, _) in enumerate(LAYERS):
+        lrel = median_log_ratio(list(zip(lbase_other[i], other[i]))) - common
+        # the row's own movement as judged (no control drift in these scenarios)
+        lrow = float(np.log(np.median(chosen[i]) / np.median(lbase_chosen[i])))
+        local = 1.0 if lrel * lrow <= 0 else float(np.exp(lrel if abs(lrel) < abs(lrow) else lrow))
+        pr, hr = compare(lbase_chosen[i], np.array(chosen[i]) / local)
+        lines.append("row %s %s %.17g %.17g %.17g" % (name, layer, local, pr, hr))
+open(os.path.join(DATA, "layer_fixtures.txt"), "w").write("\n".join(lines) + "\n")
 print("wrote drift fixtures to", DATA)

@@ -1,9 +1,5 @@
 /* Plans: the one place that allocates for an algorithm (workspace and
  * prepared weights), so that kernels themselves never allocate. */
-#ifdef CP_TEST_SLOWDOWN_ALGO
-#define _POSIX_C_SOURCE 200809L /* clock_gettime, test-only build */
-#include <time.h>
-#endif
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -137,26 +133,6 @@ cp_status cp_plan_create(const cp_algo *a, const cp_shape *s, cp_flip flip,
     return CP_OK;
 }
 
-#ifdef CP_TEST_SLOWDOWN_ALGO
-/* Test-only (CMake -DCP_TEST_SLOWDOWN=ALGO:PERCENT; never in a product
- * build): runs the algorithm, then spins for PERCENT % of the time it took,
- * so that a build is reliably that much slower on that algorithm.  The only
- * place in the library that reads a clock, and only in that build. */
-static double slowdown_now(void) {
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
-}
-static cp_status cpa_test_slowdown(const cp_algo *a, const cp_run_args *args) {
-    const double t0 = slowdown_now();
-    const cp_status st = a->run(args);
-    const double until = slowdown_now() + (slowdown_now() - t0) * CP_TEST_SLOWDOWN_PCT / 100.0;
-    while (slowdown_now() < until) {
-    }
-    return st;
-}
-#endif
-
 cp_status cp_plan_run(cp_plan *p, const float *x, const float *bias, float *y,
                       const cp_exec *exec) {
     if (!p || !x || !y) return CP_EINVAL;
@@ -175,9 +151,6 @@ cp_status cp_plan_run(cp_plan *p, const float *x, const float *bias, float *y,
         .workspace = p->workspace,
         .exec = exec,
     };
-#ifdef CP_TEST_SLOWDOWN_ALGO
-    if (strcmp(p->algo->name, CP_TEST_SLOWDOWN_ALGO) == 0) return cpa_test_slowdown(p->algo, &args);
-#endif
     return p->algo->run(&args);
 }
 

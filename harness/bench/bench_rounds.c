@@ -4,7 +4,11 @@
  * round, in an order shuffled anew each round (harness/tune/race.c with
  * nothing ever dropped).  A row's trials so span the whole run, as a tune
  * entry's span its race: a slow state of the machine lasting a few seconds
- * touches one of its trials, not all of them (docs/measurement.md).  A
+ * touches one of its trials, not all of them (docs/measurement.md).  Within
+ * a round the rows of one layer x flip and its control run back to back (the
+ * race's groups), so that round r of two rows of a layer is a pair taken
+ * close together in time: the in-process A/B check (diff --within) compares
+ * rows trial by trial.  A
  * trial of an algorithm or chosen row is harness/tune/trial.c's, a trial of
  * an SGEMM row the same for the reference GEMM.  The rows print when the
  * rounds end, layer by layer. */
@@ -366,6 +370,7 @@ int cph_bench_threads(cph_bench_state *r, const cph_bench_cfg *c, int threads, i
          * a row whose single run outlasts its share takes rounds x 2 runs. */
         ro.budget_seconds = INFINITY;
         ro.seed = tensor_seed(c->sel.seed, 0, 4) ^ ((uint64_t)threads << 8);
+        ro.group = su.cand_lr; /* a layer x flip's rows and control back to back */
         if (cph_race_run(&ro, su.ncand, trial, &su, &race) != 0) rc = -1;
     }
     if (rc == 0)

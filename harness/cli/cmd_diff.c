@@ -19,7 +19,8 @@
 
 static void usage(FILE *f) {
     fprintf(f,
-            "usage: convpick diff [OPTIONS] BASE NEW\n\n"
+            "usage: convpick diff [OPTIONS] BASE NEW\n"
+            "       convpick diff --within BP,NP [OPTIONS] FILE\n\n"
             "Compares two measurement files, each a bench results file (bench --json) or\n"
             "a tuning table (tune), measured on the same device.  Measurements of the\n"
             "same shape, flip, thread count, algorithm and parameters are paired; for\n"
@@ -51,7 +52,12 @@ static void usage(FILE *f) {
             "a.json+b.json): each round's median of a measurement is one trial, round r\n"
             "pairs with round r, and the p-value is the Wilcoxon signed-rank test's, the\n"
             "interval the paired Hodges-Lehmann one (docs/diff.md).  This is how to compare\n"
-            "two builds on a shared machine (scripts/ci-speed-check --ab).\n\n"
+            "two builds on a shared machine (scripts/ci-speed-check --ab --processes).\n\n"
+            "With --within BP,NP, one bench results file holds both sides, measured in one\n"
+            "process (scripts/ci-speed-check --ab; tools/revision_plugin/): rows of algorithm\n"
+            "BP_X are BASE's and rows of NP_X are NEW's, and trial r of a pair was taken\n"
+            "back to back with its twin in round r.  They are compared as with --paired,\n"
+            "trial r with trial r, under the name X.\n\n"
             "options:\n"
             "  --alpha A           significance level, 0 < A < 0.5 (default: 0.01)\n"
             "  --tolerance PCT     changes within +-PCT %% are not regressions (default: 5)\n"
@@ -62,6 +68,9 @@ static void usage(FILE *f) {
             "  --markdown FILE     write a Markdown summary for a CI page (default: none)\n"
             "  --paired            BASE and NEW are lists of rounds, compared paired\n"
             "                      (default: two files, compared as independent samples)\n"
+            "  --within BP,NP      one file of an in-process A/B run: rows BP_X against\n"
+            "                      rows NP_X, paired trial by trial (implies --paired;\n"
+            "                      default: two files)\n"
             "  --all               two tables: compare every candidate, not only the choices;\n"
             "                      two bench results with chosen rows: every row (default:\n"
             "                      the choices)\n"
@@ -72,13 +81,39 @@ static void usage(FILE *f) {
                     "nothing in common)");
 }
 
-enum { OPT_ALPHA = 1, OPT_TOL, OPT_OTHER, OPT_JUNIT, OPT_MD, OPT_PAIRED, OPT_ALL, OPT_DETAILS };
+enum { OPT_ALPHA = 1, OPT_TOL, OPT_OTHER, OPT_JUNIT, OPT_MD, OPT_PAIRED, OPT_ALL, OPT_DETAILS, OPT_WITHIN };
 
 typedef struct diff_opts {
     double alpha, tol;
     int allow_other, paired, all, details;
     const char *junit, *markdown, *base, *next;
+    char within_base[16], within_next[16]; /* --within BP,NP; "" without */
 } diff_opts;
+
+/* --within BP,NP: two different prefixes of [a-z][a-z0-9]*, up to 15 bytes. */
+static int parse_within(const char *arg, diff_opts *o) {
+    const char *comma = strchr(arg, ',');
+    const size_t nb = comma ? (size_t)(comma - arg) : 0, nn = comma ? strlen(comma + 1) : 0;
+    int ok = comma && nb >= 1 && nb < sizeof o->within_base && nn >= 1 &&
+             nn < sizeof o->within_next && !strchr(comma + 1, ',');
+    for (size_t i = 0; ok && arg[i]; i++) {
+        const char c = arg[i];
+        ok = c == ',' || (c >= 'a' && c <= 'z') || (i != 0 && i != nb + 1 && c >= '0' && c <= '9');
+    }
+    if (ok) {
+        memcpy(o->within_base, arg, nb);
+        o->within_base[nb] = '\0';
+        memcpy(o->within_next, comma + 1, nn + 1);
+        ok = strcmp(o->within_base, o->within_next) != 0;
+    }
+    if (!ok)
+        return cph_opt_error("diff", "--within",
+                             "'%s': expected two different prefixes BP,NP of lower-case letters "
+                             "and digits (e.g. base,new)",
+                             arg);
+    o->paired = 1;
+    return 0;
+}
 
 /* Returns -1 to go on, else the exit code (the error already reported). */
 static int parse(int argc, char **argv, diff_opts *o) {
@@ -91,6 +126,7 @@ static int parse(int argc, char **argv, diff_opts *o) {
         {"paired", no_argument, NULL, OPT_PAIRED},
         {"all", no_argument, NULL, OPT_ALL},
         {"details", no_argument, NULL, OPT_DETAILS},
+        {"within", required_argument, NULL, OPT_WITHIN},
         CPH_OPTS_HELP_END,
     };
     int opt;
@@ -115,8 +151,19 @@ static int parse(int argc, char **argv, diff_opts *o) {
         case OPT_PAIRED: o->paired = 1; break;
         case OPT_ALL: o->all = 1; break;
         case OPT_DETAILS: o->details = 1; break;
+        case OPT_WITHIN:
+            if (parse_within(optarg, o)) return CPH_EXIT_USAGE;
+            break;
         default: return CPH_EXIT_USAGE;
         }
+    }
+    if (o->within_base[0]) {
+        if (argc - optind != 1)
+            return cph_opt_error("diff", "--within",
+                                 "expected one results file holding both sides, got %d",
+                                 argc - optind);
+        o->base = o->next = argv[optind];
+        return -1;
     }
     if (argc - optind != 2)
         return cph_opt_error("diff", NULL,
@@ -371,14 +418,51 @@ out:
     return rc;
 }
 
+/* --within: both sides from one file.  Returns 0, or the exit code after the
+ * error line. */
+static int read_within(const diff_opts *o, cph_results *b, cph_results *n) {
+    char msg[1024];
+    cph_results all;
+    if (cph_results_read(o->base, &all, msg, sizeof msg) != CP_OK) {
+        cph_err("diff: %s", msg);
+        return CPH_EXIT_USAGE;
+    }
+    size_t unpaired = 0;
+    const int rc = cph_results_split_within(&all, o->within_base, o->within_next, b, n, &unpaired);
+    cph_results_free(&all);
+    if (rc) {
+        cph_err("diff: out of memory");
+        return CPH_EXIT_USAGE;
+    }
+    if (b->nitems == 0) {
+        cph_err("diff: --within %s,%s: %s has no pair of rows %s_X and %s_X measured at the same "
+                "point with the same number of trials (run bench with both sides' algorithms)",
+                o->within_base, o->within_next, o->base, o->within_base, o->within_next);
+        cph_results_free(b);
+        cph_results_free(n);
+        return CPH_EXIT_USAGE;
+    }
+    printf("in one process: BASE = rows %s_*, NEW = rows %s_* of %s; trial r of a pair taken "
+           "back to back in round r\n",
+           o->within_base, o->within_next, o->base);
+    if (unpaired)
+        printf("note: %zu rows of either side have no twin with as many trials and are left out\n",
+               unpaired);
+    return 0;
+}
+
 static int run_diff(const diff_opts *o) {
     cph_results b, n;
     char msg[1024];
-    int rd = read_side(o, o->base, "BASE", &b);
-    if (rd) return rd;
-    if ((rd = read_side(o, o->next, "NEW", &n)) != 0) {
-        cph_results_free(&b);
-        return rd;
+    int rd;
+    if (o->within_base[0]) {
+        if ((rd = read_within(o, &b, &n)) != 0) return rd;
+    } else {
+        if ((rd = read_side(o, o->base, "BASE", &b)) != 0) return rd;
+        if ((rd = read_side(o, o->next, "NEW", &n)) != 0) {
+            cph_results_free(&b);
+            return rd;
+        }
     }
     int rc = CPH_EXIT_OK;
     cph_diff d;
@@ -432,7 +516,7 @@ done:
 }
 
 int cph_cmd_diff(int argc, char **argv) {
-    diff_opts o = {0.01, 0.05, 0, 0, 0, 0, NULL, NULL, NULL, NULL};
+    diff_opts o = {0.01, 0.05, 0, 0, 0, 0, NULL, NULL, NULL, NULL, "", ""};
     const int rc = parse(argc, argv, &o);
     return rc >= 0 ? rc : run_diff(&o);
 }

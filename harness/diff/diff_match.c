@@ -111,7 +111,8 @@ static void compare_pair(const cph_diff *d, cph_diff_pair *p) {
     const cph_result_item *b = p->base, *n = p->next;
     p->cmp.base_median = b->median;
     p->cmp.new_median = n->median;
-    const double f = d->control.factor; /* 1 unless the control drifted */
+    /* 1 unless the control drifted, times the layer's own correction */
+    const double f = d->control.factor * p->local;
     p->cmp.median_ratio = b->median > 0 ? n->median / f / b->median : NAN;
     p->cmp.m = b->nsamples;
     p->cmp.n = n->nsamples;
@@ -143,6 +144,9 @@ static void compare_pair(const cph_diff *d, cph_diff_pair *p) {
     if (!c.bounded)
         snprintf(p->note, sizeof p->note, "too few samples for a %.0f %% interval",
                  100.0 * (1.0 - d->alpha));
+    else if (p->local != 1.0)
+        snprintf(p->note, sizeof p->note, "layer moved %.3fx (%zu of other algorithms): /%.3f",
+                 p->layer_shift, p->layer_others, p->local);
 }
 
 static void choice_changes(cph_diff *d) {
@@ -185,7 +189,6 @@ int cph_diff_build(const cph_results *base, const cph_results *next, double alph
     out->chosen_rows_only = (flags & CPH_DIFF_CHOSEN_ONLY) && base->kind == CPH_RESULTS_BENCH &&
                             next->kind == CPH_RESULTS_BENCH && base->nchosen_rows &&
                             next->nchosen_rows;
-    if (cph_diff_control_compare(out)) return -1;
     size_t *ob = occurrences(base), *on = occurrences(next);
     char *used = calloc(next->nitems ? next->nitems : 1, 1);
     const size_t nb = base->nitems ? base->nitems : 1, nn = next->nitems ? next->nitems : 1;
@@ -217,8 +220,20 @@ int cph_diff_build(const cph_results *base, const cph_results *next, double alph
         cph_diff_pair *p = &out->pairs[out->npairs++];
         p->base = &base->items[i];
         p->next = &next->items[match];
-        compare_pair(out, p);
-        out->counts[p->verdict]++;
+    }
+    /* the rows' common shift, the control (whether the rows are judged
+     * drift-corrected), then each layer's own shift */
+    if (cph_diff_rows_shift(out) || cph_diff_control_compare(out) || cph_diff_layer_shifts(out)) {
+        free(ob);
+        free(on);
+        free(used);
+        cph_diff_free(out);
+        return -1;
+    }
+    for (size_t i = 0; i < out->npairs; i++) {
+        compare_pair(out, &out->pairs[i]);
+        out->counts[out->pairs[i].verdict]++;
+        out->nlocal += out->pairs[i].local != 1.0;
     }
     for (size_t j = 0; j < next->nitems; j++)
         if (!used[j]) out->only_next[out->nonly_next++] = &next->items[j];

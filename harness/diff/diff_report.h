@@ -17,6 +17,16 @@ typedef struct cph_diff_pair {
     cph_shift_cmp cmp;
     cph_shift_verdict verdict;
     char note[96];         /* why not compared, or "" */
+    /* Its layer's own control (diff_entry.c; not with --paired): the shift
+     * NEW/BASE of the other algorithms' measurements on the same layer, flip
+     * and thread count (NAN: none on both sides), how many there were, and
+     * what NEW's times are divided by beyond the control's factor: the
+     * layer's shift over the common shift of the rows at its thread count,
+     * taken only the way the row itself moved (after the control's factor)
+     * and never past it (1: no correction). */
+    double layer_shift;
+    size_t layer_others;
+    double local;
 } cph_diff_pair;
 
 /* Tables on both sides: an entry whose choice changed. */
@@ -29,9 +39,12 @@ typedef struct cph_choice_change {
  * control"): each series compared BASE against NEW with the rows'
  * statistics, and the control as one series whose trial r is the geometric
  * mean of the series' trials r.  When that moved significantly beyond the
- * tolerance (verdict slower or faster), it is machine-wide drift and every
- * NEW time is divided by its Hodges-Lehmann ratio before the rows are
- * judged. */
+ * tolerance (verdict slower or faster) and the rows moved the same way (their
+ * common shift, the median over the pairs of the log ratio of the medians,
+ * has the control's sign and at least half its size), it is machine-wide
+ * drift and every NEW time is divided by the control's Hodges-Lehmann ratio
+ * before the rows are judged.  A control that moved alone stands for nothing
+ * the rows went through: the rows are judged as measured. */
 typedef struct cph_diff_control {
     int present;              /* both sides carry a control with trials */
     int sides;                /* how many sides carry one (0, 1 or 2) */
@@ -40,7 +53,9 @@ typedef struct cph_diff_control {
     int compared;             /* the combined control */
     cph_shift_cmp cmp;
     cph_shift_verdict verdict;
-    int drift;                /* verdict slower or faster: the rows are corrected */
+    int moved;                /* verdict slower or faster */
+    double rows_shift;        /* the rows' common shift NEW/BASE (NAN without pairs) */
+    int drift;                /* moved, and the rows with it: the rows are corrected */
     double factor;            /* what NEW times are divided by (1 without drift) */
 } cph_diff_control;
 
@@ -95,10 +110,20 @@ typedef struct cph_diff {
     cph_choice_change *changes;
     size_t nchanges;
     size_t counts[4];      /* pairs per cph_shift_verdict */
+    double rows_shift;     /* the rows' common shift NEW/BASE: exp of the median over the
+                              pairs of log(NEW median / BASE median); NAN without pairs */
+    size_t nlocal;         /* pairs judged with a layer correction (local != 1) */
 } cph_diff;
 
+/* diff_entry.c: the rows' common shift into d->rows_shift (after the pairs
+ * are matched), then every pair's layer shift and correction (after the
+ * control).  Each returns -1 when out of memory. */
+int cph_diff_rows_shift(cph_diff *d);
+int cph_diff_layer_shifts(cph_diff *d);
+
 /* diff_control.c: the control of both sides (d->base, d->next, alpha, tol
- * set) into d->control; returns -1 when out of memory.  The network of the
+ * set, the pairs matched and d->rows_shift known) into d->control; returns
+ * -1 when out of memory.  The network of the
  * compared chosen rows into d->network (after the pairs are built). */
 int cph_diff_control_compare(cph_diff *d);
 void cph_diff_network_compare(cph_diff *d);

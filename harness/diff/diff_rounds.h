@@ -26,4 +26,16 @@ int cph_results_fold_rounds(const cph_results *rounds, size_t n, cph_results *ou
  * fingerprints differ (nothing moved), -1 when out of memory. */
 int cph_results_join(cph_results *into, cph_results *part);
 
+/* An in-process A/B run (tools/revision_plugin/): one bench results file in
+ * which the rows of algorithm "<bp>_X" are BASE's and those of "<np>_X"
+ * NEW's, each row's samples its trial medians in round order, trial r of the
+ * two taken back to back in round r.  Every BASE row whose NEW twin is at the
+ * same point (layer, shape, flip, threads, parameters) with as many trials
+ * becomes one item of *base and one of *next, both named X, their samples
+ * those trials, so that the paired comparison pairs round r with round r.
+ * Rows of either side without such a twin are counted in *unpaired; other
+ * rows are ignored.  Returns 0, or -1 when out of memory (outputs freed). */
+int cph_results_split_within(const cph_results *all, const char *bp, const char *np,
+                             cph_results *base, cph_results *next, size_t *unpaired);
+
 #endif

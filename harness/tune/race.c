@@ -82,6 +82,22 @@ static void eliminate(const cph_race_opts *o, cph_race_result *r) {
     free(d);
 }
 
+/* Reorders the shuffled idx[0..n) so that each group's members are
+ * consecutive: groups in the order their first member comes, members in
+ * their shuffled order (so both are random).  tmp holds n. */
+static void gather_groups(size_t *idx, size_t n, const size_t *group, size_t *tmp) {
+    size_t m = 0;
+    for (size_t i = 0; i < n; i++) {
+        const size_t g = group[idx[i]];
+        int seen = 0;
+        for (size_t j = 0; j < i && !seen; j++) seen = group[idx[j]] == g;
+        if (seen) continue;
+        for (size_t j = i; j < n; j++)
+            if (group[idx[j]] == g) tmp[m++] = idx[j];
+    }
+    memcpy(idx, tmp, n * sizeof *idx);
+}
+
 /* Fisher-Yates shuffle of idx[0..n) with the seeded generator. */
 static void shuffle(size_t *idx, size_t n, uint64_t *rng) {
     for (size_t i = n; i > 1; i--) {
@@ -101,8 +117,10 @@ int cph_race_run(const cph_race_opts *o, size_t ncand, cph_trial_fn fn, void *ar
     if (max_rounds > CPH_PAIRED_MAX) max_rounds = CPH_PAIRED_MAX;
     out->cand = calloc(ncand ? ncand : 1, sizeof *out->cand);
     size_t *order = malloc((ncand ? ncand : 1) * sizeof *order);
-    if (!out->cand || !order) {
+    size_t *tmp = malloc((ncand ? ncand : 1) * sizeof *tmp);
+    if (!out->cand || !order || !tmp) {
         free(order);
+        free(tmp);
         free(out->cand);
         out->cand = NULL;
         return -1;
@@ -112,6 +130,7 @@ int cph_race_run(const cph_race_opts *o, size_t ncand, cph_trial_fn fn, void *ar
         out->cand[i].trials = malloc(max_rounds * sizeof(double));
         if (!out->cand[i].trials) {
             free(order);
+            free(tmp);
             cph_race_free(out);
             return -1;
         }
@@ -136,6 +155,7 @@ int cph_race_run(const cph_race_opts *o, size_t ncand, cph_trial_fn fn, void *ar
         for (size_t i = 0; i < ncand; i++)
             if (out->cand[i].state == CPH_RACE_IN) order[n++] = i;
         shuffle(order, n, &rng);
+        if (o->group) gather_groups(order, n, o->group, tmp);
         const size_t control_at = o->control ? (size_t)(cph_rng_next(&rng) % (n + 1)) : n + 1;
         for (size_t k = 0; k <= n; k++) {
             if (k == control_at) o->control(o->control_arg, out->rounds);
@@ -158,6 +178,7 @@ int cph_race_run(const cph_race_opts *o, size_t ncand, cph_trial_fn fn, void *ar
     }
     if (in_race(out) == 0) out->ended_by = "all failed";
     free(order);
+    free(tmp);
     out->chosen = leader(out);
     if (out->chosen >= 0) out->chosen_median = cph_race_median(out, (size_t)out->chosen);
     return 0;

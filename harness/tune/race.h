@@ -46,6 +46,12 @@ typedef struct cph_race_opts {
      * record the state of the machine it ran in.  NULL: none. */
     void (*control)(void *arg, size_t round);
     void *control_arg;
+    /* Candidate -> group, or NULL.  With groups, the candidates of a group
+     * run back to back within each round (groups and the members of each in
+     * a shuffled order), so that the trials of one group's members are taken
+     * close together in time: a pair compared trial by trial shares the
+     * machine's state (bench's layers, the in-process A/B check). */
+    const size_t *group;
 } cph_race_opts;
 
 void cph_race_defaults(cph_race_opts *o);

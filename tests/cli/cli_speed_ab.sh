@@ -1,5 +1,10 @@
 #!/usr/bin/env bash
-# scripts/ci-speed-check --ab end to end with given binaries (no build):
+# scripts/ci-speed-check --ab end to end with given builds (no build here).
+# In one process first (the default): BASE = this build's algorithms as a
+# revision plugin (base_X), NEW = the same with `direct` four times as long
+# (new_X; tests/CMakeLists.txt: cprev_new_slowed): flagged on every direct
+# row; then the same build on both sides (the plumbing: exit code agrees with
+# the JUnit file), and diff --within's refusals.  Then --processes:
 # BASE = this build, NEW = the test-only build whose `direct` runs four times
 # as long (tests/CMakeLists.txt: convpick_slowed).  Eight rounds, interleaved
 # in a shuffled order, compared paired: the slowdown of `direct` is flagged
@@ -13,7 +18,11 @@
 set -euo pipefail
 CLI="$1"; SRC="$2"
 SLOWED="$(dirname "$CLI")/tests/convpick_slowed"
+PLUG="$(dirname "$CLI")/tests/plugins"
 [ -x "$SLOWED" ] || { echo "cli_speed_ab: SKIP: $SLOWED not built"; exit 77; }
+for v in base new new_slowed; do
+  [ -f "$PLUG/cprev_$v.so" ] || { echo "cli_speed_ab: SKIP: $PLUG/cprev_$v.so not built"; exit 77; }
+done
 tmp="$(mktemp -d)"; trap 'rm -rf "$tmp"' EXIT
 fail() { echo "FAIL: $*"; exit 1; }
 cat >"$tmp/shapes.txt" <<'S'
@@ -21,6 +30,47 @@ cat >"$tmp/shapes.txt" <<'S'
 a: n=1,c=4,h=10,w=10,k=8,r=3,s=3,pad=1
 b: n=1,c=8,h=8,w=8,k=8,r=1,s=1
 S
+# --- in one process ---
+in1=("$SRC/scripts/ci-speed-check" --ab HEAD --convpick "$CLI" --plugin-base "$PLUG/cprev_base.so"
+     --shapes "$tmp/shapes.txt" --algo direct,im2col_gemm --max-seconds 0.01 --rounds 8)
+set +e; "${in1[@]}" --plugin-new "$PLUG/cprev_new_slowed.so" --out "$tmp/in" >"$tmp/log" 2>&1; rc=$?; set -e
+[ "$rc" = 1 ] || { cat "$tmp/log"; fail "in one process, a 4x slowdown of direct: exit $rc, expected 1"; }
+[ -f "$tmp/in/ab.json" ] || fail "no $tmp/in/ab.json"
+[ "$(ls "$tmp/in" | grep -c '^round')" = 0 ] || fail "in one process, yet round files were written"
+grep -q "^in one process: BASE = rows base_\*, NEW = rows new_\*" "$tmp/in/diff.txt" || { cat "$tmp/in/diff.txt"; fail "not an in-process comparison"; }
+grep -q "^method: rounds paired in order" "$tmp/in/diff.txt" || fail "in one process: not a paired comparison"
+# both sides' rows, 8 trials each, in the one results file
+for a in base_direct new_direct base_im2col_gemm new_im2col_gemm; do
+  n="$(grep -cE "^[ab] +no +1 +$a " "$tmp/in/ab.txt" || true)"
+  [ "$n" = 2 ] || { cat "$tmp/in/ab.txt"; fail "$a: $n rows in the bench output, expected 2"; }
+done
+ndirect="$(grep -cE '^[a-z]+ +[ab] +no +1 +direct ' "$tmp/in/diff.txt")"
+nd="$(xmllint --xpath 'count(//testcase/failure[contains(../@name, " direct")])' "$tmp/in/junit.xml")"
+[ "$ndirect" = 2 ] && [ "$nd" = 2 ] || { cat "$tmp/in/diff.txt"; fail "in one process, direct rows: $ndirect, flagged: $nd (expected both)"; }
+grep -E '^slower +[ab] +no +1 +direct ' "$tmp/in/diff.txt" | awk '{ if ($9 < 2.5) bad = 1 } END { exit bad }' \
+  || { cat "$tmp/in/diff.txt"; fail "in one process, a direct row's ratio is below 2.5 (the slowdown is 4x)"; }
+grep -q "A/B speed check FAILED: a regression against HEAD" "$tmp/log" || fail "in one process: verdict line"
+
+set +e; "${in1[@]}" --plugin-new "$PLUG/cprev_new.so" --out "$tmp/in-same" >"$tmp/log" 2>&1; rc=$?; set -e
+[ "$rc" = 0 ] || [ "$rc" = 1 ] || { cat "$tmp/log"; fail "in one process, same build: exit $rc"; }
+nf="$(xmllint --xpath 'count(//testcase/failure)' "$tmp/in-same/junit.xml")"
+nt="$(xmllint --xpath 'count(//testcase)' "$tmp/in-same/junit.xml")"
+[ "$nt" = 4 ] || fail "in one process, same build: $nt JUnit testcases, expected 4"
+[ "$(( rc == 1 ))" = "$(( nf > 0 ))" ] || fail "in one process: exit $rc disagrees with $nf JUnit failures"
+
+set +e; "${in1[@]}" --out "$tmp/x" >"$tmp/log" 2>&1; rc=$?; set -e
+[ "$rc" = 2 ] && grep -q "give both --plugin-base and --plugin-new" "$tmp/log" || fail "--plugin-base alone accepted (exit $rc)"
+for bad in "base" "base,base" "Base,new" "base,new,x"; do
+  set +e; "$CLI" diff --within "$bad" "$tmp/in/ab.json" >"$tmp/log" 2>&1; rc=$?; set -e
+  [ "$rc" = 2 ] && grep -q "^convpick diff: --within: '$bad': expected two different prefixes" "$tmp/log" \
+    || { cat "$tmp/log"; fail "diff --within $bad: exit $rc"; }
+done
+set +e; "$CLI" diff --within base,new "$tmp/in/ab.json" "$tmp/in/ab.json" >"$tmp/log" 2>&1; rc=$?; set -e
+[ "$rc" = 2 ] && grep -q "expected one results file holding both sides, got 2" "$tmp/log" || fail "diff --within with two files"
+set +e; "$CLI" diff --within old,cur "$tmp/in/ab.json" >"$tmp/log" 2>&1; rc=$?; set -e
+[ "$rc" = 2 ] && grep -q "has no pair of rows old_X and cur_X" "$tmp/log" || { cat "$tmp/log"; fail "diff --within without such rows: exit $rc"; }
+
+# --- in processes ---
 ab=("$SRC/scripts/ci-speed-check" --ab HEAD --convpick-base "$CLI" --shapes "$tmp/shapes.txt"
     --algo direct,im2col_gemm --max-seconds 0.02 --rounds 8)
 

@@ -13,6 +13,13 @@
  *    (control included) must read as drift and no regression; the control
  *    unchanged and one row 1.15x slower must be that row's regression
  *    (what the drift correction is for: issue 11, item 6).
+ *  - The same script's layer fixtures (tests/data/layer_*.bench.json,
+ *    drift_ctl.bench.json, values in tests/data/layer_fixtures.txt): the
+ *    rows' common shift, each chosen row's layer correction and its SciPy
+ *    Mann-Whitney p and NumPy Hodges-Lehmann ratio after it; and the
+ *    invented truths: a control that moved alone corrects nothing, a layer
+ *    that moved as a whole is not a regression, one algorithm slower on one
+ *    layer is, and every row slower everywhere (shared code) is not hidden.
  *  - Jansson's own parse of a file bench wrote, for the round trip: every
  *    row's trial medians and every control trial as the reader returns them. */
 #define _POSIX_C_SOURCE 200809L
@@ -178,6 +185,153 @@ static void test_one_side_without_control(void **state) {
     done(&b, &n, &d);
 }
 
+/* One "row" line of layer_fixtures.txt, or the scenario's rowshift/control. */
+typedef struct lfx {
+    char scen[16], layer[32];
+    double local, p, hl;
+} lfx;
+
+static double layer_fixture(const char *what, const char *scen, const char *layer, lfx *out) {
+    FILE *f = fopen(DATA "/layer_fixtures.txt", "r");
+    assert_non_null(f);
+    char line[512], w[16], sc[16], ly[32];
+    double v = NAN;
+    while (fgets(line, sizeof line, f)) {
+        if (sscanf(line, "%15s %15s", w, sc) != 2 || strcmp(w, what) || strcmp(sc, scen)) continue;
+        if (strcmp(what, "row") == 0) {
+            assert_int_equal(sscanf(line, "%*s %*s %31s %lf %lf %lf", ly, &out->local, &out->p,
+                                    &out->hl),
+                             4);
+            if (strcmp(ly, layer) != 0) continue;
+            v = out->hl;
+        } else if (strcmp(what, "rowshift") == 0) {
+            assert_int_equal(sscanf(line, "%*s %*s %lf", &v), 1);
+        } else {
+            assert_int_equal(sscanf(line, "%*s %*s %lf %lf", &out->p, &out->hl), 2);
+            v = out->hl;
+        }
+        break;
+    }
+    fclose(f);
+    if (!isfinite(v)) fail_msg("no %s %s %s in layer_fixtures.txt", what, scen, layer);
+    return v;
+}
+
+static void build_from(const char *base_file, const char *next_file, cph_results *b,
+                       cph_results *n, cph_diff *d) {
+    char msg[512];
+    if (cph_results_read(base_file, b, msg, sizeof msg) != CP_OK) fail_msg("%s", msg);
+    if (cph_results_read(next_file, n, msg, sizeof msg) != CP_OK) fail_msg("%s", msg);
+    assert_int_equal(cph_diff_build(b, n, 0.01, 0.05, CPH_DIFF_CHOSEN_ONLY, d), 0);
+}
+
+/* Every chosen row against the fixtures: its layer correction, p and HL. */
+static void check_layer_rows(const cph_diff *d, const char *scen) {
+    static const char *const layers[3] = {"front", "mid", "back"};
+    char what[96];
+    lfx x;
+    near(d->rows_shift, layer_fixture("rowshift", scen, "", &x), 1e-12, "rows' common shift");
+    assert_int_equal(d->npairs, 3);
+    for (int i = 0; i < 3; i++) {
+        const cph_diff_pair *p = NULL;
+        for (size_t k = 0; k < d->npairs; k++)
+            if (strcmp(d->pairs[k].base->layer, layers[i]) == 0) p = &d->pairs[k];
+        assert_non_null(p);
+        layer_fixture("row", scen, layers[i], &x);
+        snprintf(what, sizeof what, "%s %s", scen, layers[i]);
+        assert_int_equal(p->layer_others, 2);
+        near(p->local, x.local, 1e-12, what);
+        assert_true(p->compared);
+        near(p->cmp.mwu.p, x.p, 1e-9, what);
+        near(p->cmp.ratio, x.hl, 1e-12, what);
+    }
+}
+
+static const cph_diff_pair *pair_of(const cph_diff *d, const char *layer) {
+    for (size_t k = 0; k < d->npairs; k++)
+        if (strcmp(d->pairs[k].base->layer, layer) == 0) return &d->pairs[k];
+    fail_msg("no pair for %s", layer);
+    return NULL;
+}
+
+/* The control alone 0.87x, the rows unchanged: nothing corrected. */
+static void test_control_moved_alone(void **state) {
+    (void)state;
+    cph_results b, n;
+    cph_diff d;
+    lfx x;
+    build(DATA "/drift_ctl.bench.json", &b, &n, &d);
+    assert_int_equal(d.control.verdict, CPH_SHIFT_FASTER);
+    near(d.control.cmp.ratio, layer_fixture("control", "ctl", "", &x), 1e-12, "control HL");
+    near(d.control.cmp.mwu.p, x.p, 1e-9, "control p");
+    near(d.rows_shift, layer_fixture("rowshift", "ctl", "", &x), 1e-12, "rows' common shift");
+    assert_false(d.control.drift);
+    near(d.control.factor, 1.0, 0.0, "no correction");
+    for (size_t k = 0; k < d.npairs; k++) {
+        layer_fixture("row", "ctl", d.pairs[k].base->layer, &x);
+        near(d.pairs[k].cmp.ratio, x.hl, 1e-12, d.pairs[k].base->layer);
+        assert_int_not_equal(d.pairs[k].verdict, CPH_SHIFT_SLOWER);
+    }
+    char text[512];
+    cph_diff_control_text(&d, text, sizeof text);
+    assert_non_null(strstr(text, "a drift the rows did not go through is not corrected"));
+    done(&b, &n, &d);
+}
+
+/* Every row of "mid" 1.3x: that layer's state, not a regression. */
+static void test_layer_moved_as_a_whole(void **state) {
+    (void)state;
+    cph_results b, n;
+    cph_diff d;
+    build_from(DATA "/layer_base.bench.json", DATA "/layer_state.bench.json", &b, &n, &d);
+    check_layer_rows(&d, "state");
+    assert_true(pair_of(&d, "mid")->local > 1.2);
+    assert_int_equal(d.counts[CPH_SHIFT_SLOWER], 0);
+    done(&b, &n, &d);
+}
+
+/* Only mid's chosen algorithm 1.15x: its regression, the layer unchanged. */
+static void test_one_algorithm_slower(void **state) {
+    (void)state;
+    cph_results b, n;
+    cph_diff d;
+    build_from(DATA "/layer_base.bench.json", DATA "/layer_algo.bench.json", &b, &n, &d);
+    check_layer_rows(&d, "algo");
+    assert_int_equal(d.counts[CPH_SHIFT_SLOWER], 1);
+    assert_int_equal(pair_of(&d, "mid")->verdict, CPH_SHIFT_SLOWER);
+    done(&b, &n, &d);
+}
+
+/* Every row of every layer 1.2x, the control unchanged (a change in shared
+ * code): every chosen row a regression, none explained away by its layer. */
+static void test_shared_slowdown_not_hidden(void **state) {
+    (void)state;
+    cph_results b, n;
+    cph_diff d;
+    build_from(DATA "/layer_base.bench.json", DATA "/layer_shared.bench.json", &b, &n, &d);
+    check_layer_rows(&d, "shared");
+    assert_false(d.control.drift);
+    assert_int_equal(d.counts[CPH_SHIFT_SLOWER], 3);
+    done(&b, &n, &d);
+}
+
+/* Every row of front and back 1.2x, mid unchanged: the common shift is
+ * 1.2x, mid's layer lies below it, and mid's own row did not move: the
+ * correction must not make mid a regression (it goes only the way the row
+ * moved); front and back are regressions. */
+static void test_correction_never_makes_a_regression(void **state) {
+    (void)state;
+    cph_results b, n;
+    cph_diff d;
+    build_from(DATA "/layer_base.bench.json", DATA "/layer_most.bench.json", &b, &n, &d);
+    check_layer_rows(&d, "most");
+    assert_true(d.rows_shift > 1.15);
+    assert_int_not_equal(pair_of(&d, "mid")->verdict, CPH_SHIFT_SLOWER);
+    assert_int_equal(pair_of(&d, "front")->verdict, CPH_SHIFT_SLOWER);
+    assert_int_equal(pair_of(&d, "back")->verdict, CPH_SHIFT_SLOWER);
+    done(&b, &n, &d);
+}
+
 /* bench --json with trials and the control, read back through the reader:
  * the same numbers as jansson's own parse of the file. */
 static void test_bench_round_trip(void **state) {
@@ -234,6 +388,11 @@ int main(void) {
         cmocka_unit_test(test_drift_everywhere),
         cmocka_unit_test(test_one_row_slower),
         cmocka_unit_test(test_one_side_without_control),
+        cmocka_unit_test(test_control_moved_alone),
+        cmocka_unit_test(test_layer_moved_as_a_whole),
+        cmocka_unit_test(test_one_algorithm_slower),
+        cmocka_unit_test(test_shared_slowdown_not_hidden),
+        cmocka_unit_test(test_correction_never_makes_a_regression),
         cmocka_unit_test(test_bench_round_trip),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);

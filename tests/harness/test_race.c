@@ -196,6 +196,48 @@ static void test_control_once_per_round(void **state) {
     cph_race_free(&r);
 }
 
+/* Groups: each round runs a group's members back to back, and the order of
+ * the groups and of the members varies between rounds (our rule,
+ * harness/tune/race.h; the check is of the order itself). */
+typedef struct {
+    size_t seq[40][6];
+    size_t n[40];
+} order_log;
+
+static int ordered_trial(void *arg, size_t cand, size_t round, double *median, double *wall) {
+    order_log *l = arg;
+    l->seq[round][l->n[round]++] = cand;
+    *median = 1.0 + 0.01 * (double)cand; /* nothing is dropped: min_rounds is the max */
+    *wall = 0.001;
+    return 0;
+}
+
+static void test_groups_run_back_to_back(void **state) {
+    (void)state;
+    static const size_t group[6] = {0, 1, 2, 0, 1, 2}; /* pairs {0,3} {1,4} {2,5} */
+    order_log l;
+    memset(&l, 0, sizeof l);
+    cph_race_opts o;
+    cph_race_defaults(&o);
+    o.max_rounds = o.min_rounds = 40;
+    o.budget_seconds = 1e9;
+    o.group = group;
+    cph_race_result r;
+    assert_int_equal(cph_race_run(&o, 6, ordered_trial, &l, &r), 0);
+    assert_int_equal(r.rounds, 40);
+    int first_seen[6] = {0}, member_first[6] = {0};
+    for (size_t k = 0; k < 40; k++) {
+        assert_int_equal(l.n[k], 6);
+        for (size_t i = 0; i < 6; i += 2) /* positions 0-1, 2-3, 4-5 hold one group each */
+            assert_int_equal(group[l.seq[k][i]], group[l.seq[k][i + 1]]);
+        first_seen[group[l.seq[k][0]]]++;
+        member_first[l.seq[k][0]]++;
+    }
+    for (int g = 0; g < 3; g++) assert_true(first_seen[g] > 0); /* groups' order varies */
+    assert_true(member_first[0] > 0 && member_first[3] > 0);    /* and members' order */
+    cph_race_free(&r);
+}
+
 static void test_failed_candidate_leaves(void **state) {
     (void)state;
     model m = make_model(5);
@@ -232,6 +274,7 @@ int main(void) {
         cmocka_unit_test(test_model_defeats_unpaired_choice),
         cmocka_unit_test(test_budget_stops_between_rounds),
         cmocka_unit_test(test_control_once_per_round),
+        cmocka_unit_test(test_groups_run_back_to_back),
         cmocka_unit_test(test_failed_candidate_leaves),
         cmocka_unit_test(test_stop_flag),
     };
