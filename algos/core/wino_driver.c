@@ -63,10 +63,11 @@ static int64_t wino_ld(int64_t tb) { return (tb + 15) / 16 * 16; }
  * tile, alpha^2 places one matrix apart -- would all map to one set of the L1
  * (12-way on the Xeon): 36 lines for F(4x4,3x3), 16 for F(2x2,3x3), evicting
  * each other at every tile.  One line more puts each point in the next set.
- * On one core of the Xeon (family 6 model 167 as reported), default
- * parameters, medians of 11 rounds in the quietest of three alternations:
- * F(4x4,3x3) c=k=64 h=w=56 1.18 ms against 1.28, c=k=128 h=w=28 1.27 against
- * 1.44; F(2x2,3x3) 1.81 against 1.89 and 1.59 against 1.71. */
+ * One core of the Xeon reported as family 6 model 167, default parameters,
+ * three alternations with the previous layout (medians of 11 rounds):
+ * F(4x4,3x3) c=k=128 h=w=28 faster in all three (1.44 -> 1.27, 1.83 -> 1.28,
+ * 1.80 -> 1.64 ms), c=k=64 h=w=56 in two (1.28 -> 1.18, 1.90 -> 1.86; 1.70 ->
+ * 1.87 in the third); a modest gain (results/algos/README.md). */
 static int64_t wino_pstride(int64_t rows, int64_t ld) { return rows * ld + 16; }
 
 static int64_t wino_tiles_h(const cpa_wino_variant *v, const cp_shape *s) {
