@@ -15,12 +15,20 @@ enum { MR = CPA_BLOCKED_MR, KR = CPA_CV_KR };
 
 /* At most this many tiles in the layer (and K filling 64-channel vectors to
  * 85 %), the packed GEMM runs the channel-vector tile where the kernel set has
- * one (AVX-512): the product is only 16..64 columns wide, which the
+ * one (AVX-512): the product is only 16..48 columns wide, which the
  * pixel-vector tile covers with one or two 16-lane segments (6 or 12
  * accumulators: latency-bound), while the channel-vector tile keeps 28
  * accumulators over chunks of up to 7 columns.  Measured on a Xeon (family 6
- * model 207), F(2x2,3x3), one core: see wino_cv_task. */
-#define WINO_CV_MAX_TILES 64
+ * model 207), F(2x2,3x3), one core: see wino_cv_task.  Not at 49 tiles
+ * (F(4x4,3x3) at 28x28, F(2x2,3x3) at 14x14): there the pixel-vector tile
+ * fills 49 of 64 lanes with all four segments (24 accumulators), while the
+ * channel-vector tile reads its 64-channel U panel (C x 64 floats, 32 KiB at
+ * C = 128: with V[xi] more than the L1) again for each of the 7 chunks.
+ * F(4x4,3x3) c=k=128 h=w=28 took 1.34..1.37 ms with the pixel-vector tile
+ * against 1.42..1.46 ms (medians of 11 rounds, two runs, one core of the Xeon
+ * reported as family 6 model 167, results/algos/README.md); F(2x2,3x3) c=k=256
+ * h=w=14 was within the noise of the two (1.92..2.18 ms either way). */
+#define WINO_CV_MAX_TILES 48
 
 /* The default GEMM is the packed tile kernel.  With few tiles OpenBLAS spends
  * its time re-packing U (K x C per point, all of U every run) for a product
@@ -47,6 +55,20 @@ const cp_param_desc cpa_wino_params[CPA_WINO_NPARAMS] = {
 /* Row stride of the V and M matrices: a multiple of 16 floats (64 bytes), so
  * that the rows different workers write never share a cache line. */
 static int64_t wino_ld(int64_t tb) { return (tb + 15) / 16 * 16; }
+
+/* Floats from V[xi] to V[xi+1] (or M's), matrices of `rows` rows of ld floats:
+ * one cache line more than the matrix.  rows * ld floats is a multiple of
+ * 4 KiB whenever rows is a multiple of 64 (ld is one of 16), and then the
+ * alpha^2 values of one tile -- what a transform writes (V) or reads (M) per
+ * tile, alpha^2 places one matrix apart -- would all map to one set of the L1
+ * (12-way on the Xeon): 36 lines for F(4x4,3x3), 16 for F(2x2,3x3), evicting
+ * each other at every tile.  One line more puts each point in the next set.
+ * One core of the Xeon reported as family 6 model 167, default parameters,
+ * three alternations with the previous layout (medians of 11 rounds):
+ * F(4x4,3x3) c=k=128 h=w=28 faster in all three (1.44 -> 1.27, 1.83 -> 1.28,
+ * 1.80 -> 1.64 ms), c=k=64 h=w=56 in two (1.28 -> 1.18, 1.90 -> 1.86; 1.70 ->
+ * 1.87 in the third); a modest gain (results/algos/README.md). */
+static int64_t wino_pstride(int64_t rows, int64_t ld) { return rows * ld + 16; }
 
 static int64_t wino_tiles_h(const cpa_wino_variant *v, const cp_shape *s) {
     return (cp_shape_out_h(s) + v->m - 1) / v->m;
@@ -103,6 +125,16 @@ static int64_t wino_block_for(const cpa_wino_variant *v, const cp_shape *s, size
  * direct-equivalent vs 102 at 32 and 84 at 128), c=k=256 h=w=14 at 32..64
  * (128..130 vs 88 at 16), and c=k=512 h=w=7 n=4 at 64..128 (83..84 vs 59 at
  * 32). */
+/* With batch 1 the small planes are one block: 16 tiles (F(4x4,3x3) at
+ * 14x14) and 4 (at 7x7) are below any block the rule gives, so the block is
+ * the layer; splitting it was slower (F(4x4,3x3) c=k=256 h=w=14: tile_block
+ * 8 2.68 ms against 2.55 at 16; c=k=512 h=w=7: 2 took 8.6 ms against 5.3 at
+ * 16; Xeon family 6 model 167, one core, medians).  What makes F(4x4,3x3)
+ * slower than F(2x2,3x3) there is not the block: its U is 36 K x C
+ * matrices against 16 (9.4 against 4.2 MB at c=k=256, 37.7 against 16.8 MB
+ * at c=k=512), streamed for 16 or 4 columns, and 14 and 7 are not multiples
+ * of 4, so it computes 1.31x the outputs it keeps (16x16 for 14x14, 8x8
+ * for 7x7). */
 void cpa_wino_defaults(const cpa_wino_variant *v, const cp_shape *s, const cp_cache_sizes *c,
                        cp_params *out) {
     out->v[CPA_WINO_TILE_BLOCK] = wino_block_for(v, s, c->l2, 64);
@@ -147,8 +179,8 @@ size_t cpa_wino_workspace_size(const cpa_wino_variant *v, const cp_shape *s, con
                                int nthreads) {
     const int64_t tb = p->v[CPA_WINO_TILE_BLOCK], ld = wino_ld(tb), np = wino_points(v);
     if (nthreads < 1) nthreads = 1;
-    const size_t vb = cpa_align64((size_t)(np * s->c * ld) * sizeof(float));
-    const size_t mb = cpa_align64((size_t)(np * s->k * ld) * sizeof(float));
+    const size_t vb = cpa_align64((size_t)(np * wino_pstride(s->c, ld)) * sizeof(float));
+    const size_t mb = cpa_align64((size_t)(np * wino_pstride(s->k, ld)) * sizeof(float));
     return vb + mb + wino_rowbuf_floats(v, s, tb) * sizeof(float) * (size_t)nthreads;
 }
 
@@ -267,7 +299,7 @@ static void wino_input_task(void *arg, int64_t begin, int64_t end, int worker) {
     const cpa_wino_variant *var = blk->var;
     const cp_shape *s = blk->a->shape;
     float *rows = blk->rows + (size_t)worker * blk->rows_per_worker;
-    const int64_t vstride = s->c * blk->ld; /* floats between V[xi] and V[xi+1] */
+    const int64_t vstride = wino_pstride(s->c, blk->ld); /* floats from V[xi] to V[xi+1] */
     for (int64_t c = begin; c < end; c++) {
         WINO_FOR_SEGMENTS(blk, {
             const float *xc = blk->a->x + (n * s->c + c) * s->h * s->w;
@@ -285,7 +317,7 @@ static void wino_output_task(void *arg, int64_t begin, int64_t end, int worker) 
     const cpa_wino_variant *var = blk->var;
     const cp_shape *s = blk->a->shape;
     const int64_t P = cp_shape_out_h(s), Q = cp_shape_out_w(s), m = var->m;
-    const int64_t mstride = s->k * blk->ld;
+    const int64_t mstride = wino_pstride(s->k, blk->ld);
     float *scratch = blk->rows + (size_t)worker * blk->rows_per_worker;
     for (int64_t k = begin; k < end; k++) {
         const float bias = blk->a->bias ? blk->a->bias[k] : 0.0f;
@@ -328,8 +360,8 @@ static void wino_packed_task(void *arg, int64_t begin, int64_t end, int worker) 
         t.bias = NULL;
         t.nk = (int)(K - kt * MR < MR ? K - kt * MR : MR);
         t.first = 1;
-        const float *vx = blk->v + xi * C * ld;
-        float *mx = blk->m + xi * K * ld + kt * MR * ld;
+        const float *vx = blk->v + xi * wino_pstride(C, ld);
+        float *mx = blk->m + xi * wino_pstride(K, ld) + kt * MR * ld;
         for (int64_t col = 0; col < blk->nt; col += kn.nseg * kn.nv) {
             for (int v = 0; v < CPA_BLOCKED_SEGS; v++) {
                 const int64_t left = blk->nt - col - v * kn.nv;
@@ -363,8 +395,8 @@ static void wino_cv_task(void *arg, int64_t begin, int64_t end, int worker) {
                          ld, NULL, 0, (int)(K - kt * KR < KR ? K - kt * KR : KR), 1};
         for (int64_t ch = 0; ch < nch; ch++) {
             const int64_t c0 = ch * blk->nt / nch, c1 = (ch + 1) * blk->nt / nch;
-            t.x = blk->v + xi * C * ld + c0;
-            t.y = blk->m + xi * K * ld + kt * KR * ld + c0;
+            t.x = blk->v + xi * wino_pstride(C, ld) + c0;
+            t.y = blk->m + xi * wino_pstride(K, ld) + kt * KR * ld + c0;
             t.np = (int)(c1 - c0);
             blk->tile.cv(&t);
         }
@@ -376,8 +408,8 @@ cp_status cpa_wino_run(const cpa_wino_variant *var, const cp_run_args *a) {
     const int64_t C = s->c, K = s->k, np = wino_points(var);
     const int64_t tb = a->params->v[CPA_WINO_TILE_BLOCK], ld = wino_ld(tb);
     const int64_t all = s->n * wino_tiles_h(var, s) * wino_tiles_w(var, s);
-    const size_t vbytes = cpa_align64((size_t)(np * C * ld) * sizeof(float));
-    const size_t mbytes = cpa_align64((size_t)(np * K * ld) * sizeof(float));
+    const size_t vbytes = cpa_align64((size_t)(np * wino_pstride(C, ld)) * sizeof(float));
+    const size_t mbytes = cpa_align64((size_t)(np * wino_pstride(K, ld)) * sizeof(float));
     char *ws = a->workspace;
     wino_block blk = {
         .var = var,
@@ -399,8 +431,8 @@ cp_status cpa_wino_run(const cpa_wino_variant *var, const cp_run_args *a) {
         else if (a->params->v[CPA_WINO_GEMM] == 1)
             cp_parallel_for(a->exec, np * wino_ktiles(s), wino_packed_task, &blk);
         else
-            cpa_sgemm_batch(a->exec, np, K, blk.nt, C, a->weights, K * C, C, blk.v, C * ld, ld,
-                            blk.m, K * ld, ld);
+            cpa_sgemm_batch(a->exec, np, K, blk.nt, C, a->weights, K * C, C, blk.v,
+                            wino_pstride(C, ld), ld, blk.m, wino_pstride(K, ld), ld);
         cp_parallel_for(a->exec, K, wino_output_task, &blk);
     }
     return CP_OK;

@@ -33,7 +33,8 @@ static int setup(cph_bench_state *r, cph_bench_cfg *c) {
     int most = 1;
     for (int i = 0; i < r->nthreads; i++)
         if (r->threads[i] > most) most = r->threads[i];
-    if (cph_mem_check_selection(&c->sel, most, 0, c->max_memory ? c->max_memory : cph_mem_default(),
+    /* with the oracle's reference: every row's error is measured (bench_error.c) */
+    if (cph_mem_check_selection(&c->sel, most, 1, c->max_memory ? c->max_memory : cph_mem_default(),
                                 msg, sizeof msg) != CP_OK) {
         cph_err("bench: %s", msg);
         return CPH_EXIT_USAGE;

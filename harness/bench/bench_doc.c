@@ -30,6 +30,9 @@
  *        rows, "-" when the algorithm does not say),
  *        "peak_gflops": 90.1 | null, "peak_fraction": 0.457 | null,
  *        "peak_bits": 512 | null (the vector width of the roof the fraction is against),
+ *        "rel_err": 1.2e-07 | null (algorithm and chosen rows: the error against the fp64
+ *        oracle, bench_error.c; null for SGEMM rows and non-finite outputs; absent in
+ *        files written before it was measured),
  *        "measurement": {measurement object, report_json.h}}      (ok only)
  *        whose samples are the row's TRIAL MEDIANS in round order
  *        (measurement.settings.samples_are = "trial_medians", .rounds, .placed;

@@ -25,7 +25,6 @@
 #include "harness/io/report_json.h"
 #include "harness/measure/data.h"
 #include "harness/measure/gemm_ref.h"
-#include "harness/tune/checkrun.h"
 #include "harness/tune/race.h"
 #include "harness/tune/trial.h"
 
@@ -76,8 +75,9 @@ static void set_error(cph_bench_trow *w, const char *prefix, const char *why) {
     snprintf(w->why, sizeof w->why, "%s%s", prefix, why);
 }
 
-/* An algorithm row with the algorithm's defaults; unsupported and plugin
- * checks here, plan failures in its first trial. */
+/* An algorithm row with the algorithm's defaults; unsupported here, the
+ * error (and a plugin's tolerance) in bench_error.c, plan failures in its
+ * first trial. */
 static void plan_algo(layer_run *lr, cph_bench_trow *w, const cp_algo *a, int64_t *wino_tb) {
     const cph_bench_row *x = &w->x;
     char why[256] = "";
@@ -87,14 +87,6 @@ static void plan_algo(layer_run *lr, cph_bench_trow *w, const cp_algo *a, int64_
     if (!a->supports(&x->L->shape, x->flip, why, sizeof why)) {
         w->status = "unsupported";
         snprintf(w->why, sizeof w->why, "%s", why);
-        return;
-    }
-    /* A plugin's algorithm is checked against the oracle before it is timed. */
-    const cph_check_run cr = {a,         &x->L->shape,     x->flip,           NULL,
-                              &lr->r->caches, x->threads, lr->setup.x, lr->setup.w,
-                              lr->setup.bias, lr->setup.exec, 0};
-    if (cp_algo_plugin(a) && cph_check_against_oracle(&cr, why, sizeof why) != CP_OK) {
-        set_error(w, "check: ", why);
         return;
     }
     cp_algo_defaults(a, &x->L->shape, &lr->r->caches, &w->p);
@@ -317,7 +309,7 @@ static int layer_run_init(layer_run *lr, cph_bench_state *r, const cph_bench_cfg
     lr->setup = (cph_trial_setup){&L->shape, base.flip, threads, &r->caches, exec, lr->x, lr->w,
                                   lr->b, cph_bench_trial_timing(c), r->placer};
     plan_rows(lr, &base);
-    return 0;
+    return cph_bench_errors(&lr->setup, lr->rows, lr->nrows);
 }
 
 int cph_bench_threads(cph_bench_state *r, const cph_bench_cfg *c, int threads, int pinned,

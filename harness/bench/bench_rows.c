@@ -18,9 +18,9 @@ static double peak_for(const cph_bench_state *r, int threads) {
 }
 
 void cph_bench_print_header(const cph_bench_state *r) {
-    printf("\n%-*s  %-4s  %3s  %-*s  %-26s %10s %10s %10s %6s %5s %8s %6s %-12s  %s\n",
+    printf("\n%-*s  %-4s  %3s  %-*s  %-26s %10s %9s %10s %10s %6s %5s %8s %6s %-12s  %s\n",
            r->name_w, "layer", "flip", "thr", r->algo_w, "algo", "params", "median_ms",
-           "ci_lo_ms", "ci_hi_ms", "+-%", "n", "GFLOP/s", "%peak", "isa", "note");
+           "rel_err", "ci_lo_ms", "ci_hi_ms", "+-%", "n", "GFLOP/s", "%peak", "isa", "note");
 }
 
 static void print_row(const cph_bench_state *r, const cph_bench_row *x, const char *rest) {
@@ -77,10 +77,11 @@ void cph_bench_report_trials(cph_bench_state *r, cph_bench_trow *w, const double
     const double flops = cp_shape_flops(&x->L->shape);
     const double gflops = s.median > 0 ? flops / s.median * 1e-9 : 0;
     const double peak = peak_for(r, x->threads);
-    char pk[16] = "-", line[512];
+    char pk[16] = "-", err[16] = "-", line[512];
     if (peak > 0) snprintf(pk, sizeof pk, "%.1f", 100.0 * gflops / peak);
-    snprintf(line, sizeof line, "%-26s %10.4f %10.4f %10.4f %6.2f %5zu %8.2f %6s %-12s  %s",
-             w->shown[0] ? w->shown : "-", s.median * 1e3, s.ci_lo * 1e3, s.ci_hi * 1e3,
+    if (w->have_err) snprintf(err, sizeof err, "%.2e", w->err.rel_err);
+    snprintf(line, sizeof line, "%-26s %10.4f %9s %10.4f %10.4f %6.2f %5zu %8.2f %6s %-12s  %s",
+             w->shown[0] ? w->shown : "-", s.median * 1e3, err, s.ci_lo * 1e3, s.ci_hi * 1e3,
              100.0 * s.rel_ci, n, gflops, pk, w->isa, s.noisy ? "noisy" : "");
     print_row(r, x, line);
     cph_layer_roof lr;
@@ -108,6 +109,9 @@ void cph_bench_report_trials(cph_bench_state *r, cph_bench_trow *w, const double
             json_object_set_new(res, "params_text", json_string(w->shown));
             json_object_set_new(res, "gflops", cph_json_number(gflops));
             json_object_set_new(res, "isa", json_string(w->isa));
+            /* null: an SGEMM row, or outputs that were not finite */
+            json_object_set_new(res, "rel_err", w->have_err ? cph_json_number(w->err.rel_err)
+                                                            : json_null());
             json_object_set_new(res, "peak_gflops", peak > 0 ? json_real(peak) : json_null());
             /* which roof the fraction is against: the widest width's */
             json_object_set_new(res, "peak_bits",

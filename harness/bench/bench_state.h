@@ -10,6 +10,7 @@
 #include "harness/measure/placer.h"
 #include "harness/bench/bench_summary.h"
 #include "harness/machine/machine.h"
+#include "harness/tune/trial.h"
 
 #define CPH_BENCH_MAX_THREADS 256
 /* Roofs are the best of several runs: on a shared machine more runs give
@@ -84,6 +85,8 @@ typedef struct cph_bench_trow {
     json_t *params;       /* the row's parameters as JSON (owned until reported) */
     double flops_used;    /* SGEMM rows: the FLOPs they do (2mnk), else 0 */
     const char *isa;      /* the isa column */
+    int have_err;         /* algorithm and chosen rows: err measured (bench_error.c) */
+    cp_error err;         /* the row's error against the fp64 oracle */
 } cph_bench_trow;
 
 /* bench_rows.c: printing and recording rows.  A row that was not measured
@@ -97,6 +100,12 @@ void cph_bench_report_trials(cph_bench_state *r, cph_bench_trow *w, const double
 /* bench_rounds.c: the settings of one trial: one warm-up run, the batch
  * (trial_samples, at most max_samples), the row's cap split over its rounds. */
 cph_timing_opts cph_bench_trial_timing(const cph_bench_cfg *c);
+
+/* bench_error.c: every algorithm and chosen row's error against the fp64
+ * oracle on the layer's tensors (su), before any trial; a row whose checking
+ * run fails, or a plugin's row above its tolerance, becomes status "error".
+ * -1 when out of memory (nothing reported). */
+int cph_bench_errors(const cph_trial_setup *su, cph_bench_trow *rows, size_t nrows);
 
 /* bench_rows.c: the table's header line.  bench_rounds.c: every layer x flip
  * at one thread count (tensors once; every algorithm and reference row of

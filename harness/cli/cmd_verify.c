@@ -64,9 +64,9 @@ static void check_algo(tally *t, const cph_layer *L, cp_flip flip, const cp_algo
     const size_t ny = cp_shape_output_elems(&L->shape);
     /* The output is poisoned first, so that an algorithm that skips elements fails. */
     const cph_check_run cr = {a, &L->shape, flip, NULL, &caches, 1, x, w, bias, NULL, t->isolate};
-    if (cph_check_run_once(&cr, y, ny, why, sizeof why) == CP_OK) {
-        const cp_error e = cp_error_measure(y, ref, mag, ny);
-        const int ok = e.nonfinite == 0 && e.rel_err <= a->tolerance;
+    cp_error e;
+    if (cph_check_error(&cr, ref, mag, y, ny, &e, why, sizeof why) == CP_OK) {
+        const int ok = cph_error_within_tolerance(a, &e, why, sizeof why);
         char extra[64] = "";
         if (e.nonfinite) snprintf(extra, sizeof extra, "  (%zu non-finite outputs)", e.nonfinite);
         snprintf(line, sizeof line, "%-10.3e %-10.3e %-9.1e %s%s", e.abs_err, e.rel_err,

@@ -20,6 +20,7 @@ static cp_status read_result(cph_rctx *c, const json_t *e, cph_result_item *it, 
         (st = cph_results_params_text(j, e, it->where, it->algo, it->params, sizeof it->params)))
         return st;
     it->threads = (int)thr;
+    if ((st = cph_results_rel_err(j, e, it->where, &it->rel_err))) return st;
     char sub[128];
     json_t *meas, *settings;
     snprintf(sub, sizeof sub, "%s.measurement", it->where);

@@ -3,7 +3,7 @@
  *   results_bench.c    bench results -> items
  *   results_table.c    tuning tables -> items and choices
  *   results_migrate.c  bench results version 1 -> current
- *   results_items.c    what both share: the item list, params as text
+ *   results_items.c    what both share: the item list, params as text, rel_err
  * Field access and messages: loader/json_get.h; the shared objects:
  * loader/codec.h. */
 #ifndef CONVPICK_RESULTS_IMPL_H
@@ -32,6 +32,12 @@ double cph_results_median(const double *v, size_t n);
  * SGEMM reference rows' m, k, n, ...) after, in the order the writer wrote them. */
 cp_status cph_results_params_text(const cpl_jctx *c, const json_t *obj, const char *where,
                                   const char *algo, char *out, size_t cap);
+
+/* obj.rel_err, the error against the fp64 oracle as both formats spell it
+ * (a bench row, a table candidate): a number >= 0, or NaN when absent (files
+ * written before bench measured it) or null (not measured, not finite). */
+cp_status cph_results_rel_err(const cpl_jctx *c, const json_t *obj, const char *where,
+                              double *out);
 
 cp_status cph_results_read_bench(cph_rctx *c, json_t *root);
 cp_status cph_results_read_table(cph_rctx *c, json_t *root);

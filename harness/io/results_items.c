@@ -115,3 +115,15 @@ cp_status cph_results_read_control(cph_rctx *c, const json_t *ctl, const char *w
     r->has_control = 1;
     return CP_OK;
 }
+
+cp_status cph_results_rel_err(const cpl_jctx *c, const json_t *obj, const char *where,
+                              double *out) {
+    const json_t *v = json_object_get(obj, "rel_err");
+    *out = NAN;
+    if (!v || json_is_null(v)) return CP_OK;
+    if (!json_is_number(v) || !(json_number_value(v) >= 0.0))
+        return cpl_jfail(c, CP_EFORMAT, "%s.rel_err: expected a number >= 0 or null, found %s",
+                         where, cpl_json_type_name(v));
+    *out = json_number_value(v);
+    return CP_OK;
+}

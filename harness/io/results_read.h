@@ -48,6 +48,7 @@ typedef struct cph_result_item {
     cph_item_kind kind; /* bench results: the row's "kind" (absent: algorithm) */
     char chosen_algo[32]; /* bench chosen rows: the algorithm the table chose */
     int trials;         /* 1: the samples are trial medians (measurement.settings.samples_are) */
+    double rel_err;     /* error against the fp64 oracle ("rel_err"); NaN when not recorded */
     int chosen;         /* tables: this candidate is its entry's choice */
     size_t entry;       /* tables: index of its entry in "entries" */
     char where[96];     /* its JSON path: "results[3]" or "entries[2].candidates[1]" */

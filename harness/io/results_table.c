@@ -20,7 +20,8 @@ static cp_status read_candidate(cph_rctx *c, const json_t *cand, cph_result_item
         return cpl_jfail(j, CP_EFORMAT, "%s: expected an object, found %s", where,
                          cpl_json_type_name(cand));
     if ((st = cpl_jtext(j, cand, where, "algo", it->algo, sizeof it->algo)) ||
-        (st = cph_results_params_text(j, cand, where, it->algo, it->params, sizeof it->params)))
+        (st = cph_results_params_text(j, cand, where, it->algo, it->params, sizeof it->params)) ||
+        (st = cph_results_rel_err(j, cand, where, &it->rel_err)))
         return st;
     if (cpl_jstr(j, cand, where, "status", &status))
         return cpl_jfail(j, CP_EFORMAT, "%s.status: expected \"ok\", \"disqualified\" or \"failed\"",

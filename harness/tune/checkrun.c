@@ -96,26 +96,16 @@ cp_status cph_check_run_once(const cph_check_run *r, float *y, size_t ny, char *
     return run_here(r, r->exec, y, ny, why, cap);
 }
 
-cp_status cph_check_against_oracle(const cph_check_run *r, char *why, size_t cap) {
-    const size_t ny = cp_shape_output_elems(r->shape);
-    float *y = malloc(ny * sizeof *y);
-    double *ref = malloc(ny * sizeof *ref), *mag = malloc(ny * sizeof *mag);
-    cp_status st = CP_ENOMEM;
-    if (!y || !ref || !mag) {
-        snprintf(why, cap, "cannot allocate the oracle's buffers");
-        goto out;
-    }
-    cp_oracle_run(r->shape, r->flip, r->x, r->w, r->bias, ref, mag);
-    if ((st = cph_check_run_once(r, y, ny, why, cap)) != CP_OK) goto out;
-    const cp_error e = cp_error_measure(y, ref, mag, ny);
-    if (e.nonfinite || !(e.rel_err <= r->algo->tolerance)) {
-        snprintf(why, cap, "error %.3g above its tolerance %.3g against the oracle%s", e.rel_err,
-                 r->algo->tolerance, e.nonfinite ? " (non-finite outputs)" : "");
-        st = CP_EINVAL;
-    }
-out:
-    free(y);
-    free(ref);
-    free(mag);
+cp_status cph_check_error(const cph_check_run *r, const double *ref, const double *mag, float *y,
+                          size_t ny, cp_error *e, char *why, size_t cap) {
+    const cp_status st = cph_check_run_once(r, y, ny, why, cap);
+    if (st == CP_OK) *e = cp_error_measure(y, ref, mag, ny);
     return st;
+}
+
+int cph_error_within_tolerance(const cp_algo *a, const cp_error *e, char *why, size_t cap) {
+    if (e->nonfinite == 0 && e->rel_err <= a->tolerance) return 1;
+    snprintf(why, cap, "error %.3g above its tolerance %.3g against the oracle%s", e->rel_err,
+             a->tolerance, e->nonfinite ? " (non-finite outputs)" : "");
+    return 0;
 }

@@ -95,12 +95,13 @@ static try_outcome qualify(const cph_tune_request *rq, const cph_planned *pl, te
     const cph_check_run cr = {pl->algo,   &rq->layer->shape, rq->flip, &pl->params,
                               rq->caches, rq->threads,       t->x,     t->w,
                               t->bias,    rq->exec,          rq->opts->isolate};
-    if (cph_check_run_once(&cr, t->y, t->ny, why, cap) != CP_OK) {
+    cp_error e;
+    if (cph_check_error(&cr, t->ref, t->mag, t->y, t->ny, &e, why, cap) != CP_OK) {
         c->failed = 1;
         c->rel_err = NAN;
         return TRY_FAILED;
     }
-    c->rel_err = cp_error_measure(t->y, t->ref, t->mag, t->ny).rel_err;
+    c->rel_err = e.rel_err;
     if (!(c->rel_err <= rq->opts->max_rel_err)) {
         c->disqualified = 1;
         return TRY_DISQUALIFIED;
