@@ -33,7 +33,7 @@ int cph_bench_errors(const cph_trial_setup *su, cph_bench_trow *rows, size_t nro
     for (size_t i = 0; i < nrows; i++) {
         cph_bench_trow *w = &rows[i];
         if (!wants_error(w)) continue;
-        char why[256] = "";
+        char why[200] = ""; /* room for "check: " in the row's 256 */
         /* A plugin's algorithm runs in this process, as its trials will. */
         const cph_check_run cr = {w->a,          su->shape,      su->flip, &w->p,
                                   su->caches,    su->threads,    su->x,    su->w,
