@@ -1,0 +1,47 @@
+/* Plans of the in-place depthwise plane kernels (contract in
+ * depthwise_plane.h): which form a shape can take, and the per-shape
+ * offsets and lane masks, computed once per call in portable C. */
+#include <string.h>
+
+#include "algos/kernels/depthwise_plane.h"
+#include "convpick/shape.h"
+
+int cpa_dw_plan_flat_ok(const cp_shape *s) {
+    const int64_t P = cp_shape_out_h(s), Q = cp_shape_out_w(s);
+    return s->stride_h == 1 && s->stride_w == 1 && Q == s->w && P * Q <= CPA_DWP_FLAT_MAX &&
+           s->r * s->s <= CPA_DWP_FLAT_TAPS;
+}
+
+int cpa_dw_plan_rows_ok(const cp_shape *s) { return s->stride_w == 1 || s->stride_w == 2; }
+
+void cpa_dw_plan_build(const cp_shape *s, int kind, cpa_dw_plan *pl) {
+    memset(pl, 0, sizeof *pl);
+    pl->kind = kind;
+    pl->h = s->h; pl->w = s->w;
+    pl->p = cp_shape_out_h(s); pl->q = cp_shape_out_w(s);
+    pl->sh = s->stride_h; pl->sw = s->stride_w;
+    pl->pt = s->pad_top; pl->pl = s->pad_left;
+    pl->dh = s->dil_h; pl->dw = s->dil_w;
+    pl->r = s->r; pl->s = s->s;
+    if (kind != CPA_DWP_FLAT) return;
+    const int64_t n = pl->p * pl->q;
+    pl->nv = (int)((n + 15) / 16);
+    for (int64_t r = 0; r < pl->r; r++)
+        for (int64_t c = 0; c < pl->s; c++) {
+            const int64_t t = r * pl->s + c, dr = r * pl->dh - pl->pt, dc = c * pl->dw - pl->pl;
+            pl->off[t] = dr * pl->w + dc;
+            for (int v = 0; v < pl->nv; v++) {
+                unsigned m = 0;
+                for (int l = 0; l < 16; l++) {
+                    const int64_t f = 16 * (int64_t)v + l, ih = f / pl->q + dr,
+                                  iw = f % pl->q + dc;
+                    if (f < n && ih >= 0 && ih < pl->h && iw >= 0 && iw < pl->w) m |= 1u << l;
+                }
+                pl->mask[t][v] = (uint16_t)m;
+            }
+        }
+    for (int v = 0; v < pl->nv; v++) {
+        const int64_t left = n - 16 * (int64_t)v;
+        pl->smask[v] = (uint16_t)(left >= 16 ? 0xffffu : (1u << left) - 1u);
+    }
+}
