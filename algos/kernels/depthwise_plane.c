@@ -12,7 +12,18 @@ int cpa_dw_plan_flat_ok(const cp_shape *s) {
            s->r * s->s <= CPA_DWP_FLAT_TAPS;
 }
 
-int cpa_dw_plan_rows_ok(const cp_shape *s) { return s->stride_w == 1 || s->stride_w == 2; }
+int cpa_dw_plan_rows_ok(const cp_shape *s) {
+    return (s->stride_w == 1 || s->stride_w == 2) && s->s <= CPA_DWP_ROWS_S &&
+           s->stride_w * cp_shape_out_w(s) <= 16 * CPA_DWP_ROWS_VECS;
+}
+
+/* Lanes l < 16 with lo <= l < hi. */
+static uint16_t lanes(int64_t lo, int64_t hi) {
+    unsigned m = 0;
+    for (int64_t l = 0; l < 16; l++)
+        if (l >= lo && l < hi) m |= 1u << l;
+    return (uint16_t)m;
+}
 
 void cpa_dw_plan_build(const cp_shape *s, int kind, cpa_dw_plan *pl) {
     memset(pl, 0, sizeof *pl);
@@ -23,7 +34,16 @@ void cpa_dw_plan_build(const cp_shape *s, int kind, cpa_dw_plan *pl) {
     pl->pt = s->pad_top; pl->pl = s->pad_left;
     pl->dh = s->dil_h; pl->dw = s->dil_w;
     pl->r = s->r; pl->s = s->s;
-    if (kind != CPA_DWP_FLAT) return;
+    if (kind == CPA_DWP_ROWS) {
+        /* virtual column u = 16 i + l, tap column c: input column u - pl + c dil_w */
+        const int64_t nvec = (pl->sw * pl->q + 15) / 16;
+        for (int64_t i = 0; i < nvec; i++)
+            for (int64_t c = 0; c < pl->s; c++) {
+                const int64_t lo = pl->pl - c * pl->dw - 16 * i;
+                pl->cmask[i][c] = lanes(lo, lo + pl->w);
+            }
+        return;
+    }
     const int64_t n = pl->p * pl->q;
     pl->nv = (int)((n + 15) / 16);
     for (int64_t r = 0; r < pl->r; r++)

@@ -13,11 +13,12 @@
  *    (r, c) reads x[f + off[t]] with off[t] = (r dil_h - pt) W + c dil_w - pl
  *    -- one shifted load per tap and vector -- masked by the lanes whose
  *    input row and column lie in the image (mask[t][v], precomputed).
- *  - ROWS (stride_w 1 or 2, any stride_h, padding, dilation): output row by
+ *  - ROWS (stride_w 1 or 2, any stride_h, padding, dilation; S <=
+ *    CPA_DWP_ROWS_S, sw*Q <= 16 CPA_DWP_ROWS_VECS): output row by
  *    output row, 16 "virtual columns" u = sw*q + e per vector; tap (r, c)
  *    reads input row p*sh - pt + r*dil_h (or the zero row), columns
  *    u - pl + c*dil_w, masked only in vectors that touch the left or right
- *    border.  Under stride_w 2 the even virtual columns are the outputs
+ *    border (masks precomputed per vector and tap column).  Under stride_w 2 the even virtual columns are the outputs
  *    (two vectors are combined into 16 outputs with one permute): the odd
  *    ones are computed and dropped, trading FMAs for the deinterleaving copy.
  *
@@ -35,6 +36,9 @@
 
 enum { CPA_DWP_NONE = 0, CPA_DWP_FLAT = 1, CPA_DWP_ROWS = 2 };
 enum { CPA_DWP_FLAT_MAX = 256, CPA_DWP_FLAT_TAPS = 25, CPA_DWP_FLAT_VECS = CPA_DWP_FLAT_MAX / 16 };
+/* ROWS: vectors of virtual columns per row (ceil(sw Q / 16)) and kernel
+ * columns S at most */
+enum { CPA_DWP_ROWS_VECS = 64, CPA_DWP_ROWS_S = 16 };
 
 typedef struct cpa_dw_plan {
     int kind; /* CPA_DWP_* */
@@ -44,6 +48,9 @@ typedef struct cpa_dw_plan {
     int64_t off[CPA_DWP_FLAT_TAPS];                     /* tap t reads x + f + off[t] */
     uint16_t mask[CPA_DWP_FLAT_TAPS][CPA_DWP_FLAT_VECS]; /* in-image lanes per tap, vector */
     uint16_t smask[CPA_DWP_FLAT_VECS];                  /* output lanes per vector */
+    /* ROWS: lanes of the vector of virtual columns 16 i .. 16 i + 15 whose
+     * tap column c reads inside the image */
+    uint16_t cmask[CPA_DWP_ROWS_VECS][CPA_DWP_ROWS_S];
 } cpa_dw_plan;
 
 typedef struct cpa_dw_plane {

@@ -9,7 +9,7 @@
  *
  * ROWS: one output row at a time; a vector whose taps all read inside the
  * image (the interior of a row) uses full-lane loads, a border vector
- * computes its S column masks as lane ranges.  Input rows outside the image
+ * loads its S column masks from the plan.  Input rows outside the image
  * read the caller's zero row, so the tap loop never branches.  Under stride_w
  * 2 two vectors of virtual columns give 16 outputs through one two-source
  * permute of their even lanes. */
@@ -22,11 +22,6 @@ static inline __mmask16 dwp_first(int64_t n) {
     const int64_t lo = n < 0 ? 0 : n;
     const unsigned k = (unsigned)(lo > 16 ? 16 : lo);
     return (__mmask16)((1u << k) - 1u);
-}
-
-/* Lanes [lo, hi), both clamped to [0, 16]. */
-static inline __mmask16 dwp_range(int64_t lo, int64_t hi) {
-    return (__mmask16)(dwp_first(hi) & ~dwp_first(lo));
 }
 
 static inline __attribute__((always_inline)) void dwp_flat(const cpa_dw_plane *a, int k9) {
@@ -78,11 +73,7 @@ dwp_vec(const cpa_dw_plane *a, const float *const *rows, const __m512 *w9, int k
             }
         return acc;
     }
-    __mmask16 km[256]; /* S <= R*S <= 256 */
-    for (int64_t c = 0; c < S; c++) {
-        const int64_t lo = pl->pl - c * dw - u0;
-        km[c] = dwp_range(lo, lo + pl->w);
-    }
+    const uint16_t *km = pl->cmask[u0 / 16];
     for (int64_t r = 0; r < R; r++)
         for (int64_t c = 0; c < S; c++) {
             const __m512 wt = k33 ? w9[r * 3 + c] : _mm512_set1_ps(a->w[r * S + c]);

@@ -93,6 +93,7 @@ static void test_levels_vs_oracle(void **state) {
         {1, 2, 6, 50, 1, 1, 7, 1, 1, 1, 0, 3, 0, 3},    /* 1x7 rows */
         {3, 2, 9, 45, 1, 7, 1, 1, 1, 1, 3, 0, 3, 0},    /* 7x1, batch 3 */
         {1, 2, 20, 48, 1, 3, 3, 1, 1, 1, 1, 2, 1, 1},   /* rows, Q != W */
+        {1, 2, 3, 40, 1, 1, 17, 1, 1, 1, 0, 8, 0, 8},   /* S 17: no in-place form */
     };
     size_t ran = 0, forms[3] = {0, 0, 0}; /* shapes run in phase planes, rows, flat */
     for (size_t li = 0; li < NLEVELS; li++) {
