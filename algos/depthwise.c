@@ -22,6 +22,13 @@
  * padded plane is 51 KiB) and is reused by the K/C output channels of the
  * group and by all R*S taps.
  *
+ * With AVX-512 most shapes skip that copy (kernels/depthwise_plane.h, the
+ * `path` parameter): small stride-1 'same'-width planes run as one flat
+ * vector run with per-tap shifted masked loads from the unpadded input
+ * (MobileNet's 7x7 and 14x14 layers), other stride-1 planes and some
+ * stride-2 ones row by row straight from the input, border vectors masked,
+ * rows outside the image read from a zero row.
+ *
  * Bytes it must move: the input and output once (4 (N C H W + N K P Q)) plus
  * the weights; work: 2 R S FLOPs per output.  At 9 taps that is about 2.25
  * FLOP per byte, so once the tensors leave L2 the layer is bound by memory
@@ -42,9 +49,9 @@ static const cp_param_desc dw_params[DW_NPARAMS] = {
                 "portable); 1 = portable; 2 = AVX2; 3 = AVX-512 (a level the CPU lacks runs "
                 "the widest below it); default 0", 0, 3},
     {"path", "how a plane is read: 0 = chosen from the shape (flat for small stride-1 "
-             "'same'-width planes, in-place rows for other stride-1 and small stride-2 "
-             "planes, else phase planes); 1 = phase-plane copy; 2 = in-place rows; 3 = flat "
-             "plane; in-place forms need AVX-512 and the shape they handle, else phase "
+             "'same'-width planes, in-place rows for other stride-1 planes and for stride-2 "
+             "planes with Q <= 8 or over 32 KiB of input, else phase planes); 1 = "
+             "phase-plane copy; 2 = in-place rows; 3 = flat plane; in-place forms need AVX-512 and the shape they handle, else phase "
              "planes run; default 0", 0, 3},
 };
 
@@ -196,7 +203,14 @@ static int dw_form(const cp_shape *s, int64_t path, cpa_dw_kernels kn) {
     if (path == DW_PATH_FLAT) return flat ? CPA_DWP_FLAT : CPA_DWP_NONE;
     if (path == DW_PATH_ROWS) return rows ? CPA_DWP_ROWS : CPA_DWP_NONE;
     if (flat) return CPA_DWP_FLAT;
-    if (rows && (s->stride_w == 1 || cp_shape_out_w(s) <= 16)) return CPA_DWP_ROWS;
+    /* Under stride_w 2 the rows form computes twice the FMAs but skips the
+     * deinterleaving copy: measured on MobileNet v1's layers (results/algos/
+     * README.md) it wins when an output row is one vector (Q <= 8) or when the
+     * input plane is larger than L1 (the copy is then an extra pass through
+     * L2/L3), and loses in between. */
+    if (rows && (s->stride_w == 1 || cp_shape_out_w(s) <= 8 ||
+                 s->h * s->w * (int64_t)sizeof(float) > 32 * 1024))
+        return CPA_DWP_ROWS;
     return CPA_DWP_NONE;
 }
 
@@ -226,8 +240,8 @@ static const char *dw_isa(const cp_shape *s, const cp_params *p) {
  * still catches a wrong tap (an error of order 1). */
 const cp_algo cpa_depthwise = {
     .name = "depthwise",
-    .summary = "depthwise direct (groups == c, any channel multiplier): padded plane per "
-               "channel, row kernel vectorised along the output row",
+    .summary = "depthwise direct (groups == c, any channel multiplier): read in place "
+               "(AVX-512) or from a padded phase-plane copy, vectorised along the output",
     .tolerance = 1e-5,
     .nparams = DW_NPARAMS,
     .params = dw_params,
