@@ -115,77 +115,46 @@ static inline __attribute__((always_inline)) void dwp_rows(const cpa_dw_plane *a
     }
 }
 
-/* 3x3, row dilation 1, stride_h SH (1 or 2), stride_w 1 or 2: four output
- * rows at a time.  Each of the 3 SH + 3 input rows they read is loaded once
- * per vector and tap column and feeds every output row it is a tap of, so
- * under stride 1 a vector costs 18 loads for 36 FMAs (instead of 36), in four
- * independent chains.  Rows past the last output row read the zero row and
- * are not stored. */
-enum { DWP_B = 4 };
-
-/* The four output rows' accumulators of the vector of virtual columns u0. */
-static inline __attribute__((always_inline)) void
-dwp_block(const cpa_dw_plane *a, const float *const *rows, const __m512 *w9, int sh, int64_t u0,
-          __m512 b, __m512 *acc) {
+/* 3x3, stride 1, row dilation 1, stride_w 1: four output rows at a time.
+ * Each of the six input rows they read is loaded once per vector and tap
+ * column and feeds every output row it is a tap of, so a vector costs 18
+ * loads for 36 FMAs (instead of 36) in four independent chains.  Rows past
+ * the last output row are computed from the zero row and not stored. */
+static void dwp_rows4(const cpa_dw_plane *a) {
     const cpa_dw_plan *pl = a->plan;
-    const int64_t dw = pl->dw;
-    const int interior = u0 >= pl->pl && u0 + 16 <= pl->w + pl->pl - 2 * dw;
-    const uint16_t *km = pl->cmask[u0 / 16];
-    const __mmask16 m0 = interior ? 0xffff : km[0], m1 = interior ? 0xffff : km[1],
-                    m2 = interior ? 0xffff : km[2];
-    for (int o = 0; o < DWP_B; o++) acc[o] = b;
-    for (int i = 0; i < (DWP_B - 1) * sh + 3; i++) {
-        const float *s = rows[i] + u0;
-        const __m512 l0 = _mm512_maskz_loadu_ps(m0, s);
-        const __m512 l1 = _mm512_maskz_loadu_ps(m1, s + dw);
-        const __m512 l2 = _mm512_maskz_loadu_ps(m2, s + 2 * dw);
-        for (int o = 0; o < DWP_B; o++) {
-            const int r = i - o * sh;
-            if (r < 0 || r > 2) continue;
-            acc[o] = _mm512_fmadd_ps(w9[3 * r], l0, acc[o]);
-            acc[o] = _mm512_fmadd_ps(w9[3 * r + 1], l1, acc[o]);
-            acc[o] = _mm512_fmadd_ps(w9[3 * r + 2], l2, acc[o]);
-        }
-    }
-}
-
-static inline __attribute__((always_inline)) void dwp_rows4(const cpa_dw_plane *a, int sh,
-                                                            int sw2) {
-    const cpa_dw_plan *pl = a->plan;
-    const int64_t Q = pl->q;
+    const int64_t Q = pl->q, dw = pl->dw;
     __m512 w9[9];
     for (int t = 0; t < 9; t++) w9[t] = _mm512_set1_ps(a->w[t]);
     const __m512 b = _mm512_set1_ps(a->bias);
-    const __m512i even = _mm512_setr_epi32(0, 2, 4, 6, 8, 10, 12, 14, 16, 18, 20, 22, 24, 26,
-                                           28, 30);
-    for (int64_t p0 = 0; p0 < pl->p; p0 += DWP_B) {
-        const float *rows[(DWP_B - 1) * 2 + 3];
-        for (int i = 0; i < (DWP_B - 1) * sh + 3; i++) {
-            const int64_t ih = p0 * sh - pl->pt + i;
-            rows[i] = (ih >= 0 && ih < pl->h ? a->x + ih * pl->w : a->zero) - pl->pl;
+    for (int64_t p0 = 0; p0 < pl->p; p0 += 4) {
+        const float *rows[6];
+        for (int i = 0; i < 6; i++) {
+            const int64_t ih = p0 - pl->pt + i;
+            rows[i] = (ih >= 0 && ih < pl->h && p0 + i - 2 < pl->p ? a->x + ih * pl->w : a->zero) -
+                      pl->pl;
         }
-        const int nout = pl->p - p0 < DWP_B ? (int)(pl->p - p0) : DWP_B;
-        if (!sw2) {
-            for (int64_t u0 = 0; u0 < Q; u0 += 16) {
-                __m512 acc[DWP_B];
-                dwp_block(a, rows, w9, sh, u0, b, acc);
-                const __mmask16 st = dwp_first(Q - u0);
-                for (int o = 0; o < nout; o++)
-                    _mm512_mask_storeu_ps(a->y + (p0 + o) * Q + u0, st, acc[o]);
+        for (int64_t u0 = 0; u0 < Q; u0 += 16) {
+            const int interior = u0 >= pl->pl && u0 + 16 <= pl->w + pl->pl - 2 * dw;
+            const uint16_t *km = pl->cmask[u0 / 16];
+            const __mmask16 m0 = interior ? 0xffff : km[0], m1 = interior ? 0xffff : km[1],
+                            m2 = interior ? 0xffff : km[2];
+            __m512 acc[4] = {b, b, b, b};
+            for (int i = 0; i < 6; i++) {
+                const float *s = rows[i] + u0;
+                const __m512 l0 = _mm512_maskz_loadu_ps(m0, s);
+                const __m512 l1 = _mm512_maskz_loadu_ps(m1, s + dw);
+                const __m512 l2 = _mm512_maskz_loadu_ps(m2, s + 2 * dw);
+                for (int o = 0; o < 4; o++) {
+                    const int r = i - o;
+                    if (r < 0 || r > 2) continue;
+                    acc[o] = _mm512_fmadd_ps(w9[3 * r], l0, acc[o]);
+                    acc[o] = _mm512_fmadd_ps(w9[3 * r + 1], l1, acc[o]);
+                    acc[o] = _mm512_fmadd_ps(w9[3 * r + 2], l2, acc[o]);
+                }
             }
-        } else {
-            for (int64_t u0 = 0; u0 < 2 * Q; u0 += 32) {
-                __m512 lo[DWP_B], hi[DWP_B];
-                dwp_block(a, rows, w9, sh, u0, b, lo);
-                if (u0 + 16 < 2 * Q)
-                    dwp_block(a, rows, w9, sh, u0 + 16, b, hi);
-                else
-                    for (int o = 0; o < DWP_B; o++) hi[o] = b;
-                const __mmask16 st = dwp_first(Q - u0 / 2);
-                for (int o = 0; o < nout; o++)
-                    _mm512_mask_storeu_ps(a->y + (p0 + o) * Q + u0 / 2, st,
-                                          _mm512_permutex2var_ps(lo[o], even, hi[o]));
-            }
+            const __mmask16 st = dwp_first(Q - u0);
+            for (int o = 0; o < 4; o++)
+                if (p0 + o < pl->p) _mm512_mask_storeu_ps(a->y + (p0 + o) * Q + u0, st, acc[o]);
         }
     }
 }
@@ -198,20 +167,13 @@ void cpa_dw_plane_avx512(const cpa_dw_plane *a) {
             dwp_flat(a, 1);
         else
             dwp_flat(a, 0);
-    } else if (k33 && pl->dh == 1 && (pl->sh == 1 || pl->sh == 2)) {
-        if (pl->sh == 1 && pl->sw == 1)
-            dwp_rows4(a, 1, 0);
-        else if (pl->sh == 1)
-            dwp_rows4(a, 1, 1);
-        else if (pl->sw == 1)
-            dwp_rows4(a, 2, 0);
-        else
-            dwp_rows4(a, 2, 1);
     } else if (pl->sw == 2) {
         if (k33)
             dwp_rows(a, 1, 1);
         else
             dwp_rows(a, 0, 1);
+    } else if (k33 && pl->sh == 1 && pl->dh == 1) {
+        dwp_rows4(a);
     } else {
         if (k33)
             dwp_rows(a, 1, 0);
