@@ -51,8 +51,8 @@ static const cp_param_desc dw_params[DW_NPARAMS] = {
     {"path", "how a plane is read: 0 = chosen from the shape (flat for small stride-1 "
              "'same'-width planes, in-place rows for other stride-1 planes and for stride-2 "
              "planes with Q <= 8 or over 32 KiB of input, else phase planes); 1 = "
-             "phase-plane copy; 2 = in-place rows; 3 = flat plane; in-place forms need AVX-512 and the shape they handle, else phase "
-             "planes run; default 0", 0, 3},
+             "phase-plane copy; 2 = in-place rows; 3 = flat plane; in-place forms need "
+             "AVX-512 and the shape they handle, else phase planes run; default 0", 0, 3},
 };
 
 static int dw_supports(const cp_shape *s, cp_flip flip, char *why, size_t cap) {
