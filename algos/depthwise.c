@@ -22,6 +22,13 @@
  * padded plane is 51 KiB) and is reused by the K/C output channels of the
  * group and by all R*S taps.
  *
+ * With AVX-512 most shapes skip that copy (kernels/depthwise_plane.h, the
+ * `path` parameter): small stride-1 'same'-width planes run as one flat
+ * vector run with per-tap shifted masked loads from the unpadded input
+ * (MobileNet's 7x7 and 14x14 layers), other stride-1 planes and some
+ * stride-2 ones row by row straight from the input, border vectors masked,
+ * rows outside the image read from a zero row.
+ *
  * Bytes it must move: the input and output once (4 (N C H W + N K P Q)) plus
  * the weights; work: 2 R S FLOPs per output.  At 9 taps that is about 2.25
  * FLOP per byte, so once the tensors leave L2 the layer is bound by memory
@@ -30,15 +37,22 @@
 
 #include "algos/core/cpa.h"
 #include "algos/kernels/blocked_tile.h"
+#include "algos/kernels/depthwise_plane.h"
 #include "algos/kernels/depthwise_row.h"
 
-enum { DW_KERNELS = 0, DW_NPARAMS };
+enum { DW_KERNELS = 0, DW_PATH, DW_NPARAMS };
+enum { DW_PATH_AUTO = 0, DW_PATH_PHASE, DW_PATH_ROWS, DW_PATH_FLAT };
 enum { DW_MAX_TAPS = 256, DW_BAND = 16 };
 
 static const cp_param_desc dw_params[DW_NPARAMS] = {
     {"kernels", "row and fill kernels: 0 = the widest the CPU has (AVX-512, AVX2+FMA, "
                 "portable); 1 = portable; 2 = AVX2; 3 = AVX-512 (a level the CPU lacks runs "
                 "the widest below it); default 0", 0, 3},
+    {"path", "how a plane is read: 0 = chosen from the shape (flat for small stride-1 "
+             "'same'-width planes, in-place rows for other stride-1 planes and for stride-2 "
+             "planes with Q <= 8 or over 32 KiB of input, else phase planes); 1 = "
+             "phase-plane copy; 2 = in-place rows; 3 = flat plane; in-place forms need "
+             "AVX-512 and the shape they handle, else phase planes run; default 0", 0, 3},
 };
 
 static int dw_supports(const cp_shape *s, cp_flip flip, char *why, size_t cap) {
@@ -56,6 +70,7 @@ static int dw_supports(const cp_shape *s, cp_flip flip, char *why, size_t cap) {
 static void dw_defaults(const cp_shape *s, const cp_cache_sizes *caches, cp_params *out) {
     (void)s; (void)caches;
     out->v[DW_KERNELS] = 0;
+    out->v[DW_PATH] = DW_PATH_AUTO;
 }
 
 /* Geometry of the phase planes of one input plane (depthwise_row.h). */
@@ -75,6 +90,7 @@ static dw_geom dw_geometry(const cp_shape *s) {
     g.ld = (wp + s->stride_w - 1) / s->stride_w;
     g.plane = (hp + s->stride_h - 1) / s->stride_h * g.ld;
     g.total = (s->stride_h * s->stride_w * g.plane + g.ld + CPA_DW_PAD + 15) / 16 * 16;
+    if (g.total < s->w) g.total = (s->w + 15) / 16 * 16; /* the in-place forms' zero row */
     return g;
 }
 
@@ -95,10 +111,38 @@ typedef struct {
     dw_geom g;
     size_t slice; /* floats of one worker's copy */
     cpa_dw_kernels kn;
+    const cpa_dw_plan *plan; /* the in-place form, or NULL: phase planes */
 } dw_job;
+
+/* In-place forms (depthwise_plane.h): no copy; the worker's slice holds the
+ * zero row that stands for input rows outside the image. */
+static void dw_task_inplace(const dw_job *j, int64_t begin, int64_t end, int worker) {
+    const cp_run_args *a = j->a;
+    const cp_shape *s = a->shape;
+    const int64_t P = cp_shape_out_h(s), Q = cp_shape_out_w(s), RS = s->r * s->s,
+                  mult = s->k / s->groups;
+    float *zero = (float *)a->workspace + (size_t)worker * j->slice;
+    memset(zero, 0, (size_t)s->w * sizeof(float));
+    cpa_dw_plane pa = {.plan = j->plan, .zero = zero};
+    for (int64_t ng = begin; ng < end; ng++) { /* (image, input channel) */
+        const int64_t n = ng / s->groups, g = ng % s->groups;
+        pa.x = a->x + ng * s->h * s->w;
+        for (int64_t m = 0; m < mult; m++) {
+            const int64_t k = g * mult + m;
+            pa.w = (const float *)a->weights + k * RS;
+            pa.bias = a->bias ? a->bias[k] : 0.0f;
+            pa.y = a->y + (n * s->k + k) * P * Q;
+            j->kn.plane(&pa);
+        }
+    }
+}
 
 static void dw_task(void *arg, int64_t begin, int64_t end, int worker) {
     const dw_job *j = arg;
+    if (j->plan) {
+        dw_task_inplace(j, begin, end, worker);
+        return;
+    }
     const cp_run_args *a = j->a;
     const cp_shape *s = a->shape;
     const int64_t P = cp_shape_out_h(s), Q = cp_shape_out_w(s);
@@ -152,10 +196,34 @@ static void dw_task(void *arg, int64_t begin, int64_t end, int worker) {
     }
 }
 
+/* The form a plane is read in (CPA_DWP_*; NONE: phase planes). */
+static int dw_form(const cp_shape *s, int64_t path, cpa_dw_kernels kn) {
+    if (!kn.plane || path == DW_PATH_PHASE) return CPA_DWP_NONE;
+    const int flat = cpa_dw_plan_flat_ok(s), rows = cpa_dw_plan_rows_ok(s);
+    if (path == DW_PATH_FLAT) return flat ? CPA_DWP_FLAT : CPA_DWP_NONE;
+    if (path == DW_PATH_ROWS) return rows ? CPA_DWP_ROWS : CPA_DWP_NONE;
+    if (flat) return CPA_DWP_FLAT;
+    /* Under stride_w 2 the rows form computes twice the FMAs but skips the
+     * deinterleaving copy: measured on MobileNet v1's layers (results/algos/
+     * README.md) it wins when an output row is one vector (Q <= 8) or when the
+     * input plane is larger than L1 (the copy is then an extra pass through
+     * L2/L3), and loses in between. */
+    if (rows && (s->stride_w == 1 || cp_shape_out_w(s) <= 8 ||
+                 s->h * s->w * (int64_t)sizeof(float) > 32 * 1024))
+        return CPA_DWP_ROWS;
+    return CPA_DWP_NONE;
+}
+
 static cp_status dw_run(const cp_run_args *a) {
     dw_job j = {.a = a, .g = dw_geometry(a->shape)};
     j.slice = cpa_align64((size_t)j.g.total * sizeof(float)) / sizeof(float);
     j.kn = cpa_dw_kernels_select(a->params ? a->params->v[DW_KERNELS] : 0);
+    cpa_dw_plan plan;
+    const int kind = dw_form(a->shape, a->params ? a->params->v[DW_PATH] : DW_PATH_AUTO, j.kn);
+    if (kind != CPA_DWP_NONE) {
+        cpa_dw_plan_build(a->shape, kind, &plan);
+        j.plan = &plan;
+    }
     cp_parallel_for(a->exec, a->shape->n * a->shape->groups, dw_task, &j);
     return CP_OK;
 }
@@ -172,8 +240,8 @@ static const char *dw_isa(const cp_shape *s, const cp_params *p) {
  * still catches a wrong tap (an error of order 1). */
 const cp_algo cpa_depthwise = {
     .name = "depthwise",
-    .summary = "depthwise direct (groups == c, any channel multiplier): padded plane per "
-               "channel, row kernel vectorised along the output row",
+    .summary = "depthwise direct (groups == c, any channel multiplier): read in place "
+               "(AVX-512) or from a padded phase-plane copy, vectorised along the output",
     .tolerance = 1e-5,
     .nparams = DW_NPARAMS,
     .params = dw_params,

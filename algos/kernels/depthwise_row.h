@@ -43,6 +43,8 @@ typedef struct cpa_dw_row {
     float *y;                /* row i at y + i*q */
 } cpa_dw_row;
 
+struct cpa_dw_plane;
+
 typedef struct cpa_dw_fill {
     const float *x;    /* the input plane, h x w, row-major */
     int64_t h, w;
@@ -72,6 +74,8 @@ void cpa_dw_fill_avx512(const cpa_dw_fill *f);
 typedef struct cpa_dw_kernels {
     cpa_dw_row_fn row;
     cpa_dw_fill_fn fill;
+    /* the in-place plane kernels (depthwise_plane.h), NULL where the level has none */
+    void (*plane)(const struct cpa_dw_plane *a);
     int isa; /* CPA_ISA_* it runs at */
 } cpa_dw_kernels;
 

@@ -10,7 +10,13 @@
  *    orientations, on an awkward grid: 1x1 images, H and W below the kernel
  *    with padding, odd sizes, strides 1..3, left pads of both parities under
  *    stride 2, dilation, asymmetric pads, batch 3, a channel multiplier, the
- *    MobileNet v1 geometry (112x112 stride 1 and 2, 7x7).
+ *    MobileNet v1 geometry (112x112 stride 1 and 2, 14x14, 7x7).  Each shape
+ *    under path 0 (the shape's choice) and each path forced: phase planes,
+ *    the in-place rows and the flat plane (depthwise_plane.h; AVX-512 only),
+ *    with shapes for their cases -- 'same'-width planes padded on one side
+ *    only, P != H, 5x5, dilation 2, exactly 16 vectors, stride 2x1 and 1x2,
+ *    rows with interior vectors under stride 2, 1x7 and 7x1 kernels; the
+ *    test fails if the in-place forms ran fewer shapes than listed for them.
  *  - Each ISA row kernel against the portable one on every row length 1..70
  *    and row steps q .. q+3 (every tail, rows shorter than a vector, vectors
  *    spanning several rows), and each ISA fill against the portable fill
@@ -30,6 +36,7 @@
 #include <cmocka.h>
 
 #include "algos/kernels/blocked_tile.h"
+#include "algos/kernels/depthwise_plane.h"
 #include "algos/kernels/depthwise_row.h"
 #include "convpick/algo.h"
 #include "convpick/oracle.h"
@@ -70,14 +77,36 @@ static void test_levels_vs_oracle(void **state) {
         {1, 3, 112, 112, 1, 3, 3, 2, 2, 1, 1, 1, 1, 1}, /* conv3.dw, stride 2 */
         {1, 5, 7, 7, 1, 3, 3, 1, 1, 1, 1, 1, 1, 1},     /* conv14.dw, 7x7 */
         {1, 4, 14, 14, 1, 3, 3, 2, 2, 1, 1, 1, 1, 1},   /* conv13.dw, 14 -> 7 */
+        /* the in-place forms (path 2 rows, 3 flat; depthwise_plane.h) */
+        {1, 6, 14, 14, 1, 3, 3, 1, 1, 1, 1, 1, 1, 1},   /* conv8.dw, 14x14: flat, 13 vectors */
+        {2, 3, 7, 7, 2, 3, 3, 1, 1, 1, 0, 0, 2, 2},     /* flat, pads only bottom/right */
+        {1, 3, 9, 11, 1, 3, 3, 1, 1, 1, 2, 2, 0, 0},    /* flat, pads only top/left */
+        {1, 2, 13, 12, 1, 5, 5, 1, 1, 1, 2, 1, 2, 3},   /* flat 5x5, asymmetric */
+        {1, 2, 11, 9, 1, 3, 3, 1, 1, 2, 2, 2, 2, 2},    /* flat, dilation 2 */
+        {1, 2, 16, 16, 1, 3, 3, 1, 1, 1, 1, 1, 1, 1},   /* flat, exactly 16 vectors */
+        {1, 2, 8, 5, 1, 3, 3, 1, 1, 1, 2, 1, 2, 1},     /* flat, P != H */
+        {1, 2, 7, 7, 1, 3, 3, 2, 2, 1, 0, 0, 1, 1},     /* stride 2, pads bottom/right */
+        {1, 3, 14, 14, 1, 3, 3, 2, 1, 1, 1, 1, 1, 1},   /* stride 2x1 */
+        {1, 2, 15, 19, 1, 3, 3, 1, 2, 1, 1, 0, 1, 2},   /* stride 1x2, asymmetric */
+        {1, 2, 9, 70, 1, 3, 3, 2, 2, 1, 1, 1, 1, 1},    /* stride 2, interior vectors */
+        {1, 2, 9, 70, 1, 5, 3, 2, 2, 2, 2, 3, 1, 0},    /* stride 2, 5x3, dilation 2 */
+        {1, 2, 6, 50, 1, 1, 7, 1, 1, 1, 0, 3, 0, 3},    /* 1x7 rows */
+        {3, 2, 9, 45, 1, 7, 1, 1, 1, 1, 3, 0, 3, 0},    /* 7x1, batch 3 */
+        {1, 2, 20, 48, 1, 3, 3, 1, 1, 1, 1, 2, 1, 1},   /* rows, Q != W */
+        {1, 2, 3, 40, 1, 1, 17, 1, 1, 1, 0, 8, 0, 8},   /* S 17: no in-place form */
     };
-    size_t ran = 0;
+    size_t ran = 0, forms[3] = {0, 0, 0}; /* shapes run in phase planes, rows, flat */
     for (size_t li = 0; li < NLEVELS; li++) {
         if (!level_runs(levels[li])) continue; /* the CPU lacks it: counted below */
-        cp_params p;
-        memset(&p, 0, sizeof p);
-        p.v[0] = levels[li];
+        /* path 0 (the shape's choice), then each form forced: 1 phase planes,
+         * 2 in-place rows, 3 flat (a form that cannot run a shape, or a level
+         * without in-place kernels, runs phase planes) */
+        for (int64_t path = 0; path <= 3; path++)
         for (size_t i = 0; i < sizeof shapes / sizeof shapes[0]; i++) {
+            cp_params p;
+            memset(&p, 0, sizeof p);
+            p.v[0] = levels[li];
+            p.v[1] = path;
             const int64_t *g = shapes[i];
             cp_shape s = cpt_shape(g[0], g[1], g[2], g[3], g[1] * g[4], g[5], g[6]);
             s.groups = g[1];
@@ -89,18 +118,29 @@ static void test_levels_vs_oracle(void **state) {
             if (cp_shape_validate(&s, msg, sizeof msg) != CP_SHAPE_OK)
                 fail_msg("shape %zu: %s", i, msg);
             assert_string_equal(dw()->isa(&s, &p), cpa_isa_name((int)levels[li]));
+            const int inplace = cpa_dw_kernels_select(levels[li]).plane != NULL;
+            if (path == 2 && inplace && cpa_dw_plan_rows_ok(&s)) forms[1]++;
+            else if (path == 3 && inplace && cpa_dw_plan_flat_ok(&s)) forms[2]++;
+            else if (path == 1) forms[0]++;
             for (int m = 0; m < 2; m++) {
                 cp_error e;
                 assert_int_equal(cpt_check_random(dw(), &s, m ? CP_CONV : CP_XCORR, &p,
                                                   11 + 3 * i, &e, msg, sizeof msg), CP_OK);
                 if (e.nonfinite || e.rel_err > dw()->tolerance)
-                    fail_msg("depthwise at %s, shape %zu flip %d: rel_err %.3g nonfinite %zu",
-                             cpa_isa_name((int)levels[li]), i, m, e.rel_err, e.nonfinite);
+                    fail_msg("depthwise at %s path %lld, shape %zu flip %d: rel_err %.3g "
+                             "nonfinite %zu", cpa_isa_name((int)levels[li]), (long long)path, i,
+                             m, e.rel_err, e.nonfinite);
             }
         }
         ran++;
     }
     if (!ran) skip(); /* no level of this build runs here: exit 77 */
+    /* every form really ran some shapes where the CPU has AVX-512 */
+    assert_true(forms[0] > 0);
+    if (cpa_dw_kernels_select(CPA_ISA_AVX512).plane) {
+        if (forms[1] < 20 || forms[2] < 8)
+            fail_msg("in-place forms ran too few shapes: rows %zu, flat %zu", forms[1], forms[2]);
+    }
 }
 
 static float dyadic(int64_t i, int64_t k) { return (float)((i * 7 + k * 5) % 13 - 6) * 0.5f; }
