@@ -40,7 +40,6 @@ int cph_diff_control_compare(cph_diff *d) {
     cph_diff_control *c = &d->control;
     memset(c, 0, sizeof *c);
     c->factor = 1.0;
-    c->rows_shift = NAN;
     c->verdict = CPH_SHIFT_INCONCLUSIVE;
     c->sides = d->base->has_control + d->next->has_control;
     if (c->sides < 2 || (d->flags & CPH_DIFF_PAIRED)) return 0;
@@ -58,9 +57,8 @@ int cph_diff_control_compare(cph_diff *d) {
         c->present = c->compared = 1;
         c->verdict = cph_shift_verdict_of(&c->cmp, d->alpha, d->tol);
         c->moved = c->verdict == CPH_SHIFT_SLOWER || c->verdict == CPH_SHIFT_FASTER;
-        c->rows_shift = d->rows_shift;
         /* corroborated: the rows moved the control's way, at least half as far */
-        const double lc = log(c->cmp.ratio), lr = log(c->rows_shift);
+        const double lc = log(c->cmp.ratio), lr = log(d->rows_shift);
         c->drift = c->moved && isfinite(lr) && lc * lr > 0.0 && fabs(lr) >= 0.5 * fabs(lc);
         if (c->drift) c->factor = c->cmp.ratio;
     }
@@ -114,14 +112,14 @@ void cph_diff_control_text(const cph_diff *d, char *buf, size_t cap) {
                  "machine-wide drift; rows judged on drift-corrected ratios (each NEW time "
                  "divided by %.4f)",
                  r >= 1.0 ? r : 1.0 / r, r >= 1.0 ? "slower" : "faster", all, series,
-                 c->rows_shift, c->factor);
+                 d->rows_shift, c->factor);
     else if (c->moved)
         snprintf(buf, cap,
                  "the control ran %.2fx %s in NEW (%s%s), but the rows' common shift is %.3fx "
                  "(the median row ratio): a drift the rows did not go through is not corrected; "
                  "rows judged as measured",
                  r >= 1.0 ? r : 1.0 / r, r >= 1.0 ? "slower" : "faster", all, series,
-                 c->rows_shift);
+                 d->rows_shift);
     else
         snprintf(buf, cap, "the control is %s in NEW (%s%s): %s; rows judged as measured",
                  cph_shift_verdict_name(c->verdict), all, series,

@@ -14,16 +14,22 @@ static double log_ratio(const cph_result_item *b, const cph_result_item *n) {
     return x > 0.0 && y > 0.0 && isfinite(x) && isfinite(y) ? log(y / x) : NAN;
 }
 
-int cph_diff_rows_shift(cph_diff *d) {
-    d->rows_shift = NAN;
-    double *v = malloc((d->npairs ? d->npairs : 1) * sizeof *v);
-    if (!v) return -1;
+/* The common shift (log) of the pairs at a thread count (< 0: all of them):
+ * the median of their log ratios; NAN without any.  scratch holds npairs. */
+static double common_at(const cph_diff *d, int threads, double *scratch) {
     size_t n = 0;
     for (size_t i = 0; i < d->npairs; i++) {
+        if (threads >= 0 && d->pairs[i].base->threads != threads) continue;
         const double l = log_ratio(d->pairs[i].base, d->pairs[i].next);
-        if (isfinite(l)) v[n++] = l;
+        if (isfinite(l)) scratch[n++] = l;
     }
-    if (n) d->rows_shift = exp(cph_median_of(v, n));
+    return n ? cph_median_of(scratch, n) : NAN;
+}
+
+int cph_diff_rows_shift(cph_diff *d) {
+    double *v = malloc((d->npairs ? d->npairs : 1) * sizeof *v);
+    if (!v) return -1;
+    d->rows_shift = exp(common_at(d, -1, v));
     free(v);
     return 0;
 }
@@ -66,18 +72,6 @@ static double layer_shift(const cph_diff *d, const cph_diff_pair *p, double *scr
     return n ? cph_median_of(scratch, n) : NAN;
 }
 
-/* The common shift (log) of the pairs at p's thread count: a state that
- * slows every two-thread row is not the layer's; NAN without any. */
-static double common_at(const cph_diff *d, int threads, double *scratch) {
-    size_t n = 0;
-    for (size_t i = 0; i < d->npairs; i++) {
-        if (d->pairs[i].base->threads != threads) continue;
-        const double l = log_ratio(d->pairs[i].base, d->pairs[i].next);
-        if (isfinite(l)) scratch[n++] = l;
-    }
-    return n ? cph_median_of(scratch, n) : NAN;
-}
-
 int cph_diff_layer_shifts(cph_diff *d) {
     const size_t cap = d->base->nitems > d->npairs ? d->base->nitems : d->npairs;
     double *scratch = malloc((cap ? cap : 1) * sizeof *scratch);
@@ -89,6 +83,7 @@ int cph_diff_layer_shifts(cph_diff *d) {
         p->layer_others = 0;
         if (d->flags & CPH_DIFF_PAIRED) continue; /* the rounds pair BASE with NEW themselves */
         const double ls = layer_shift(d, p, scratch, &p->layer_others);
+        /* per thread count: a state that slows every two-thread row is not the layer's */
         const double common = common_at(d, p->base->threads, scratch);
         if (!isfinite(ls) || !isfinite(common)) continue;
         p->layer_shift = exp(ls);

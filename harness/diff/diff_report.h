@@ -40,7 +40,7 @@ typedef struct cph_choice_change {
  * statistics, and the control as one series whose trial r is the geometric
  * mean of the series' trials r.  When that moved significantly beyond the
  * tolerance (verdict slower or faster) and the rows moved the same way (their
- * common shift, the median over the pairs of the log ratio of the medians,
+ * common shift, cph_diff.rows_shift: the median over the pairs of the log ratio of the medians,
  * has the control's sign and at least half its size), it is machine-wide
  * drift and every NEW time is divided by the control's Hodges-Lehmann ratio
  * before the rows are judged.  A control that moved alone stands for nothing
@@ -54,7 +54,6 @@ typedef struct cph_diff_control {
     cph_shift_cmp cmp;
     cph_shift_verdict verdict;
     int moved;                /* verdict slower or faster */
-    double rows_shift;        /* the rows' common shift NEW/BASE (NAN without pairs) */
     int drift;                /* moved, and the rows with it: the rows are corrected */
     double factor;            /* what NEW times are divided by (1 without drift) */
 } cph_diff_control;

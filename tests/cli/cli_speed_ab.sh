@@ -25,6 +25,17 @@ for v in base new new_slowed; do
 done
 tmp="$(mktemp -d)"; trap 'rm -rf "$tmp"' EXIT
 fail() { echo "FAIL: $*"; exit 1; }
+# direct_flagged DIR WHAT: both direct rows of DIR's diff judged slower, as
+# JUnit failures too, each at least 2.5x (the slowdown is 4x), and the verdict.
+direct_flagged() {
+  local ndirect nd
+  ndirect="$(grep -cE '^[a-z]+ +[ab] +no +1 +direct ' "$1/diff.txt")"
+  nd="$(xmllint --xpath 'count(//testcase/failure[contains(../@name, " direct")])' "$1/junit.xml")"
+  [ "$ndirect" = 2 ] && [ "$nd" = 2 ] || { cat "$1/diff.txt"; fail "$2direct rows: $ndirect, flagged: $nd (expected both)"; }
+  grep -E '^slower +[ab] +no +1 +direct ' "$1/diff.txt" | awk '{ if ($9 < 2.5) bad = 1 } END { exit bad }' \
+    || { cat "$1/diff.txt"; fail "$2a direct row's ratio is below 2.5 (the slowdown is 4x)"; }
+  grep -q "A/B speed check FAILED: a regression against HEAD" "$tmp/log" || fail "$2verdict line"
+}
 cat >"$tmp/shapes.txt" <<'S'
 # two tiny layers of an invented network
 a: n=1,c=4,h=10,w=10,k=8,r=3,s=3,pad=1
@@ -44,12 +55,7 @@ for a in base_direct new_direct base_im2col_gemm new_im2col_gemm; do
   n="$(grep -cE "^[ab] +no +1 +$a " "$tmp/in/ab.txt" || true)"
   [ "$n" = 2 ] || { cat "$tmp/in/ab.txt"; fail "$a: $n rows in the bench output, expected 2"; }
 done
-ndirect="$(grep -cE '^[a-z]+ +[ab] +no +1 +direct ' "$tmp/in/diff.txt")"
-nd="$(xmllint --xpath 'count(//testcase/failure[contains(../@name, " direct")])' "$tmp/in/junit.xml")"
-[ "$ndirect" = 2 ] && [ "$nd" = 2 ] || { cat "$tmp/in/diff.txt"; fail "in one process, direct rows: $ndirect, flagged: $nd (expected both)"; }
-grep -E '^slower +[ab] +no +1 +direct ' "$tmp/in/diff.txt" | awk '{ if ($9 < 2.5) bad = 1 } END { exit bad }' \
-  || { cat "$tmp/in/diff.txt"; fail "in one process, a direct row's ratio is below 2.5 (the slowdown is 4x)"; }
-grep -q "A/B speed check FAILED: a regression against HEAD" "$tmp/log" || fail "in one process: verdict line"
+direct_flagged "$tmp/in" "in one process: "
 
 set +e; "${in1[@]}" --plugin-new "$PLUG/cprev_new.so" --out "$tmp/in-same" >"$tmp/log" 2>&1; rc=$?; set -e
 [ "$rc" = 0 ] || [ "$rc" = 1 ] || { cat "$tmp/log"; fail "in one process, same build: exit $rc"; }
@@ -80,12 +86,7 @@ set +e; "${ab[@]}" --convpick "$SLOWED" --out "$tmp/slow" >"$tmp/log" 2>&1; rc=$
 [ "$(ls "$tmp/slow/ab"/round*.base.part[12].json | wc -l)" = 16 ] || fail "expected 16 BASE parts"
 [ "$(ls "$tmp/slow/ab"/round*.new.part[12].json | wc -l)" = 16 ] || fail "expected 16 NEW parts"
 grep -q "^method: rounds paired in order" "$tmp/slow/diff.txt" || fail "not a paired comparison"
-ndirect="$(grep -cE '^[a-z]+ +[ab] +no +1 +direct ' "$tmp/slow/diff.txt")"
-nd="$(xmllint --xpath 'count(//testcase/failure[contains(../@name, " direct")])' "$tmp/slow/junit.xml")"
-[ "$ndirect" = 2 ] && [ "$nd" = 2 ] || { cat "$tmp/slow/diff.txt"; fail "direct rows: $ndirect, flagged: $nd (expected both)"; }
-grep -E '^slower +[ab] +no +1 +direct ' "$tmp/slow/diff.txt" | awk '{ if ($9 < 2.5) bad = 1 } END { exit bad }' \
-  || { cat "$tmp/slow/diff.txt"; fail "a direct row's ratio is below 2.5 (the slowdown is 4x)"; }
-grep -q "A/B speed check FAILED: a regression against HEAD" "$tmp/log" || fail "verdict line"
+direct_flagged "$tmp/slow" ""
 
 set +e; "${ab[@]}" --convpick "$CLI" --whole-rounds --out "$tmp/same" >"$tmp/log" 2>&1; rc=$?; set -e
 # --whole-rounds: one process per side and round
