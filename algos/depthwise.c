@@ -49,8 +49,9 @@ static const cp_param_desc dw_params[DW_NPARAMS] = {
                 "portable); 1 = portable; 2 = AVX2; 3 = AVX-512 (a level the CPU lacks runs "
                 "the widest below it); default 0", 0, 3},
     {"path", "how a plane is read: 0 = chosen from the shape (flat for small stride-1 "
-             "'same'-width planes, in-place rows for other stride-1 planes and for stride-2 "
-             "planes with Q <= 8 or over 32 KiB of input, else phase planes); 1 = "
+             "'same'-width planes, in-place rows for other stride-1 planes, 3x3 stride-2 "
+             "planes and stride-2 planes with Q <= 8 or over 32 KiB of input, else phase "
+             "planes); 1 = "
              "phase-plane copy; 2 = in-place rows; 3 = flat plane; in-place forms need "
              "AVX-512 and the shape they handle, else phase planes run; default 0", 0, 3},
 };
@@ -203,12 +204,16 @@ static int dw_form(const cp_shape *s, int64_t path, cpa_dw_kernels kn) {
     if (path == DW_PATH_FLAT) return flat ? CPA_DWP_FLAT : CPA_DWP_NONE;
     if (path == DW_PATH_ROWS) return rows ? CPA_DWP_ROWS : CPA_DWP_NONE;
     if (flat) return CPA_DWP_FLAT;
-    /* Under stride_w 2 the rows form computes twice the FMAs but skips the
-     * deinterleaving copy: measured on MobileNet v1's layers (results/algos/
-     * README.md) it wins when an output row is one vector (Q <= 8) or when the
-     * input plane is larger than L1 (the copy is then an extra pass through
-     * L2/L3), and loses in between. */
-    if (rows && (s->stride_w == 1 || cp_shape_out_w(s) <= 8 ||
+    /* 3x3 stride 2x2 without dilation deinterleaves in registers (no wasted
+     * FMAs, no copy): 1.5x to 2x the phase planes on every MobileNet v1
+     * stride-2 layer (results/algos/README.md).  Other stride_w 2 shapes
+     * compute the odd virtual columns and drop them, twice the FMAs but no
+     * deinterleaving copy: that wins when an output row is one vector (Q <=
+     * 8) or when the input plane is larger than L1 (the copy is then an extra
+     * pass through L2/L3), and loses in between. */
+    const int s2 = s->r == 3 && s->s == 3 && s->stride_h == 2 && s->stride_w == 2 &&
+                   s->dil_h == 1 && s->dil_w == 1;
+    if (rows && (s->stride_w == 1 || s2 || cp_shape_out_w(s) <= 8 ||
                  s->h * s->w * (int64_t)sizeof(float) > 32 * 1024))
         return CPA_DWP_ROWS;
     return CPA_DWP_NONE;

@@ -42,6 +42,13 @@ void cpa_dw_plan_build(const cp_shape *s, int kind, cpa_dw_plan *pl) {
                 const int64_t lo = pl->pl - c * pl->dw - 16 * i;
                 pl->cmask[i][c] = lanes(lo, lo + pl->w);
             }
+        if (pl->sw == 2)
+            for (int64_t k = 0; k < (pl->q + 15) / 16; k++) {
+                const int64_t b = 32 * k - pl->pl;
+                pl->dmask[k][0] = lanes(-b, pl->w - b);
+                pl->dmask[k][1] = lanes(-b - 16, pl->w - b - 16);
+                pl->dmask[k][2] = lanes(-b - 32, pl->w - b - 32) & 1u;
+            }
         return;
     }
     const int64_t n = pl->p * pl->q;

@@ -18,9 +18,12 @@
  *    output row, 16 "virtual columns" u = sw*q + e per vector; tap (r, c)
  *    reads input row p*sh - pt + r*dil_h (or the zero row), columns
  *    u - pl + c*dil_w, masked only in vectors that touch the left or right
- *    border (masks precomputed per vector and tap column).  Under stride_w 2 the even virtual columns are the outputs
- *    (two vectors are combined into 16 outputs with one permute): the odd
- *    ones are computed and dropped, trading FMAs for the deinterleaving copy.
+ *    border (masks precomputed per vector and tap column).  Under stride_w
+ *    2 the even virtual columns are the outputs (two vectors are combined
+ *    into 16 outputs with one permute): the odd ones are computed and
+ *    dropped, trading FMAs for the deinterleaving copy -- except for 3x3
+ *    stride 2x2 without dilation, which deinterleaves each input row in
+ *    registers (two loads, two permutes and a lane shift per 16 outputs).
  *
  * Result: y[p*Q + q] = bias + sum over taps of w[t] * x(in-image input), taps
  * in order t = 0, 1, ..., fused multiply-adds, out-of-image taps adding w*0.
@@ -51,6 +54,10 @@ typedef struct cpa_dw_plan {
     /* ROWS: lanes of the vector of virtual columns 16 i .. 16 i + 15 whose
      * tap column c reads inside the image */
     uint16_t cmask[CPA_DWP_ROWS_VECS][CPA_DWP_ROWS_S];
+    /* ROWS under stride_w 2: chunk k of 16 outputs reads input columns
+     * b .. b + 32 with b = 32 k - pl, as three loads (16, 16 and 1 floats);
+     * dmask[k][j]: their lanes inside the image */
+    uint16_t dmask[CPA_DWP_ROWS_VECS][3];
 } cpa_dw_plan;
 
 typedef struct cpa_dw_plane {

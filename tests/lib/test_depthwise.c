@@ -90,6 +90,8 @@ static void test_levels_vs_oracle(void **state) {
         {1, 2, 15, 19, 1, 3, 3, 1, 2, 1, 1, 0, 1, 2},   /* stride 1x2, asymmetric */
         {1, 2, 9, 70, 1, 3, 3, 2, 2, 1, 1, 1, 1, 1},    /* stride 2, interior vectors */
         {1, 2, 9, 70, 1, 5, 3, 2, 2, 2, 2, 3, 1, 0},    /* stride 2, 5x3, dilation 2 */
+        {1, 2, 10, 64, 1, 3, 3, 2, 2, 1, 1, 1, 1, 1},   /* stride 2, two full 16-output chunks */
+        {2, 2, 11, 63, 1, 3, 3, 2, 2, 1, 2, 2, 0, 0},   /* stride 2, pads 2 top/left only */
         {1, 2, 6, 50, 1, 1, 7, 1, 1, 1, 0, 3, 0, 3},    /* 1x7 rows */
         {3, 2, 9, 45, 1, 7, 1, 1, 1, 1, 3, 0, 3, 0},    /* 7x1, batch 3 */
         {1, 2, 20, 48, 1, 3, 3, 1, 1, 1, 1, 2, 1, 1},   /* rows, Q != W */
