@@ -27,7 +27,9 @@
  * vector run with per-tap shifted masked loads from the unpadded input
  * (MobileNet's 7x7 and 14x14 layers), other stride-1 planes and some
  * stride-2 ones row by row straight from the input, border vectors masked,
- * rows outside the image read from a zero row.
+ * rows outside the image read from a zero row.  At the AVX2 level, 3x3
+ * shapes with strides of 1 and 2 read rows in place the same way
+ * (kernels/depthwise_plane_avx2.c); other shapes keep the phase planes.
  *
  * Bytes it must move: the input and output once (4 (N C H W + N K P Q)) plus
  * the weights; work: 2 R S FLOPs per output.  At 9 taps that is about 2.25
@@ -53,7 +55,8 @@ static const cp_param_desc dw_params[DW_NPARAMS] = {
              "planes and stride-2 planes with Q <= 8 or over 32 KiB of input, else phase "
              "planes); 1 = "
              "phase-plane copy; 2 = in-place rows; 3 = flat plane; in-place forms need "
-             "AVX-512 and the shape they handle, else phase planes run; default 0", 0, 3},
+             "AVX-512 (or AVX2 for rows of 3x3 kernels with strides 1 and 2) and the shape "
+             "they handle, else phase planes run; default 0", 0, 3},
 };
 
 static int dw_supports(const cp_shape *s, cp_flip flip, char *why, size_t cap) {
@@ -197,24 +200,33 @@ static void dw_task(void *arg, int64_t begin, int64_t end, int worker) {
     }
 }
 
+/* 1 when the level's plane kernel runs form kind of shape s. */
+static int dw_runs(const cp_shape *s, int kind, cpa_dw_kernels kn) {
+    if (!kn.plane) return 0;
+    const int ok = kind == CPA_DWP_FLAT ? cpa_dw_plan_flat_ok(s) : cpa_dw_plan_rows_ok(s);
+    return ok && (!kn.plane_ok || kn.plane_ok(s, kind));
+}
+
 /* The form a plane is read in (CPA_DWP_*; NONE: phase planes). */
 static int dw_form(const cp_shape *s, int64_t path, cpa_dw_kernels kn) {
-    if (!kn.plane || path == DW_PATH_PHASE) return CPA_DWP_NONE;
-    const int flat = cpa_dw_plan_flat_ok(s), rows = cpa_dw_plan_rows_ok(s);
+    if (path == DW_PATH_PHASE) return CPA_DWP_NONE;
+    const int flat = dw_runs(s, CPA_DWP_FLAT, kn), rows = dw_runs(s, CPA_DWP_ROWS, kn);
     if (path == DW_PATH_FLAT) return flat ? CPA_DWP_FLAT : CPA_DWP_NONE;
     if (path == DW_PATH_ROWS) return rows ? CPA_DWP_ROWS : CPA_DWP_NONE;
     if (flat) return CPA_DWP_FLAT;
     /* 3x3 stride 2x2 without dilation deinterleaves in registers (no wasted
-     * FMAs, no copy): 1.5x to 2x the phase planes on every MobileNet v1
-     * stride-2 layer (results/algos/README.md).  Other stride_w 2 shapes
-     * compute the odd virtual columns and drop them, twice the FMAs but no
-     * deinterleaving copy: that wins when an output row is one vector (Q <=
-     * 8) or when the input plane is larger than L1 (the copy is then an extra
-     * pass through L2/L3), and loses in between. */
-    const int s2 = s->r == 3 && s->s == 3 && s->stride_h == 2 && s->stride_w == 2 &&
-                   s->dil_h == 1 && s->dil_w == 1;
-    if (rows && (s->stride_w == 1 || s2 || cp_shape_out_w(s) <= 8 ||
-                 s->h * s->w * (int64_t)sizeof(float) > 32 * 1024))
+     * FMAs, no copy) with AVX-512: 1.5x to 2x the phase planes on every
+     * MobileNet v1 stride-2 layer (results/algos/README.md).  Other stride_w
+     * 2 shapes compute the odd virtual columns and drop them, twice the FMAs
+     * but no deinterleaving copy: that wins when an output row is one vector
+     * (Q <= 8) or when the input plane is larger than L1 (the copy is then an
+     * extra pass through L2/L3), and loses in between -- except for 3x3 at
+     * the AVX2 level, whose rows kernel beat the phase planes 2.2x to 3.5x on
+     * every MobileNet v1 layer. */
+    const int k33 = s->r == 3 && s->s == 3 && s->dil_h == 1 && s->dil_w == 1;
+    const int s2 = k33 && s->stride_h == 2 && s->stride_w == 2;
+    if (rows && (s->stride_w == 1 || s2 || (k33 && kn.isa == CPA_ISA_AVX2) ||
+                 cp_shape_out_w(s) <= 8 || s->h * s->w * (int64_t)sizeof(float) > 32 * 1024))
         return CPA_DWP_ROWS;
     return CPA_DWP_NONE;
 }

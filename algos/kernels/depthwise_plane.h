@@ -78,7 +78,13 @@ int cpa_dw_plan_rows_ok(const cp_shape *s);
 /* Fills *pl for form kind (CPA_DWP_FLAT or _ROWS; it must be ok for s). */
 void cpa_dw_plan_build(const cp_shape *s, int kind, cpa_dw_plan *pl);
 
-/* AVX-512F: both forms (by plan->kind).  Only where the CPU and OS have it. */
+/* AVX-512F: both forms (by plan->kind), every shape they are ok for.  Only
+ * where the CPU and OS have it. */
 void cpa_dw_plane_avx512(const cpa_dw_plane *a);
+/* AVX2 + FMA: the ROWS form for 3x3 kernels with row dilation 1 and strides
+ * of 1 or 2 only (cpa_dw_plane_avx2_ok says which); only where the CPU has
+ * AVX2 and FMA. */
+void cpa_dw_plane_avx2(const cpa_dw_plane *a);
+int cpa_dw_plane_avx2_ok(const cp_shape *s, int kind);
 
 #endif

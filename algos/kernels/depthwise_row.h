@@ -44,6 +44,7 @@ typedef struct cpa_dw_row {
 } cpa_dw_row;
 
 struct cpa_dw_plane;
+struct cp_shape;
 
 typedef struct cpa_dw_fill {
     const float *x;    /* the input plane, h x w, row-major */
@@ -76,6 +77,9 @@ typedef struct cpa_dw_kernels {
     cpa_dw_fill_fn fill;
     /* the in-place plane kernels (depthwise_plane.h), NULL where the level has none */
     void (*plane)(const struct cpa_dw_plane *a);
+    /* 1 when plane runs form kind (CPA_DWP_*) of shape s, which must be ok
+     * for the form (depthwise_plane.h); NULL: every such shape */
+    int (*plane_ok)(const struct cp_shape *s, int kind);
     int isa; /* CPA_ISA_* it runs at */
 } cpa_dw_kernels;
 

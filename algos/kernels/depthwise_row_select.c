@@ -10,7 +10,10 @@
 cpa_dw_kernels cpa_dw_kernels_select(int64_t isa) {
     const int level = cpa_isa_resolve(isa);
     if (level == CPA_ISA_AVX512)
-        return (cpa_dw_kernels){cpa_dw_row_avx512, cpa_dw_fill_avx512, cpa_dw_plane_avx512, level};
-    if (level == CPA_ISA_AVX2) return (cpa_dw_kernels){cpa_dw_row_avx2, cpa_dw_fill_ref, NULL, level};
-    return (cpa_dw_kernels){cpa_dw_row_ref, cpa_dw_fill_ref, NULL, CPA_ISA_PORTABLE};
+        return (cpa_dw_kernels){cpa_dw_row_avx512, cpa_dw_fill_avx512, cpa_dw_plane_avx512, NULL,
+                                level};
+    if (level == CPA_ISA_AVX2)
+        return (cpa_dw_kernels){cpa_dw_row_avx2, cpa_dw_fill_ref, cpa_dw_plane_avx2,
+                                cpa_dw_plane_avx2_ok, level};
+    return (cpa_dw_kernels){cpa_dw_row_ref, cpa_dw_fill_ref, NULL, NULL, CPA_ISA_PORTABLE};
 }

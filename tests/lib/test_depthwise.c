@@ -12,11 +12,13 @@
  *    stride 2, dilation, asymmetric pads, batch 3, a channel multiplier, the
  *    MobileNet v1 geometry (112x112 stride 1 and 2, 14x14, 7x7).  Each shape
  *    under path 0 (the shape's choice) and each path forced: phase planes,
- *    the in-place rows and the flat plane (depthwise_plane.h; AVX-512 only),
+ *    the in-place rows and the flat plane (depthwise_plane.h; AVX-512, and
+ *    at the AVX2 level the rows form for 3x3 shapes with strides 1 and 2),
  *    with shapes for their cases -- 'same'-width planes padded on one side
  *    only, P != H, 5x5, dilation 2, exactly 16 vectors, stride 2x1 and 1x2,
  *    rows with interior vectors under stride 2, 1x7 and 7x1 kernels; the
- *    test fails if the in-place forms ran fewer shapes than listed for them.
+ *    test fails if the in-place forms ran fewer shapes than listed for them
+ *    (AVX-512 and AVX2 each).
  *  - Each ISA row kernel against the portable one on every row length 1..70
  *    and row steps q .. q+3 (every tail, rows shorter than a vector, vectors
  *    spanning several rows), and each ISA fill against the portable fill
@@ -98,8 +100,11 @@ static void test_levels_vs_oracle(void **state) {
         {1, 2, 3, 40, 1, 1, 17, 1, 1, 1, 0, 8, 0, 8},   /* S 17: no in-place form */
     };
     size_t ran = 0, forms[3] = {0, 0, 0}; /* shapes run in phase planes, rows, flat */
+    size_t avx2_rows = 0;                 /* of them, rows at the AVX2 level */
+    int avx2_ran = 0;
     for (size_t li = 0; li < NLEVELS; li++) {
         if (!level_runs(levels[li])) continue; /* the CPU lacks it: counted below */
+        if (levels[li] == CPA_ISA_AVX2) avx2_ran = 1;
         /* path 0 (the shape's choice), then each form forced: 1 phase planes,
          * 2 in-place rows, 3 flat (a form that cannot run a shape, or a level
          * without in-place kernels, runs phase planes) */
@@ -120,9 +125,15 @@ static void test_levels_vs_oracle(void **state) {
             if (cp_shape_validate(&s, msg, sizeof msg) != CP_SHAPE_OK)
                 fail_msg("shape %zu: %s", i, msg);
             assert_string_equal(dw()->isa(&s, &p), cpa_isa_name((int)levels[li]));
-            const int inplace = cpa_dw_kernels_select(levels[li]).plane != NULL;
-            if (path == 2 && inplace && cpa_dw_plan_rows_ok(&s)) forms[1]++;
-            else if (path == 3 && inplace && cpa_dw_plan_flat_ok(&s)) forms[2]++;
+            const cpa_dw_kernels kn = cpa_dw_kernels_select(levels[li]);
+            const int rows = kn.plane && cpa_dw_plan_rows_ok(&s) &&
+                             (!kn.plane_ok || kn.plane_ok(&s, CPA_DWP_ROWS)),
+                      flat = kn.plane && cpa_dw_plan_flat_ok(&s) &&
+                             (!kn.plane_ok || kn.plane_ok(&s, CPA_DWP_FLAT));
+            if (path == 2 && rows) {
+                forms[1]++;
+                if (levels[li] == CPA_ISA_AVX2) avx2_rows++;
+            } else if (path == 3 && flat) forms[2]++;
             else if (path == 1) forms[0]++;
             for (int m = 0; m < 2; m++) {
                 cp_error e;
@@ -142,6 +153,10 @@ static void test_levels_vs_oracle(void **state) {
     if (cpa_dw_kernels_select(CPA_ISA_AVX512).plane) {
         if (forms[1] < 20 || forms[2] < 8)
             fail_msg("in-place forms ran too few shapes: rows %zu, flat %zu", forms[1], forms[2]);
+    }
+    if (avx2_ran && cpa_dw_kernels_select(CPA_ISA_AVX2).plane) {
+        /* the AVX2 rows kernel's 3x3 shapes: strides 1x1, 2x2, 2x1, 1x2 */
+        if (avx2_rows < 20) fail_msg("AVX2 in-place rows ran too few shapes: %zu", avx2_rows);
     }
 }
 
