@@ -258,7 +258,8 @@ static const char *dw_isa(const cp_shape *s, const cp_params *p) {
 const cp_algo cpa_depthwise = {
     .name = "depthwise",
     .summary = "depthwise direct (groups == c, any channel multiplier): read in place "
-               "(AVX-512) or from a padded phase-plane copy, vectorised along the output",
+               "(AVX-512; AVX2 for 3x3 strides 1-2) or from a padded phase-plane copy, "
+               "vectorised along the output",
     .tolerance = 1e-5,
     .nparams = DW_NPARAMS,
     .params = dw_params,
