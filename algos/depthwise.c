@@ -231,6 +231,30 @@ static int dw_form(const cp_shape *s, int64_t path, cpa_dw_kernels kn) {
     return CPA_DWP_NONE;
 }
 
+/* The tuner's candidates: the shape's choice (path 0) first, then every
+ * other form this CPU's widest kernels can run for the shape (phase planes
+ * always, in-place rows and flat where they run), so that tune times each
+ * form once and the table records which one won on the machine it ran on
+ * (path 0's rule was measured on one machine). */
+static int dw_candidates(const cp_shape *s, const cp_cache_sizes *caches, cp_params *out,
+                         int max) {
+    if (max <= 0) return 0;
+    cp_params p;
+    dw_defaults(s, caches, &p);
+    const cpa_dw_kernels kn = cpa_dw_kernels_select(p.v[DW_KERNELS]);
+    const int chosen = dw_form(s, DW_PATH_AUTO, kn);
+    int n = 0;
+    out[n++] = p;
+    static const struct { int64_t path; int form; } alt[] = {
+        {DW_PATH_PHASE, CPA_DWP_NONE}, {DW_PATH_ROWS, CPA_DWP_ROWS}, {DW_PATH_FLAT, CPA_DWP_FLAT}};
+    for (size_t i = 0; i < sizeof alt / sizeof alt[0] && n < max; i++) {
+        if (alt[i].form == chosen || dw_form(s, alt[i].path, kn) != alt[i].form) continue;
+        out[n] = p;
+        out[n++].v[DW_PATH] = alt[i].path;
+    }
+    return n;
+}
+
 static cp_status dw_run(const cp_run_args *a) {
     dw_job j = {.a = a, .g = dw_geometry(a->shape)};
     j.slice = cpa_align64((size_t)j.g.total * sizeof(float)) / sizeof(float);
@@ -265,6 +289,7 @@ const cp_algo cpa_depthwise = {
     .params = dw_params,
     .supports = dw_supports,
     .defaults = dw_defaults,
+    .candidates = dw_candidates,
     .workspace_size = dw_workspace_size,
     .prepared_size = dw_prepared_size,
     .prepare = cpa_preflip_prepare,

@@ -25,7 +25,9 @@
  *    (strides 1..3, left pads 0..2, widths 1..40): dyadic data make every
  *    product and partial sum exact in float32, so the two must agree bit for
  *    bit whatever the summation and fusing (common practice, no source).
- *  - What supports() claims and refuses. */
+ *  - What supports() claims and refuses.
+ *  - The tuner's candidates: the shape's choice first, then each other form
+ *    the widest kernels here run, once each, each checked against the oracle. */
 #include <math.h>
 #include <setjmp.h>
 #include <stdarg.h>
@@ -97,7 +99,7 @@ static void test_levels_vs_oracle(void **state) {
         {1, 2, 6, 50, 1, 1, 7, 1, 1, 1, 0, 3, 0, 3},    /* 1x7 rows */
         {3, 2, 9, 45, 1, 7, 1, 1, 1, 1, 3, 0, 3, 0},    /* 7x1, batch 3 */
         {1, 2, 20, 48, 1, 3, 3, 1, 1, 1, 1, 2, 1, 1},   /* rows, Q != W */
-        {1, 2, 3, 40, 1, 1, 17, 1, 1, 1, 0, 8, 0, 8},   /* S 17: no in-place form */
+        {1, 2, 3, 40, 1, 1, 17, 1, 1, 1, 0, 8, 0, 8},   /* S 17: too wide for rows, flat */
     };
     size_t ran = 0, forms[3] = {0, 0, 0}; /* shapes run in phase planes, rows, flat */
     size_t avx2_rows = 0;                 /* of them, rows at the AVX2 level */
@@ -236,6 +238,59 @@ static void test_fill_matches_portable(void **state) {
     if (!ran) skip();
 }
 
+/* The tuner's candidates: path 0 first, then each other form the widest
+ * kernels here run for the shape, once each (the forms per level are in
+ * depthwise_plane.h and algos/depthwise.c: a fact of this code, no outside
+ * source).  Every candidate is also checked against the oracle. */
+static size_t candidates_of(const cp_shape *s, cp_params *out, int max) {
+    const cp_cache_sizes c = {48 * 1024, 2 * 1024 * 1024, 32 * 1024 * 1024, 64};
+    const int n = dw()->candidates(s, &c, out, max);
+    assert_true(n >= 1 && n <= max);
+    assert_int_equal(out[0].v[1], 0); /* the shape's choice first */
+    for (int i = 0; i < n; i++) {
+        assert_int_equal(out[i].v[0], 0); /* the widest kernels */
+        for (int j = 0; j < i; j++) assert_true(out[i].v[1] != out[j].v[1]);
+        char msg[256];
+        cp_error e;
+        assert_int_equal(cpt_check_random(dw(), s, CP_XCORR, &out[i], 5u + (unsigned)i, &e, msg,
+                                          sizeof msg),
+                         CP_OK);
+        assert_true(e.rel_err <= dw()->tolerance);
+    }
+    return (size_t)n;
+}
+
+static void test_candidates(void **state) {
+    (void)state;
+    cp_params out[8];
+    const int level = cpa_dw_kernels_select(0).isa;
+    cp_shape s5 = cpt_shape(1, 8, 56, 56, 8, 3, 3); /* conv5.dw's geometry, 8 channels */
+    s5.groups = 8;
+    s5.stride_h = s5.stride_w = 2;
+    s5.pad_top = s5.pad_left = s5.pad_bottom = s5.pad_right = 1;
+    cp_shape s8 = s5; /* conv8.dw's: 14x14 stride 1 */
+    s8.h = s8.w = 14;
+    s8.stride_h = s8.stride_w = 1;
+    cp_shape s3 = cpt_shape(1, 2, 23, 29, 2, 5, 5); /* 5x5 stride 3: no in-place form */
+    s3.groups = 2;
+    s3.stride_h = s3.stride_w = 3;
+    s3.pad_top = s3.pad_left = 2;
+    const size_t n5 = candidates_of(&s5, out, 8), n8 = candidates_of(&s8, out, 8),
+                 n17 = candidates_of(&s3, out, 8);
+    assert_int_equal(n17, 1); /* phase planes only: path 0 is them */
+    if (level == CPA_ISA_AVX512) {
+        assert_int_equal(n5, 2); /* rows (path 0), phase */
+        assert_int_equal(n8, 3); /* flat (path 0), phase, rows */
+    } else if (level == CPA_ISA_AVX2) {
+        assert_int_equal(n5, 2); /* rows (path 0), phase */
+        assert_int_equal(n8, 2); /* rows (path 0), phase: no AVX2 flat */
+    } else {
+        assert_int_equal(n5, 1);
+        assert_int_equal(n8, 1);
+    }
+    assert_int_equal(candidates_of(&s8, out, 1), 1); /* max honoured */
+}
+
 static void test_supports(void **state) {
     (void)state;
     char why[256];
@@ -262,6 +317,7 @@ int main(void) {
         cmocka_unit_test(test_rows_match_portable),
         cmocka_unit_test(test_fill_matches_portable),
         cmocka_unit_test(test_supports),
+        cmocka_unit_test(test_candidates),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
