@@ -71,6 +71,21 @@ typedef struct cpa_dw_plane {
 
 typedef void (*cpa_dw_plane_fn)(const cpa_dw_plane *a);
 
+/* The nin = (no - 1) sh + 3 input rows of the block of no output rows from
+ * p0 of a 3x3, row-dilation-1 ROWS kernel, each minus pl (tap column c of
+ * virtual column u then reads rows[i][u + c dil_w]): input row p0 sh - pt + i,
+ * or the zero row when it lies outside the image or no stored output row
+ * (p0 + o < P) reads it -- the first that does is o = ceil((i - 2) / sh). */
+static inline void cpa_dw_block_rows(const cpa_dw_plane *a, int64_t p0, int sh, int nin,
+                                     const float **rows) {
+    const cpa_dw_plan *pl = a->plan;
+    for (int i = 0; i < nin; i++) {
+        const int64_t ih = p0 * sh - pl->pt + i, omin = i <= 2 ? 0 : (i - 2 + sh - 1) / sh;
+        rows[i] = (p0 + omin < pl->p && ih >= 0 && ih < pl->h ? a->x + ih * pl->w : a->zero) -
+                  pl->pl;
+    }
+}
+
 /* 1 when the FLAT / ROWS form can run shape s (depthwise: groups == c). */
 int cpa_dw_plan_flat_ok(const cp_shape *s);
 int cpa_dw_plan_rows_ok(const cp_shape *s);

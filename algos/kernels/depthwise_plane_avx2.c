@@ -9,13 +9,14 @@
  * column and fed to every output row it is a tap of: four output rows under
  * stride 1 (6 input rows), two otherwise (4 or 5 input rows, and two vectors
  * under stride_w 2), so that the 9 broadcast weights, the accumulators and
- * three loads fit the 16 ymm registers.  Under stride_w 2 the kernel computes the stride-1 result at
- * 16 virtual columns (two vectors) and keeps the even lanes with two
- * shuffles; AVX2 has no two-source permute, so deinterleaving each input row
- * in registers would cost six shuffles per row and vector, more than the
- * FMAs it saves.  Interior vectors load plainly; a vector at the left or
- * right border loads through lane masks taken from the plan's 16-lane
- * column masks.  Input rows outside the image read the caller's zero row. */
+ * three loads fit the 16 ymm registers.  Under stride_w 2 the kernel
+ * computes the stride-1 result at 16 virtual columns (two vectors) and keeps
+ * the even lanes with two shuffles; AVX2 has no two-source permute, so
+ * deinterleaving each input row in registers would cost six shuffles per
+ * row and vector, more than the FMAs it saves.  Interior vectors load
+ * plainly; a vector at the left or right border loads through lane masks
+ * taken from the plan's 16-lane column masks.  Input rows outside the image
+ * read the caller's zero row. */
 #include <immintrin.h>
 
 #include "algos/kernels/depthwise_plane.h"
@@ -43,7 +44,7 @@ static inline __attribute__((always_inline)) __m256 dwa_ld(int plain, __m256i m,
 }
 
 /* The accumulators of one step: nv vectors of 8 virtual columns from u0,
- * no output rows (nin = (no - 1) sh + 3 input rows). */
+ * of the block's no output rows (from its nin = (no - 1) sh + 3 input rows). */
 static inline __attribute__((always_inline)) void
 dwa_step(const float *const *rows, int64_t u0, const __m256i (*m)[3], const __m256 *w9, __m256 b,
          int64_t dw, int sh, int no, int nv, int plain, __m256 (*acc)[4]) {
@@ -80,13 +81,7 @@ static inline __attribute__((always_inline)) void dwa_block(const cpa_dw_plane *
     const __m256 b = _mm256_set1_ps(a->bias);
     for (int64_t p0 = 0; p0 < pl->p; p0 += no) {
         const float *rows[9];
-        for (int i = 0; i < nin; i++) {
-            const int64_t ih = p0 * sh - pl->pt + i;
-            int used = 0; /* some stored output row p0 + o reads it as tap row i - o sh */
-            for (int o = 0; o < no; o++)
-                used |= p0 + o < pl->p && i - o * sh >= 0 && i - o * sh <= 2;
-            rows[i] = (used && ih >= 0 && ih < pl->h ? a->x + ih * pl->w : a->zero) - pl->pl;
-        }
+        cpa_dw_block_rows(a, p0, sh, nin, rows);
         for (int64_t u0 = 0; u0 < U; u0 += 8 * nv) {
             __m256i m[2][3];
             int plain = 1;
@@ -108,7 +103,8 @@ static inline __attribute__((always_inline)) void dwa_block(const cpa_dw_plane *
                 if (p0 + o >= pl->p) break;
                 __m256 out = acc[0][o];
                 if (sw2) { /* the even lanes of the two vectors, in order */
-                    const __m256 e = _mm256_shuffle_ps(acc[0][o], acc[1][o], _MM_SHUFFLE(2, 0, 2, 0));
+                    const __m256 e =
+                        _mm256_shuffle_ps(acc[0][o], acc[1][o], _MM_SHUFFLE(2, 0, 2, 0));
                     out = _mm256_castpd_ps(
                         _mm256_permute4x64_pd(_mm256_castps_pd(e), _MM_SHUFFLE(3, 1, 2, 0)));
                 }

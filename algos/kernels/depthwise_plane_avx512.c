@@ -144,13 +144,7 @@ static inline __attribute__((always_inline)) void dwp_block4(const cpa_dw_plane 
                                            28, 30);
     for (int64_t p0 = 0; p0 < pl->p; p0 += 4) {
         const float *rows[9];
-        for (int i = 0; i < nin; i++) {
-            const int64_t ih = p0 * sh - pl->pt + i;
-            int used = 0; /* some stored output row p0 + o reads it as tap row i - o sh */
-            for (int o = 0; o < 4; o++)
-                used |= p0 + o < pl->p && i - o * sh >= 0 && i - o * sh <= 2;
-            rows[i] = (used && ih >= 0 && ih < pl->h ? a->x + ih * pl->w : a->zero) - pl->pl;
-        }
+        cpa_dw_block_rows(a, p0, sh, nin, rows);
         for (int64_t u0 = 0; u0 < U; u0 += 16 * nv) {
             __mmask16 m[2][3];
             for (int v = 0; v < nv; v++) {
@@ -201,7 +195,7 @@ static inline __attribute__((always_inline)) void dwp_block4(const cpa_dw_plane 
  * the even ones brings in column b + 32 for tap column 2.  So no odd column
  * is computed and dropped (the virtual-column form's twice the FMAs), and
  * an input row costs three loads per 16 outputs instead of six.  Measured
- * on one plane in L1 (results/algos/README.md) it ran 1.4x to 2x faster
+ * on one plane in L1 (results/algos/README.md) it ran 1.5x to 2x faster
  * than the virtual-column form on the 14x14 to 112x112 planes; two chunks
  * at a time (eight chains instead of four) were no faster. */
 static inline __attribute__((always_inline)) void
@@ -246,12 +240,7 @@ static void dwp_s2(const cpa_dw_plane *a) {
     const __m512 b = _mm512_set1_ps(a->bias);
     for (int64_t p0 = 0; p0 < pl->p; p0 += 4) {
         const float *rows[9];
-        for (int i = 0; i < 9; i++) {
-            const int64_t ih = 2 * p0 - pl->pt + i;
-            const int omin = i <= 2 ? 0 : (i - 1) / 2; /* first output row reading it */
-            rows[i] = (p0 + omin < pl->p && ih >= 0 && ih < pl->h ? a->x + ih * pl->w : a->zero) -
-                      pl->pl;
-        }
+        cpa_dw_block_rows(a, p0, 2, 9, rows);
         for (int64_t k = 0; k < nk; k++) dwp_s2_chunk(a, rows, p0, k, w9, b);
     }
 }
@@ -270,13 +259,10 @@ void cpa_dw_plane_avx512(const cpa_dw_plane *a) {
             dwp_flat(a, 0);
     } else if (k33 && pl->sh == 2 && pl->sw == 2 && pl->dh == 1 && pl->dw == 1) {
         dwp_s2(a);
-    } else if (k33 && pl->dh == 1 && (pl->sh == 1 || pl->sh == 2)) {
-        if (pl->sh == 1)
-            (pl->sw == 2 ? dwp_block4_s12 : dwp_block4_s11)(a);
-        else if (pl->sw == 1)
-            dwp_block4_s21(a);
-        else
-            dwp_rows(a, 1, 1); /* stride 2x2 with column dilation */
+    } else if (k33 && pl->dh == 1 && pl->sh == 1) {
+        (pl->sw == 2 ? dwp_block4_s12 : dwp_block4_s11)(a);
+    } else if (k33 && pl->dh == 1 && pl->sh == 2 && pl->sw == 1) {
+        dwp_block4_s21(a);
     } else if (pl->sw == 2) {
         if (k33)
             dwp_rows(a, 1, 1);
